@@ -1,0 +1,61 @@
+"""The ``relaybench`` command: one sub-command per module in ``emu.commands``.
+
+Each command module has ``SUMMARY`` (one line for the overview),
+``add_arguments(parser)`` and ``main(args) -> int``; this file only builds
+the argument parser from that table and maps failures to exit statuses:
+1 for a bad program or machine file, 2 for a bad command line (argparse).
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from ._errors import MachineError
+
+COMMANDS = ("run", "test", "asm", "dis", "isa", "debug", "clock")
+
+
+def _load_commands():
+    found = {}
+    for name in COMMANDS:
+        try:
+            found[name] = importlib.import_module(f"emu.commands.{name}")
+        except ModuleNotFoundError as exc:
+            if exc.name != f"emu.commands.{name}":
+                raise
+    return found
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="relaybench",
+        description="Assemble, run, test and debug programs for relay computers.",
+    )
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    sub.required = True
+    for name, module in _load_commands().items():
+        command = sub.add_parser(name, help=module.SUMMARY, description=module.SUMMARY)
+        module.add_arguments(command)
+        command.set_defaults(handler=module.main)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return args.handler(args)
+    except MachineError as exc:
+        print(f"relaybench: error: {exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("relaybench: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,1 @@
+"""Sub-commands of ``relaybench``; the table lives in ``emu.cli.COMMANDS``."""

@@ -1,0 +1,108 @@
+"""The clock generator's ring: where it stands in the phase table, and the time.
+
+Kept apart from the control unit because it is pure bookkeeping: which
+phase comes next, how long it lasts, and how to jump ahead by whole cycles
+in O(1) when the fast path has run a thousand instructions at once. The
+hold line and the freeze live in the control unit (``_emulator``), which
+asks this ring to run one phase or to skip whole cycles.
+"""
+
+from __future__ import annotations
+
+from ._description import Machine
+
+__all__ = ["Ring"]
+
+
+class Ring:
+    """Phase position and simulated time of one clock generator.
+
+    ``index`` is the phase the generator enters next. A *cycle boundary* is
+    the position just after a falling edge; the fast path only starts from
+    one, so skipping ``n`` cycles is arithmetic over the table.
+
+    ``source``, when set, supplies each turn's phase durations (an irregular
+    clock); it is asked for one turn each time the ring wraps to phase 0.
+    """
+
+    def __init__(self, machine: Machine):
+        phases = machine.phases
+        self.phases = phases
+        self.count = len(phases)
+        self.nominal = tuple(p.duration_ns for p in phases)
+        self.turn = list(self.nominal)
+        self.source = None
+        self.time_ns = 0
+        starts = [i for i in range(self.count)
+                  if phases[i - 1].level == 1 and phases[i].level == 0]
+        self.boundaries = tuple(starts)
+        self.boundary_slot = {index: k for k, index in enumerate(starts)}
+        self.phases_per_cycle = tuple(
+            (starts[(k + 1) % len(starts)] - start) % self.count or self.count
+            for k, start in enumerate(starts))
+        self.index = starts[0]
+        high_run, i = 0, starts[0]
+        while phases[i].level == 0:
+            i = (i + 1) % self.count
+        while phases[i].level == 1:
+            high_run += phases[i].duration_ns
+            i = (i + 1) % self.count
+        self.manual_pulse_ns = high_run
+        """A STEP pulse from the panel lasts as long as the generator's first high pulse."""
+
+    @property
+    def at_boundary(self) -> bool:
+        return self.index in self.boundary_slot
+
+    def set_source(self, source) -> None:
+        self.source = source
+        if source is not None and self.index == 0:
+            self.turn = [int(d) for d in source.turns(1)[0]]
+
+    def run_phase(self) -> None:
+        """The generator spends the current phase's duration, then moves on."""
+        self.time_ns += self.turn[self.index]
+        self.index += 1
+        if self.index == self.count:
+            self.index = 0
+            self._new_turn()
+
+    def _new_turn(self) -> None:
+        if self.source is not None:
+            self.turn = [int(d) for d in self.source.turns(1)[0]]
+
+    def skip_cycles(self, cycles: int) -> None:
+        """Advance by whole cycles from a cycle boundary, as the fast path just ran them."""
+        if cycles <= 0:
+            return
+        k = self.boundary_slot[self.index]
+        per_turn = len(self.boundaries)
+        turns, rest = divmod(cycles, per_turn)
+        phases = turns * self.count + sum(self.phases_per_cycle[(k + j) % per_turn] for j in range(rest))
+        self._consume(phases)
+
+    def _consume(self, phases: int) -> None:
+        left_in_turn = self.count - self.index
+        if phases < left_in_turn:
+            self.time_ns += sum(self.turn[self.index:self.index + phases])
+            self.index += phases
+            return
+        self.time_ns += sum(self.turn[self.index:])
+        phases -= left_in_turn
+        full, part = divmod(phases, self.count)
+        if self.source is None:
+            self.time_ns += full * sum(self.nominal)
+        else:
+            rows = self.source.turns(full + 1)
+            self.time_ns += int(rows[:full].sum())
+            self.turn = [int(d) for d in rows[full]]
+        self.time_ns += sum(self.turn[:part])
+        self.index = part
+
+    def state(self) -> dict:
+        return {"index": self.index, "time_ns": self.time_ns, "turn": list(self.turn)}
+
+    def restore(self, state: dict) -> None:
+        self.index = state["index"]
+        self.time_ns = state["time_ns"]
+        self.turn = list(state["turn"])

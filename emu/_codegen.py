@@ -1,0 +1,633 @@
+"""The micro-step compiler: machine description IR → Python source → code.
+
+Two back ends share one statement translator, so they cannot drift:
+
+* **stepping** — one function per micro-step, reading its operand fields
+  from the instruction register (or the latch that holds a later word) at
+  run time. The control unit calls one of these per falling clock edge.
+* **fused** — one function per instruction *and* per value of the
+  register fields in its first word, with those fields baked in as literal
+  slot numbers and registers kept in locals. It runs the fetch steps and
+  all the instruction's steps in one call and returns its cycle count.
+  Instructions that drive halt are not fused: their entry raises
+  ``Fallback`` before touching anything, and the control unit steps them,
+  so a halt lands exactly where the hardware would put it.
+
+All generated functions are closures inside one ``build(s, m, in_, out_,
+Fallback)`` function: ``s`` is the flat list of register and flag slots,
+``m`` the memory. The code object is compiled once per machine and cached;
+``build`` is called once per emulator. Set ``RELAYBENCH_DUMP_CODE`` to a
+folder to have the source written there, under the file name that
+tracebacks show.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+from ._alu import ALU_OPS
+from ._description import Instruction, Machine, Step
+from ._emitter import Emitter
+from ._errors import MachineError
+from ._rtl import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem,
+                   Name, Offset, Output, walk)
+
+__all__ = ["CompiledMachine", "compile_machine", "Fallback"]
+
+
+class Fallback(Exception):
+    """Raised by a fused entry that must be stepped instead (halt, undefined opcode)."""
+
+
+@dataclass
+class CompiledMachine:
+    machine: Machine
+    source: str
+    code: object
+    max_fused_cycles: int
+
+    def build(self, s: list, m, in_, out_):
+        namespace: dict = {}
+        exec(self.code, namespace)
+        return namespace["build"](s, m, in_, out_, Fallback)
+
+
+_cache: dict[int, CompiledMachine] = {}
+
+
+def compile_machine(machine: Machine) -> CompiledMachine:
+    """Compile once per machine object; later calls return the cached result."""
+    key = id(machine)
+    cached = _cache.get(key)
+    if cached is not None and cached.machine is machine:
+        return cached
+    source, max_cycles = _MachineCompiler(machine).source()
+    filename = f"<relaybench:{machine.name}>"
+    dump = os.environ.get("RELAYBENCH_DUMP_CODE")
+    if dump:
+        path = Path(dump) / f"{machine.name}_generated.py"
+        path.parent.mkdir(parents=True, exist_ok=True)
+        path.write_text(source)
+        filename = str(path)
+    compiled = CompiledMachine(machine, source, compile(source, filename, "exec"), max_cycles)
+    _cache[key] = compiled
+    return compiled
+
+
+# ----- state access: list slots (stepping) or cached locals (fused) ---------
+
+class _SlotAccess:
+    """Every read and write goes straight to ``s[slot]``."""
+
+    def __init__(self, out: Emitter):
+        self.out = out
+
+    def read(self, slot: int, name: str) -> str:
+        return f"s[{slot}]"
+
+    def write(self, slot: int, name: str, value: str) -> None:
+        self.out.line(f"s[{slot}] = {value}")
+
+    def forget(self, slots) -> None:
+        pass
+
+    def flush(self, slots) -> None:
+        pass
+
+
+class _LocalAccess:
+    """Registers live in locals for the whole fused function, written back at the end."""
+
+    def __init__(self, out: Emitter, machine: Machine):
+        self.out = out
+        self.first_flag_slot = len(machine.registers)
+        self.loaded: dict[int, str] = {}
+        self.dirty: dict[int, str] = {}
+
+    def local(self, slot: int, name: str) -> str:
+        return f"flag_{name}" if slot >= self.first_flag_slot else f"reg_{name}"
+
+    def read(self, slot: int, name: str) -> str:
+        if slot not in self.loaded:
+            self.loaded[slot] = self.local(slot, name)
+            self.out.line(f"{self.loaded[slot]} = s[{slot}]")
+        return self.loaded[slot]
+
+    def write(self, slot: int, name: str, value: str) -> None:
+        local = self.local(slot, name)
+        self.out.line(f"{local} = {value}")
+        self.loaded[slot] = local
+        self.dirty[slot] = local
+
+    def flush(self, slots) -> None:
+        """Before a register is reached by a run-time index, put cached values back."""
+        for slot in sorted(slots):
+            if slot in self.dirty:
+                self.out.line(f"s[{slot}] = {self.dirty.pop(slot)}")
+
+    def forget(self, slots) -> None:
+        """After a write by run-time index, cached copies are stale."""
+        for slot in slots:
+            self.loaded.pop(slot, None)
+            self.dirty.pop(slot, None)
+
+    def write_back(self) -> None:
+        for slot in sorted(self.dirty):
+            self.out.line(f"s[{slot}] = {self.dirty[slot]}")
+        self.dirty.clear()
+
+
+# ----- the statement translator ---------------------------------------------
+
+class _StepTranslator:
+    """Turns IR statements of one instruction into lines, through an access policy.
+
+    ``fixed`` maps register fields whose value is known at compile time (the
+    fused back end's first-word fields) to their register index.
+    """
+
+    def __init__(self, machine: Machine, out: Emitter, access, ins: Instruction | None,
+                 fixed: dict[str, int] | None = None):
+        self.machine, self.out, self.access = machine, out, access
+        self.ins, self.fixed = ins, fixed or {}
+        self.fields = ins.fields if ins else {}
+        self.reg_slots = {name: reg.slot for name, reg in machine.registers.items()}
+
+    # -- names
+
+    def register(self, name: str) -> str:
+        return self.access.read(self.reg_slots[name], name)
+
+    def kind_slots(self, field_name: str) -> list[int]:
+        return [self.reg_slots[r] for r in self.fields[field_name].kind.registers]
+
+    def field_value(self, field_name: str) -> str:
+        """The raw value of an operand field, read from the register(s) holding its word(s)."""
+        fld = self.fields[field_name]
+        parts = []
+        for piece in fld.pieces:
+            holder = self.register(self.ins.holders[piece.word])
+            mask = (1 << piece.width) - 1
+            part = f"({holder} >> {piece.shift} & {mask})" if piece.shift else f"({holder} & {mask})"
+            parts.append(f"{part} << {piece.field_bit}" if piece.field_bit else part)
+        return " | ".join(parts) if len(parts) > 1 else parts[0]
+
+    def dynamic_slot(self, field_name: str) -> str:
+        slots = self.kind_slots(field_name)
+        index = self.field_value(field_name)
+        if slots == list(range(slots[0], slots[0] + len(slots))):
+            return f"{slots[0]} + {index}" if slots[0] else index
+        return f"({', '.join(map(str, slots))})[{index}]"
+
+    def width(self, node) -> int:
+        machine = self.machine
+        match node:
+            case Name(name) if name in self.fields:
+                kind = self.fields[name].kind
+                if kind.is_register:
+                    return max(machine.registers[r].width for r in kind.registers)
+                return kind.bits
+            case Name(name):
+                return machine.register_width(name)
+            case Const(value):
+                return max(value.bit_length(), 1)
+            case Mem() | Input():
+                return machine.data_bits
+            case Join(high, low):
+                return self.width(high) + self.width(low)
+            case Offset(base, _):
+                return self.width(base)
+            case Choose(_, _, a, b):
+                return max(self.width(a), self.width(b))
+            case Call(op, args):
+                return machine.data_bits if op in ("hi", "lo") else self.width(args[0])
+        raise AssertionError(node)
+
+    # -- expressions
+
+    def expr(self, node) -> str:
+        machine = self.machine
+        match node:
+            case Name(name) if name in self.fields:
+                fld = self.fields[name]
+                if not fld.kind.is_register:
+                    return f"({self.field_value(name)})"
+                if name in self.fixed:
+                    return self.register(fld.kind.registers[self.fixed[name]])
+                slots = self.kind_slots(name)
+                self.access.flush(slots)
+                return f"s[{self.dynamic_slot(name)}]"
+            case Name(name) if name in machine.pairs:
+                pair = machine.pairs[name]
+                low_width = machine.registers[pair.low].width
+                return f"({self.register(pair.high)} << {low_width} | {self.register(pair.low)})"
+            case Name(name):
+                return self.register(name)
+            case Const(value):
+                return str(value)
+            case Mem(address):
+                return f"m[{self.address(address)}]"
+            case Join(high, low):
+                return f"({self.expr(high)} << {self.width(low)} | {self.expr(low)})"
+            case Offset(base, delta):
+                mask = (1 << self.width(base)) - 1
+                sign = "+" if delta >= 0 else "-"
+                return f"({self.expr(base)} {sign} {abs(delta)} & {mask:#x})"
+            case Choose(flag, negate, a, b):
+                cond = self.access.read(machine.flags[flag].slot, flag)
+                first, second = (b, a) if negate else (a, b)
+                return f"({self.expr(first)} if {cond} else {self.expr(second)})"
+            case Input(port):
+                return f"in_({self.expr(port)})"
+            case Call("hi", (arg,)):
+                return f"({self.expr(arg)} >> {machine.data_bits} & {machine.data_mask:#x})"
+            case Call("lo", (arg,)):
+                return f"({self.expr(arg)} & {machine.data_mask:#x})"
+            case Call():
+                raise AssertionError("ALU operations are translated by alu()")
+        raise AssertionError(node)
+
+    def address(self, node) -> str:
+        text = self.expr(node)
+        if self.width(node) > (self.machine.memory_words - 1).bit_length():
+            return f"{text} & {self.machine.memory_words - 1:#x}"
+        return text
+
+    def value(self, node) -> tuple[str, int]:
+        """An expression's text and width; ALU operations are computed into a temporary."""
+        if isinstance(node, Call) and node.op in ALU_OPS:
+            result, _flags = self.alu(node)
+            return result, self.width(node)
+        return self.expr(node), self.width(node)
+
+    def alu(self, call: Call) -> tuple[str, dict[str, str]]:
+        """Emit the ALU operation; return its masked result and the value of each flag role."""
+        op = ALU_OPS[call.op]
+        width = self.width(call.args[0])
+        names = {}
+        for key, arg in zip("ab", call.args):
+            text = self.expr(arg)
+            if not text.isidentifier():
+                name = self.out.fresh(key)
+                self.out.line(f"{name} = {text}")
+                text = name
+            names[key] = text
+        carry = next((f for f in self.machine.flags.values() if f.role == "carry"), None)
+        names["cin"] = self.access.read(carry.slot, carry.name) if op.uses_carry_in else "0"
+        names["w"], names["top"] = str(width), str(width - 1)
+        result = self.out.fresh("r")
+        self.out.line(f"{result} = {op.raw.format(**names)}")
+        names["r"] = result
+        roles = {}
+        for role, template in (("carry", op.carry), ("overflow", op.overflow)):
+            if template is not None:
+                flag_value = self.out.fresh(role[0])
+                self.out.line(f"{flag_value} = {template.format(**names)}")
+                roles[role] = flag_value
+        self.out.line(f"{result} &= {(1 << width) - 1:#x}")
+        roles["zero"] = f"{result} == 0"
+        roles["negative"] = f"{result} >> {width - 1}"
+        return result, roles
+
+    # -- statements
+
+    def step(self, step: Step) -> None:
+        """One micro-step with parallel semantics: every read sees the state before the step."""
+        ordered = _order_for_direct_writes(step.statements, self)
+        if ordered is None:
+            self.step_through_temporaries(step.statements)
+        else:
+            for st in ordered:
+                self.statement(st)
+
+    def statement(self, st) -> None:
+        match st:
+            case Assign(target, value, flags):
+                if flags:
+                    result, roles = self.alu(value)
+                    self.assign(target, result, self.width(value))
+                    self.write_flags(flags, roles)
+                else:
+                    text, width = self.value(value)
+                    self.assign(target, text, width)
+            case FlagsOnly(call, flags):
+                _result, roles = self.alu(call)
+                self.write_flags(flags, roles)
+            case Output(port, value):
+                self.out.line(f"out_({self.expr(port)}, {self.expr(value)})")
+            case Halt():
+                self.out.line("halted = True")
+
+    def write_flags(self, flags, roles) -> None:
+        for name in flags:
+            flag = self.machine.flags[name]
+            self.access.write(flag.slot, name, roles[flag.role])
+
+    def assign(self, target, value: str, width: int) -> None:
+        machine = self.machine
+        if isinstance(target, Mem):
+            if width > machine.data_bits:
+                value = f"{value} & {machine.data_mask:#x}"
+            self.out.line(f"m[{self.address(target.address)}] = {value}")
+            return
+        name = target.name
+        if name in self.fields:
+            fld = self.fields[name]
+            reg_width = max(machine.registers[r].width for r in fld.kind.registers)
+            value = value if width <= reg_width else f"{value} & {(1 << reg_width) - 1:#x}"
+            if name in self.fixed:
+                reg = fld.kind.registers[self.fixed[name]]
+                self.access.write(self.reg_slots[reg], reg, value)
+            else:
+                slots = self.kind_slots(name)
+                self.access.flush(slots)
+                self.out.line(f"s[{self.dynamic_slot(name)}] = {value}")
+                self.access.forget(slots)
+            return
+        if name in machine.pairs:
+            pair = machine.pairs[name]
+            low_width = machine.registers[pair.low].width
+            if not value.isidentifier():
+                temp = self.out.fresh("v")
+                self.out.line(f"{temp} = {value}")
+                value = temp
+            high_mask = (1 << machine.registers[pair.high].width) - 1
+            self.access.write(self.reg_slots[pair.high], pair.high, f"{value} >> {low_width} & {high_mask:#x}")
+            self.access.write(self.reg_slots[pair.low], pair.low, f"{value} & {(1 << low_width) - 1:#x}")
+            return
+        reg_width = machine.registers[name].width
+        if width > reg_width:
+            value = f"{value} & {(1 << reg_width) - 1:#x}"
+        self.access.write(self.reg_slots[name], name, value)
+
+    def step_through_temporaries(self, statements) -> None:
+        """A step whose transfers read each other's targets (a swap): compute all, then write."""
+        pending = []
+        for st in statements:
+            if isinstance(st, Assign) and not st.flags:
+                text, width = self.value(st.value)
+                temp = self.out.fresh("v")
+                self.out.line(f"{temp} = {text}")
+                pending.append((st.target, temp, width))
+            elif isinstance(st, (Assign, FlagsOnly)):
+                call = st.value if isinstance(st, Assign) else st.call
+                result, roles = self.alu(call)
+                temps = {}
+                for name in st.flags:
+                    role = self.machine.flags[name].role
+                    temp = self.out.fresh("f")
+                    self.out.line(f"{temp} = {roles[role]}")
+                    temps[role] = temp
+                pending.append(("flags", st.flags, temps))
+                if isinstance(st, Assign):
+                    pending.append((st.target, result, self.width(call)))
+            else:
+                self.statement(st)
+        for item in pending:
+            if item[0] == "flags":
+                self.write_flags(item[1], item[2])
+            else:
+                self.assign(*item)
+
+
+def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
+    """Names of state a statement reads (or, with writing=True, writes), for ordering."""
+    machine = translator.machine
+    fields = translator.fields
+    found = set()
+
+    def name_slots(name):
+        if name in fields:
+            fld = fields[name]
+            if fld.kind.is_register:
+                if name in translator.fixed:
+                    return {fld.kind.registers[translator.fixed[name]]}
+                return set(fld.kind.registers) | {translator.ins.holders[p.word] for p in fld.pieces}
+            return {translator.ins.holders[p.word] for p in fld.pieces}
+        if name in machine.pairs:
+            return {machine.pairs[name].high, machine.pairs[name].low}
+        return {name}
+
+    if writing:
+        match node:
+            case Assign(Name(name), _, flags):
+                found |= name_slots(name) if name not in fields else (
+                    {fields[name].kind.registers[translator.fixed[name]]} if name in translator.fixed
+                    else set(fields[name].kind.registers))
+                found |= set(flags)
+            case Assign(Mem(), _, flags) | FlagsOnly(_, flags):
+                found |= set(flags)
+        return found
+    for sub in walk(node):
+        match sub:
+            case Name(name):
+                found |= name_slots(name)
+            case Choose(flag, _, _, _):
+                found.add(flag)
+            case Call(op, _) if op in ALU_OPS and ALU_OPS[op].uses_carry_in:
+                found |= {f.name for f in machine.flags.values() if f.role == "carry"}
+    if isinstance(node, Assign) and isinstance(node.target, Name) and node.target.name in fields:
+        fld = fields[node.target.name]
+        found |= {translator.ins.holders[p.word] for p in fld.pieces}
+    return found
+
+
+def _order_for_direct_writes(statements, translator):
+    """An order in which writing each target at once never spoils a later read; None if none."""
+    remaining = list(statements)
+    reads = {id(st): _slots_touched(st, translator) for st in statements}
+    writes = {id(st): _slots_touched(st, translator, writing=True) for st in statements}
+    ordered = []
+    while remaining:
+        for st in remaining:
+            others = [o for o in remaining if o is not st]
+            if not any(writes[id(st)] & reads[id(o)] for o in others):
+                ordered.append(st)
+                remaining.remove(st)
+                break
+        else:
+            return None
+    return ordered
+
+
+# ----- whole-machine compiler ------------------------------------------------
+
+class _MachineCompiler:
+    def __init__(self, machine: Machine):
+        self.machine = machine
+        self.out = Emitter()
+        self.used: set[str] = set()
+
+    def unique(self, name: str, ins: Instruction | None) -> str:
+        if name in self.used and ins is not None:
+            name = f"{name}_{ins.index}"
+        self.used.add(name)
+        return name
+
+    def source(self) -> tuple[str, int]:
+        machine, out = self.machine, self.out
+        out.line(f'"""Generated by relaybench from {machine.path} — do not edit; edit the machine file."""')
+        out.line()
+        out.line("def build(s, m, in_, out_, Fallback):")
+        with out.indent():
+            out.line('"""Return the micro-step and fused functions bound to this state."""')
+            fetch_names = [self.stepping_function(f"fetch_{i + 1}", step, None)
+                           for i, step in enumerate(machine.fetch)]
+            step_names = []
+            for ins in machine.instructions:
+                step_names.append([self.stepping_function(f"{_ident(ins)}_step_{len(machine.fetch) + k + 1}",
+                                                          step, ins)
+                                   for k, step in enumerate(ins.steps)])
+            fused_by_word, max_cycles = self.fused_functions()
+            self.fallback_function()
+            peek = self.peek_expression()
+            self.free_runners(peek)
+            out.line()
+            out.line(f"fetch_steps = ({', '.join(fetch_names)},)")
+            out.line("instruction_steps = (")
+            with out.indent():
+                for names in step_names:
+                    out.line(f"({''.join(n + ', ' for n in names)}),")
+            out.line(")")
+            out.line(f"fused = [{', '.join(fused_by_word)}]")
+            out.line("return fetch_steps, instruction_steps, fused, run_free, run_free_watching")
+        return out.source(), max_cycles
+
+    def stepping_function(self, name: str, step: Step, ins: Instruction | None) -> str:
+        out = self.out
+        name = self.unique(name, ins)
+        out.line()
+        out.line(f"def {name}():")
+        with out.indent():
+            out.line(repr(step.text))
+            translator = _StepTranslator(self.machine, out, _SlotAccess(out), ins)
+            if step.drives_halt:
+                out.line("halted = False")
+            translator.step(step)
+            if step.drives_halt:
+                out.line("return halted")
+        return name
+
+    def fused_functions(self):
+        """One fused function per instruction and first-word register-field values."""
+        machine = self.machine
+        by_word = ["fallback"] * (1 << machine.data_bits)
+        made: dict[tuple, str] = {}
+        max_cycles = len(machine.fetch)
+        for word, index in enumerate(machine.decode_table):
+            if index < 0:
+                continue
+            ins = machine.instructions[index]
+            if ins.drives_halt:
+                continue
+            values = ins.decode([word] + [0] * (ins.word_count - 1))
+            fixed = {name: values[name] for name, fld in ins.fields.items()
+                     if fld.kind.is_register and all(p.word == 0 for p in fld.pieces)}
+            key = (index, tuple(sorted(fixed.items())))
+            if key not in made:
+                made[key] = self.fused_function(ins, fixed)
+                max_cycles = max(max_cycles, len(machine.fetch) + len(ins.steps))
+            by_word[word] = made[key]
+        return by_word, max_cycles
+
+    def fused_function(self, ins: Instruction, fixed: dict[str, int]) -> str:
+        machine, out = self.machine, self.out
+        suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
+        name = self.unique(f"run_{_ident(ins)}{suffix}", ins)
+        cycles = len(machine.fetch) + len(ins.steps)
+        out.line()
+        out.line(f"def {name}():")
+        with out.indent():
+            out.line(f'"""{ins.display} — {cycles} cycle{"s" if cycles != 1 else ""}"""')
+            access = _LocalAccess(out, machine)
+            for step in machine.fetch:
+                _StepTranslator(machine, out, access, None).step(step)
+            for step in ins.steps:
+                out.line(f"# {step.text}")
+                _StepTranslator(machine, out, access, ins, fixed).step(step)
+            access.write_back()
+            out.line(f"return {cycles}")
+        return name
+
+    def fallback_function(self):
+        out = self.out
+        out.line()
+        out.line("def fallback():")
+        with out.indent():
+            out.line('"""Halting or undefined: the control unit steps this one."""')
+            out.line("raise Fallback")
+
+    def peek_expression(self) -> str:
+        """The first word the fetch steps will load, as an expression of the state before them."""
+        machine = self.machine
+        env: dict[str, object] = {}
+        for step in machine.fetch:
+            updates = {}
+            for st in step.statements:
+                if isinstance(st, Assign) and isinstance(st.target, Name):
+                    updates[st.target.name] = _substitute(st.value, env)
+            env.update(updates)
+        word = env[machine.instruction_register]
+        for node in walk(word):
+            if isinstance(node, (Input, Call, Choose)):
+                raise MachineError("the fetch steps must load the instruction register by plain "
+                                   "register transfers (no ALU, input or choice)", path=machine.path,
+                                   where="[fetch]")
+        text = _StepTranslator(machine, Emitter(), _SlotAccess(Emitter()), None).expr(word)
+        return text
+
+    def free_runners(self, peek: str):
+        """The hot loops: nothing in them but dispatch, cycle and instruction counts."""
+        out = self.out
+        for name, watching in (("run_free", False), ("run_free_watching", True)):
+            out.line()
+            args = "limit, watch" if watching else "limit"
+            out.line(f"def {name}({args}):")
+            with out.indent():
+                out.line('"""Run whole instructions while the cycle count stays at or below limit."""')
+                out.line("cycles = instructions = 0")
+                out.line("table = fused")
+                out.line("try:")
+                with out.indent():
+                    out.line("while cycles <= limit:")
+                    with out.indent():
+                        out.line(f"cycles += table[{peek}]()")
+                        out.line("instructions += 1")
+                        if watching:
+                            out.line("if watch():")
+                            with out.indent():
+                                out.line("return cycles, instructions, True")
+                out.line("except Fallback:")
+                with out.indent():
+                    out.line("pass")
+                out.line("return cycles, instructions, False")
+
+
+def _substitute(node, env):
+    match node:
+        case Name(name) if name in env:
+            return env[name]
+        case Mem(address):
+            return Mem(_substitute(address, env))
+        case Join(high, low):
+            return Join(_substitute(high, env), _substitute(low, env))
+        case Offset(base, delta):
+            return Offset(_substitute(base, env), delta)
+        case Call(op, args):
+            return Call(op, tuple(_substitute(a, env) for a in args))
+        case Choose(flag, negate, a, b):
+            return Choose(flag, negate, _substitute(a, env), _substitute(b, env))
+        case Input(port):
+            return Input(_substitute(port, env))
+    return node
+
+
+def _ident(ins: Instruction) -> str:
+    """A Python name for an instruction form: ``ld rd, [x]`` → ``ld_rd_ix``."""
+    parts = [ins.mnemonic]
+    for op in ins.operands:
+        text = op.text().replace("[", "i").replace("]", "")
+        parts.append("".join(ch if ch.isalnum() else "_" for ch in text))
+    return "_".join(parts)

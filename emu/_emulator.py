@@ -1,0 +1,473 @@
+"""The control unit and the emulator API that the runner, debugger and tests share.
+
+The control unit is spec §3 made executable: the generator runs the phase
+table; the hold line is (switch at stop) OR (halt latch); the generator
+looks at the hold line only on *entering* a hold point, so it never cuts a
+pulse short; STEP gives one panel pulse only while the generator is frozen;
+a step that drives halt sets the latch on its falling edge.
+
+Two paths execute micro-steps. The stepping path runs the generator phase
+by phase and calls one compiled function per falling edge; it serves
+observers, panel stepping, halts and every position that is not a clean
+instruction boundary. The fast path runs fused instructions while nothing
+can happen that the stepping path would place differently: no observer,
+hold line low, sequencer at the first fetch step, ring just after a falling
+edge, and a cycle budget that the next instruction cannot overrun. Both
+paths come from the same compiled description, so they agree (P6).
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+import zlib
+from collections import Counter
+from dataclasses import dataclass
+
+from ._clock import Ring
+from ._codegen import compile_machine
+from ._description import Machine, Step
+from ._errors import MachineError
+from ._files import write_atomic
+from ._ports import Ports
+
+__all__ = ["Emulator", "Observer", "StopReason"]
+
+_FETCH_START = (-1, 0)
+_SNAPSHOT_FORMAT = "relaybench-snapshot"
+
+
+class Observer:
+    """Hooks for traces, waveforms and wear counts; override what you need.
+
+    Attaching any observer makes the engine take the stepping path, so a
+    run that nobody watches pays nothing for this.
+    """
+
+    def phase(self, emu: "Emulator", index: int) -> None: ...
+    def edge(self, emu: "Emulator", level: int) -> None: ...
+    def microstep(self, emu: "Emulator", step: Step, lines: tuple[str, ...]) -> None: ...
+    def hold(self, emu: "Emulator", frozen: bool) -> None: ...
+    def latch(self, emu: "Emulator", is_set: bool) -> None: ...
+    def panel(self, emu: "Emulator", action: str) -> None: ...
+    def instruction(self, emu: "Emulator") -> None: ...
+
+
+@dataclass(frozen=True)
+class StopReason:
+    """Why a run ended: halted, stopped, cycle_limit, breakpoint or condition."""
+    kind: str
+    pc: int
+    address: int | None = None
+    """For ``halted``: the address of the instruction that drove halt."""
+
+
+class Emulator:
+    """One powered-on machine: datapath, memory, ports, clock ring and control unit."""
+
+    def __init__(self, machine: Machine):
+        self.machine = machine
+        compiled = compile_machine(machine)
+        self._s = [0] * machine.slot_count
+        self.memory = bytearray(machine.memory_words) if machine.data_bits <= 8 else [0] * machine.memory_words
+        self.ports = Ports(machine)
+        (self._fetch_steps, self._instruction_steps, self._fused,
+         self._run_free, self._run_free_watching) = compiled.build(
+            self._s, self.memory, self.ports.read, self.ports.write)
+        self._max_fused = compiled.max_fused_cycles
+        self._phases = machine.phases
+        self._decode = machine.decode_table
+        self._pc = machine.registers[machine.program_counter].slot
+        self._ir = machine.registers[machine.instruction_register].slot
+        self._slots = {**{n: (r.slot, r.width) for n, r in machine.registers.items()},
+                       **{n: (f.slot, 1) for n, f in machine.flags.items()}}
+        self.ring = Ring(machine)
+        self.switch_run = True
+        self.halt_latch = False
+        self.halt_address: int | None = None
+        self.frozen = False
+        self._released = False
+        self._seq = _FETCH_START
+        self._instruction_address = 0
+        self.cycles = 0
+        self.instructions = 0
+        self._undefined: Counter[int] = Counter()
+        self._observers: list[Observer] = []
+
+    # ----- loading and looking --------------------------------------------
+
+    def load(self, segments) -> None:
+        """Put an image into memory: ``[(start, [words]), …]``."""
+        size = self.machine.memory_words
+        for start, words in segments:
+            if start < 0 or start + len(words) > size:
+                raise MachineError(f"the image reaches address {start + len(words) - 1:#x}, "
+                                   f"past the {size} words of memory of {self.machine.name}")
+            mask = self.machine.data_mask
+            self.memory[start:start + len(words)] = [w & mask for w in words]
+
+    def get(self, name: str) -> int:
+        """A register, register pair or flag by name."""
+        pair = self.machine.pairs.get(name)
+        if pair is not None:
+            low_width = self.machine.registers[pair.low].width
+            return self.get(pair.high) << low_width | self.get(pair.low)
+        try:
+            slot, _width = self._slots[name]
+        except KeyError:
+            raise MachineError(f"{self.machine.name} has no register or flag '{name}'") from None
+        return int(self._s[slot])
+
+    def set(self, name: str, value: int) -> None:
+        pair = self.machine.pairs.get(name)
+        if pair is not None:
+            low_width = self.machine.registers[pair.low].width
+            self.set(pair.high, value >> low_width)
+            self.set(pair.low, value)
+            return
+        try:
+            slot, width = self._slots[name]
+        except KeyError:
+            raise MachineError(f"{self.machine.name} has no register or flag '{name}'") from None
+        self._s[slot] = value & ((1 << width) - 1)
+
+    @property
+    def pc(self) -> int:
+        return self._s[self._pc]
+
+    @property
+    def hold_line(self) -> bool:
+        return not self.switch_run or self.halt_latch
+
+    @property
+    def phase_index(self) -> int:
+        return self.ring.index
+
+    @property
+    def time_ns(self) -> int:
+        return self.ring.time_ns
+
+    @property
+    def sim_seconds(self) -> float:
+        return self.ring.time_ns / 1e9
+
+    @property
+    def at_instruction_boundary(self) -> bool:
+        return self._seq == _FETCH_START
+
+    @property
+    def sequencer(self):
+        """(instruction or None while fetching, index of the next micro-step counted from 0)."""
+        index, step = self._seq
+        if index < 0:
+            return None, step
+        return self.machine.instructions[index], len(self.machine.fetch) + step
+
+    @property
+    def current_step(self) -> Step:
+        index, step = self._seq
+        return self.machine.fetch[step] if index < 0 else self.machine.instructions[index].steps[step]
+
+    @property
+    def instruction_address(self) -> int:
+        """Address of the instruction in progress (pc itself at a boundary)."""
+        return self.pc if self._seq == _FETCH_START else self._instruction_address
+
+    @property
+    def output(self) -> bytearray:
+        return self.ports.output
+
+    @property
+    def lamps(self) -> int:
+        return self.ports.lamps
+
+    @property
+    def switches(self) -> int:
+        return self.ports.switches
+
+    @switches.setter
+    def switches(self, value: int) -> None:
+        self.ports.switches = value & self.machine.data_mask
+        self._notify("panel", "switches")
+
+    @property
+    def input_bytes(self) -> bytes:
+        return self.ports.input_bytes
+
+    @input_bytes.setter
+    def input_bytes(self, data: bytes) -> None:
+        self.ports.input_bytes = bytes(data)
+        self.ports.input_position = 0
+
+    @property
+    def warnings(self) -> list[str]:
+        notes = self.ports.warnings()
+        for address, count in sorted(self._undefined.items()):
+            times = f" ({count} times)" if count > 1 else ""
+            notes.append(f"undefined opcode at {address:#06x} ran as a no-op{times}")
+        return notes
+
+    @property
+    def clock_source(self):
+        return self.ring.source
+
+    @clock_source.setter
+    def clock_source(self, source) -> None:
+        self.ring.set_source(source)
+
+    # ----- observers --------------------------------------------------------
+
+    def observe(self, observer: Observer) -> None:
+        self._observers.append(observer)
+
+    def unobserve(self, observer: Observer) -> None:
+        self._observers.remove(observer)
+
+    def _notify(self, event: str, *args) -> None:
+        for observer in self._observers:
+            getattr(observer, event)(self, *args)
+
+    # ----- the panel --------------------------------------------------------
+
+    def set_switch_run(self, run: bool) -> None:
+        """The RUN/STOP switch: True is *run*."""
+        self.switch_run = bool(run)
+        self._notify("panel", "run" if run else "stop")
+        self._hold_changed()
+
+    def press_step(self) -> bool:
+        """STEP: one panel pulse while the generator is frozen; ignored while it runs."""
+        self._notify("panel", "step")
+        if not self.frozen:
+            return False
+        self._notify("edge", 1)
+        self.ring.time_ns += self.ring.manual_pulse_ns
+        self._notify("edge", 0)
+        self._microstep()
+        return True
+
+    def press_resume(self) -> None:
+        """RESUME: clear the halt latch; the clock restarts only if the switch is at run."""
+        self._notify("panel", "resume")
+        self._set_latch(False)
+        self._hold_changed()
+
+    def press_reset(self) -> None:
+        """RESET: pc, sequencer, flags and latch to zero; registers and memory kept."""
+        self._notify("panel", "reset")
+        self._s[self._pc] = 0
+        for flag in self.machine.flags.values():
+            self._s[flag.slot] = 0
+        self._seq = _FETCH_START
+        self._set_latch(False)
+        self._hold_changed()
+
+    def _set_latch(self, value: bool) -> None:
+        if self.halt_latch != value:
+            self.halt_latch = value
+            if not value:
+                self.halt_address = None
+            self._notify("latch", value)
+
+    def _hold_changed(self) -> None:
+        """A frozen generator starts the moment the hold line drops."""
+        if self.frozen and not self.hold_line:
+            self.frozen = False
+            self._released = True
+            self._notify("hold", False)
+
+    # ----- the generator and the sequencer ------------------------------------
+
+    def advance_phase(self) -> bool:
+        """Let the generator take one phase; False when it is (or just became) frozen."""
+        ring = self.ring
+        index = ring.index
+        phase = self._phases[index]
+        if self.frozen:
+            return False
+        if phase.hold and self.hold_line and not self._released:
+            self.frozen = True
+            self._notify("hold", True)
+            return False
+        self._released = False
+        if self._observers:
+            if phase.level == 1 and self._phases[index - 1].level == 0:
+                self._notify("edge", 1)
+            self._notify("phase", index)
+        ring.run_phase()
+        if phase.level == 1 and self._phases[ring.index].level == 0:
+            self._notify("edge", 0)
+            self._microstep()
+        return True
+
+    def _microstep(self) -> None:
+        """The falling edge: the datapath latches the current micro-step."""
+        index, step = self._seq
+        if index < 0:
+            if step == 0:
+                self._instruction_address = self._s[self._pc]
+            self._fetch_steps[step]()
+            step_info = self.machine.fetch[step]
+            halted = False
+            if step + 1 < len(self._fetch_steps):
+                self._seq = (-1, step + 1)
+            else:
+                decoded = self._decode[self._s[self._ir]]
+                if decoded < 0:
+                    self._undefined[self._instruction_address] += 1
+                if decoded < 0 or not self._instruction_steps[decoded]:
+                    self._seq = _FETCH_START
+                else:
+                    self._seq = (decoded, 0)
+        else:
+            function = self._instruction_steps[index][step]
+            step_info = self.machine.instructions[index].steps[step]
+            halted = function()
+            self._seq = (index, step + 1) if step + 1 < len(self._instruction_steps[index]) else _FETCH_START
+        self.cycles += 1
+        if halted:
+            self.halt_address = self._instruction_address
+            self._set_latch(True)
+        if self._seq == _FETCH_START:
+            self.instructions += 1
+        if self._observers:
+            self._notify("microstep", step_info, step_info.control_lines)
+            if self._seq == _FETCH_START:
+                self._notify("instruction")
+
+    def _fast_path_open(self) -> bool:
+        return (not self._observers and self._seq == _FETCH_START and not self.frozen
+                and not self.hold_line and self.ring.at_boundary)
+
+    def _frozen_reason(self) -> StopReason:
+        if self.halt_latch:
+            return StopReason("halted", self.pc, self.halt_address)
+        return StopReason("stopped", self.pc)
+
+    def run(self, max_cycles: int | None = None, until=None, breakpoints=(), chunk=None,
+            chunk_cycles: int = 100_000) -> StopReason:
+        """Let the generator run until it freezes, a limit, a breakpoint or a condition.
+
+        ``until(emu)`` and breakpoints (addresses) are checked at every
+        instruction boundary reached during the run. ``chunk(emu)`` is called
+        about every ``chunk_cycles`` cycles, with counters and time up to
+        date; it may flip the run switch (the debugger's Ctrl-C does that).
+        """
+        target = None if max_cycles is None else self.cycles + max_cycles
+        points = frozenset(breakpoints)
+        watch = None
+        if points or until is not None:
+            s, pc = self._s, self._pc
+
+            def watch():
+                return s[pc] in points or (until is not None and until(self))
+        next_chunk = self.cycles + chunk_cycles
+        while True:
+            if self.frozen:
+                return self._frozen_reason()
+            if target is not None and self.cycles >= target:
+                return StopReason("cycle_limit", self.pc)
+            if chunk is not None and self.cycles >= next_chunk:
+                chunk(self)
+                next_chunk = self.cycles + chunk_cycles
+                continue
+            if self._fast_path_open():
+                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
+                if target is not None:
+                    budget = min(budget, target - self.cycles)
+                limit = budget - self._max_fused
+                if limit >= 0:
+                    if watch is None:
+                        cycles, count, hit = self._run_free(limit)
+                    else:
+                        cycles, count, hit = self._run_free_watching(limit, watch)
+                    self.cycles += cycles
+                    self.instructions += count
+                    self.ring.skip_cycles(cycles)
+                    if hit:
+                        return self._watch_reason(points)
+                    if cycles > limit:
+                        continue
+            done = self.instructions
+            self.advance_phase()
+            if self.instructions != done and watch is not None and watch():
+                return self._watch_reason(points)
+
+    def _watch_reason(self, points) -> StopReason:
+        return StopReason("breakpoint" if self.pc in points else "condition", self.pc)
+
+    def advance_cycles(self, count: int) -> StopReason:
+        return self.run(max_cycles=count)
+
+    def advance_instruction(self) -> StopReason:
+        """Run the generator to the next instruction boundary (or until it freezes)."""
+        return self.run(until=lambda emu: True)
+
+    def step_instruction(self) -> int:
+        """STEP pulses until the next instruction boundary; returns the pulses given (0 if running)."""
+        pulses = 0
+        while self.press_step():
+            pulses += 1
+            if self._seq == _FETCH_START:
+                break
+        return pulses
+
+    # ----- snapshots ------------------------------------------------------------
+
+    def snapshot(self, path) -> None:
+        """Save the whole machine state as JSON (atomic write)."""
+        write_atomic(path, json.dumps(self.snapshot_state(), indent=1))
+
+    def snapshot_state(self) -> dict:
+        if self.machine.data_bits <= 8:
+            raw = bytes(self.memory)
+        else:
+            raw = b"".join(w.to_bytes(2, "little") for w in self.memory)
+        index, step = self._seq
+        return {
+            "format": _SNAPSHOT_FORMAT, "version": 1, "machine": self.machine.name,
+            "slots": {name: int(self._s[slot]) for name, (slot, _w) in self._slots.items()},
+            "memory": base64.b64encode(zlib.compress(raw)).decode("ascii"),
+            "ring": self.ring.state(), "frozen": self.frozen, "released": self._released,
+            "switch_run": self.switch_run, "halt_latch": self.halt_latch, "halt_address": self.halt_address,
+            "sequencer": [index, step], "instruction_address": self._instruction_address,
+            "cycles": self.cycles, "instructions": self.instructions,
+            "ports": self.ports.state(), "undefined": [[a, n] for a, n in self._undefined.items()],
+        }
+
+    @classmethod
+    def restore(cls, path, machine: Machine) -> "Emulator":
+        try:
+            with open(path, encoding="utf-8") as stream:
+                state = json.load(stream)
+        except (OSError, ValueError) as exc:
+            raise MachineError(f"cannot read snapshot: {exc}", path=str(path)) from None
+        emu = cls(machine)
+        emu.restore_state(state, str(path))
+        return emu
+
+    def restore_state(self, state: dict, origin: str = "<snapshot>") -> None:
+        if not isinstance(state, dict) or state.get("format") != _SNAPSHOT_FORMAT:
+            raise MachineError("not a relaybench snapshot", path=origin)
+        if state.get("machine") != self.machine.name:
+            raise MachineError(f"the snapshot is of machine '{state.get('machine')}', "
+                               f"not '{self.machine.name}'", path=origin)
+        try:
+            for name, value in state["slots"].items():
+                self._s[self._slots[name][0]] = value
+            raw = zlib.decompress(base64.b64decode(state["memory"]))
+            if self.machine.data_bits <= 8:
+                self.memory[:] = raw
+            else:
+                self.memory[:] = [int.from_bytes(raw[i:i + 2], "little") for i in range(0, len(raw), 2)]
+            self.ring.restore(state["ring"])
+            self.frozen, self._released = state["frozen"], state["released"]
+            self.switch_run, self.halt_latch = state["switch_run"], state["halt_latch"]
+            self.halt_address = state["halt_address"]
+            self._seq = tuple(state["sequencer"])
+            self._instruction_address = state["instruction_address"]
+            self.cycles, self.instructions = state["cycles"], state["instructions"]
+            self.ports.restore(state["ports"])
+            self._undefined = Counter({a: n for a, n in state["undefined"]})
+        except (KeyError, TypeError, ValueError, zlib.error) as exc:
+            raise MachineError(f"damaged snapshot ({exc})", path=origin) from None

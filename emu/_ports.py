@@ -1,0 +1,74 @@
+"""The I/O bus: the panel's switches and lamps, the console and the input stream.
+
+Which device answers at which port number is the machine file's business
+(``[ports]``); this module only knows what each kind of device does. A
+transfer to a port with no device is ignored and counted, as spec §1 asks.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+
+from ._description import Machine
+
+__all__ = ["Ports"]
+
+
+class Ports:
+    def __init__(self, machine: Machine):
+        self.machine = machine
+        self.output = bytearray()
+        self.lamps = 0
+        self.switches = 0
+        self.input_bytes = b""
+        self.input_position = 0
+        self.unmapped = Counter()
+        self._out = dict(machine.ports_out)
+        self._in = dict(machine.ports_in)
+        self._mask = machine.data_mask
+
+    def read(self, port: int) -> int:
+        device = self._in.get(port)
+        if device == "switches":
+            return self.switches & self._mask
+        if device == "input":
+            if self.input_position < len(self.input_bytes):
+                self.input_position += 1
+                return self.input_bytes[self.input_position - 1]
+            return 0
+        if device == "input_ready":
+            return 1 if self.input_position < len(self.input_bytes) else 0
+        self.unmapped[("in", port)] += 1
+        return 0
+
+    def write(self, port: int, value: int) -> None:
+        device = self._out.get(port)
+        if device == "console":
+            self.output.append(value & 0xFF)
+        elif device == "lamps":
+            self.lamps = value
+        else:
+            self.unmapped[("out", port)] += 1
+
+    def warnings(self) -> list[str]:
+        notes = []
+        for (direction, port), count in sorted(self.unmapped.items()):
+            noun, preposition = ("read", "from") if direction == "in" else ("write", "to")
+            plural = "s" if count != 1 else ""
+            notes.append(f"{count} {noun}{plural} {preposition} port {port}, which has no device")
+        return notes
+
+    def state(self) -> dict:
+        return {
+            "output": self.output.hex(), "lamps": self.lamps, "switches": self.switches,
+            "input": bytes(self.input_bytes).hex(), "input_position": self.input_position,
+            "unmapped": [[d, p, n] for (d, p), n in sorted(self.unmapped.items())],
+        }
+
+    def restore(self, state: dict) -> None:
+        self.output = bytearray.fromhex(state["output"])
+        self.lamps = state["lamps"]
+        self.switches = state["switches"]
+        self.input_bytes = bytes.fromhex(state["input"])
+        self.input_position = state["input_position"]
+        self.unmapped = Counter({(d, p): n for d, p, n in state["unmapped"]})

@@ -1,0 +1,24 @@
+"""Timing analysis: the clock ring as parts, its spread, waveforms and relay wear.
+
+The machine description may carry a ``[timing]`` section (the parts of
+each ring stage) and a ``[wear]`` section (rated relay life); the engine
+does not read them, this package does.
+"""
+
+from ._model import PARTS, SILICON_DIODE_DROP_V, StageParts, TimingModel, has_timing, timing_model
+from ._montecarlo import ClockSamples, monte_carlo
+from ._rc import (charging_voltage, discharging_voltage, divider, time_constant,
+                  time_to_charge, time_to_discharge)
+from ._spread import SpreadClock, spread_source
+from ._vcd import VcdRecorder, control_lines, record_vcd
+from ._wear import WearCounter, WearRatings, count_wear, format_wear, relay_names, wear_ratings
+
+__all__ = [
+    "PARTS", "SILICON_DIODE_DROP_V", "StageParts", "TimingModel", "has_timing", "timing_model",
+    "ClockSamples", "monte_carlo",
+    "charging_voltage", "discharging_voltage", "divider", "time_constant",
+    "time_to_charge", "time_to_discharge",
+    "SpreadClock", "spread_source",
+    "VcdRecorder", "control_lines", "record_vcd",
+    "WearCounter", "WearRatings", "count_wear", "format_wear", "relay_names", "wear_ratings",
+]

@@ -1,0 +1,169 @@
+"""Relay wear: how often each relay operates, and how long it will last.
+
+A ring-stage relay operates each time the ring lights its stage; the relay
+of a control line operates on every pulse whose micro-step drives that
+line. From the counts of one run, the number of operations per clock pulse
+gives the operations per hour of use at the machine's nominal rate, and
+the rated mechanical life from the ``[wear]`` section gives the hours each
+relay lasts. The relays that wear out first come first in the report.
+"""
+
+from __future__ import annotations
+
+import math
+from contextlib import contextmanager
+from dataclasses import dataclass
+
+from .. import Emulator, Observer
+from .._description import Machine
+from .._errors import MachineError
+from ._vcd import control_lines
+
+__all__ = ["WearCounter", "WearRatings", "count_wear", "wear_ratings", "format_wear",
+           "relay_names"]
+
+
+def stage_relay(stage: int) -> str:
+    return f"stage {stage}"
+
+
+def relay_names(machine: Machine) -> list[str]:
+    """The relays that wear can be counted for: ring stages, then control lines."""
+    return [stage_relay(s) for s in range(1, machine.ring_stages + 1)] + control_lines(machine)
+
+
+@dataclass(frozen=True)
+class WearRatings:
+    """Rated mechanical life in operations: one default, and the relays that differ."""
+    default: float | None
+    relays: dict[str, float]
+
+    def life(self, relay: str) -> float | None:
+        return self.relays.get(relay, self.default)
+
+
+def wear_ratings(machine: Machine) -> WearRatings:
+    """Check and read the machine's ``[wear]`` section (no section: life unknown)."""
+    spec = machine.extra.get("wear")
+    if spec is None:
+        return WearRatings(None, {})
+
+    def fail(where, message):
+        raise MachineError(message, path=machine.path, where=where)
+
+    def rating(value, where, key):
+        if not isinstance(value, (int, float)) or isinstance(value, bool) or not value > 0 \
+                or value == float("inf"):
+            fail(where, f"'{key}' must be a positive number of operations, not {value!r}")
+        return float(value)
+
+    if not isinstance(spec, dict):
+        fail("top level", "'wear' must be a table")
+    for key in spec:
+        if key not in ("rated_operations", "relays"):
+            fail("[wear]", f"unknown key '{key}' (expected one of: rated_operations, relays)")
+    default = spec.get("rated_operations")
+    if default is not None:
+        default = rating(default, "[wear]", "rated_operations")
+    relays = spec.get("relays", {})
+    if not isinstance(relays, dict):
+        fail("[wear]", "'relays' must be a table of relay name = rated operations")
+    known = relay_names(machine)
+    checked = {}
+    for name, value in relays.items():
+        if name not in known:
+            fail("[wear.relays]", f"no relay named '{name}' (relays: {', '.join(known)})")
+        checked[name] = rating(value, "[wear.relays]", name)
+    return WearRatings(default, checked)
+
+
+class WearCounter(Observer):
+    """Counts operations of every relay while attached to an emulator.
+
+    Built from the emulator, so a stage already lit when counting starts
+    is not counted until it lights again.
+    """
+
+    def __init__(self, emu: Emulator):
+        self.machine = emu.machine
+        self.counts = dict.fromkeys(relay_names(emu.machine), 0)
+        self.lit = set(self.machine.phases[emu.phase_index].ring)
+        self.pulses = 0
+
+    def _ring(self, emu):
+        lit = set(self.machine.phases[emu.phase_index].ring)
+        for stage in lit - self.lit:
+            self.counts[stage_relay(stage)] += 1
+        self.lit = lit
+
+    def phase(self, emu, index):
+        self._ring(emu)
+
+    def hold(self, emu, frozen):
+        self._ring(emu)
+
+    def edge(self, emu, level):
+        self.pulses += level
+
+    def microstep(self, emu, step, lines):
+        for line in lines:
+            self.counts[line] += 1
+
+    def report(self) -> dict:
+        """A JSON-able dict: per relay its count, rate and life, soonest worn first."""
+        machine = self.machine
+        ratings = wear_ratings(machine)
+        per_hour_factor = machine.nominal_hz * 3600 / self.pulses if self.pulses else 0.0
+        relays = []
+        for name, count in self.counts.items():
+            if not count:
+                continue
+            per_hour = count * per_hour_factor
+            life = ratings.life(name)
+            hours = life / per_hour if life is not None and per_hour else None
+            relays.append({"relay": name, "operations": count, "per_pulse": count / self.pulses,
+                           "per_hour": per_hour, "rated_operations": life, "life_hours": hours})
+        relays.sort(key=lambda r: (r["life_hours"] is None, r["life_hours"] or 0, -r["operations"], r["relay"]))
+        timed = [r for r in relays if r["life_hours"] is not None]
+        first = [r["relay"] for r in timed if math.isclose(r["life_hours"], timed[0]["life_hours"])]
+        return {"machine": machine.name, "pulses": self.pulses, "nominal_hz": machine.nominal_hz,
+                "relays": relays, "wears_first": first,
+                "rated_life_known": ratings.default is not None or bool(ratings.relays)}
+
+
+@contextmanager
+def count_wear(emu: Emulator):
+    """Count relay operations of whatever the emulator does inside the ``with`` block."""
+    counter = WearCounter(emu)
+    emu.observe(counter)
+    try:
+        yield counter
+    finally:
+        emu.unobserve(counter)
+
+
+def format_wear(report: dict, top: int = 10) -> str:
+    """The report as text for the terminal: the ``top`` soonest-worn relays."""
+    if not report["pulses"]:
+        return "relay wear: no clock pulses were run"
+    lines = [f"relay wear over {report['pulses']:,} pulses, extrapolated at the nominal "
+             f"{report['nominal_hz']:g} Hz:",
+             f"  {'relay':<14}{'operations':>12}{'per hour':>12}{'rated life':>14}{'lasts':>14}"]
+    for r in report["relays"][:top]:
+        life = "unknown" if r["rated_operations"] is None else f"{r['rated_operations']:,.0f}"
+        lasts = "?" if r["life_hours"] is None else _hours(r["life_hours"])
+        lines.append(f"  {r['relay']:<14}{r['operations']:>12,}{r['per_hour']:>12,.0f}{life:>14}{lasts:>14}")
+    hidden = len(report["relays"]) - top
+    if hidden > 0:
+        lines.append(f"  … and {hidden} more")
+    if report["wears_first"]:
+        worst = report["relays"][0]
+        lines.append(f"wears first: {', '.join(report['wears_first'])} "
+                     f"(rated life reached after {_hours(worst['life_hours'])} of use)")
+    else:
+        lines.append("no rated life in the machine file ([wear] rated_operations), so no life estimate")
+    return "\n".join(lines)
+
+
+def _hours(hours: float) -> str:
+    return f"{hours:,.0f} h" if hours >= 10 else f"{hours:.2g} h"

@@ -1,0 +1,245 @@
+"""The debug file: what the runner and the debugger know about an image.
+
+An image (raw binary or Intel HEX) holds only words. The debug file the
+assembler writes beside it, ``prog.hex`` → ``prog.dbg.json``, keeps the rest:
+names, where each address came from, which halts are checkpoints and what
+to check there. Schema (version 1)::
+
+    {
+      "format": "relaybench-debug",
+      "version": 1,
+      "machine": "ref8",              # name from the machine description
+      "word_bits": 8,                 # data_bits of that machine
+      "files": ["demo.asm", "lib.asm"],
+      "labels": {"loop": 4},          # label name → address
+      "constants": {"COUNT": 10},     # .equ / NAME = e → value
+      "lines": [                      # one entry per statement that emits words,
+        {"address": 0, "length": 2,   #   in address order
+         "file": 0, "line": 3,        #   file: index into "files"; line from 1
+         "kind": "code",              #   "code" (an instruction) or "data"
+         "cycles": 2}                 #   clock cycles of the instruction; null for data
+      ],
+      "pauses": [12],                 # addresses of `pause` instructions
+      "expects": [                    # .expect checks, in source order
+        {"address": 12,               #   the halt/pause they are attached to
+         "file": 0, "line": 14,
+         "item": "r0",                #   register, pair or flag name, "mem", "lamps" or "out"
+         "memory_address": null,      #   the address when item is "mem"
+         "op": "==",                  #   "==" or "!="
+         "value": 5,                  #   an integer (masked to the item's width), or a string for "out"
+         "text": "r0 == 5"}           #   the check as written, for reports
+      ]
+    }
+
+File names are written relative to the folder of the debug file, and
+``read_debug`` turns them back into paths usable from the current folder.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from ._errors import AsmError, Diagnostic, file_error
+from ._files import write_atomic
+
+__all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "write_debug", "read_debug",
+           "debug_path_for", "FORMAT", "VERSION"]
+
+FORMAT = "relaybench-debug"
+VERSION = 1
+
+
+@dataclass(frozen=True)
+class Expect:
+    """One ``.expect`` check, attached to the halt or pause at ``address``."""
+    address: int
+    file: str
+    line: int
+    item: str
+    op: str
+    value: int | str
+    memory_address: int | None = None
+    text: str = ""
+
+
+@dataclass(frozen=True)
+class LineEntry:
+    """The words one statement put at ``address``."""
+    address: int
+    length: int
+    file: str
+    line: int
+    kind: str
+    cycles: int | None = None
+
+
+@dataclass
+class DebugInfo:
+    """A debug file read back; the runner and debugger use it like a Program's names."""
+    machine: str
+    word_bits: int
+    files: list[str]
+    labels: dict[str, int]
+    constants: dict[str, int]
+    lines: list[LineEntry]
+    pauses: list[int]
+    expects: list[Expect]
+    source_map: dict[int, tuple[str, int]] = field(init=False)
+
+    def __post_init__(self):
+        self.source_map = source_map_of(self.lines)
+
+    @property
+    def symbols(self) -> dict[str, int]:
+        return {**self.constants, **self.labels}
+
+
+def source_map_of(lines: list[LineEntry]) -> dict[int, tuple[str, int]]:
+    """Every word address → (file, line) of the statement that put it there."""
+    result = {}
+    for entry in lines:
+        place = (entry.file, entry.line)
+        for address in range(entry.address, entry.address + entry.length):
+            result[address] = place
+    return result
+
+
+def debug_path_for(image_path) -> Path:
+    """``prog.hex`` / ``prog.bin`` → ``prog.dbg.json`` beside it."""
+    path = Path(image_path)
+    return path.with_name(path.stem + ".dbg.json")
+
+
+def debug_dict(program, relative_to: str | None = None) -> dict:
+    files = list(program.sources)
+    index = {name: i for i, name in enumerate(files)}
+    return {
+        "format": FORMAT,
+        "version": VERSION,
+        "machine": program.machine.name,
+        "word_bits": program.machine.data_bits,
+        "files": [_relative(name, relative_to) for name in files],
+        "labels": dict(program.labels),
+        "constants": dict(program.constants),
+        "lines": [{"address": e.address, "length": e.length, "file": index[e.file], "line": e.line,
+                   "kind": e.kind, "cycles": e.cycles}
+                  for e in sorted(program.lines, key=lambda e: e.address)],
+        "pauses": list(program.pauses),
+        "expects": [{"address": x.address, "file": index[x.file], "line": x.line, "item": x.item,
+                     "memory_address": x.memory_address, "op": x.op, "value": x.value, "text": x.text}
+                    for x in program.expects],
+    }
+
+
+def _relative(name: str, folder: str | None) -> str:
+    if folder is None or name.startswith("<"):
+        return name
+    try:
+        return os.path.relpath(os.path.abspath(name), folder)
+    except ValueError:
+        return os.path.abspath(name)
+
+
+def write_debug(program, path) -> None:
+    folder = os.path.dirname(os.path.abspath(path))
+    text = json.dumps(debug_dict(program, relative_to=folder), indent=1) + "\n"
+    write_atomic(path, text.encode("utf-8"))
+
+
+def read_debug(path) -> DebugInfo:
+    """Read a debug file; a broken one raises AsmError naming the key and what was expected."""
+    path = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise file_error(path, f"cannot read debug file ({getattr(exc, 'strerror', None) or exc})") from None
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as exc:
+        line_text = text.splitlines()[exc.lineno - 1] if text.splitlines() else ""
+        raise AsmError([Diagnostic(path, exc.lineno, exc.colno, f"not valid JSON: {exc.msg}", line_text)]) from None
+    return _Reader(path).info(data)
+
+
+class _Reader:
+    """Checks a decoded debug file key by key."""
+
+    def __init__(self, path: str):
+        self.path = path
+        self.folder = os.path.dirname(path)
+
+    def fail(self, message: str):
+        raise file_error(self.path, message)
+
+    def get(self, data: dict, key: str, kind, what: str, where: str):
+        value = data.get(key) if isinstance(data, dict) else None
+        if not isinstance(value, kind) or isinstance(value, bool) and kind is not bool:
+            self.fail(f"{where}: key '{key}' must be {what}")
+        return value
+
+    def info(self, data) -> DebugInfo:
+        if not isinstance(data, dict) or data.get("format") != FORMAT:
+            self.fail(f"not a relaybench debug file (key 'format' must be \"{FORMAT}\")")
+        if data.get("version") != VERSION:
+            self.fail(f"key 'version' must be {VERSION}, not {data.get('version')!r}")
+        top = "top level"
+        files = self.get(data, "files", list, "a list of file names", top)
+        if not all(isinstance(f, str) for f in files):
+            self.fail("top level: key 'files' must be a list of file names")
+        files = [f if f.startswith("<") or os.path.isabs(f) else os.path.normpath(os.path.join(self.folder, f))
+                 for f in files]
+        labels = self.names(data, "labels")
+        constants = self.names(data, "constants")
+        lines = [self.line(entry, i, files) for i, entry in enumerate(self.get(data, "lines", list, "a list", top))]
+        pauses = self.get(data, "pauses", list, "a list of addresses", top)
+        if not all(isinstance(a, int) and not isinstance(a, bool) for a in pauses):
+            self.fail("top level: key 'pauses' must be a list of addresses")
+        expects = [self.expect(entry, i, files)
+                   for i, entry in enumerate(self.get(data, "expects", list, "a list", top))]
+        return DebugInfo(self.get(data, "machine", str, "a machine name", top),
+                         self.get(data, "word_bits", int, "an integer", top),
+                         files, labels, constants, lines, pauses, expects)
+
+    def names(self, data, key) -> dict[str, int]:
+        table = self.get(data, key, dict, "an object of name → integer", "top level")
+        if not all(isinstance(v, int) and not isinstance(v, bool) for v in table.values()):
+            self.fail(f"top level: key '{key}' must be an object of name → integer")
+        return table
+
+    def file(self, entry, where, files) -> str:
+        index = self.get(entry, "file", int, f"an index into 'files' (0…{len(files) - 1})", where)
+        if not 0 <= index < len(files):
+            self.fail(f"{where}: key 'file' must be an index into 'files' (0…{len(files) - 1})")
+        return files[index]
+
+    def line(self, entry, i, files) -> LineEntry:
+        where = f"lines[{i}]"
+        kind = self.get(entry, "kind", str, '"code" or "data"', where)
+        if kind not in ("code", "data"):
+            self.fail(f"{where}: key 'kind' must be \"code\" or \"data\"")
+        cycles = entry.get("cycles")
+        if cycles is not None and (not isinstance(cycles, int) or isinstance(cycles, bool)):
+            self.fail(f"{where}: key 'cycles' must be an integer or null")
+        return LineEntry(self.get(entry, "address", int, "an address", where),
+                         self.get(entry, "length", int, "a word count", where),
+                         self.file(entry, where, files), self.get(entry, "line", int, "a line number", where),
+                         kind, cycles)
+
+    def expect(self, entry, i, files) -> Expect:
+        where = f"expects[{i}]"
+        value = entry.get("value") if isinstance(entry, dict) else None
+        if not isinstance(value, (int, str)) or isinstance(value, bool):
+            self.fail(f"{where}: key 'value' must be an integer or a string")
+        op = self.get(entry, "op", str, '"==" or "!="', where)
+        if op not in ("==", "!="):
+            self.fail(f"{where}: key 'op' must be \"==\" or \"!=\"")
+        memory = entry.get("memory_address")
+        if memory is not None and (not isinstance(memory, int) or isinstance(memory, bool)):
+            self.fail(f"{where}: key 'memory_address' must be an address or null")
+        return Expect(self.get(entry, "address", int, "an address", where), self.file(entry, where, files),
+                      self.get(entry, "line", int, "a line number", where),
+                      self.get(entry, "item", str, "an item name", where), op, value, memory,
+                      entry.get("text", "") if isinstance(entry.get("text", ""), str) else "")

@@ -1,0 +1,213 @@
+"""Expressions of the assembly language and their evaluation.
+
+Nodes carry the line and column of their first token so every evaluation
+problem points at the right place. Evaluation asks a context for symbol
+values and for ``$``; the context decides what a name means (a label, a
+constant, a register that has no business in an expression).
+"""
+
+from __future__ import annotations
+
+import operator
+from typing import Protocol
+
+__all__ = [
+    "EvalError", "Context", "Expr", "Number", "Name", "Here", "Unary", "Binary",
+    "Group", "Call", "Invalid", "FUNCTIONS",
+]
+
+_LIMIT = 1 << 256
+"""No value in a program is anywhere near this; past it, something is runaway."""
+
+
+class EvalError(Exception):
+    """An expression that has no value; ``node`` says where."""
+
+    def __init__(self, message: str | None, node: "Expr", file: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.node = node
+        self.file = file
+    """``file`` is set when the expression came from another file (a constant's
+    definition); a message of None means "already reported"."""
+
+
+class Context(Protocol):
+    here: int
+    data_bits: int
+
+    def lookup(self, node: "Name") -> int: ...
+
+
+class Expr:
+    __slots__ = ("line", "column")
+
+    def evaluate(self, ctx: Context) -> int:
+        raise NotImplementedError
+
+    def text(self) -> str:
+        """The expression written back out, for messages and listings."""
+        raise NotImplementedError
+
+
+class Number(Expr):
+    __slots__ = ("value",)
+
+    def __init__(self, value: int, line: int, column: int):
+        self.value, self.line, self.column = value, line, column
+
+    def evaluate(self, ctx):
+        return self.value
+
+    def text(self):
+        return str(self.value)
+
+
+class Name(Expr):
+    __slots__ = ("name",)
+
+    def __init__(self, name: str, line: int, column: int):
+        self.name, self.line, self.column = name, line, column
+
+    def evaluate(self, ctx):
+        return ctx.lookup(self)
+
+    def text(self):
+        return self.name
+
+
+class Here(Expr):
+    """``$``: the address of the statement being assembled."""
+    __slots__ = ()
+
+    def __init__(self, line: int, column: int):
+        self.line, self.column = line, column
+
+    def evaluate(self, ctx):
+        return ctx.here
+
+    def text(self):
+        return "$"
+
+
+_UNARY = {"-": operator.neg, "+": operator.pos, "~": operator.invert}
+
+
+class Unary(Expr):
+    __slots__ = ("op", "operand")
+
+    def __init__(self, op: str, operand: Expr, line: int, column: int):
+        self.op, self.operand, self.line, self.column = op, operand, line, column
+
+    def evaluate(self, ctx):
+        return _UNARY[self.op](self.operand.evaluate(ctx))
+
+    def text(self):
+        return self.op + self.operand.text()
+
+
+def _divide(a: int, b: int) -> int:
+    """Integer division truncating toward zero, as hardware dividers and C do."""
+    quotient = abs(a) // abs(b)
+    return quotient if (a < 0) == (b < 0) else -quotient
+
+
+def _remainder(a: int, b: int) -> int:
+    return a - b * _divide(a, b)
+
+
+def _shift(direction):
+    def shift(a: int, b: int) -> int:
+        if not 0 <= b <= 64:
+            raise ValueError(f"a shift count must be 0…64, not {b}")
+        return direction(a, b)
+    return shift
+
+
+_BINARY = {
+    "+": operator.add, "-": operator.sub, "*": operator.mul,
+    "/": _divide, "%": _remainder,
+    "&": operator.and_, "|": operator.or_, "^": operator.xor,
+    "<<": _shift(operator.lshift), ">>": _shift(operator.rshift),
+}
+
+
+class Binary(Expr):
+    __slots__ = ("op", "left", "right")
+
+    def __init__(self, op: str, left: Expr, right: Expr):
+        self.op, self.left, self.right = op, left, right
+        self.line, self.column = left.line, left.column
+
+    def evaluate(self, ctx):
+        a = self.left.evaluate(ctx)
+        b = self.right.evaluate(ctx)
+        try:
+            result = _BINARY[self.op](a, b)
+        except ZeroDivisionError:
+            raise EvalError(f"division by zero ('{self.op}' by a value of 0)", self.right) from None
+        except ValueError as exc:
+            raise EvalError(str(exc), self.right) from None
+        if not -_LIMIT < result < _LIMIT:
+            raise EvalError("value too large", self)
+        return result
+
+    def text(self):
+        return f"{self.left.text()} {self.op} {self.right.text()}"
+
+
+class Group(Expr):
+    """A parenthesised expression, kept so an operand form like ``(addr)`` can match it."""
+    __slots__ = ("inner",)
+
+    def __init__(self, inner: Expr, line: int, column: int):
+        self.inner, self.line, self.column = inner, line, column
+
+    def evaluate(self, ctx):
+        return self.inner.evaluate(ctx)
+
+    def text(self):
+        return f"({self.inner.text()})"
+
+
+def _low_word(value: int, bits: int) -> int:
+    return value & ((1 << bits) - 1)
+
+
+def _high_word(value: int, bits: int) -> int:
+    return (value >> bits) & ((1 << bits) - 1)
+
+
+FUNCTIONS = {"lo": _low_word, "hi": _high_word}
+"""Word selectors: ``lo`` is the low data word of a value, ``hi`` the next one."""
+
+
+class Call(Expr):
+    __slots__ = ("function", "argument")
+
+    def __init__(self, function: str, argument: Expr, line: int, column: int):
+        self.function, self.argument, self.line, self.column = function, argument, line, column
+
+    def evaluate(self, ctx):
+        function = FUNCTIONS.get(self.function.lower())
+        if function is None:
+            known = ", ".join(FUNCTIONS)
+            raise EvalError(f"unknown function '{self.function}' (functions: {known})", self)
+        return function(self.argument.evaluate(ctx), ctx.data_bits)
+
+    def text(self):
+        return f"{self.function}({self.argument.text()})"
+
+
+class Invalid(Expr):
+    """A literal the parser accepted in shape but not in content (a bad escape)."""
+    __slots__ = ("message",)
+
+    def __init__(self, message: str, line: int, column: int):
+        self.message, self.line, self.column = message, line, column
+
+    def evaluate(self, ctx):
+        raise EvalError(self.message, self)
+
+    def text(self):
+        return "?"

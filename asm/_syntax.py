@@ -1,0 +1,254 @@
+"""Source text → statements: the lark grammar and one transformer over it.
+
+The parser is built once (LALR, transformer embedded, so no parse tree is
+kept). A file is parsed whole; only when that fails is it parsed again line
+by line, so that every line with a syntax error is reported, not just the
+first, and the good lines still reach the later passes.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+
+import lark
+from lark import v_args
+
+from ._errors import Diagnostic
+from ._expr import Binary, Call, Expr, Group, Here, Invalid, Name, Number, Unary
+
+__all__ = [
+    "Operand", "Text", "Comparison", "Label", "InstructionLine", "Directive",
+    "Assignment", "Line", "parse_source", "ESCAPES",
+]
+
+ESCAPES = {"n": "\n", "t": "\t", "r": "\r", "0": "\0", "\\": "\\", "'": "'", '"': '"'}
+
+
+@dataclass(slots=True)
+class Operand:
+    """An expression with its decoration: ``[addr]`` is opening "[", closing "]"."""
+    opening: str
+    expr: Expr
+    closing: str
+    line: int
+    column: int
+
+    def readings(self):
+        """Every (opening, expression, closing) this operand can be read as:
+        the outer parentheses of ``(e)`` may be decoration or grouping."""
+        opening, expr, closing = self.opening, self.expr, self.closing
+        yield opening, expr, closing
+        while isinstance(expr, Group):
+            opening, expr, closing = opening + "(", expr.inner, ")" + closing
+            yield opening, expr, closing
+
+    def literal_text(self) -> str | None:
+        """Lower-case text of an operand made of a bare name (``x``, ``[x]``)."""
+        for opening, expr, closing in self.readings():
+            if isinstance(expr, Name):
+                return f"{opening}{expr.name.lower()}{closing}"
+        return None
+
+
+@dataclass(slots=True)
+class Text:
+    """A string literal; ``problem`` is set when an escape is not known."""
+    value: str
+    problem: str | None
+    line: int
+    column: int
+
+
+@dataclass(slots=True)
+class Comparison:
+    """``item op value`` in an ``.expect``."""
+    item: Operand
+    op: str
+    value: Operand | Text
+    line: int
+    column: int
+
+
+@dataclass(slots=True)
+class Label:
+    name: str
+    line: int
+    column: int
+
+
+@dataclass(slots=True)
+class InstructionLine:
+    mnemonic: str
+    operands: list[Operand]
+    line: int
+    column: int
+
+
+@dataclass(slots=True)
+class Directive:
+    name: str
+    """Lower case, with its dot."""
+    arguments: list
+    line: int
+    column: int
+
+
+@dataclass(slots=True)
+class Assignment:
+    name: str
+    expr: Expr
+    line: int
+    column: int
+
+
+@dataclass(slots=True)
+class Line:
+    number: int
+    label: Label | None
+    body: InstructionLine | Directive | Assignment | None
+
+
+def decode_escapes(raw: str) -> tuple[str, str | None]:
+    """The text between the quotes → its value and the first problem, if any."""
+    out, i = [], 0
+    while i < len(raw):
+        ch = raw[i]
+        if ch == "\\":
+            code = raw[i + 1]
+            if code not in ESCAPES:
+                known = " ".join("\\" + k for k in ESCAPES)
+                return "", f"unknown escape '\\{code}' (known: {known})"
+            out.append(ESCAPES[code])
+            i += 2
+        else:
+            out.append(ch)
+            i += 1
+    return "".join(out), None
+
+
+@v_args(inline=True)
+class _Build(lark.Transformer):
+    """One method per grammar rule; each builds one statement or expression node."""
+
+    def start(self, *lines):
+        return [line for line in lines if line is not None]
+
+    def line(self, label, body):
+        if label is None and body is None:
+            return None
+        return Line((label or body).line, label, body)
+
+    def label(self, name):
+        return Label(str(name), name.line, name.column)
+
+    def instruction(self, name, *operands):
+        return InstructionLine(str(name), [op for op in operands if op is not None], name.line, name.column)
+
+    def assignment(self, name, expr):
+        return Assignment(str(name), expr, name.line, name.column)
+
+    def directive(self, name, *arguments):
+        return Directive(str(name).lower(), [a for a in arguments if a is not None], name.line, name.column)
+
+    def comparison(self, item, op, value):
+        return Comparison(item, str(op), value, item.line, item.column)
+
+    def operand(self, opening, expr, closing):
+        first = opening or expr
+        return Operand(str(opening or ""), expr, str(closing or ""), first.line, first.column)
+
+    def string(self, token):
+        value, problem = decode_escapes(str(token)[1:-1])
+        return Text(value, problem, token.line, token.column)
+
+    def binary(self, left, op, right):
+        return Binary(str(op), left, right)
+
+    def unary(self, op, operand):
+        return Unary(str(op), operand, op.line, op.column)
+
+    def number(self, token):
+        return Number(int(str(token), 0), token.line, token.column)
+
+    def char(self, token):
+        value, problem = decode_escapes(str(token)[1:-1])
+        if problem:
+            return Invalid(problem, token.line, token.column)
+        return Number(ord(value), token.line, token.column)
+
+    def name(self, token):
+        return Name(str(token), token.line, token.column)
+
+    def here(self, token):
+        return Here(token.line, token.column)
+
+    def group(self, paren, expr):
+        return Group(expr, paren.line, paren.column)
+
+    def call(self, name, _paren, argument):
+        return Call(str(name), argument, name.line, name.column)
+
+
+@cache
+def _parser() -> lark.Lark:
+    grammar = resources.files("asm").joinpath("grammar/assembly.lark").read_text(encoding="utf-8")
+    return lark.Lark(grammar, parser="lalr", transformer=_Build(), maybe_placeholders=True,
+                     cache=False)
+
+
+_TOKEN_WORDS = {
+    "NAME": "a name", "NUMBER": "a number", "CHAR": "a character literal",
+    "STRING": "a string", "DIRECTIVE": "a directive", "_NL": "the end of the line",
+    "$END": "the end of the line", "COMMA": "','", "COLON": "':'", "EQUAL": "'='",
+    "LPAREN": "'('", "RPAR": "')'", "OPEN": "'[', '#' or '@'", "CLOSE": "']'",
+    "COMPARE": "'==' or '!='",
+}
+_EXPRESSION_START = {"NAME", "NUMBER", "CHAR", "DOLLAR", "LPAREN", "MINUS", "TILDE", "PLUS"}
+_LEADING_LABEL = re.compile(r"\s*([A-Za-z_]\w*)\s*:")
+
+
+def _expected_text(expected) -> str:
+    names = set(expected)
+    words = []
+    if names & _EXPRESSION_START:
+        words.append("an expression")
+        names -= _EXPRESSION_START | {"OPEN"}
+    words += sorted({_TOKEN_WORDS[n] for n in names if n in _TOKEN_WORDS})
+    return ", ".join(words[:5]) or "something else"
+
+
+def _syntax_message(exc: lark.UnexpectedInput, line_text: str) -> tuple[int, str]:
+    """A lark error → (column, message) in the words of the language."""
+    if isinstance(exc, lark.UnexpectedCharacters):
+        ch = line_text[exc.column - 1] if 0 < exc.column <= len(line_text) else "?"
+        return exc.column, f"unexpected character {ch!r}"
+    if isinstance(exc, lark.UnexpectedToken):
+        token = exc.token
+        if token.type in ("_NL", "$END"):
+            return len(line_text) + 1, f"unexpected end of line; expected {_expected_text(exc.expected)}"
+        return token.column, f"unexpected {str(token)!r}; expected {_expected_text(exc.expected)}"
+    return len(line_text) + 1, "unexpected end of line"
+
+
+def parse_source(text: str, filename: str) -> tuple[list[Line], list[Diagnostic]]:
+    """Every statement of a file, and a diagnostic for every line that does not parse."""
+    text = text.replace("\r\n", "\n")
+    try:
+        return _parser().parse(text), []
+    except lark.UnexpectedInput:
+        pass
+    lines, problems = [], []
+    for index, line_text in enumerate(text.split("\n")):
+        try:
+            lines.extend(_parser().parse("\n" * index + line_text))
+        except lark.UnexpectedInput as exc:
+            column, message = _syntax_message(exc, line_text)
+            column = min(max(column, 1), len(line_text) + 1)
+            problems.append(Diagnostic(filename, index + 1, column, message, line_text))
+            salvaged = _LEADING_LABEL.match(line_text)
+            if salvaged:
+                lines.append(Line(index + 1, Label(salvaged[1], index + 1, salvaged.start(1) + 1), None))
+    return lines, problems

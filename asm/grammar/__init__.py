@@ -1,0 +1,1 @@
+"""Package data: the assembly-language grammar (assembly.lark)."""

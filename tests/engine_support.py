@@ -1,0 +1,73 @@
+"""Shared helpers for engine tests: the two machines and random programs.
+
+Programs are built with the machine's own encoder, not the assembler, so
+the engine tests stand on the description alone. Address-like fields draw
+small values so that jumps, loads and stores land inside the program.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from hypothesis import strategies as st
+
+from emu import Emulator, load_machine
+
+ACC12_PATH = Path(__file__).parent / "machines" / "acc12.toml"
+MACHINES = {"ref8": load_machine("ref8"), "acc12": load_machine(ACC12_PATH)}
+
+
+def machine_named(name: str):
+    return MACHINES[name]
+
+
+def instruction_named(machine, display: str):
+    for ins in machine.instructions:
+        if ins.display == display:
+            return ins
+    raise KeyError(display)
+
+
+def encode(machine, display: str, **values) -> list[int]:
+    return instruction_named(machine, display).encode(values)
+
+
+@st.composite
+def instructions(draw, machine, span: int):
+    """One encoded instruction; halting ones drawn about one time in ten."""
+    halting = [i for i in machine.instructions if i.drives_halt]
+    others = [i for i in machine.instructions if not i.drives_halt]
+    ins = draw(st.sampled_from(halting)) if draw(st.integers(0, 9)) == 0 else draw(st.sampled_from(others))
+    values = {}
+    for name, fld in ins.fields.items():
+        kind = fld.kind
+        if kind.is_register:
+            values[name] = draw(st.integers(0, len(kind.registers) - 1))
+        elif kind.high >= span:
+            values[name] = draw(st.integers(0, span))
+        else:
+            values[name] = draw(st.integers(kind.low, kind.high))
+    return ins.encode(values)
+
+
+@st.composite
+def programs(draw, machine, max_instructions: int = 24):
+    count = draw(st.integers(1, max_instructions))
+    words: list[int] = []
+    for _ in range(count):
+        words.extend(draw(instructions(machine, span=3 * count)))
+    return words
+
+
+def boot(machine, words, switches: int = 0, input_bytes: bytes = b"") -> Emulator:
+    emu = Emulator(machine)
+    emu.load([(0, words)])
+    emu.switches = switches
+    emu.input_bytes = input_bytes
+    return emu
+
+
+def datapath_state(emu: Emulator) -> tuple:
+    """Registers, flags, memory, ports: everything a program can observe."""
+    return (tuple(int(v) for v in emu._s), bytes(emu.memory) if isinstance(emu.memory, bytearray)
+            else tuple(emu.memory), bytes(emu.output), emu.lamps, emu.ports.input_position)

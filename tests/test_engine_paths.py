@@ -1,0 +1,191 @@
+"""The two execution paths agree (P6), snapshots continue exactly (P7), and the
+halt, reset and freeze behaviour of each machine's phase table is as spec §3 says."""
+
+from __future__ import annotations
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from emu import Emulator, MachineError, Observer
+
+from engine_support import MACHINES, boot, datapath_state, encode, programs
+
+BOTH = pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
+
+
+def _full_state(emu: Emulator) -> tuple:
+    return (datapath_state(emu), emu.cycles, emu.instructions, emu.time_ns, emu.phase_index,
+            emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
+
+
+def _run_resuming(emu: Emulator, cycles: int) -> list[str]:
+    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
+    target, reasons = emu.cycles + cycles, []
+    while emu.cycles < target:
+        reason = emu.run(max_cycles=target - emu.cycles)
+        reasons.append(reason.kind)
+        if reason.kind == "halted":
+            emu.press_resume()
+    return reasons
+
+
+@BOTH
+@settings(max_examples=60, deadline=None)
+@given(data=st.data(), cycles=st.integers(1, 3000))
+def test_fused_and_stepping_agree_on_state_cycles_and_time(machine_name, data, cycles):
+    """P6: with an observer attached the engine steps phase by phase; without, it fuses."""
+    machine = MACHINES[machine_name]
+    words = data.draw(programs(machine))
+    fast, stepped = boot(machine, words), boot(machine, words)
+    stepped.observe(Observer())
+    assert _run_resuming(fast, cycles) == _run_resuming(stepped, cycles)
+    assert _full_state(fast) == _full_state(stepped)
+
+
+@BOTH
+@settings(max_examples=40, deadline=None)
+@given(data=st.data(), before=st.integers(0, 1500), after=st.integers(1, 1500), stop=st.booleans())
+def test_snapshot_restore_continues_like_an_uninterrupted_run(machine_name, data, before, after, stop,
+                                                              tmp_path_factory):
+    """P7: snapshot, restore, run equals one uninterrupted run, frozen or not."""
+    machine = MACHINES[machine_name]
+    words = data.draw(programs(machine))
+    whole, first = boot(machine, words), boot(machine, words)
+    for emu in (whole, first):
+        _run_resuming(emu, before)
+        if stop:
+            emu.set_switch_run(False)
+            emu.run(max_cycles=50)
+    path = tmp_path_factory.mktemp("snap") / "state.json"
+    first.snapshot(path)
+    second = Emulator.restore(path, machine)
+    assert _full_state(second) == _full_state(first)
+    for emu in (whole, second):
+        if stop:
+            emu.press_step()
+            emu.set_switch_run(True)
+        _run_resuming(emu, after)
+    assert _full_state(second) == _full_state(whole)
+
+
+def test_ref8_halt_freezes_at_the_boundary_right_after_it():
+    machine = MACHINES["ref8"]
+    emu = boot(machine, encode(machine, "nop") + encode(machine, "halt") + encode(machine, "inc rd", rd=0))
+    reason = emu.run(max_cycles=100)
+    assert reason.kind == "halted" and reason.address == 1
+    assert emu.frozen and emu.halt_latch and emu.at_instruction_boundary
+    assert emu.pc == 2 and emu.cycles == 3 and emu.get("r0") == 0
+    assert emu.phase_index == 2           # phase C, the hold point after the pulse
+
+
+def test_acc12_halt_on_the_second_pulse_freezes_one_cycle_into_the_next_instruction():
+    """The table holds only after its first pulse: the next fetch runs before the freeze.
+
+    Power-on leaves the ring at the hold point G1, so pulse P2 comes first:
+    skip (P2), stop's fetch (P1), stop's halt step (P2), bump's fetch (P1), freeze.
+    """
+    machine = MACHINES["acc12"]
+    emu = boot(machine, encode(machine, "skip") + encode(machine, "stop") + encode(machine, "bump"))
+    reason = emu.run(max_cycles=100)
+    assert reason.kind == "halted" and reason.address == 1
+    assert emu.cycles == 4
+    instruction, step = emu.sequencer
+    assert instruction.display == "bump" and step == 1
+    assert emu.pc == 3 and emu.get("acc") == 0
+    emu.press_resume()
+    emu.run(max_cycles=2)
+    assert emu.get("acc") == 1
+
+
+def test_acc12_halt_on_the_first_pulse_freezes_at_the_boundary():
+    machine = MACHINES["acc12"]
+    emu = boot(machine, encode(machine, "stop") + encode(machine, "bump"))
+    emu.run(max_cycles=100)
+    assert emu.at_instruction_boundary and emu.cycles == 2 and emu.pc == 1
+
+
+@BOTH
+def test_steps_work_while_halted_and_the_latch_stays_set(machine_name):
+    machine = MACHINES[machine_name]
+    halt = machine.pause
+    words = encode(machine, halt) + encode(machine, "inc rd", rd=0) if machine_name == "ref8" \
+        else encode(machine, halt) + encode(machine, "bump")
+    emu = boot(machine, words)
+    emu.run(max_cycles=100)
+    cycles, index = emu.cycles, emu.phase_index
+    assert emu.press_step() and emu.press_step()
+    assert emu.halt_latch and emu.frozen
+    assert emu.cycles == cycles + 2 and emu.phase_index == index
+    emu.set_switch_run(False)
+    emu.press_resume()
+    assert emu.frozen and not emu.halt_latch, "RESUME at stop stays frozen"
+    emu.set_switch_run(True)
+    assert not emu.frozen
+
+
+def test_step_while_running_does_nothing():
+    machine = MACHINES["ref8"]
+    emu = boot(machine, encode(machine, "inc rd", rd=0) * 4)
+    emu.advance_phase()
+    before = _full_state(emu)
+    assert emu.press_step() is False
+    assert _full_state(emu) == before
+
+
+def test_reset_clears_pc_sequencer_flags_and_latch_but_keeps_registers_and_memory():
+    machine = MACHINES["ref8"]
+    words = (encode(machine, "li rd, imm", rd=3, imm=0x80) + encode(machine, "li sp, addr", addr=0x1234)
+             + encode(machine, "add rd, rs", rd=3, rs=3) + encode(machine, "halt"))
+    emu = boot(machine, words)
+    emu.run(max_cycles=100)
+    assert emu.get("c") == 1 and emu.get("z") == 1 and emu.halt_latch
+    emu.set_switch_run(False)
+    emu.press_reset()
+    assert emu.pc == 0 and emu.at_instruction_boundary
+    assert (emu.get("z"), emu.get("n"), emu.get("c"), emu.get("v")) == (0, 0, 0, 0)
+    assert not emu.halt_latch and emu.frozen, "switch at stop: still frozen after reset"
+    assert emu.get("r3") == 0 and emu.get("sp") == 0x1234 and emu.memory[0] == words[0]
+
+
+def test_undefined_opcode_runs_as_a_no_op_with_a_warning():
+    machine = MACHINES["ref8"]
+    undefined = next(word for word, index in enumerate(machine.decode_table) if index < 0)
+    emu = boot(machine, [undefined] + encode(machine, "halt"))
+    assert emu.run(max_cycles=100).kind == "halted"
+    assert emu.pc == 2 and emu.cycles == 1 + 2
+    assert emu.warnings == ["undefined opcode at 0x0000 ran as a no-op"]
+
+
+def test_breakpoints_and_conditions_stop_at_instruction_boundaries():
+    machine = MACHINES["ref8"]
+    loop = encode(machine, "inc rd", rd=0) + encode(machine, "jmp addr", addr=0)
+    emu = boot(machine, loop)
+    reason = emu.run(max_cycles=10_000, breakpoints={1})
+    assert reason.kind == "breakpoint" and emu.pc == 1 and emu.get("r0") == 1
+    reason = emu.run(max_cycles=10_000, until=lambda e: e.get("r0") == 200)
+    assert reason.kind == "condition" and emu.get("r0") == 200 and emu.at_instruction_boundary
+
+
+def test_cycle_limit_is_exact_even_mid_instruction():
+    machine = MACHINES["ref8"]
+    emu = boot(machine, encode(machine, "call addr", addr=0))
+    reason = emu.run(max_cycles=12_345)
+    assert reason.kind == "cycle_limit" and emu.cycles == 12_345
+
+
+def test_image_larger_than_memory_is_refused():
+    machine = MACHINES["acc12"]
+    emu = Emulator(machine)
+    with pytest.raises(MachineError, match="past the 256 words of memory"):
+        emu.load([(250, [0] * 10)])
+
+
+def test_restore_refuses_another_machines_snapshot(tmp_path):
+    path = tmp_path / "s.json"
+    Emulator(MACHINES["ref8"]).snapshot(path)
+    with pytest.raises(MachineError, match="machine 'ref8', not 'acc12'"):
+        Emulator.restore(path, MACHINES["acc12"])
+    path.write_text("{not json")
+    with pytest.raises(MachineError, match="cannot read snapshot"):
+        Emulator.restore(path, MACHINES["ref8"])

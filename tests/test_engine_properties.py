@@ -1,0 +1,250 @@
+"""Properties of the clock, the control unit and the two execution paths (P1–P7).
+
+Each runs on both machines: ref8 (a hold point after every pulse) and acc12
+(a hold point after every other pulse), so nothing here holds by accident of
+one phase table.
+
+The reference for "what the program does" is a second emulator running free
+on the fast path, resuming by itself at every halt and recording the state
+at each instruction boundary. Whatever panel actions the machine under test
+receives, whenever it stands at an instruction boundary its state must be
+the reference's state after the same number of instructions (P4, and P6
+since one side steps phase by phase and the other runs fused).
+"""
+
+from __future__ import annotations
+
+import pytest
+from hypothesis import HealthCheck, settings
+from hypothesis import strategies as st
+from hypothesis.stateful import RuleBasedStateMachine, initialize, invariant, precondition, rule
+
+from emu import Emulator, Observer
+
+from engine_support import MACHINES, boot, datapath_state, programs
+
+SETTINGS = settings(max_examples=40, stateful_step_count=40, deadline=None,
+                    suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
+
+
+def _fingerprint(emu: Emulator) -> tuple:
+    regs, memory, output, lamps, position = datapath_state(emu)
+    return regs, hash(memory), output, lamps, position
+
+
+class _Reference:
+    """Free-running twin: the state after each instruction, computed on demand."""
+
+    def __init__(self, machine, words):
+        self.emu = boot(machine, words)
+        self.states = [_fingerprint(self.emu)]
+
+    def _record(self, emu):
+        self.states.append(_fingerprint(emu))
+        return len(self.states) > self.wanted
+
+    def after(self, count: int) -> tuple:
+        self.wanted = count
+        while len(self.states) <= count:
+            reason = self.emu.run(max_cycles=100_000, until=self._record)
+            if reason.kind == "halted":
+                self.emu.press_resume()
+        return self.states[count]
+
+
+class _PulseWatch(Observer):
+    """Checks P1 as it happens: every generator pulse lasts its nominal time.
+
+    Also counts the generator's pulses since the halt latch was set, for P5.
+    """
+
+    def __init__(self, machine):
+        self.machine = machine
+        self.rise = None
+        self.pulses_since_latch = None
+
+    def edge(self, emu, level):
+        if emu.frozen:          # a panel STEP pulse, not the generator's
+            return
+        if level == 1:
+            self.rise = (emu.time_ns, emu.phase_index)
+        elif self.rise is not None:
+            start, index = self.rise
+            assert emu.time_ns - start == _nominal_high_run(self.machine, index)
+            self.rise = None
+            if self.pulses_since_latch is not None:
+                self.pulses_since_latch += 1
+
+    def latch(self, emu, is_set):
+        self.pulses_since_latch = 0 if is_set else None
+
+    def panel(self, emu, action):
+        if action == "step" and emu.frozen:
+            self.pulses_since_latch = None     # the panel moved the machine on: no claim
+
+
+def _nominal_high_run(machine, index: int) -> int:
+    total, phases = 0, machine.phases
+    while phases[index].level == 1:
+        total += phases[index].duration_ns
+        index = (index + 1) % len(phases)
+    return total
+
+
+def _phases_to_hold(machine, index: int, released: bool) -> int:
+    """How many phases the generator runs from ``index`` before it enters a hold point."""
+    phases, count = machine.phases, 0
+    if released:
+        index, count = (index + 1) % len(phases), 1
+    while not phases[index].hold:
+        index, count = (index + 1) % len(phases), count + 1
+    return count
+
+
+def _cycles_after_latch_bound(machine) -> int:
+    """Most pulses that can follow a falling edge before the next hold point."""
+    phases, worst = machine.phases, 0
+    for i in range(len(phases)):
+        if phases[i - 1].level == 1 and phases[i].level == 0:
+            pulses, j = 0, i
+            while not phases[j].hold:
+                nxt = (j + 1) % len(phases)
+                if phases[j].level == 1 and phases[nxt].level == 0:
+                    pulses += 1
+                j = nxt
+            worst = max(worst, pulses)
+    return worst
+
+
+class PanelMachine(RuleBasedStateMachine):
+    """Random programs and random panel actions at random phases and times."""
+
+    machine_name = "ref8"
+    observed = True
+
+    @initialize(data=st.data())
+    def power_on(self, data):
+        self.machine = MACHINES[self.machine_name]
+        words = data.draw(programs(self.machine))
+        self.reference = _Reference(self.machine, words)
+        self.emu = boot(self.machine, words)
+        self.watch = None
+        if self.observed:
+            self.watch = _PulseWatch(self.machine)
+            self.emu.observe(self.watch)
+
+    # ----- panel actions
+
+    @rule()
+    def throw_to_stop(self):
+        self.emu.set_switch_run(False)
+
+    @rule()
+    def throw_to_run(self):
+        self.emu.set_switch_run(True)
+
+    @rule()
+    def press_step(self):
+        """P3, and the latch part of P5."""
+        emu = self.emu
+        before = (_fingerprint(emu), emu.cycles, emu.phase_index, emu.time_ns, emu._seq)
+        was_frozen, latch = emu.frozen, emu.halt_latch
+        pulsed = emu.press_step()
+        assert pulsed == was_frozen
+        if not was_frozen:
+            assert (_fingerprint(emu), emu.cycles, emu.phase_index, emu.time_ns, emu._seq) == before
+            return
+        assert emu.cycles == before[1] + 1
+        assert emu.phase_index == before[2], "a STEP pulse must not move the ring"
+        assert emu.frozen
+        assert emu._seq != before[4] or self._single_step_instruction(before[4])
+        if latch:
+            assert emu.halt_latch, "the latch stays set through steps"
+
+    def _single_step_instruction(self, seq) -> bool:
+        index, step = seq
+        if index >= 0:
+            return False
+        return len(self.machine.fetch) == 1 and step == 0
+
+    @rule()
+    def press_resume(self):
+        """P5: RESUME at run carries on; at stop the clock stays frozen."""
+        emu = self.emu
+        was_frozen = emu.frozen
+        emu.press_resume()
+        assert not emu.halt_latch
+        if emu.switch_run:
+            assert not emu.frozen
+        else:
+            assert emu.frozen == was_frozen
+
+    # ----- letting time pass
+
+    @rule(count=st.integers(1, 12))
+    def let_phases_pass(self, count):
+        for _ in range(count):
+            self.emu.advance_phase()
+
+    @rule(count=st.integers(1, 60))
+    def let_cycles_pass(self, count):
+        self.emu.run(max_cycles=count)
+
+    @rule(limit=st.integers(1, 400))
+    def run_until_frozen(self, limit):
+        self.emu.run(max_cycles=limit)
+
+    @precondition(lambda self: not self.emu.frozen)
+    @rule()
+    def stop_and_watch_it_freeze(self):
+        """P2: after stop, the generator freezes at the first hold point it reaches."""
+        emu, machine = self.emu, self.machine
+        emu.set_switch_run(False)
+        bound = _phases_to_hold(machine, emu.phase_index, emu._released)
+        ran = 0
+        while emu.advance_phase():
+            ran += 1
+            assert ran <= bound, "ran past a hold point with the hold line up"
+        assert emu.frozen
+        assert machine.phases[emu.phase_index].hold
+        assert ran == bound
+
+    # ----- invariants
+
+    @invariant()
+    def same_states_as_free_running(self):
+        """P4/P6: at every instruction boundary, the free-running twin's state."""
+        emu = self.emu
+        if emu.at_instruction_boundary:
+            assert _fingerprint(emu) == self.reference.after(emu.instructions)
+
+    @invariant()
+    def frozen_only_at_hold_points(self):
+        emu = self.emu
+        if emu.frozen:
+            assert self.machine.phases[emu.phase_index].hold
+            assert emu.hold_line, "frozen with the hold line down"
+
+    @invariant()
+    def halt_freezes_where_the_table_says(self):
+        """P5: after halt, the generator freezes within the table's pulses, pc past it."""
+        emu, watch = self.emu, self.watch
+        if watch is None or not (emu.frozen and emu.halt_latch) or watch.pulses_since_latch is None:
+            return
+        assert watch.pulses_since_latch <= _cycles_after_latch_bound(self.machine)
+        assert emu.pc != emu.halt_address, "pc already points past the halt"
+
+
+def _case(machine_name: str, observed: bool):
+    cls = type(f"Panel_{machine_name}_{'observed' if observed else 'fast'}", (PanelMachine,),
+               {"machine_name": machine_name, "observed": observed})
+    return cls.TestCase
+
+
+@pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
+@pytest.mark.parametrize("observed", [True, False], ids=["stepping", "fast"])
+def test_panel_actions_keep_the_program_semantics(machine_name, observed):
+    case = _case(machine_name, observed)
+    case.settings = SETTINGS
+    runner = case("runTest")
+    runner.runTest()

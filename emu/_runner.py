@@ -1,0 +1,178 @@
+"""Headless runs: load a program of any kind, run it, describe the result.
+
+``relaybench run`` is the contract of spec §5, and ``relaybench test``, the
+debugger and the benchmarks must mean exactly the same thing by "run this
+program", so the whole of it lives here, free of argparse: which file kinds
+are accepted, where an image's debug file is looked for, how a ``pause``
+is told from a ``halt`` and resumed, and the report scripts read.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, field
+
+import asm
+
+from ._description import Machine
+from ._emulator import Emulator
+from ._errors import MachineError
+
+__all__ = [
+    "DEFAULT_MAX_CYCLES", "LoadedProgram", "ProgramError", "RunResult",
+    "load_program", "start_emulator", "run_loaded", "report",
+]
+
+DEFAULT_MAX_CYCLES = 50_000_000
+
+
+class ProgramError(Exception):
+    """A program file that cannot be run; ``str()`` is the located message(s)."""
+
+
+@dataclass(frozen=True)
+class LoadedProgram:
+    """The words of a program and what is known about them.
+
+    An image read without its debug file knows no pauses, checks or lines,
+    so every halt in it ends a run (spec §5).
+    """
+    path: str
+    kind: str
+    """``"source"``, ``"hex"`` or ``"binary"``."""
+    segments: list[tuple[int, list[int]]]
+    pauses: frozenset[int] = frozenset()
+    expects: tuple[asm.Expect, ...] = ()
+    source_map: dict[int, tuple[str, int]] = field(default_factory=dict)
+    symbols: dict[str, int] = field(default_factory=dict)
+    debug_path: str | None = None
+    """The debug file that was read for an image, if one was found."""
+
+    @property
+    def word_count(self) -> int:
+        return sum(len(words) for _start, words in self.segments)
+
+
+@dataclass
+class RunResult:
+    program: LoadedProgram
+    emulator: Emulator
+    status: str
+    """``"halted"`` or ``"cycle_limit"``."""
+    pauses: list[dict]
+    """One ``{pc, cycles, line}`` per pause the run resumed from (or stopped at)."""
+    halt_address: int | None
+    """Address of the halt or pause the run ended at; None at the cycle limit."""
+
+
+def load_program(path: str | os.PathLike, machine: Machine) -> LoadedProgram:
+    """Assembly source, Intel HEX or a raw binary, told apart by their content."""
+    path = str(path)
+    if os.path.isdir(path):
+        raise ProgramError(f"{path}: error: is a folder, not a program file")
+    if not os.path.exists(path):
+        raise ProgramError(f"{path}: error: no such file")
+    if not os.access(path, os.R_OK):
+        raise ProgramError(f"{path}: error: cannot read the file (permission denied)")
+    try:
+        kind = asm.sniff(path)
+        if kind == "source":
+            loaded = _from_source(path, machine)
+        else:
+            loaded = _from_image(path, kind, machine)
+    except asm.AsmError as exc:
+        raise ProgramError(str(exc)) from None
+    if loaded.word_count == 0:
+        raise ProgramError(f"{path}: error: the program is empty (no instruction or data to load)")
+    too_far = [start + len(words) for start, words in loaded.segments
+               if start + len(words) > machine.memory_words]
+    if too_far:
+        raise ProgramError(f"{path}: error: the image needs {max(too_far)} words but {machine.name} "
+                           f"has {machine.memory_words} words of memory")
+    return loaded
+
+
+def _from_source(path: str, machine: Machine) -> LoadedProgram:
+    program = asm.assemble_file(path, machine)
+    return LoadedProgram(path, "source", program.segments, frozenset(program.pauses),
+                         tuple(program.expects), dict(program.source_map), dict(program.symbols))
+
+
+def _from_image(path: str, kind: str, machine: Machine) -> LoadedProgram:
+    segments = asm.read_image(path, machine)
+    debug_path = asm.debug_path_for(path)
+    if not debug_path.exists():
+        return LoadedProgram(path, kind, segments)
+    info = asm.read_debug(debug_path)
+    if info.machine != machine.name:
+        raise ProgramError(f"{debug_path}: error: the debug file is for machine '{info.machine}', "
+                           f"not '{machine.name}'")
+    return LoadedProgram(path, kind, segments, frozenset(info.pauses), tuple(info.expects),
+                         dict(info.source_map), dict(info.symbols), str(debug_path))
+
+
+def start_emulator(program: LoadedProgram, machine: Machine, *, switches: int = 0,
+                   input_bytes: bytes = b"") -> Emulator:
+    """Power on with the image in memory, the switch at run, the panel toggles set."""
+    emulator = Emulator(machine)
+    try:
+        emulator.load(program.segments)
+    except MachineError as exc:
+        raise ProgramError(f"{program.path}: error: {exc.message}") from None
+    emulator.switches = switches
+    emulator.input_bytes = input_bytes
+    emulator.set_switch_run(True)
+    return emulator
+
+
+def run_loaded(program: LoadedProgram, machine: Machine, *, max_cycles: int = DEFAULT_MAX_CYCLES,
+               switches: int = 0, input_bytes: bytes = b"", stop_at_pause: bool = False,
+               on_halt=None, chunk=None, emulator: Emulator | None = None) -> RunResult:
+    """Run to a halt or the cycle limit, resuming by itself at every pause.
+
+    ``on_halt(emulator, address)`` is called each time the clock freezes on
+    a halt or pause (before a pause is resumed), ``chunk(emulator)`` between
+    chunks of work. ``max_cycles`` counts the whole run, pauses included.
+    An ``emulator`` may be passed in already set up (the debugger, timing
+    observers); otherwise one is powered on here.
+    """
+    emu = emulator or start_emulator(program, machine, switches=switches, input_bytes=input_bytes)
+    limit = emu.cycles + max_cycles
+    pauses: list[dict] = []
+    while True:
+        stop = emu.run(max_cycles=max(limit - emu.cycles, 0), chunk=chunk)
+        if stop.kind != "halted":
+            return RunResult(program, emu, "cycle_limit", pauses, None)
+        if on_halt is not None:
+            on_halt(emu, stop.address)
+        if stop.address not in program.pauses:
+            return RunResult(program, emu, "halted", pauses, stop.address)
+        place = program.source_map.get(stop.address)
+        pauses.append({"pc": emu.pc, "cycles": emu.cycles, "line": place[1] if place else None})
+        if stop_at_pause:
+            return RunResult(program, emu, "halted", pauses, stop.address)
+        emu.press_resume()
+
+
+def report(result: RunResult, dumps: list[tuple[str, int, int]] = ()) -> dict:
+    """The JSON object of spec §5; ``dumps`` are (text as given, start, length)."""
+    emu = result.emulator
+    machine = emu.machine
+    registers = {reg.name: emu.get(reg.name) for reg in machine.visible_registers
+                 if reg.name != machine.program_counter}
+    registers.update({name: emu.get(name) for name in machine.pairs})
+    return {
+        "status": result.status,
+        "pc": emu.pc,
+        "cycles": emu.cycles,
+        "instructions": emu.instructions,
+        "sim_seconds": emu.sim_seconds,
+        "registers": registers,
+        "flags": {name: emu.get(name) for name in machine.flags},
+        "lamps": emu.lamps,
+        "output": emu.output.decode("latin-1"),
+        "pauses": list(result.pauses),
+        "warnings": list(emu.warnings),
+        "dumps": {text: list(emu.memory[start:start + length]) for text, start, length in dumps},
+    }
+

@@ -1,0 +1,93 @@
+"""``relaybench run``: run a program headless (spec §5 is the contract).
+
+The work is in ``emu._runner``; this module only turns options into a call
+and the result into the summary or the JSON object and the exit status:
+0 at a halt, 3 at the cycle limit, 1 for a bad program or machine file,
+2 for a bad command line, 130 when interrupted.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+from .._numbers import decode_escapes
+from .._progress import Progress, terminal_attached
+from .._runner import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
+from .._summary import format_summary
+from ._options import (add_machine_option, check_range, check_word, cycle_count, keep_parser,
+                       machine_from, memory_range, number, print_program_error, usage_error)
+
+SUMMARY = "run a program headless and report the machine at its halt"
+
+EXIT_HALTED = 0
+EXIT_CYCLE_LIMIT = 3
+EXIT_INTERRUPTED = 130
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("program", metavar="PROGRAM", help="assembly source, Intel HEX or raw binary")
+    add_machine_option(parser)
+    parser.add_argument("--max-cycles", metavar="N", type=cycle_count, default=DEFAULT_MAX_CYCLES,
+                        help=f"cycle limit for the whole run (default {DEFAULT_MAX_CYCLES:,})")
+    parser.add_argument("--switches", metavar="V", type=number, default=0,
+                        help="the panel toggles, e.g. 0b00101010 (default 0)")
+    source = parser.add_mutually_exclusive_group()
+    source.add_argument("--input", metavar="FILE", help="bytes of the input stream, from a file")
+    source.add_argument("--input-text", metavar="S",
+                        help="the input stream as text (UTF-8; escapes \\n \\t \\r \\0 \\\\ as in the assembler)")
+    parser.add_argument("--stop-at-pause", action="store_true", help="end the run at the first pause")
+    parser.add_argument("--dump", metavar="START:LEN", type=memory_range, action="append", default=[],
+                        help="add a memory range to the report (repeatable)")
+    parser.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
+    # ---- timing options: the lead adds --clock-spread SEED, --vcd FILE and --wear here ----
+    keep_parser(parser)
+
+
+def input_stream(args) -> bytes:
+    """The bytes of --input FILE or --input-text S (a usage error if unreadable)."""
+    if args.input is not None:
+        try:
+            with open(args.input, "rb") as stream:
+                return stream.read()
+        except OSError as exc:
+            usage_error(args, f"argument --input: cannot read '{args.input}' ({exc.strerror})")
+    if args.input_text is not None:
+        try:
+            return decode_escapes(args.input_text).encode("utf-8")
+        except ValueError as exc:
+            usage_error(args, f"argument --input-text: {exc}")
+    return b""
+
+
+def main(args) -> int:
+    machine = machine_from(args)
+    check_word(args, "--switches", args.switches, machine)
+    for dump in args.dump:
+        check_range(args, "--dump", dump, machine)
+    data = input_stream(args)
+    try:
+        program = load_program(args.program, machine)
+        emulator = start_emulator(program, machine, switches=args.switches, input_bytes=data)
+    except ProgramError as exc:
+        return print_program_error(exc)
+    # ---- timing options: the lead attaches the clock source and observers to `emulator` here ----
+    try:
+        with Progress(enabled=terminal_attached() and not args.json) as progress:
+            bar = progress.line(args.program, args.max_cycles)
+            result = run_loaded(program, machine, max_cycles=args.max_cycles,
+                                stop_at_pause=args.stop_at_pause, emulator=emulator,
+                                chunk=lambda emu: bar.update(emu.cycles))
+    except KeyboardInterrupt:
+        print(f"relaybench: run interrupted after {emulator.cycles:,} cycles "
+              f"(pc {emulator.pc:#x}); no report", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    # ---- timing options: the lead writes the VCD file and the wear report here ----
+    facts = report(result, args.dump)
+    if args.json:
+        print(json.dumps(facts))
+    else:
+        place = program.source_map.get(result.halt_address) if result.halt_address is not None else None
+        print(format_summary(args.program, facts, machine, max_cycles=args.max_cycles, dumps=args.dump,
+                             halt_place=f"{place[0]}:{place[1]}" if place else None))
+    return EXIT_HALTED if result.status == "halted" else EXIT_CYCLE_LIMIT

@@ -84,7 +84,7 @@ class MachineSyntax:
                 register_problem = outcome
         if register_problem:
             raise register_problem
-        ways = " | ".join(ins.display for ins in forms)
+        ways = " | ".join(ins.display for ins in sorted(forms, key=lambda ins: ins.index))
         raise FormError(f"{mnemonic} takes: {ways}", line.line, line.column)
 
     def _try(self, ins: Instruction, operands: list[Operand]) -> Chosen | FormError | None:

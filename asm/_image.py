@@ -225,6 +225,7 @@ def _runs(image: dict[int, int]) -> list[tuple[int, list[int]]]:
 # ----- telling formats apart -------------------------------------------------
 
 _RECORD = re.compile(r"\s*:")
+_HEX_SUFFIXES = (".hex", ".ihx")
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0e-\x1f\x7f]")
 
 
@@ -236,7 +237,7 @@ def sniff(path) -> str:
     message from the HEX reader); bytes
     that are not UTF-8 text, or text with control characters, are a raw
     binary; other text is source. A ``.bin`` name settles the rare binary
-    that happens to read as text.
+    that happens to read as text, and a ``.hex`` name a damaged HEX file.
     """
     path = os.fspath(path)
     try:
@@ -250,8 +251,9 @@ def sniff(path) -> str:
     if _CONTROL.search(text):
         return "binary"
     lines = [line for line in text.split("\n") if line.strip()]
-    if lines and all(_RECORD.match(line) for line in lines):
+    suffix = Path(path).suffix.lower()
+    if lines and all(_RECORD.match(line) for line in lines) or suffix in _HEX_SUFFIXES:
         return "hex"
-    if Path(path).suffix.lower() == ".bin":
+    if suffix == ".bin":
         return "binary"
     return "source"

@@ -3,7 +3,8 @@
 Most runs end in a blink, and a bar that flashes up for them is noise, so
 nothing is drawn until the work has taken about a second. Nothing at all is
 drawn when the output is not a terminal: scripts and CI read clean text.
-The bar goes to stderr, so the summary on stdout stays whole.
+The bar goes to stderr; while it is up, lines printed to stdout appear
+above it instead of tearing it.
 """
 
 from __future__ import annotations
@@ -77,9 +78,12 @@ class Progress:
 
     def _open(self) -> None:
         from prompt_toolkit.output import create_output
+        from prompt_toolkit.patch_stdout import patch_stdout
         from prompt_toolkit.shortcuts import ProgressBar
         self.bar = ProgressBar(output=create_output(stdout=sys.stderr))
         self.bar.__enter__()
+        self.printing = patch_stdout(raw=True)
+        self.printing.__enter__()
         for line in self.lines:
             self._attach(line)
 
@@ -91,4 +95,5 @@ class Progress:
     def close(self) -> None:
         if self.bar is not None:
             bar, self.bar = self.bar, None
+            self.printing.__exit__(None, None, None)
             bar.__exit__(None, None, None)

@@ -1,0 +1,85 @@
+"""``relaybench asm``: assemble a source file into an image and its companions.
+
+By default ``prog.asm`` gives ``prog.hex`` (Intel HEX) and ``prog.dbg.json``
+beside it, the debug file that lets ``run``, ``test`` and ``debug`` tell a
+pause from a halt in the image. Every file is written atomically by the
+assembler's writers, so a failed run never leaves half a file behind.
+Exit 0 when assembled, 1 for errors in the program or the machine file.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import asm
+
+from ._options import add_machine_option, keep_parser, machine_from, usage_error
+
+SUMMARY = "assemble a program into Intel HEX or a raw binary, a listing and a debug file"
+
+_IMAGE_SUFFIX = {"hex": ".hex", "bin": ".bin"}
+_WRITERS = {"hex": asm.write_intel_hex, "bin": asm.write_binary}
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("source", metavar="SOURCE", help="assembly source file")
+    add_machine_option(parser)
+    parser.add_argument("-o", "--out", metavar="FILE",
+                        help="the image file (default: SOURCE with .hex, or .bin with --format bin)")
+    parser.add_argument("--format", choices=sorted(_WRITERS),
+                        help="image format: hex (Intel HEX) or bin (raw words from address 0); "
+                             "default from the --out suffix, else hex")
+    parser.add_argument("--listing", metavar="FILE", nargs="?", const="",
+                        help="also write a listing (default name SOURCE with .lst; '-' prints it)")
+    parser.add_argument("--no-debug", action="store_true", help="do not write the debug file beside the image")
+    parser.add_argument("--check", action="store_true", help="only check the program; write nothing")
+    keep_parser(parser)
+
+
+def image_format(args) -> str:
+    if args.format:
+        return args.format
+    if args.out and Path(args.out).suffix.lower() == ".bin":
+        return "bin"
+    return "hex"
+
+
+def main(args) -> int:
+    machine = machine_from(args)
+    source = Path(args.source)
+    if args.out and Path(args.out).resolve() == source.resolve():
+        usage_error(args, "argument -o/--out: the image would overwrite the source file")
+    try:
+        if asm.sniff(source) != "source":
+            print(f"{source}: error: this is already an image, not assembly source", file=sys.stderr)
+            return 1
+        program = asm.assemble_file(source, machine)
+        words = sum(len(w) for _s, w in program.segments)
+        if args.check:
+            print(f"{source}: {words} words in {len(program.segments)} segment(s), no errors")
+            return 0
+        written = write_outputs(args, source, program)
+    except asm.AsmError as exc:
+        print(str(exc), file=sys.stderr)
+        return 1
+    print(f"{source}: {words} words in {len(program.segments)} segment(s) -> {', '.join(written)}")
+    return 0
+
+
+def write_outputs(args, source: Path, program) -> list[str]:
+    kind = image_format(args)
+    image = Path(args.out) if args.out else source.with_suffix(_IMAGE_SUFFIX[kind])
+    _WRITERS[kind](program, image)
+    written = [str(image)]
+    if not args.no_debug:
+        debug = asm.debug_path_for(image)
+        asm.write_debug(program, debug)
+        written.append(str(debug))
+    if args.listing == "-":
+        sys.stdout.write(program.listing_text())
+    elif args.listing is not None:
+        listing = Path(args.listing) if args.listing else source.with_suffix(".lst")
+        asm.write_listing(program, listing)
+        written.append(str(listing))
+    return written

@@ -1,0 +1,120 @@
+"""``relaybench isa``: the instruction table, generated from the machine description.
+
+Nothing here knows an instruction: syntax, encoding, micro-steps, cycle
+counts and flags are all read from the description, so the table is
+always the machine that the emulator runs. ``--python`` prints the code the
+micro-step compiler generates from the same description.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+from .._codegen import compile_machine
+from .._description import Instruction, Machine
+from .._summary import format_rate
+from ._options import add_machine_option, keep_parser, machine_from, usage_error
+
+SUMMARY = "print the instruction table (encoding, micro-steps, cycles, flags) of a machine"
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("mnemonics", metavar="MNEMONIC", nargs="*", help="show only these instructions")
+    add_machine_option(parser)
+    view = parser.add_mutually_exclusive_group()
+    view.add_argument("--json", action="store_true", help="print the table as one JSON object")
+    view.add_argument("--brief", action="store_true", help="one line per instruction, no micro-steps")
+    view.add_argument("--python", action="store_true",
+                      help="print the Python source the micro-step compiler generates for the machine")
+    keep_parser(parser)
+
+
+def encoding_words(ins: Instruction, machine: Machine) -> list[str]:
+    """Each instruction word as fixed bits and field names, as in the machine file."""
+    owners = {}
+    for name, fld in ins.fields.items():
+        for piece in fld.pieces:
+            for bit in range(piece.width):
+                owners[(piece.word, piece.shift + bit)] = (name, piece, fld.kind.bits)
+    words = []
+    for index, (mask, value) in enumerate(ins.fixed):
+        tokens, bit = [], machine.data_bits - 1
+        while bit >= 0:
+            if mask >> bit & 1:
+                run = ""
+                while bit >= 0 and mask >> bit & 1:
+                    run += str(value >> bit & 1)
+                    bit -= 1
+                tokens.append(run)
+                continue
+            name, piece, bits = owners[(index, bit)]
+            whole = piece.width == bits
+            tokens.append(name if whole else f"{name}[{piece.field_bit + piece.width - 1}:{piece.field_bit}]")
+            bit -= piece.width
+        words.append(" ".join(tokens))
+    return words
+
+
+def cycles_of(ins: Instruction, machine: Machine) -> int:
+    return len(machine.fetch) + len(ins.steps)
+
+
+def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
+    def steps(seq):
+        return [{"text": s.text, "control_lines": list(s.control_lines)} for s in seq]
+    return {
+        "machine": machine.name, "title": machine.title, "data_bits": machine.data_bits,
+        "address_bits": machine.address_bits, "memory_words": machine.memory_words,
+        "nominal_hz": machine.nominal_hz, "pause": machine.pause, "fetch": steps(machine.fetch),
+        "instructions": [{
+            "syntax": ins.display, "mnemonic": ins.mnemonic, "encoding": encoding_words(ins, machine),
+            "words": ins.word_count, "cycles": cycles_of(ins, machine),
+            "flags": list(ins.flags_written(machine)), "drives_halt": ins.drives_halt,
+            "steps": steps(ins.steps),
+        } for ins in instructions],
+    }
+
+
+def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -> str:
+    holds = ", ".join(p.name for p in machine.phases if p.hold)
+    fetch = len(machine.fetch)
+    lines = [
+        f"{machine.name} — {machine.title}",
+        f"{machine.data_bits}-bit words, {machine.address_bits}-bit addresses, {machine.memory_words:,} "
+        f"words of memory; {format_rate(machine.nominal_hz)} nominal clock, {len(machine.phases)} phases "
+        f"(hold at {holds}); one micro-step per cycle",
+        f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
+    ]
+    lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(machine.fetch, 1)]
+    lines.append("")
+    syntax_width = max([len(i.display) for i in instructions] + [11])
+    encodings = {ins.index: " | ".join(encoding_words(ins, machine)) for ins in instructions}
+    encoding_width = max([len(e) for e in encodings.values()] + [8])
+    lines.append(f"{'instruction':<{syntax_width}}  {'encoding':<{encoding_width}}  cycles  flags")
+    for ins in instructions:
+        flags = " ".join(ins.flags_written(machine)) or "-"
+        lines.append(f"{ins.display:<{syntax_width}}  {encodings[ins.index]:<{encoding_width}}  "
+                     f"{cycles_of(ins, machine):>6}  {flags}")
+        if not brief:
+            lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(ins.steps, fetch + 1)]
+    return "\n".join(lines) + "\n"
+
+
+def main(args) -> int:
+    machine = machine_from(args)
+    if args.python:
+        sys.stdout.write(compile_machine(machine).source)
+        return 0
+    wanted = [m.lower() for m in args.mnemonics]
+    known = {ins.mnemonic for ins in machine.instructions}
+    unknown = [m for m in wanted if m not in known]
+    if unknown:
+        usage_error(args, f"{machine.name} has no instruction '{unknown[0]}' "
+                          f"(mnemonics: {', '.join(sorted(known))})")
+    chosen = [ins for ins in machine.instructions if not wanted or ins.mnemonic in wanted]
+    if args.json:
+        print(json.dumps(table_json(machine, chosen), indent=1, ensure_ascii=False))
+    else:
+        sys.stdout.write(table_text(machine, chosen, args.brief))
+    return 0

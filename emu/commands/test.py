@@ -1,0 +1,102 @@
+"""``relaybench test``: run programs and judge their ``.expect`` checks.
+
+One line per program, then a line for each failing check with its
+file:line, what was expected and what the machine held. Exit 0 when every
+program passed, 1 otherwise (also when no program was found), 130 when
+interrupted. The judging is in ``emu._testrunner``.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+from .._progress import Progress, terminal_attached
+from .._summary import format_duration
+from .._testrunner import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
+from ._options import add_machine_option, cycle_count, keep_parser, machine_from
+
+SUMMARY = "run programs and check their .expect lines; exit 0 when all pass"
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("paths", metavar="PROGRAM|DIR", nargs="+",
+                        help=f"program files, or folders searched for *{PROGRAM_SUFFIX} at any depth")
+    add_machine_option(parser)
+    parser.add_argument("--max-cycles", metavar="N", type=cycle_count, default=None,
+                        help="cycle limit of each program (default: its panel file's, else 50,000,000)")
+    parser.add_argument("--json", action="store_true", help="print one JSON object with every verdict")
+    keep_parser(parser)
+
+
+def _shown(value) -> str:
+    if isinstance(value, str):
+        return json.dumps(value, ensure_ascii=False)
+    return f"{value} ({value:#x})"
+
+
+def verdict_lines(verdict: Verdict) -> list[str]:
+    if verdict.error is not None:
+        return [f"FAIL  {verdict.path}: cannot run it", *("      " + row for row in verdict.error.splitlines())]
+    time = f"{verdict.cycles:,} cycles ≈ {format_duration(verdict.sim_seconds)}"
+    checks = f"{verdict.checks_run} check{'s' if verdict.checks_run != 1 else ''} at {verdict.halts} halt" \
+             f"{'s' if verdict.halts != 1 else ''}"
+    lines = [f"{'pass' if verdict.passed else 'FAIL'}  {verdict.path}  ({checks}, {time})"]
+    if verdict.status == "cycle_limit":
+        lines.append(f"      ended at the cycle limit of {verdict.max_cycles:,} without reaching a halt")
+    for failure in verdict.failures:
+        expect = failure.expect
+        wanted = _shown(expect.value) if expect.op == "==" else f"anything but {_shown(expect.value)}"
+        visit = f" (at halt {failure.visit} there)" if failure.visit > 1 else ""
+        lines.append(f"      {expect.file}:{expect.line}: {expect.text}: expected {wanted}, "
+                     f"got {_shown(failure.actual)}{visit}")
+    for expect in verdict.unreached:
+        lines.append(f"      {expect.file}:{expect.line}: {expect.text}: never checked, the run did not "
+                     f"halt at address {expect.address:#x}")
+    return lines
+
+
+def verdict_json(verdict: Verdict) -> dict:
+    def place(expect):
+        return {"file": expect.file, "line": expect.line, "check": expect.text}
+    return {
+        "path": verdict.path, "passed": verdict.passed, "status": verdict.status,
+        "cycles": verdict.cycles, "sim_seconds": verdict.sim_seconds,
+        "checks_run": verdict.checks_run, "halts": verdict.halts,
+        "failures": [{**place(f.expect), "op": f.expect.op, "expected": f.expect.value,
+                      "actual": f.actual, "visit": f.visit} for f in verdict.failures],
+        "unreached": [place(e) for e in verdict.unreached],
+        "error": verdict.error,
+    }
+
+
+def main(args) -> int:
+    machine = machine_from(args)
+    programs = collect_programs(args.paths)
+    if not programs:
+        print(f"relaybench: error: no *{PROGRAM_SUFFIX} programs in {', '.join(args.paths)}", file=sys.stderr)
+        return 1
+    verdicts = []
+    try:
+        with Progress(enabled=terminal_attached() and not args.json) as progress:
+            batch = progress.line("programs", len(programs))
+            for done, path in enumerate(programs):
+                bar = progress.line(path, args.max_cycles or 50_000_000, remove_when_done=True)
+                verdict = check_program(path, machine, max_cycles=args.max_cycles,
+                                        chunk=lambda emu: bar.update(emu.cycles))
+                bar.finish()
+                batch.update(done + 1)
+                verdicts.append(verdict)
+                if not args.json:
+                    print("\n".join(verdict_lines(verdict)), flush=True)
+    except KeyboardInterrupt:
+        print(f"relaybench: interrupted after {len(verdicts)} of {len(programs)} programs", file=sys.stderr)
+        return 130
+    passed = sum(v.passed for v in verdicts)
+    if args.json:
+        print(json.dumps({"passed": passed, "failed": len(verdicts) - passed,
+                          "programs": [verdict_json(v) for v in verdicts]}, ensure_ascii=False))
+    else:
+        print(f"{len(verdicts)} program{'s' if len(verdicts) != 1 else ''}: {passed} passed, "
+              f"{len(verdicts) - passed} failed")
+    return 0 if passed == len(verdicts) else 1

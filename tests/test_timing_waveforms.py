@@ -1,0 +1,188 @@
+"""Waveforms read back with an independent parser, and wear counts against them.
+
+The dumps are written with pyvcd and read with vcdvcd (a separate VCD
+parser from PyPI); both sides are compared with a plain trace of the
+engine's observer events.
+"""
+
+import os
+import random
+
+import pytest
+from vcdvcd import VCDVCD
+
+from emu import Emulator, Observer, load_machine
+from emu.timing import control_lines, count_wear, record_vcd, spread_source
+from emu.timing._vcd import signal_name
+
+MACHINES = {name: load_machine(name) for name in ("ref8", "tests/machines/acc12.toml")}
+
+
+class Trace(Observer):
+    """What the engine reports, with simulated times, and nothing more."""
+
+    def __init__(self):
+        self.clock, self.ring, self.pulses, self.pc = [], [], [], []
+        self.rise = None
+
+    def edge(self, emu, level):
+        self.clock.append((emu.time_ns, level))
+        if level:
+            self.rise = emu.time_ns
+
+    def phase(self, emu, index):
+        self.ring.append((emu.time_ns, emu.machine.phases[index].ring))
+
+    def hold(self, emu, frozen):
+        self.ring.append((emu.time_ns, emu.machine.phases[emu.phase_index].ring))
+
+    def microstep(self, emu, step, lines):
+        self.pulses.append((self.rise, emu.time_ns, lines))
+        self.pc.append((emu.time_ns, emu.pc))
+
+    def panel(self, emu, action):
+        self.pc.append((emu.time_ns, emu.pc))
+
+
+def pause_words(machine):
+    ins = next(i for i in machine.instructions if i.mnemonic == machine.pause and not i.operands)
+    return ins.encode({})
+
+
+def scenario(emu, kind, seed):
+    """Drive the emulator: a random image run for a while, or a halt, steps and a resume."""
+    machine = emu.machine
+    rnd = random.Random(seed)
+    if kind == "random":
+        emu.load([(0, [rnd.randrange(1 << machine.data_bits) for _ in range(96)])])
+        emu.run(max_cycles=150)
+    else:
+        emu.load([(0, [0] * 3 + pause_words(machine))])
+        assert emu.run(max_cycles=500).kind == "halted"
+        for _ in range(3):
+            assert emu.press_step()
+        emu.press_resume()
+        emu.set_switch_run(False)
+        emu.run(max_cycles=40)
+        emu.press_step()
+        emu.set_switch_run(True)
+        emu.press_reset()
+        emu.run(max_cycles=20)
+
+
+def transitions(points):
+    """(time, value) pairs with repeats of the same value dropped; value 0 before the first."""
+    result, last = [], 0
+    for time, value in points:
+        if value != last:
+            result.append((time, value))
+            last = value
+    return result
+
+
+def from_vcd(vcd, name):
+    return [(t, int(v, 2)) for t, v in vcd[name].tv if t > 0]
+
+
+def record(name, kind, seed, tmp_path, spread=False):
+    machine = MACHINES[name]
+    emu = Emulator(machine)
+    if spread:
+        emu.clock_source = spread_source(machine, seed)
+    trace = Trace()
+    emu.observe(trace)
+    path = tmp_path / "run.vcd"
+    with record_vcd(emu, path), count_wear(emu) as wear:
+        scenario(emu, kind, seed)
+    return emu, trace, wear, VCDVCD(str(path)), path
+
+
+CASES = [(name, kind, seed, spread) for name in MACHINES for kind, seed, spread in
+         (("random", 1, False), ("random", 2, True), ("halt", 3, False), ("halt", 4, True))]
+
+
+@pytest.mark.parametrize("name, kind, seed, spread", CASES)
+def test_the_clock_in_the_dump_has_the_traced_edges(name, kind, seed, spread, tmp_path):
+    emu, trace, _wear, vcd, _path = record(name, kind, seed, tmp_path, spread)
+    top = emu.machine.name
+    assert len(trace.clock) > 20
+    assert from_vcd(vcd, f"{top}.clock") == transitions(trace.clock)
+
+
+@pytest.mark.parametrize("name, kind, seed, spread", CASES)
+def test_ring_stages_and_control_lines_in_the_dump_follow_the_trace(name, kind, seed, spread, tmp_path):
+    emu, trace, _wear, vcd, _path = record(name, kind, seed, tmp_path, spread)
+    machine, top = emu.machine, emu.machine.name
+    start_ring = machine.phases[Emulator(machine).phase_index].ring
+    for stage in range(1, machine.ring_stages + 1):
+        lit = [(0, int(stage in start_ring))] + [(t, int(stage in ring)) for t, ring in trace.ring]
+        expected = transitions(lit)
+        if expected and expected[0][0] == 0:
+            expected = expected[1:]
+        assert from_vcd(vcd, f"{top}.ring.stage{stage}") == expected
+    for line in control_lines(machine):
+        edges = []
+        for rise, fall, lines in trace.pulses:
+            if line in lines:
+                edges += [(rise, 1), (fall, 0)]
+        assert from_vcd(vcd, f"{top}.lines.{signal_name(line)}") == edges
+
+
+@pytest.mark.parametrize("name, kind, seed, spread", CASES)
+def test_registers_in_the_dump_follow_the_trace(name, kind, seed, spread, tmp_path):
+    emu, trace, _wear, vcd, _path = record(name, kind, seed, tmp_path, spread)
+    machine, top = emu.machine, emu.machine.name
+    pc = machine.program_counter
+    assert from_vcd(vcd, f"{top}.registers.{pc}") == transitions(trace.pc)
+    for register in machine.registers:
+        final = int(vcd[f"{top}.registers.{register}"].tv[-1][1], 2)
+        assert final == emu.get(register)
+
+
+def test_hold_latch_and_switch_are_in_the_dump(tmp_path):
+    emu, trace, _wear, vcd, _path = record("ref8", "halt", 3, tmp_path)
+    latch = from_vcd(vcd, "ref8.halt_latch")
+    assert [v for _t, v in latch] == [1, 0, 1]  # halt, resume, halt again after the reset
+    assert [v for _t, v in from_vcd(vcd, "ref8.run_switch")] == [0, 1]
+    hold = [v for _t, v in from_vcd(vcd, "ref8.hold_line")]
+    assert hold[0] == 1 and hold.count(1) >= 2
+    assert int(vcd["ref8.step"].tv[-1][1], 2) == emu.sequencer[1]
+
+
+@pytest.mark.parametrize("name, kind, seed, spread", CASES)
+def test_wear_counts_equal_the_rising_edges_in_the_dump(name, kind, seed, spread, tmp_path):
+    emu, trace, wear, vcd, _path = record(name, kind, seed, tmp_path, spread)
+    machine, top = emu.machine, emu.machine.name
+    for stage in range(1, machine.ring_stages + 1):
+        rises = sum(1 for _t, v in from_vcd(vcd, f"{top}.ring.stage{stage}") if v == 1)
+        assert wear.counts[f"stage {stage}"] == rises
+    for line in control_lines(machine):
+        rises = sum(1 for _t, v in from_vcd(vcd, f"{top}.lines.{signal_name(line)}") if v == 1)
+        assert wear.counts[line] == rises
+    assert wear.pulses == sum(1 for _t, v in from_vcd(vcd, f"{top}.clock") if v == 1)
+    assert sum(wear.counts.values()) > 0
+
+
+def test_the_dump_is_in_nanoseconds_of_simulated_time(tmp_path):
+    emu, trace, _wear, vcd, path = record("ref8", "random", 1, tmp_path)
+    assert vcd.timescale["unit"] == "ns" and vcd.timescale["magnitude"] == 1
+    rises = [t for t, v in from_vcd(vcd, "ref8.clock") if v == 1]
+    assert rises[1] - rises[0] == emu.machine.cycle_ns
+    assert "$date" not in path.read_text()
+
+
+def test_a_dump_appears_whole_or_not_at_all(tmp_path):
+    emu = Emulator(MACHINES["ref8"])
+    path = tmp_path / "stopped.vcd"
+    with pytest.raises(KeyboardInterrupt):
+        with record_vcd(emu, path):
+            emu.run(max_cycles=5)
+            raise KeyboardInterrupt
+    assert VCDVCD(str(path)).endtime == emu.time_ns > 0
+    assert os.listdir(tmp_path) == ["stopped.vcd"]
+    assert not emu._observers
+
+    with pytest.raises(FileNotFoundError):
+        with record_vcd(emu, tmp_path / "no-such-folder" / "x.vcd"):
+            emu.run(max_cycles=5)
+    assert sorted(os.listdir(tmp_path)) == ["stopped.vcd"]

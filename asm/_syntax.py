@@ -24,6 +24,7 @@ __all__ = [
     "Assignment", "Line", "parse_source", "ESCAPES",
 ]
 
+_BASES = {"0x": 16, "0b": 2}
 ESCAPES = {"n": "\n", "t": "\t", "r": "\r", "0": "\0", "\\": "\\", "'": "'", '"': '"'}
 
 
@@ -171,7 +172,9 @@ class _Build(lark.Transformer):
         return Unary(str(op), operand, op.line, op.column)
 
     def number(self, token):
-        return Number(int(str(token), 0), token.line, token.column)
+        text = str(token).lower()
+        base = _BASES.get(text[:2], 10)
+        return Number(int(text[2:] if base != 10 else text, base), token.line, token.column)
 
     def char(self, token):
         value, problem = decode_escapes(str(token)[1:-1])

@@ -25,7 +25,7 @@ def value_of(expr, machine=REF8):
 
 # Character codes: ASCII (ANSI X3.4-1986); the escapes are the C set.
 @pytest.mark.parametrize("literal, expected", [
-    ("42", 42), ("0x2A", 42), ("0X2a", 42), ("0b101010", 42), ("'A'", 65), ("'*'", 42),
+    ("42", 42), ("007", 7), ("0x2A", 42), ("0X2a", 42), ("0b101010", 42), ("'A'", 65), ("'*'", 42),
     (r"'\n'", 10), (r"'\t'", 9), (r"'\r'", 13), (r"'\0'", 0), (r"'\\'", 92), (r"'\''", 39), (r"'\"'", 34),
 ])
 def test_number_literals(literal, expected):

@@ -1,0 +1,114 @@
+"""Listing and debug file contents, with real values."""
+
+import json
+from pathlib import Path
+
+import pytest
+
+import asm
+import emu
+
+HERE = Path(__file__).parent
+REF8 = emu.load_machine("ref8")
+ACC12 = emu.load_machine(HERE / "machines" / "acc12.toml")
+FIXTURES = HERE / "asm_fixtures"
+
+SOURCE = """; greet
+start:  li r0, 'h'
+        out 0, r0
+        pause
+        .expect out == "h"
+        jmp start
+msg:    .byte "hello", 0
+"""
+
+
+def test_listing_rows():
+    program = asm.assemble_text(SOURCE, REF8, filename="greet.asm")
+    lines = program.listing_text().splitlines()
+    assert lines[0] == "; listing of greet.asm for ref8"
+    # ref8 cycles: one fetch step plus the instruction's own steps (ref8.toml)
+    assert lines[3] == "  0000  18 68          2  greet.asm:2    start:  li r0, 'h'"
+    assert lines[4] == "  0002  58 00          3  greet.asm:3            out 0, r0"
+    assert lines[5] == "  0004  01             2  greet.asm:4            pause"
+    assert lines[7] == "  0005  08 00 00       3  greet.asm:6            jmp start"
+    assert lines[8] == "  0008  68 65 6C 6C       greet.asm:7    msg:    .byte \"hello\", 0"
+    assert lines[9] == "  000C  6F 00"
+    assert lines[2].strip() == "greet.asm:1    ; greet"
+    assert lines[-2:] == [";   msg              0x0008  label", ";   start            0x0000  label"]
+
+
+def test_listing_on_acc12_uses_three_hex_digits():
+    program = asm.assemble_text("go here\nhere: stop\n", ACC12, filename="a.asm")
+    lines = program.listing_text().splitlines()
+    assert lines[2] == "  00  601                2  a.asm:1        go here"
+    assert lines[3] == "  01  F00                2  a.asm:2        here: stop"
+
+
+def test_write_listing(tmp_path):
+    program = asm.assemble_text(SOURCE, REF8, filename="greet.asm")
+    asm.write_listing(program, tmp_path / "greet.lst")
+    assert (tmp_path / "greet.lst").read_text() == program.listing_text()
+
+
+def test_debug_info_contents():
+    program = asm.assemble_text(SOURCE, REF8, filename="greet.asm")
+    info = program.debug_info()
+    assert info == {
+        "format": "relaybench-debug", "version": 1, "machine": "ref8", "word_bits": 8,
+        "files": ["greet.asm"],
+        "labels": {"start": 0, "msg": 8},
+        "constants": {},
+        "lines": [
+            {"address": 0, "length": 2, "file": 0, "line": 2, "kind": "code", "cycles": 2},
+            {"address": 2, "length": 2, "file": 0, "line": 3, "kind": "code", "cycles": 3},
+            {"address": 4, "length": 1, "file": 0, "line": 4, "kind": "code", "cycles": 2},
+            {"address": 5, "length": 3, "file": 0, "line": 6, "kind": "code", "cycles": 3},
+            {"address": 8, "length": 6, "file": 0, "line": 7, "kind": "data", "cycles": None},
+        ],
+        "pauses": [4],
+        "expects": [{"address": 4, "file": 0, "line": 5, "item": "out", "memory_address": None,
+                     "op": "==", "value": "h", "text": 'out == "h"'}],
+    }
+    json.dumps(info)
+
+
+def test_debug_file_round_trip_with_includes(tmp_path):
+    program = asm.assemble_file(FIXTURES / "blink.asm", REF8)
+    out = tmp_path / "blink.hex"
+    asm.write_intel_hex(program, out)
+    debug_path = asm.debug_path_for(out)
+    assert debug_path == tmp_path / "blink.dbg.json"
+    asm.write_debug(program, debug_path)
+    stored = json.loads(debug_path.read_text())
+    assert all(not Path(f).is_absolute() for f in stored["files"])
+    info = asm.read_debug(debug_path)
+    assert [Path(f).resolve() for f in info.files] == [(FIXTURES / n).resolve() for n in ("blink.asm", "consts.inc")]
+    # word counts from ref8.toml: li rd 2, li sp 3, out 2, call 3, cmp imm 2, jnz 3, halt 1, inc 1, ret 1
+    assert info.labels == program.labels == {"start": 0, "again": 5, "bump": 17, "stack_top": 27}
+    assert info.constants == {"START": 1, "STOP": 4, "LAMPS": 1}
+    assert info.pauses == program.pauses == [15]
+    assert [(e.item, e.op, e.value, e.address) for e in info.expects] == [
+        ("r0", "==", 4, 15), ("lamps", "==", 3, 15), ("z", "==", 1, 15)]
+    assert Path(info.source_map[6][0]).name == "blink.asm" and info.source_map[6][1] == 5
+    assert info.symbols == program.symbols
+
+
+@pytest.mark.parametrize("name", ["prog.hex", "prog.bin", "dir/prog.hex"])
+def test_debug_path_naming(name):
+    assert asm.debug_path_for(name) == Path(name).with_name("prog.dbg.json")
+
+
+@pytest.mark.parametrize("content, message", [
+    ("[1, 2", "not valid JSON"),
+    ('{"format": "other"}', "not a relaybench debug file"),
+    ('{"format": "relaybench-debug", "version": 9}', "key 'version' must be 1, not 9"),
+    ('{"format": "relaybench-debug", "version": 1, "files": "x"}', "key 'files' must be a list of file names"),
+    ('{"format": "relaybench-debug", "version": 1, "files": [], "labels": {"a": "b"}}',
+     "key 'labels' must be an object of name → integer"),
+])
+def test_bad_debug_files(content, message, tmp_path):
+    path = tmp_path / "p.dbg.json"
+    path.write_text(content)
+    with pytest.raises(asm.AsmError, match=message):
+        asm.read_debug(path)

@@ -94,7 +94,6 @@ class _PendingExpect:
     here: int
     place: _Place
     check: Comparison
-    item: str = ""
 
 
 class _Broken(EvalError):
@@ -160,8 +159,7 @@ class _Assembly:
             listing_rows=self.listing_rows,
         )
 
-    def error(self, place_or_file, line: int, column: int, message: str):
-        file = place_or_file
+    def error(self, file: str, line: int, column: int, message: str):
         lines = self.sources.get(file, [])
         source = lines[line - 1] if 0 < line <= len(lines) else None
         self.diagnostics.append(Diagnostic(file, line, column, message, source))
@@ -270,8 +268,8 @@ class _Assembly:
         if end > self.machine.memory_words:
             place = item.place
             self.error(place.file, place.line, place.column,
-                       f"address {self.hex(max(item.address, self.machine.memory_words))} is past the end "
-                       f"of the memory of {self.machine.name} (last address {self.hex(self.machine.memory_words - 1)})")
+                       f"address {self.address_text(max(item.address, self.machine.memory_words))} is past the end "
+                       f"of the memory of {self.machine.name} (last address {self.address_text(self.machine.memory_words - 1)})")
             self.address = end
             return None
         if item.length:
@@ -288,7 +286,7 @@ class _Assembly:
             self.entries.append(entry)
         return entry
 
-    def hex(self, value: int) -> str:
+    def address_text(self, value: int) -> str:
         return f"0x{value:0{(self.machine.address_bits + 3) // 4}X}"
 
     # ----- directives (pass one)
@@ -407,7 +405,7 @@ class _Assembly:
             return
         if self.last_halt is None:
             self.error(file, body.line, body.column,
-                       f".expect has no halt or pause above it to attach to")
+                       ".expect has no halt or pause above it to attach to")
             return
         for check in body.arguments:
             self.expects.append(_PendingExpect(self.last_halt, self.address,
@@ -484,7 +482,7 @@ class _Assembly:
                 later, earlier = (run, widest) if run.order > widest.order else (widest, run)
                 first, last = run.start, min(run.end, widest.end) - 1
                 self.error(later.place.file, later.place.line, later.place.column,
-                           f"this region overlaps {self.hex(first)}…{self.hex(last)}, already used from "
+                           f"this region overlaps {self.address_text(first)}…{self.address_text(last)}, already used from "
                            f"{earlier.place.file}:{earlier.place.line}")
             if widest is None or run.end > widest.end:
                 widest = run
@@ -556,7 +554,7 @@ class _Assembly:
                                         self.machine.memory_words - 1, "an address")
             if memory_address is None:
                 return None
-            low, high, what = *self.word_range, f"[{self.hex(memory_address)}]"
+            low, high, what = *self.word_range, f"[{self.address_text(memory_address)}]"
         else:
             text = item_operand.literal_text()
             item = self.expect_item(text) if not item_operand.opening else None

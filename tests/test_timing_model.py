@@ -105,7 +105,7 @@ def _delete(path):
 
 
 BAD = [
-    (_delete(["supply_v"]), "[timing]: missing key 'supply_v' (a number)"),
+    (_delete(["supply_v"]), "[timing]: missing key 'supply_v' (the supply voltage)"),
     (_set(["supply_v"], "24"), "[timing]: 'supply_v' must be a number, not a string"),
     (_set(["supply_v"], -1), "[timing]: 'supply_v' must be above zero, not -1"),
     (_set(["min_pulse_ms"], math.inf), "[timing]: 'min_pulse_ms' must be a finite number, not inf"),
@@ -118,7 +118,7 @@ BAD = [
     (_set(["stage", 1, "c_uf"], 0), "[[timing.stage]] 2: 'c_uf' must be above zero, not 0"),
     (_set(["stage", 0, "mode"], "fast"), "[[timing.stage]] 1: 'mode' must be one of charge, discharge, not 'fast'"),
     (_delete(["stage", 0, "mode"]), "[[timing.stage]] 1: missing key 'mode' (charge or discharge)"),
-    (_delete(["stage", 3, "r_ohm"]), "[[timing.stage]] 4: missing key 'r_ohm' (a number)"),
+    (_delete(["stage", 3, "r_ohm"]), "[[timing.stage]] 4: missing key 'r_ohm' (the series resistor in ohms)"),
     (_set(["stage", 1, "drop_out_v"], 20),
      "[[timing.stage]] 2: 'drop_out_v' (20 V) must be below 'pick_up_v' (14.4 V): "
      "a relay lets go below where it picks up"),

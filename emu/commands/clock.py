@@ -20,7 +20,7 @@ import numpy as np
 from .. import MachineError, load_machine
 from .._files import write_atomic
 from ..timing import has_timing, monte_carlo, timing_model
-from ..timing._montecarlo import CHUNK, METRICS, PERCENTILES
+from ..timing._montecarlo import METRICS, PERCENTILES
 
 SUMMARY = "clock timing: nominal rate, and the spread that tolerances of the parts give"
 MAX_SAMPLES = 5_000_000

@@ -13,7 +13,11 @@ ring stays there, in one of two ways:
   drop-out voltage, then the armature needs its release time.
 
 Any stage key may also stand in ``[timing]`` itself as the default for all
-stages. Every part value has a relative tolerance ``<part>_tol``; the
+stages. ``[timing]`` alone holds the supply (``supply_v``), the datapath's
+minimum high pulse (``min_pulse_ms``), how far the phase table may stray
+from the parts (``table_tolerance``), how a part falls within its band
+(``spread``: uniform or normal) and how much armature times vary from one
+operation to the next (``jitter``). Every part value has a relative tolerance ``<part>_tol``; the
 defaults are the usual grades of cheap parts. The loader of the machine
 file keeps the section raw; this module checks it and says where it is
 wrong, and checks that the phase table agrees with what the parts give.
@@ -45,20 +49,19 @@ class Part:
     tolerance: float
     what: str
     default: float | None = None
-    minimum: float = 0.0
-    """Values must be above this (or equal, for the zero-allowed times)."""
     zero_allowed: bool = False
+    """Zero is a valid value (times, diode drop); other parts must be above zero."""
 
 
 PARTS = {
-    "r": Part("r_ohm", 1.0, 0.05, "series resistor (ohms)"),
-    "c": Part("c_uf", 1e-6, 0.20, "timing capacitor (microfarads)"),
-    "coil": Part("coil_ohm", 1.0, 0.10, "coil resistance (ohms)"),
-    "pick_up": Part("pick_up_v", 1.0, 0.05, "pick-up voltage (volts)"),
-    "drop_out": Part("drop_out_v", 1.0, 0.10, "drop-out voltage (volts)"),
-    "operate": Part("operate_ms", 1e-3, 0.20, "operate time (milliseconds)", zero_allowed=True),
-    "release": Part("release_ms", 1e-3, 0.20, "release time (milliseconds)", zero_allowed=True),
-    "diode": Part("diode_v", 1.0, 0.05, "forward drop of each series diode (volts)",
+    "r": Part("r_ohm", 1.0, 0.05, "the series resistor in ohms"),
+    "c": Part("c_uf", 1e-6, 0.20, "the timing capacitor in microfarads"),
+    "coil": Part("coil_ohm", 1.0, 0.10, "the coil resistance in ohms"),
+    "pick_up": Part("pick_up_v", 1.0, 0.05, "the pick-up voltage in volts"),
+    "drop_out": Part("drop_out_v", 1.0, 0.10, "the drop-out voltage in volts"),
+    "operate": Part("operate_ms", 1e-3, 0.20, "the operate time in milliseconds", zero_allowed=True),
+    "release": Part("release_ms", 1e-3, 0.20, "the release time in milliseconds", zero_allowed=True),
+    "diode": Part("diode_v", 1.0, 0.05, "the forward drop of each series diode in volts",
                   default=SILICON_DIODE_DROP_V, zero_allowed=True),
 }
 MODES = ("charge", "discharge")
@@ -200,10 +203,10 @@ class _TimingReader:
         for key in top:
             if key not in _TOP_KEYS + _STAGE_KEYS:
                 self.fail("[timing]", f"unknown key '{key}' (expected one of: {', '.join(_TOP_KEYS + _STAGE_KEYS)})")
-        supply = self.number(top, "supply_v", "[timing]", required=True, minimum=0.0)
+        supply = self.number(top, "supply_v", "[timing]", required=True, what="the supply voltage")
         supply_tol = self.tolerance(top, "supply_tol", "[timing]", 0.05)
-        min_pulse = self.number(top, "min_pulse_ms", "[timing]", minimum=0.0)
-        table_tolerance = self.number(top, "table_tolerance", "[timing]", minimum=0.0)
+        min_pulse = self.number(top, "min_pulse_ms", "[timing]")
+        table_tolerance = self.number(top, "table_tolerance", "[timing]")
         if table_tolerance is None:
             table_tolerance = 0.05
         elif table_tolerance >= 1:
@@ -272,7 +275,7 @@ class _TimingReader:
             table, at = pick(part.key)
             required = name in ("r", "c", "coil", "pick_up") + needed
             value = self.number(table, part.key, at if part.key in table else where,
-                                required=required, minimum=part.minimum, zero=part.zero_allowed)
+                                required=required, zero=part.zero_allowed, what=part.what)
             if value is None:
                 value = part.default if part.default is not None else 0.0
             values[name] = value * part.scale
@@ -301,17 +304,17 @@ class _TimingReader:
 
     # -- typed access
 
-    def number(self, table: dict, key: str, where: str, *, required=False, minimum=0.0, zero=False):
+    def number(self, table: dict, key: str, where: str, *, required=False, zero=False, what="a number"):
         if key not in table:
             if required:
-                self.fail(where, f"missing key '{key}' (a number)")
+                self.fail(where, f"missing key '{key}' ({what})")
             return None
         value = table[key]
         if not isinstance(value, (int, float)) or isinstance(value, bool):
             self.fail(where, f"'{key}' must be a number, not {_kind(value)}")
         if not math.isfinite(value):
             self.fail(where, f"'{key}' must be a finite number, not {value}")
-        if value < minimum or (value == minimum and not zero):
+        if value < 0 or (value == 0 and not zero):
             bound = "zero or more" if zero else "above zero"
             self.fail(where, f"'{key}' must be {bound}, not {value}")
         return float(value)

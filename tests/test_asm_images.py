@@ -48,6 +48,11 @@ def test_records_match_the_specification_examples(segments, expected):
     assert intel_hex_text(segments) == expected
 
 
+def test_extended_segment_address_records_are_read():
+    # type 02 holds a paragraph number: base = value x 16 (Intel HEX spec, Rev. A)
+    assert parse_intel_hex(":020000021000EC\n:0100000055AA\n:00000001FF\n") == [(0x10000, b"\x55")]
+
+
 def test_the_specification_record_reads_back():
     text = ":10010000214601360121470136007EFE09D2190140\n:00000001FF\n"
     assert parse_intel_hex(text) == [(0x100, bytes.fromhex("214601360121470136007EFE09D21901"))]

@@ -1,0 +1,188 @@
+"""The debugger's views: registers, memory, code, the panel and the scope.
+
+Every view is a function from machine state to text, so the same text
+appears in the terminal, in the live view and in tests. Word and address
+widths come from the machine description.
+"""
+
+from __future__ import annotations
+
+import asm
+
+from ._trace import Column
+
+__all__ = ["registers_text", "dump_text", "code_lines", "panel_text", "scope_text",
+           "duration_text", "word_hex", "address_hex", "lamp_row"]
+
+LIT, DARK = "●", "○"
+HIGH, LOW = "‾", "_"
+BAR = "█"
+
+
+def word_hex(machine, value: int) -> str:
+    return f"{value:0{(machine.data_bits + 3) // 4}x}"
+
+
+def address_hex(machine, value: int) -> str:
+    return f"{value:0{(machine.address_bits + 3) // 4}x}"
+
+
+def _hex(value: int, bits: int) -> str:
+    return f"{value:0{(bits + 3) // 4}x}"
+
+
+def duration_text(ns: int) -> str:
+    seconds = ns / 1e9
+    if seconds < 60:
+        return f"{seconds:.3f} s"
+    minutes, sec = divmod(seconds, 60)
+    hours, minutes = divmod(int(minutes), 60)
+    if hours:
+        return f"{hours} h {minutes} min {sec:.1f} s"
+    return f"{minutes} min {sec:.1f} s"
+
+
+def lamp_row(value: int, bits: int) -> str:
+    return "".join(LIT if value >> b & 1 else DARK for b in reversed(range(bits)))
+
+
+def registers_text(emu) -> str:
+    m = emu.machine
+    cells = []
+    for reg in m.visible_registers:
+        value = emu.get(reg.name)
+        cells.append(f"{reg.name:<3} {_hex(value, reg.width):>4} {value:>6}")
+    for pair in m.pairs.values():
+        value = emu.get(pair.name)
+        cells.append(f"{pair.name:<3} {_hex(value, pair.width):>4} {value:>6}")
+    rows = ["   ".join(cells[i:i + 4]) for i in range(0, len(cells), 4)]
+    flags = "  ".join(f"{name} {emu.get(name)}" for name in m.flags)
+    rows.append(f"flags  {flags}")
+    return "\n".join(rows)
+
+
+def dump_text(emu, start: int, count: int) -> str:
+    m = emu.machine
+    per_row = 16 if m.data_bits <= 8 else 8
+    rows = []
+    end = min(start + count, m.memory_words)
+    for row in range(start - start % per_row, end, per_row):
+        words, chars = [], []
+        for a in range(row, row + per_row):
+            if start <= a < end:
+                w = emu.memory[a]
+                words.append(word_hex(m, w))
+                chars.append(chr(w) if 32 <= w < 127 else ".")
+            else:
+                words.append(" " * len(word_hex(m, 0)))
+                chars.append(" ")
+        half = per_row // 2
+        rows.append(f"{address_hex(m, row)}  {' '.join(words[:half])}  {' '.join(words[half:])}  |{''.join(chars)}|")
+    return "\n".join(rows)
+
+
+def code_lines(emu, view, addresses, breakpoints) -> list[str]:
+    """One row per instruction: markers, address, words, text, then its source line."""
+    m = emu.machine
+    here = emu.instruction_address
+    rows = []
+    for address in addresses:
+        for label in view.labels_at(address):
+            rows.append(f"{'':8}{label}:")
+        text, length = asm.disassemble_at(m, lambda a: emu.memory[a], address, view)
+        words = " ".join(word_hex(m, emu.memory[a]) for a in range(address, min(address + length, m.memory_words)))
+        mark = ("pc>" if address == here else "   ") + ("*" if address in breakpoints else " ")
+        place = view.place(address)
+        source = ""
+        if place:
+            line = view.source_text(*place)
+            source = f"  {place[0]}:{place[1]}  {line.strip() if line else ''}"
+        rows.append(f"{mark} {address_hex(m, address)}  {words:<9} {text:<22}{source}".rstrip())
+    return rows
+
+
+def panel_text(emu, state: str) -> str:
+    """The panel as a person would see it, plus what the control unit is doing."""
+    m = emu.machine
+    phase = m.phases[emu.phase_index]
+    ring = " ".join(LIT if s + 1 in phase.ring else DARK for s in range(m.ring_stages))
+    clock = "high" if phase.level else "low"
+    if emu.frozen:
+        clock += ", frozen at a hold point"
+    instruction, index = emu.sequencer
+    total = len(m.fetch) + (len(instruction.steps) if instruction else 0)
+    doing = "fetch" if instruction is None else instruction.display
+    step = emu.current_step
+    lines = ", ".join(step.control_lines) or "none"
+    data_bits = m.data_bits
+    rows = [
+        f"{m.name} panel — {state}",
+        f"  ring        {ring}    phase {phase.name}, clock {clock}",
+        f"  RUN/STOP    {'RUN ' if emu.switch_run else 'STOP'}      hold line {'HIGH' if emu.hold_line else 'low '}"
+        f"   halt latch {'SET' if emu.halt_latch else 'clear'}",
+        f"  sequencer   {doing}, step {index + 1} of {total or 1} next: {step.text}",
+        f"  next drives {lines}",
+        f"  lamps       {lamp_row(emu.lamps, data_bits)}  {word_hex(m, emu.lamps)}",
+        f"  toggles     {lamp_row(emu.switches, data_bits)}  {word_hex(m, emu.switches)}",
+        f"  pc {address_hex(m, emu.pc)}   cycles {emu.cycles:,}   instructions {emu.instructions:,}"
+        f"   time {duration_text(emu.time_ns)}",
+    ]
+    return "\n".join(rows)
+
+
+_EVENT_MARKS = {"stop": "s", "run": "r", "resume": "R", "reset": "Z", "switches": "t",
+                "latch set": "L", "latch clear": "l"}
+_LEGEND = ("clock ‾ high _ low; █ lit ring stage / line driven; hold and latch as levels; "
+           "F frozen at a hold point, P a STEP pulse; s stop, r run, R resume, Z reset, "
+           "t toggles, L latch set, l latch cleared")
+
+
+def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = False) -> str:
+    """A logic-analyser picture of the recorded columns, in blocks of ``width``."""
+    if not columns:
+        return "nothing recorded yet: the clock has not run since the debugger started"
+    lines_seen: list[str] = []
+    for column in columns:
+        for line in sorted(column.lines):
+            if line not in lines_seen:
+                lines_seen.append(line)
+    label = max([10] + [len(n) + 1 for n in lines_seen])
+    blocks = []
+    for begin in range(0, len(columns), width):
+        part = columns[begin:begin + width]
+        rows = {
+            "cycle": _cycle_row(part),
+            "clock": "".join(HIGH if c.level else LOW for c in part),
+        }
+        for stage in range(1, machine.ring_stages + 1):
+            rows[f"stage {stage}"] = "".join(BAR if stage in c.ring else " " for c in part)
+        rows["hold"] = "".join(HIGH if c.hold else LOW for c in part)
+        rows["latch"] = "".join(HIGH if c.latch else LOW for c in part)
+        for line in lines_seen:
+            rows[line] = "".join(BAR if line in c.lines else " " for c in part)
+        rows["events"] = "".join(_event_mark(c) for c in part)
+        blocks.append("\n".join(f"{name:<{label}}{row.rstrip() or ''}" for name, row in rows.items()))
+    first, last = columns[0].cycle, columns[-1].cycle
+    head = f"cycles {first:,} to {last:,}" + (" (the run before them was not traced)" if gap else "")
+    return head + "\n" + "\n\n".join(blocks) + "\n" + _LEGEND
+
+
+def _cycle_row(part: list[Column]) -> str:
+    """Cycle numbers written at the rising edge that starts each cycle, where they fit."""
+    row = [" "] * len(part)
+    free_from = 0
+    for i, c in enumerate(part):
+        starts = c.level and (i == 0 or not part[i - 1].level)
+        if starts and i >= free_from:
+            text = f"|{c.cycle}"
+            for k, ch in enumerate(text[:len(part) - i]):
+                row[i + k] = ch
+            free_from = i + len(text) + 1
+    return "".join(row)
+
+
+def _event_mark(column: Column) -> str:
+    for action in column.actions:
+        if action in _EVENT_MARKS:
+            return _EVENT_MARKS[action]
+    return {"frozen": "F", "pulse": "P"}.get(column.kind, " ")

@@ -1,0 +1,120 @@
+"""What the debugger knows about the loaded program: names, lines and text.
+
+The runner loads a program of any kind (source, Intel HEX, raw binary) the
+way every command does. The debugger needs a little more than a run does:
+labels apart from constants (only labels name addresses in a disassembly),
+which words are code and which are data, and the source text to show
+beside each instruction. That comes from the assembler's Program, or from
+the debug file beside an image.
+"""
+
+from __future__ import annotations
+
+import bisect
+import os
+from dataclasses import dataclass, field
+
+import asm
+from emu._runner import LoadedProgram, load_program
+
+__all__ = ["ProgramView", "load_view", "empty_view"]
+
+
+@dataclass
+class ProgramView:
+    path: str | None
+    loaded: LoadedProgram | None
+    labels: dict[str, int]
+    symbols: dict[str, int]
+    lines: list
+    """asm LineEntry objects: address, length, file, line, kind (code or data)."""
+    pauses: frozenset[int]
+    source_map: dict[int, tuple[str, int]]
+    sources: dict[str, list[str]] = field(default_factory=dict)
+
+    def __post_init__(self):
+        self._by_address: dict[int, list[str]] = {}
+        for name, value in sorted(self.labels.items(), key=lambda kv: (kv[1], kv[0])):
+            self._by_address.setdefault(value, []).append(name)
+        self.code_starts = sorted(e.address for e in self.lines if e.kind == "code")
+
+    def labels_at(self, address: int) -> list[str]:
+        return self._by_address.get(address, [])
+
+    def place(self, address: int) -> tuple[str, int] | None:
+        return self.source_map.get(address)
+
+    def place_text(self, address: int) -> str:
+        place = self.place(address)
+        return f"{place[0]}:{place[1]}" if place else ""
+
+    def source_text(self, file: str, line: int) -> str | None:
+        """The text of a source line, read from disk for an image's debug file."""
+        if file not in self.sources:
+            try:
+                with open(file, encoding="utf-8", errors="replace") as stream:
+                    self.sources[file] = stream.read().splitlines()
+            except OSError:
+                self.sources[file] = []
+        text = self.sources[file]
+        return text[line - 1] if 0 < line <= len(text) else None
+
+    def symbol_for(self, address: int) -> str:
+        """``label`` or ``label+k`` for the nearest label at or below ``address``."""
+        values = sorted(self._by_address)
+        i = bisect.bisect_right(values, address) - 1
+        if i < 0:
+            return ""
+        base = values[i]
+        name = self._by_address[base][0]
+        return name if base == address else f"{name}+{address - base}"
+
+    def files(self) -> list[str]:
+        return sorted({file for file, _line in self.source_map.values()})
+
+    def address_of_line(self, file: str, line: int) -> tuple[int, str, int] | None:
+        """The first code address at ``file:line`` or the next line that has code.
+
+        ``file`` may be the path as assembled or its last part(s).
+        """
+        chosen = [f for f in self.files() if f == file or _same_tail(f, file)]
+        if not chosen:
+            return None
+        best = None
+        for entry in self.lines:
+            if entry.kind != "code" or entry.file not in chosen or entry.line < line:
+                continue
+            key = (entry.line, entry.address)
+            if best is None or key < best[0]:
+                best = (key, entry)
+        if best is None:
+            return None
+        entry = best[1]
+        return entry.address, entry.file, entry.line
+
+    def instruction_starts_before(self, address: int, count: int) -> list[int]:
+        i = bisect.bisect_left(self.code_starts, address)
+        return self.code_starts[max(i - count, 0):i]
+
+
+def _same_tail(path: str, tail: str) -> bool:
+    return os.path.normpath(path).endswith(os.sep + os.path.normpath(tail)) or \
+        os.path.basename(path) == tail
+
+
+def load_view(path, machine) -> ProgramView:
+    """Load a program as ``relaybench run`` would; raises the runner's ProgramError."""
+    loaded = load_program(path, machine)
+    labels, lines, sources = {}, [], {}
+    if loaded.kind == "source":
+        program = asm.assemble_file(loaded.path, machine)
+        labels, lines, sources = dict(program.labels), list(program.lines), dict(program.sources)
+    elif loaded.debug_path:
+        info = asm.read_debug(loaded.debug_path)
+        labels, lines = dict(info.labels), list(info.lines)
+    return ProgramView(loaded.path, loaded, labels, dict(loaded.symbols), lines,
+                       frozenset(loaded.pauses), dict(loaded.source_map), sources)
+
+
+def empty_view() -> ProgramView:
+    return ProgramView(None, None, {}, {}, [], frozenset(), {})

@@ -1,0 +1,115 @@
+"""Letting the clock run from the debugger: fast, stoppable, and still traced.
+
+A run takes the engine's fast path, which only works with no observer
+attached, so the timing recorder is detached while it goes. Two things
+are done from the engine's ``chunk`` callback, between chunks of work:
+
+* Ctrl-C is the stop switch. The SIGINT handler only sets a flag; here the
+  flag becomes ``set_switch_run(False)``, and the engine carries the clock
+  on to the next hold point and freezes there, as the hardware would.
+* Checkpoints: now and then the whole machine state is saved. When the run
+  ends, its last cycles are run again from a checkpoint on a scratch
+  emulator with the recorder attached. The engine is deterministic, so the
+  replay ends in the same state; it is checked, and the diagram is only
+  taken from a replay that agrees.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from emu import Emulator, StopReason
+
+from ._trace import Recorder
+
+__all__ = ["RunResult", "run_clock", "CHUNK_CYCLES"]
+
+CHUNK_CYCLES = 20_000
+"""Cycles between two looks at the Ctrl-C flag (a few milliseconds)."""
+CHECKPOINT_EVERY = 5
+"""Chunks between two checkpoints."""
+
+
+@dataclass
+class RunResult:
+    stop: StopReason
+    interrupted: bool
+    """The stop switch was thrown by Ctrl-C during the run."""
+    traced: bool
+    """The recorder holds the run's last cycles."""
+
+
+@dataclass
+class _Checkpoint:
+    cycles: int
+    state: dict
+    condition: object
+
+
+def run_clock(emu: Emulator, recorder: Recorder, *, condition=None, breakpoints=(),
+              max_cycles: int | None = None, interrupted=lambda: False) -> RunResult:
+    """Run the generator until it freezes, a breakpoint, ``condition`` or the limit.
+
+    ``recorder`` must be attached to ``emu``; it is attached again afterwards.
+    """
+    emu.unobserve(recorder)
+    start = _Checkpoint(emu.cycles, emu.snapshot_state(), _clone(condition))
+    recent: list[_Checkpoint] = []
+    flip: list[int] = []
+    chunks = 0
+
+    def chunk(e: Emulator) -> None:
+        nonlocal chunks
+        chunks += 1
+        if chunks % CHECKPOINT_EVERY == 0:
+            recent[:] = recent[-1:] + [_Checkpoint(e.cycles, e.snapshot_state(), _clone(condition))]
+        if interrupted() and e.switch_run:
+            flip.append(e.cycles)
+            e.set_switch_run(False)
+
+    limit = None if max_cycles is None else start.cycles + max_cycles
+    try:
+        stop = emu.run(max_cycles=max_cycles, until=condition, breakpoints=breakpoints,
+                       chunk=chunk, chunk_cycles=CHUNK_CYCLES)
+    finally:
+        emu.observe(recorder)
+    traced = _replay(emu, recorder, [start, *recent], condition is not None, breakpoints,
+                     limit, flip[0] if flip else None)
+    return RunResult(stop, bool(flip), traced)
+
+
+def _clone(condition):
+    return None if condition is None else condition.clone()
+
+
+def _replay(emu, recorder, checkpoints, has_condition, breakpoints, limit, flip) -> bool:
+    """Run the tail of the run again with the recorder attached; False if it disagrees."""
+    end = emu.cycles
+    wanted = recorder.columns.maxlen // max(len(emu.machine.phases), 1)
+    usable = [c for c in checkpoints if c.cycles <= end - wanted]
+    origin = usable[-1] if usable else checkpoints[0]
+    scratch = Emulator(emu.machine)
+    scratch.restore_state(origin.state)
+    condition = _clone(origin.condition) if has_condition else None
+    tail = Recorder(emu.machine, recorder.columns.maxlen)
+    attach_at = max(origin.cycles, end - wanted)
+    marks = sorted({attach_at} | ({flip} if flip is not None and flip >= origin.cycles else set()))
+    for mark in marks:
+        stop = scratch.run(max_cycles=mark - scratch.cycles, until=condition, breakpoints=breakpoints)
+        if stop.kind != "cycle_limit" or scratch.cycles != mark:
+            return False
+        if mark == attach_at:
+            scratch.observe(tail)
+        if mark == flip:
+            scratch.set_switch_run(False)
+    scratch.run(max_cycles=None if limit is None else limit - scratch.cycles,
+                until=condition, breakpoints=breakpoints)
+    if (scratch.cycles, scratch.pc, scratch.time_ns, scratch.frozen) != (emu.cycles, emu.pc, emu.time_ns, emu.frozen):
+        return False
+    if origin is checkpoints[0] and not usable:
+        recorder.columns.extend(tail.columns)
+    else:
+        recorder.clear()
+        recorder.columns.extend(tail.columns)
+        recorder.gap = True
+    return True

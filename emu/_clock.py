@@ -55,9 +55,9 @@ class Ring:
         return self.index in self.boundary_slot
 
     def set_source(self, source) -> None:
+        """Take phase durations from ``source`` from now on, the turn in progress included."""
         self.source = source
-        if source is not None and self.index == 0:
-            self.turn = [int(d) for d in source.turns(1)[0]]
+        self.turn = list(self.nominal) if source is None else [int(d) for d in source.turns(1)[0]]
 
     def run_phase(self) -> None:
         """The generator spends the current phase's duration, then moves on."""

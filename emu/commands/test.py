@@ -32,7 +32,12 @@ def add_arguments(parser) -> None:
 def _shown(value) -> str:
     if isinstance(value, str):
         return json.dumps(value, ensure_ascii=False)
-    return f"{value} ({value:#x})"
+    return f"{value} ({value:#x})" if value > 9 else str(value)
+
+
+def _one_line(text: str) -> str:
+    """A check as written, with the line ends of a string value made visible."""
+    return text.replace("\\", "\\\\").replace("\n", "\\n").replace("\r", "\\r").replace("\t", "\\t")
 
 
 def verdict_lines(verdict: Verdict) -> list[str]:
@@ -48,10 +53,10 @@ def verdict_lines(verdict: Verdict) -> list[str]:
         expect = failure.expect
         wanted = _shown(expect.value) if expect.op == "==" else f"anything but {_shown(expect.value)}"
         visit = f" (at halt {failure.visit} there)" if failure.visit > 1 else ""
-        lines.append(f"      {expect.file}:{expect.line}: {expect.text}: expected {wanted}, "
+        lines.append(f"      {expect.file}:{expect.line}: {_one_line(expect.text)}: expected {wanted}, "
                      f"got {_shown(failure.actual)}{visit}")
     for expect in verdict.unreached:
-        lines.append(f"      {expect.file}:{expect.line}: {expect.text}: never checked, the run did not "
+        lines.append(f"      {expect.file}:{expect.line}: {_one_line(expect.text)}: never checked, the run did not "
                      f"halt at address {expect.address:#x}")
     return lines
 

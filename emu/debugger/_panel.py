@@ -132,9 +132,9 @@ def panel_text(emu, state: str) -> str:
 
 _EVENT_MARKS = {"stop": "s", "run": "r", "resume": "R", "reset": "Z", "switches": "t",
                 "latch set": "L", "latch clear": "l"}
-_LEGEND = ("clock ‾ high _ low; █ lit ring stage / line driven; hold and latch as levels; "
-           "F frozen at a hold point, P a STEP pulse; s stop, r run, R resume, Z reset, "
-           "t toggles, L latch set, l latch cleared")
+_LEGEND = ("clock ‾ high _ low; █ lit ring stage or control line driven; hold and latch as levels;\n"
+           "generator: F frozen at a hold point, P a STEP pulse; panel: s stop, r run, R resume, "
+           "Z reset, t toggles, L latch set, l latch cleared")
 
 
 def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = False) -> str:
@@ -160,7 +160,8 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         rows["latch"] = "".join(HIGH if c.latch else LOW for c in part)
         for line in lines_seen:
             rows[line] = "".join(BAR if line in c.lines else " " for c in part)
-        rows["events"] = "".join(_event_mark(c) for c in part)
+        rows["generator"] = "".join({"frozen": "F", "pulse": "P"}.get(c.kind, " ") for c in part)
+        rows["panel"] = "".join(_event_mark(c) for c in part)
         blocks.append("\n".join(f"{name:<{label}}{row.rstrip() or ''}" for name, row in rows.items()))
     first, last = columns[0].cycle, columns[-1].cycle
     head = f"cycles {first:,} to {last:,}" + (" (the run before them was not traced)" if gap else "")
@@ -182,7 +183,5 @@ def _cycle_row(part: list[Column]) -> str:
 
 
 def _event_mark(column: Column) -> str:
-    for action in column.actions:
-        if action in _EVENT_MARKS:
-            return _EVENT_MARKS[action]
-    return {"frozen": "F", "pulse": "P"}.get(column.kind, " ")
+    marks = [_EVENT_MARKS[a] for a in column.actions if a in _EVENT_MARKS]
+    return marks[-1] if marks else " "

@@ -82,8 +82,10 @@ class Breakpoint:
 
 class Session:
     def __init__(self, machine, view: ProgramView | None = None, emulator: Emulator | None = None,
-                 *, width: int = 96):
+                 *, width: int = 96, max_cycles: int = DEFAULT_MAX_CYCLES):
         self.machine = machine
+        self.max_cycles = max_cycles
+        """Cycle limit of a run that names none (that of 'relaybench run')."""
         self.view = view or empty_view()
         self.width = width
         self.shape = call_shape(machine)
@@ -309,8 +311,8 @@ class Session:
         fired = condition.fired if isinstance(condition, AnyOf) else condition
         if isinstance(fired, Watches) and fired.hit:
             watch, old, new = fired.hit
-            return (f"watchpoint {watch.number}: {watch.label} changed from {old:#x} to {new:#x}, "
-                    f"after the instruction before {self.describe_address(stop.pc)}")
+            return (f"watchpoint {watch.number}: {watch.label} changed from {old:#x} to {new:#x} "
+                    f"(the instruction before {self.describe_address(self.emu.pc)} wrote it)")
         return getattr(fired, "why", "stopped")
 
     # ----- running and stepping -------------------------------------------------
@@ -320,8 +322,9 @@ class Session:
         parts = [p for p in parts if p is not None]
         return AnyOf(parts) if parts else None
 
-    def _let_run(self, extra=None, max_cycles: int | None = DEFAULT_MAX_CYCLES) -> str:
+    def _let_run(self, extra=None, max_cycles: int | None = None) -> str:
         self._interrupted = False
+        max_cycles = max_cycles or self.max_cycles
         condition = self._conditions(extra)
         start = self.emu.cycles
         result = run_clock(self.emu, self.recorder, condition=condition,
@@ -362,8 +365,18 @@ class Session:
     def _released(self, was_frozen: bool, done: str) -> str:
         """After a panel action: if it let a frozen generator go, the clock now runs."""
         if was_frozen and not self.emu.frozen:
+            self._leave_hold_point()
             return f"{done}; the clock runs\n{self._let_run()}"
         return f"{done}; {self.state_text()}"
+
+    def _leave_hold_point(self) -> None:
+        """A released generator first runs out the hold phase it was frozen in.
+
+        Done here as one phase so the engine's released-once flag is spent
+        before a fast-path run, which would otherwise carry it to the next
+        hold point and let the clock pass that one.
+        """
+        self.emu.advance_phase()
 
     @command("throw run|stop", "Throw the RUN/STOP switch; at run the clock starts.",
              complete=("switch",))
@@ -453,12 +466,13 @@ class Session:
         """The limit is that of 'relaybench run' unless given. A clock frozen by
         the switch is started by throwing it to RUN; one held by the halt
         latch needs 'resume'."""
-        limit = self.count(args, DEFAULT_MAX_CYCLES, "cycle limit")
+        limit = self.count(args, self.max_cycles, "cycle limit")
         e = self.emu
         if e.frozen and e.halt_latch:
             raise DebugError(f"the halt latch holds the clock ({self.last_stop}); 'resume' clears it")
         if e.frozen:
             e.set_switch_run(True)
+            self._leave_hold_point()
             return f"switch at RUN\n{self._let_run(max_cycles=limit)}"
         if not e.switch_run:
             e.set_switch_run(True)

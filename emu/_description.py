@@ -667,7 +667,8 @@ class _Loader:
                 if isinstance(st, Assign) and st.value == Mem(Name(self.pc)) and isinstance(st.target, Name):
                     holders[fetch_reads] = (i, st.target.name)
         if fetch_reads != word_count - 1:
-            self.fail(where, f"the encoding has {word_count} words but the micro-steps read {fetch_reads} "
+            plural = "s" if word_count != 1 else ""
+            self.fail(where, f"the encoding has {word_count} word{plural} but the micro-steps read {fetch_reads} "
                              f"after the opcode (each later word needs a step that reads mem[{self.pc}])")
         return holders
 

@@ -1,0 +1,372 @@
+"""Bad machine files: every validation error, with its message pinned.
+
+Each case edits one spot of the shipped ref8 description (so the rest of the
+file stays valid and the error we want is the first one found) and checks
+the whole message: the file, the key or instruction, and what was expected.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+import emu
+
+REF8_TEXT = (Path(emu.__file__).parent / "machines" / "ref8.toml").read_text(encoding="utf-8")
+ACC12_PATH = Path(__file__).parent / "machines" / "acc12.toml"
+FILE = "bench/mine.toml"
+
+
+def ref8_with(old: str, new: str) -> str:
+    """ref8's text with one unique piece replaced."""
+    assert REF8_TEXT.count(old) == 1, f"not unique in ref8.toml: {old!r}"
+    return REF8_TEXT.replace(old, new)
+
+
+def load_error(text: str) -> emu.MachineError:
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(text, FILE)
+    assert caught.value.path == FILE
+    return caught.value
+
+
+def test_the_unedited_text_loads():
+    machine = emu.machine_from_text(REF8_TEXT, FILE)
+    assert machine.name == "ref8" and machine.path == FILE
+
+
+CASES = {
+    "not TOML": (
+        "[machine\nname = 'x'\n",
+        "not valid TOML: Expected ']' at the end of a table declaration (at line 1, column 9)",
+    ),
+    "missing [machine] name": (
+        ref8_with('name = "ref8"\n', ""),
+        "[machine]: missing key 'name' (a string)",
+    ),
+    "wrong type": (
+        ref8_with("data_bits = 8", 'data_bits = "eight"'),
+        "[machine]: 'data_bits' must be an integer, not a string",
+    ),
+    "out of range": (
+        ref8_with("data_bits = 8", "data_bits = 40"),
+        "[machine]: 'data_bits' must be 1…16, not 40",
+    ),
+    "unknown key": (
+        ref8_with("address_bits = 16", "adress_bits = 16"),
+        "[machine]: unknown key 'adress_bits' (expected one of: name, title, data_bits, address_bits, "
+        "memory_words, program_counter, instruction_register)",
+    ),
+    "unknown section": (
+        ref8_with("[fetch]", "[fecth]"),
+        "top level: unknown key 'fecth' (expected one of: machine, registers, internal, pairs, flags, "
+        "operands, ports, clock, fetch, instruction, assembler, timing, wear)",
+    ),
+    "overlapping encodings": (
+        ref8_with('syntax = "jmp x"\nencoding = ["00000011"]', 'syntax = "jmp x"\nencoding = ["00000010"]'),
+        "instruction 'jmp x': its encoding overlaps instruction 'ret' at first word 0x02; "
+        "the first word alone must tell instructions apart",
+    ),
+    "overlap through a register field": (
+        ref8_with('encoding = ["00011 rd", "imm"]', 'encoding = ["0001 0 rd", "imm"]'),
+        "instruction 'li rd, imm': its encoding overlaps instruction 'jv addr' at first word 0x10; "
+        "the first word alone must tell instructions apart",
+    ),
+    "two memory reads": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd <- mem[x]; t <- mem[sp]"]'),
+        "instruction 'ld rd, [x]' step 2: two memory accesses in one micro-step (the design rule allows one)",
+    ),
+    "a memory read and a write": (
+        ref8_with('steps = ["mem[x] <- rs"]', 'steps = ["mem[x] <- mem[sp]"]'),
+        "instruction 'st [x], rs' step 2: two memory accesses in one micro-step (the design rule allows one)",
+    ),
+    "two memory writes": (
+        ref8_with('steps = ["mem[x] <- rs"]', 'steps = ["mem[x] <- rs; mem[sp] <- rs"]'),
+        "instruction 'st [x], rs' step 2: two memory accesses in one micro-step (the design rule allows one)",
+    ),
+    "two ALU operations": (
+        ref8_with('steps = ["rd <- inc(rd) sets z n"]', 'steps = ["rd <- inc(rd) sets z n; t <- dec(rd)"]'),
+        "instruction 'inc rd' step 2: two ALU operations in one micro-step (the design rule allows one)",
+    ),
+    "hold point on a high phase": (
+        ref8_with("ms = 40\nring = [2]\n", "ms = 40\nring = [2]\nhold = true\n"),
+        "[[clock.phase]] 2 ('B'): a hold point must be on a phase with clock level 0; "
+        "this phase has level 1 (holding there would cut a pulse short)",
+    ),
+    "no hold point": (
+        ref8_with("hold = true\n", ""),
+        "[clock]: the phase table has no hold point (hold = true): a stop or a halt could never freeze the clock",
+    ),
+    "unknown register written": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rq <- mem[x]"]'),
+        "instruction 'ld rd, [x]' step 2: unknown register or field 'rq' "
+        "(registers: r0, r1, r2, r3, r4, r5, r6, r7, sp, pc, ir, t, u, x; fields: rd)",
+    ),
+    "unknown register read": (
+        ref8_with('steps = ["pc <- x"]', 'steps = ["pc <- y"]'),
+        "instruction 'jmp x' step 2: unknown register or field 'y' "
+        "(registers: r0, r1, r2, r3, r4, r5, r6, r7, sp, pc, ir, t, u, x; fields: none)",
+    ),
+    "unknown field": (
+        ref8_with('steps = ["mem[x] <- rs"]', 'steps = ["mem[x] <- rt"]'),
+        "instruction 'st [x], rs' step 2: unknown register or field 'rt' "
+        "(registers: r0, r1, r2, r3, r4, r5, r6, r7, sp, pc, ir, t, u, x; fields: rs)",
+    ),
+    "unknown flag in sets": (
+        ref8_with('steps = ["rd <- inc(rd) sets z n"]', 'steps = ["rd <- inc(rd) sets z q"]'),
+        "instruction 'inc rd' step 2: unknown flag 'q' (flags: z, n, c, v)",
+    ),
+    "a flag the operation does not produce": (
+        ref8_with('steps = ["rd <- shl(rd) sets z n c"]', 'steps = ["rd <- shl(rd) sets z n c v"]'),
+        "instruction 'shl rd' step 2: shl does not produce the overflow flag 'v'",
+    ),
+    "sets without an ALU operation": (
+        ref8_with('steps = ["pc <- x"]', 'steps = ["pc <- x sets z"]'),
+        "instruction 'jmp x' step 2: 'sets' needs an ALU operation (add, sub, …) as the value",
+    ),
+    "a register written twice": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd <- mem[x]; rd <- t"]'),
+        "instruction 'ld rd, [x]' step 2: writes rd twice in one micro-step",
+    ),
+    "a register written twice through its pair": (
+        ref8_with('steps = ["pc <- x"]', 'steps = ["x <- {u, t}; r6 <- t"]'),
+        "instruction 'jmp x' step 2: writes r6 twice in one micro-step; also written as x",
+    ),
+    "a pair written after its half": (
+        ref8_with('steps = ["pc <- x"]', 'steps = ["r7 <- t; x <- {u, t}"]'),
+        "instruction 'jmp x' step 2: writes r7 twice in one micro-step (x includes r7)",
+    ),
+    "a flag written twice": (
+        ref8_with('steps = ["rd <- inc(rd) sets z n"]', 'steps = ["rd <- inc(rd) sets z n z"]'),
+        "instruction 'inc rd' step 2: writes z twice in one micro-step",
+    ),
+    "a value too wide for its register": (
+        ref8_with('steps = ["pc <- x"]', 'steps = ["t <- x"]'),
+        "instruction 'jmp x' step 2: 't' holds 8 bits but the value written to it has 16",
+    ),
+    "an encoding word too short": (
+        ref8_with('encoding = ["00110 rd"]', 'encoding = ["0110 rd"]'),
+        "instruction 'ld rd, [x]': encoding word 1 has 7 bits, expected 8 (data_bits)",
+    ),
+    "an encoding word too long": (
+        ref8_with('encoding = ["00110 rd"]', 'encoding = ["000110 rd"]'),
+        "instruction 'ld rd, [x]': encoding word 1 has 9 bits, expected 8 (data_bits)",
+    ),
+    "a field not placed": (
+        ref8_with('encoding = ["00110 rd"]', 'encoding = ["00110000"]'),
+        "instruction 'ld rd, [x]': the encoding must place each of the 3 bits of 'rd' exactly once",
+    ),
+    "a field placed twice": (
+        ref8_with('encoding = ["00110 rd"]', 'encoding = ["00 rd rd"]'),
+        "instruction 'ld rd, [x]': the encoding must place each of the 3 bits of 'rd' exactly once",
+    ),
+    "a field placed in part": (
+        ref8_with('encoding = ["00011 rd", "imm"]', 'encoding = ["00011 rd", "0000 imm[3:0]"]'),
+        "instruction 'li rd, imm': the encoding must place each of the 8 bits of 'imm' exactly once",
+    ),
+    "a slice outside the field": (
+        ref8_with('encoding = ["00011 rd", "imm"]', 'encoding = ["00011 rd", "imm[8:1]"]'),
+        "instruction 'li rd, imm': slice imm[8:1] is outside the 8 bits of 'imm'",
+    ),
+    "an encoding token that is not bits or a field": (
+        ref8_with('encoding = ["00110 rd"]', 'encoding = ["00110 r-d"]'),
+        "instruction 'ld rd, [x]': cannot read encoding token 'r-d' in word 1 "
+        "(expected bits like 0101, a field name, or field[hi:lo])",
+    ),
+    "a field used before its word is fetched": (
+        ref8_with('  "t <- mem[pc]; pc <- pc + 1",\n  "rd <- rs",', '  "rd <- rs",\n  "t <- mem[pc]; pc <- pc + 1",'),
+        "instruction 'mov rd, rs' step 2: field 'rs' (word 2) is used before its word has been fetched "
+        "into a register",
+    ),
+    "more encoding words than fetches": (
+        ref8_with('encoding = ["00110 rd"]', 'encoding = ["00110 rd", "00000000"]'),
+        "instruction 'ld rd, [x]': the encoding has 2 words but the micro-steps read 0 after the opcode "
+        "(each later word needs a step that reads mem[pc])",
+    ),
+    "more fetches than encoding words": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd <- mem[x]", "t <- mem[pc]; pc <- pc + 1"]'),
+        "instruction 'ld rd, [x]': the encoding has 1 word but the micro-steps read 1 after the opcode "
+        "(each later word needs a step that reads mem[pc])",
+    ),
+    "unreadable micro-step": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd = mem[x]"]'),
+        "instruction 'ld rd, [x]' step 2: cannot read micro-step at column 4\n"
+        "    rd = mem[x]\n"
+        "       ^",
+    ),
+    "unreadable fetch step": (
+        ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', 'steps = ["ir <- mem[pc] pc <- pc + 1"]'),
+        "[fetch] step 1: cannot read micro-step at column 15\n"
+        "    ir <- mem[pc] pc <- pc + 1\n"
+        "                  ^",
+    ),
+    "an empty micro-step": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = [" "]'),
+        "instruction 'ld rd, [x]' step 2: a micro-step must hold at least one statement",
+    ),
+    "halt driven twice": (
+        ref8_with('steps = ["halt"]', 'steps = ["halt; halt"]'),
+        "instruction 'halt' step 2: drives halt twice",
+    ),
+    "pause naming a non-halting instruction": (
+        ref8_with('pause = "halt"', 'pause = "nop"'),
+        "[assembler]: 'pause' must name an instruction without operands that drives halt "
+        "(candidates: halt), not 'nop'",
+    ),
+    "bad output device": (
+        ref8_with('out.1 = "lamps"', 'out.1 = "printer"'),
+        "[ports.out] 1: an out port device must be one of console, lamps, not 'printer'",
+    ),
+    "an output device on an input port": (
+        ref8_with('in.2 = "input_ready"', 'in.2 = "console"'),
+        "[ports.in] 2: an in port device must be one of switches, input, input_ready, not 'console'",
+    ),
+    "a port number out of range": (
+        ref8_with('out.1 = "lamps"', 'out.300 = "lamps"'),
+        "[ports.out] 300: a port number must be 0…255",
+    ),
+}
+
+
+@pytest.mark.parametrize("case", list(CASES))
+def test_bad_machine_file_message(case):
+    text, message = CASES[case]
+    error = load_error(text)
+    assert str(error) == f"{FILE}: {message}"
+
+
+def test_a_message_is_one_located_line_apart_from_a_micro_step_caret():
+    for case, (text, _message) in CASES.items():
+        error = load_error(text)
+        first, *rest = str(error).split("\n")
+        assert first.startswith(f"{FILE}: "), case
+        assert error.where or "(at line " in first, case
+        assert rest == [] or "cannot read micro-step" in first, case
+
+
+def test_missing_file_lists_the_shipped_machines(tmp_path):
+    missing = tmp_path / "nowhere.toml"
+    with pytest.raises(emu.MachineError) as caught:
+        emu.load_machine(missing)
+    shipped = ", ".join(sorted(emu.shipped_machines()))
+    assert "ref8" in shipped
+    assert str(caught.value) == f"{missing}: no such machine file (shipped machines: {shipped})"
+
+
+def test_a_misspelt_machine_name_lists_the_shipped_machines():
+    with pytest.raises(emu.MachineError, match=r"^ref9: no such machine file \(shipped machines: .*ref8"):
+        emu.load_machine("ref9")
+
+
+def test_a_file_that_is_not_utf8_is_a_machine_error(tmp_path):
+    path = tmp_path / "latin.toml"
+    path.write_bytes(b"# caf\xe9\n")
+    with pytest.raises(emu.MachineError, match=r"cannot read machine file"):
+        emu.load_machine(path)
+
+
+def test_load_by_name_and_by_path():
+    by_name = emu.load_machine("ref8")
+    assert by_name.name == "ref8" and Path(by_name.path).name == "ref8.toml"
+    assert emu.load_machine().name == "ref8"
+    by_path = emu.load_machine(ACC12_PATH)
+    assert (by_path.name, by_path.data_bits, by_path.memory_words) == ("acc12", 12, 256)
+
+
+def test_errors_from_a_file_name_that_file(tmp_path):
+    path = tmp_path / "broken.toml"
+    path.write_text(ref8_with("hold = true\n", ""), encoding="utf-8")
+    with pytest.raises(emu.MachineError) as caught:
+        emu.load_machine(path)
+    assert caught.value.path == str(path)
+    assert str(caught.value).startswith(f"{path}: [clock]: the phase table has no hold point")
+
+
+# ----- hand-written small files -----------------------------------------------------------
+
+TINY = """
+[machine]
+name = "tiny"
+data_bits = 4
+address_bits = 4
+
+[registers]
+a = 4
+pc = 4
+
+[internal]
+ir = 4
+
+[flags]
+z = "zero"
+
+[operands]
+n = { bits = 2 }
+
+[assembler]
+pause = "stop"
+
+[clock]
+stages = 2
+
+[[clock.phase]]
+level = 1
+ms = 10
+
+[[clock.phase]]
+level = 0
+ms = 10
+hold = true
+
+[fetch]
+steps = ["ir <- mem[pc]; pc <- pc + 1"]
+
+[[instruction]]
+syntax = "stop"
+encoding = ["0000"]
+steps = ["halt"]
+
+[[instruction]]
+syntax = "put n:n"
+encoding = ["01 n"]
+steps = ["a <- n"]
+"""
+
+
+def test_a_tiny_hand_written_machine_loads_and_runs():
+    machine = emu.machine_from_text(TINY, "tiny.toml")
+    assert [i.display for i in machine.instructions] == ["stop", "put n"]
+    emulator = emu.Emulator(machine)
+    emulator.load([(0, machine.instructions[1].encode({"n": 3}) + [0])])
+    assert emulator.run(max_cycles=20).kind == "halted"
+    assert (emulator.get("a"), emulator.pc) == (3, 2)
+
+
+@pytest.mark.parametrize(("old", "new", "message"), [
+    ('pc = 4\n', '', "[machine]: 'program_counter' names 'pc', which is not a register"),
+    ('ir = 4', 'ir = 3', "[machine]: the instruction register 'ir' must be 4 bits wide (data_bits)"),
+    ('z = "zero"', 'z = "sign"', "[flags] z: a flag's role must be one of zero, negative, carry, overflow, "
+                                 "not 'sign'"),
+    ('ms = 10\nhold', 'ms = -1\nhold', "[[clock.phase]] 2 ('phase2'): 'ms' must be a positive number of "
+                                       "milliseconds, not -1"),
+    ('level = 1\nms = 10', 'level = 0\nms = 10', "[clock]: the phase table needs at least one high "
+                                                 "(level 1) and one low (level 0) phase"),
+    ('encoding = ["01 n"]', 'encoding = ["00 n"]', "instruction 'put n': its encoding overlaps "
+                                                   "instruction 'stop' at first word 0x0; the first word "
+                                                   "alone must tell instructions apart"),
+    ('steps = ["a <- n"]', 'steps = ["a <- n; out(n, a); out(n, a)"]',
+     "instruction 'put n' step 2: two port transfers in one micro-step (there is one I/O bus)"),
+    ('steps = ["a <- n"]', 'steps = ["a <- z"]',
+     "instruction 'put n' step 2: flag 'z' can only be read as a condition (flag ? a : b)"),
+    ('steps = ["a <- n"]', 'steps = ["a <- add(a, n) sets z"]\n\n[[instruction]]\nsyntax = "put n:n"\n'
+                           'encoding = ["10 n"]\nsteps = ["a <- adc(a, n) sets z"]',
+     "instruction 'put n' step 2: adc needs a carry flag, and the machine has none"),
+    ('syntax = "stop"', 'syntax = "stop n:m"',
+     "instruction 'stop n': unknown operand kind 'm' (kinds: n)"),
+])
+def test_tiny_machine_errors(old, new, message):
+    assert TINY.count(old) == 1
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(TINY.replace(old, new), "tiny.toml")
+    assert str(caught.value) == f"tiny.toml: {message}"

@@ -81,7 +81,7 @@ def load_program(path: str | os.PathLike, machine: Machine) -> LoadedProgram:
         else:
             loaded = _from_image(path, kind, machine)
     except asm.AsmError as exc:
-        raise ProgramError(str(exc)) from None
+        raise ProgramError(_not_a_program(path, exc) or str(exc)) from None
     if loaded.word_count == 0:
         raise ProgramError(f"{path}: error: the program is empty (no instruction or data to load)")
     too_far = [start + len(words) for start, words in loaded.segments
@@ -90,6 +90,24 @@ def load_program(path: str | os.PathLike, machine: Machine) -> LoadedProgram:
         raise ProgramError(f"{path}: error: the image needs {max(too_far)} words but {machine.name} "
                            f"has {machine.memory_words} words of memory")
     return loaded
+
+
+def _not_a_program(path: str, error: asm.AsmError) -> str | None:
+    """One line instead of a flood when a text file is plainly no program at all.
+
+    Text is taken as source; when not a single statement of it assembles
+    (every line with content has a problem), it is some other kind of file.
+    """
+    try:
+        lines = open(path, encoding="utf-8").read().splitlines()
+    except (OSError, UnicodeDecodeError):
+        return None
+    statements = {n for n, line in enumerate(lines, 1) if line.split(";")[0].strip()}
+    located = {d.line for d in error.diagnostics if d.file == path}
+    if len(statements) < 2 or not statements <= located:
+        return None
+    return (f"{path}: error: this is neither assembly source, Intel HEX nor a raw binary image "
+            f"(none of its {len(statements)} lines assembles)")
 
 
 def _from_source(path: str, machine: Machine) -> LoadedProgram:

@@ -1,0 +1,205 @@
+"""Bad input gets one clear message and the exit status of spec §5, never a traceback.
+
+Exit statuses (spec §5): 1 for a bad program or machine file, 2 for a bad
+command line. Intel HEX records follow the Intel Hexadecimal Object File
+Format Specification (Rev. A, 1988): ``:LLAAAATT<data>CC`` with CC the
+two's complement of the sum of the other bytes.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+
+import pytest
+
+from cli_support import ACC12, PROGRAMS, ROOT, cli, cli_process, write
+
+GOOD = "li r0, 1\nhalt\n"
+
+
+def assert_one_error_line(err: str, starts: str):
+    assert "Traceback" not in err
+    first = err.splitlines()[0]
+    assert first.startswith(starts), err
+    assert "error" in first
+
+
+def test_missing_file(capsys, tmp_path):
+    code, out, err = cli(capsys, "run", tmp_path / "nothing.asm")
+    assert code == 1 and out == ""
+    assert err.strip() == f"{tmp_path / 'nothing.asm'}: error: no such file"
+
+
+def test_folder_instead_of_file(capsys, tmp_path):
+    code, _out, err = cli(capsys, "run", tmp_path)
+    assert code == 1
+    assert err.strip() == f"{tmp_path}: error: is a folder, not a program file"
+
+
+@pytest.mark.skipif(hasattr(os, "geteuid") and os.geteuid() == 0, reason="root can read any file")
+def test_unreadable_file(capsys, tmp_path):
+    path = write(tmp_path, "secret.asm", GOOD)
+    path.chmod(0)
+    code, _out, err = cli(capsys, "run", path)
+    assert code == 1
+    assert err.strip() == f"{path}: error: cannot read the file (permission denied)"
+
+
+def test_text_that_is_no_program(capsys, tmp_path):
+    path = write(tmp_path, "letter.txt", "Dear harbourmaster,\nthe ferry was late again.\nRegards\n")
+    code, _out, err = cli(capsys, "run", path)
+    assert code == 1
+    assert err.strip() == (f"{path}: error: this is neither assembly source, Intel HEX nor a raw binary "
+                           f"image (none of its 3 lines assembles)")
+
+
+def test_program_error_is_located_with_caret(capsys, tmp_path):
+    path = write(tmp_path, "typo.asm", "li r0, 1\nli r9, 2\nhalt\n")
+    code, _out, err = cli(capsys, "run", path)
+    assert code == 1
+    assert err.splitlines() == [f"{path}:2:4: error: r9 is not a register of ref8 (r0–r7)",
+                                "    li r9, 2", "       ^"]
+
+
+@pytest.mark.parametrize("record, message", [
+    # :0300000018011A in the spec's layout; the correct checksum of 03 0000 00 18 01 01 is E3
+    (":03000000180101E4", "bad checksum E4 (the record's bytes need E3)"),
+    (":04000000180101E2", "the record length says 4 data bytes but the record holds 3"),
+    (":03000000180G01E3", "'G' is not a hex digit"),
+])
+def test_corrupt_hex_record(capsys, tmp_path, record, message):
+    path = write(tmp_path, "bad.hex", f"{record}\n:00000001FF\n")
+    code, _out, err = cli(capsys, "run", path)
+    assert code == 1
+    assert_one_error_line(err, f"{path}:1:")
+    assert message in err.splitlines()[0]
+
+
+def test_hex_checksum_example_is_right():
+    """The record used above really has checksum E3 (Intel HEX spec arithmetic)."""
+    body = bytes.fromhex("03000000180101")
+    assert (-sum(body)) & 0xFF == 0xE3
+
+
+def test_image_larger_than_memory(capsys, tmp_path):
+    path = tmp_path / "huge.bin"
+    path.write_bytes(bytes(65_537))
+    code, _out, err = cli(capsys, "run", path)
+    assert code == 1
+    assert_one_error_line(err, f"{path}: error:")
+    assert "65537" in err and "65536" in err
+
+
+def test_image_larger_than_acc12_memory(capsys, tmp_path):
+    path = tmp_path / "big.bin"
+    path.write_bytes(bytes(2 * 300))          # 300 twelve-bit words, two bytes each
+    code, _out, err = cli(capsys, "run", "--machine", ACC12, path)
+    assert code == 1
+    assert_one_error_line(err, f"{path}: error:")
+
+
+def test_hex_record_past_the_end_of_memory(capsys, tmp_path):
+    # 0x0200 words is past acc12's 256; data 00 00, checksum of 02 0400 00 00 00
+    path = write(tmp_path, "far.hex", ":02040000" "0000" "FA\n:00000001FF\n")
+    code, _out, err = cli(capsys, "run", "--machine", ACC12, path)
+    assert code == 1
+    assert_one_error_line(err, f"{path}:1:")
+    assert "past the end of the memory" in err
+
+
+def test_bad_machine_file(capsys, tmp_path):
+    machine = write(tmp_path, "m.toml", '[machine]\nname = "m"\ndata_bits = "eight"\n')
+    prog = write(tmp_path, "p.asm", GOOD)
+    for command in (["run", prog], ["test", prog], ["asm", prog], ["isa"], ["dis", prog]):
+        code, _out, err = cli(capsys, *command, "--machine", machine)
+        assert code == 1
+        assert err.strip() == f"relaybench: error: {machine}: [machine]: 'data_bits' must be an integer, not a string"
+
+
+def test_missing_machine_file(capsys, tmp_path):
+    code, _out, err = cli(capsys, "isa", "--machine", tmp_path / "none.toml")
+    assert code == 1
+    assert err.strip().startswith("relaybench: error:") and "no such machine file" in err
+
+
+@pytest.mark.parametrize("options, message", [
+    (["--max-cycles", "-5"], "argument --max-cycles: must be a positive number of cycles, not -5"),
+    (["--max-cycles", "lots"], "argument --max-cycles: 'lots' is not a number"),
+    (["--switches", "0x1FF"], "argument --switches: 0x1ff does not fit the 8-bit word of ref8"),
+    (["--switches", "-1"], "argument --switches: -0x1 does not fit the 8-bit word of ref8"),
+    (["--dump", "10"], "argument --dump: '10' is not START:LEN (for example 0x100:16)"),
+    (["--dump", "0x10:0"], "argument --dump: the length of '0x10:0' must be at least 1"),
+    (["--dump", "0xFFF0:32"], "argument --dump: '0xFFF0:32' reaches past the end of memory"),
+    (["--input-text", "a\\q"], "argument --input-text: unknown escape '\\q'"),
+    (["--frobnicate"], "unrecognized arguments: --frobnicate"),
+])
+def test_nonsense_options(capsys, tmp_path, options, message):
+    prog = write(tmp_path, "p.asm", GOOD)
+    code, out, err = cli(capsys, "run", prog, *options)
+    assert code == 2 and out == ""
+    assert err.startswith("usage: relaybench")
+    assert f": error: {message}" in err
+    assert "Traceback" not in err
+
+
+def test_missing_input_file_is_a_usage_error(capsys, tmp_path):
+    prog = write(tmp_path, "p.asm", GOOD)
+    code, _out, err = cli(capsys, "run", prog, "--input", tmp_path / "none.bin")
+    assert code == 2
+    assert "argument --input: cannot read" in err
+
+
+def test_switches_fit_acc12_words(capsys, tmp_path):
+    prog = write(tmp_path, "p.asm", "get 0\nstop\n")
+    assert cli(capsys, "run", "--machine", ACC12, prog, "--switches", "0xFFF")[0] == 0
+    assert cli(capsys, "run", "--machine", ACC12, prog, "--switches", "0x1000")[0] == 2
+
+
+@pytest.mark.parametrize("text", ["", "; only a comment\n\n", "COUNT = 4\n"])
+def test_empty_program(capsys, tmp_path, text):
+    prog = write(tmp_path, "empty.asm", text)
+    code, _out, err = cli(capsys, "run", prog)
+    assert code == 1
+    assert err.strip() == f"{prog}: error: the program is empty (no instruction or data to load)"
+
+
+def test_empty_image(capsys, tmp_path):
+    prog = write(tmp_path, "empty.hex", ":00000001FF\n")
+    code, _out, err = cli(capsys, "run", prog)
+    assert code == 1 and "the program is empty" in err
+
+
+def test_no_command_is_a_usage_error(capsys):
+    code, _out, err = cli(capsys)
+    assert code == 2 and err.startswith("usage: relaybench")
+
+
+# ----- real processes ----------------------------------------------------------
+
+def test_real_process_exit_statuses(tmp_path):
+    prog = write(tmp_path, "p.asm", "li r0, 1\nhalt\n")
+    loop = write(tmp_path, "loop.asm", "top: jmp top\n")
+    assert cli_process("run", prog).returncode == 0
+    assert cli_process("run", loop, "--max-cycles", "300").returncode == 3
+    bad = cli_process("run", tmp_path / "none.asm")
+    assert bad.returncode == 1 and bad.stderr.strip().endswith("error: no such file")
+    usage = cli_process("run", prog, "--dump", "10")
+    assert usage.returncode == 2 and "Traceback" not in usage.stderr
+
+
+def test_ctrl_c_during_a_long_run(tmp_path):
+    """SIGINT mid-run: a clean message and status 130, no traceback."""
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    process = subprocess.Popen([sys.executable, "-m", "emu.cli", "run", PROGRAMS / "ledger.asm"],
+                               stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
+    time.sleep(1.0)
+    process.send_signal(signal.SIGINT)
+    out, err = process.communicate(timeout=60)
+    assert process.returncode == 130
+    assert out == ""
+    assert "Traceback" not in err
+    assert err.startswith("relaybench: run interrupted after ")

@@ -596,7 +596,7 @@ class _MachineCompiler:
                         out.line(f"cycles += table[{peek}]()")
                         out.line("instructions += 1")
                         if watching:
-                            out.line("if watch():")
+                            out.line("if watch(cycles, instructions):")
                             with out.indent():
                                 out.line("return cycles, instructions, True")
                 out.line("except Fallback:")

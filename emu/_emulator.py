@@ -349,18 +349,26 @@ class Emulator:
         """Let the generator run until it freezes, a limit, a breakpoint or a condition.
 
         ``until(emu)`` and breakpoints (addresses) are checked at every
-        instruction boundary reached during the run. ``chunk(emu)`` is called
+        instruction boundary reached during the run; ``until`` sees counters,
+        ring and time up to date. ``chunk(emu)`` is called
         about every ``chunk_cycles`` cycles, with counters and time up to
         date; it may flip the run switch (the debugger's Ctrl-C does that).
         """
         target = None if max_cycles is None else self.cycles + max_cycles
         points = frozenset(breakpoints)
+        applied = [0, 0]
         watch = None
         if points or until is not None:
             s, pc = self._s, self._pc
 
-            def watch():
-                return s[pc] in points or (until is not None and until(self))
+            def watch(cycles=0, count=0):
+                if s[pc] in points:
+                    return True
+                if until is None:
+                    return False
+                self._account(cycles - applied[0], count - applied[1])
+                applied[:] = cycles, count
+                return until(self)
         next_chunk = self.cycles + chunk_cycles
         while True:
             if self.frozen:
@@ -381,9 +389,8 @@ class Emulator:
                         cycles, count, hit = self._run_free(limit)
                     else:
                         cycles, count, hit = self._run_free_watching(limit, watch)
-                    self.cycles += cycles
-                    self.instructions += count
-                    self.ring.skip_cycles(cycles)
+                    self._account(cycles - applied[0], count - applied[1])
+                    applied[:] = 0, 0
                     if hit:
                         return self._watch_reason(points)
                     if cycles > limit:
@@ -392,6 +399,14 @@ class Emulator:
             self.advance_phase()
             if self.instructions != done and watch is not None and watch():
                 return self._watch_reason(points)
+
+    def _account(self, cycles: int, count: int) -> None:
+        """Bring counters and the ring up to date with work the fast path has done."""
+        if cycles:
+            self.cycles += cycles
+            self.instructions += count
+            self.ring.skip_cycles(cycles)
+            self._released = False
 
     def _watch_reason(self, points) -> StopReason:
         return StopReason("breakpoint" if self.pc in points else "condition", self.pc)

@@ -189,3 +189,15 @@ def test_restore_refuses_another_machines_snapshot(tmp_path):
     path.write_text("{not json")
     with pytest.raises(MachineError, match="cannot read snapshot"):
         Emulator.restore(path, MACHINES["ref8"])
+
+
+def test_a_released_generator_obeys_the_next_hold_point_after_a_fast_run():
+    """Let go from a hold point, run fused to a boundary, stop: freeze right there."""
+    machine = MACHINES["ref8"]
+    emu = boot(machine, encode(machine, "inc rd", rd=0) * 50 + encode(machine, "jmp addr", addr=0))
+    emu.set_switch_run(False)
+    emu.run(max_cycles=100)
+    emu.set_switch_run(True)
+    assert emu.run(max_cycles=100, until=lambda e: e.get("r0") == 3).kind == "condition"
+    emu.set_switch_run(False)
+    assert emu.advance_phase() is False and emu.frozen

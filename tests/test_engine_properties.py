@@ -128,6 +128,7 @@ class PanelMachine(RuleBasedStateMachine):
         words = data.draw(programs(self.machine))
         self.reference = _Reference(self.machine, words)
         self.emu = boot(self.machine, words)
+        self.released = False       # let go from a hold point, no phase run since
         self.watch = None
         if self.observed:
             self.watch = _PulseWatch(self.machine)
@@ -141,7 +142,17 @@ class PanelMachine(RuleBasedStateMachine):
 
     @rule()
     def throw_to_run(self):
+        was_frozen = self.emu.frozen
         self.emu.set_switch_run(True)
+        self._note_release(was_frozen)
+
+    def _note_release(self, was_frozen):
+        if was_frozen and not self.emu.frozen:
+            self.released = True
+
+    def _note_time(self, before_ns):
+        if self.emu.time_ns != before_ns:
+            self.released = False
 
     @rule()
     def press_step(self):
@@ -173,6 +184,7 @@ class PanelMachine(RuleBasedStateMachine):
         emu = self.emu
         was_frozen = emu.frozen
         emu.press_resume()
+        self._note_release(was_frozen)
         assert not emu.halt_latch
         if emu.switch_run:
             assert not emu.frozen
@@ -183,16 +195,32 @@ class PanelMachine(RuleBasedStateMachine):
 
     @rule(count=st.integers(1, 12))
     def let_phases_pass(self, count):
+        before = self.emu.time_ns
         for _ in range(count):
             self.emu.advance_phase()
+        self._note_time(before)
 
     @rule(count=st.integers(1, 60))
     def let_cycles_pass(self, count):
+        before = self.emu.time_ns
         self.emu.run(max_cycles=count)
+        self._note_time(before)
 
     @rule(limit=st.integers(1, 400))
     def run_until_frozen(self, limit):
+        before = self.emu.time_ns
         self.emu.run(max_cycles=limit)
+        self._note_time(before)
+
+    @rule(count=st.integers(1, 30))
+    def run_some_instructions(self, count):
+        """A condition checked at instruction boundaries, as the debugger's watchpoints are."""
+        emu, before = self.emu, self.emu.time_ns
+        target = emu.instructions + count
+        reason = emu.run(max_cycles=5_000, until=lambda e: e.instructions >= target)
+        if reason.kind == "condition":
+            assert emu.instructions == target and emu.at_instruction_boundary
+        self._note_time(before)
 
     @precondition(lambda self: not self.emu.frozen)
     @rule()
@@ -200,7 +228,7 @@ class PanelMachine(RuleBasedStateMachine):
         """P2: after stop, the generator freezes at the first hold point it reaches."""
         emu, machine = self.emu, self.machine
         emu.set_switch_run(False)
-        bound = _phases_to_hold(machine, emu.phase_index, emu._released)
+        bound = _phases_to_hold(machine, emu.phase_index, self.released)
         ran = 0
         while emu.advance_phase():
             ran += 1
@@ -208,6 +236,7 @@ class PanelMachine(RuleBasedStateMachine):
         assert emu.frozen
         assert machine.phases[emu.phase_index].hold
         assert ran == bound
+        self.released = False
 
     # ----- invariants
 

@@ -46,10 +46,9 @@ class LiveClock:
         if e.frozen:
             self.anchor()
             return
-        target = self.target_ns()
         breakpoints = {b.address for b in self.session.breakpoints.values()}
         for _ in range(MAX_PHASES_PER_TICK):
-            if e.time_ns + e.ring.turn[e.phase_index] > target:
+            if e.time_ns + e.ring.turn[e.phase_index] > self.target_ns():
                 break
             done = e.instructions
             if not e.advance_phase():

@@ -87,6 +87,7 @@ def run_repl(session, *, input=None, output=None, write=print) -> int:
     prompt = PromptSession(history=_history(), completer=_SessionCompleter(session),
                            complete_while_typing=False, input=input, output=output)
     write(_banner(session))
+    session.announce = write
     while not session.finished:
         try:
             line = prompt.prompt(f"{session.machine.name}> ")

@@ -73,8 +73,8 @@ def run_clock(emu: Emulator, recorder: Recorder, *, condition=None, breakpoints=
                        chunk=chunk, chunk_cycles=CHUNK_CYCLES)
     finally:
         emu.observe(recorder)
-    traced = _replay(emu, recorder, [start, *recent], condition is not None, breakpoints,
-                     limit, flip[0] if flip else None)
+    traced = _replay(emu, recorder, [start, *recent], stop.kind == "condition",
+                     breakpoints if stop.kind == "breakpoint" else (), limit, flip[0] if flip else None)
     return RunResult(stop, bool(flip), traced)
 
 
@@ -83,7 +83,12 @@ def _clone(condition):
 
 
 def _replay(emu, recorder, checkpoints, has_condition, breakpoints, limit, flip) -> bool:
-    """Run the tail of the run again with the recorder attached; False if it disagrees."""
+    """Run the tail of the run again with the recorder attached; False if it disagrees.
+
+    The replay needs only what ended the run: it cannot stop earlier than the
+    run did, so a run ended by a halt, the stop switch or the limit is
+    replayed without its condition and breakpoints, on the unwatched fast path.
+    """
     end = emu.cycles
     wanted = recorder.columns.maxlen // max(len(emu.machine.phases), 1)
     usable = [c for c in checkpoints if c.cycles <= end - wanted]

@@ -18,6 +18,7 @@ from __future__ import annotations
 import difflib
 import inspect
 import re
+import time
 from dataclasses import dataclass
 from typing import Callable
 
@@ -69,6 +70,8 @@ def command(usage: str, summary: str, *, repeats: bool = False, complete: tuple[
 _TOKEN = re.compile(r"'(?:\\.|[^'\\])+'|\S+")
 _FILE_LINE = re.compile(r"(.+):(\d+)")
 _MEMORY = re.compile(r"\[(.+)\]")
+ANNOUNCE_AFTER = 0.3
+"""Seconds of wall time after which a run says that it is running."""
 _PULSE_REPORT = 8
 """Pulses listed one by one; beyond that only a count."""
 
@@ -98,6 +101,8 @@ class Session:
         self.live_factor: float | None = None
         """Set by ``live``; the terminal takes it and runs the live view."""
         self.finished = False
+        self.announce: Callable[[str], None] | None = None
+        """Told once when a run goes on for a while (the terminal prints it)."""
         self._interrupted = False
         self._dump_next = 0
         if emulator is not None:
@@ -329,7 +334,7 @@ class Session:
         start = self.emu.cycles
         result = run_clock(self.emu, self.recorder, condition=condition,
                            breakpoints=[b.address for b in self.breakpoints.values()],
-                           max_cycles=max_cycles, interrupted=lambda: self._interrupted)
+                           max_cycles=max_cycles, interrupted=self._watch_for_ctrl_c())
         self.last_stop = self._stop_text(result, condition, max_cycles)
         if self.emu.halt_latch and not self.emu.frozen:
             also = self.last_stop
@@ -337,6 +342,19 @@ class Session:
             self.last_stop = f"{self._stop_text(result, None)} (also: {also})"
         ran = self.emu.cycles - start
         return f"{self.last_stop}\n{ran:,} cycles run. {self.here_text()}"
+
+    def _watch_for_ctrl_c(self):
+        """The run's look at the Ctrl-C flag; a run that lasts says so once."""
+        started = time.monotonic()
+        told = False
+
+        def interrupted() -> bool:
+            nonlocal told
+            if not told and self.announce is not None and time.monotonic() - started > ANNOUNCE_AFTER:
+                told = True
+                self.announce("the clock is running; Ctrl-C throws the stop switch")
+            return self._interrupted
+        return interrupted
 
     def _pulse_until(self, condition) -> str:
         """STEP pulses until ``condition`` holds at an instruction boundary, a breakpoint or Ctrl-C."""

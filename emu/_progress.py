@@ -27,6 +27,7 @@ class _Line:
         self.owner, self.label, self.total = owner, label, total
         self.remove_when_done = remove_when_done
         self.done = 0
+        self.finished = False
         self.counter = None
 
     def update(self, done: int) -> None:
@@ -36,6 +37,7 @@ class _Line:
         self.owner.tick()
 
     def finish(self) -> None:
+        self.finished = True
         self.update(self.total)
         if self.counter is not None:
             self.counter.done = True
@@ -85,7 +87,8 @@ class Progress:
         self.printing = patch_stdout(raw=True)
         self.printing.__enter__()
         for line in self.lines:
-            self._attach(line)
+            if not (line.finished and line.remove_when_done):
+                self._attach(line)
 
     def _attach(self, line: _Line) -> None:
         line.counter = self.bar(label=line.label, total=line.total,

@@ -220,3 +220,23 @@ def test_runner_loads_any_kind(tmp_path, capsys):
         loaded = load_program(path, machine)
         assert loaded.segments == [(0, [0x18, 1, 1, 1])]
         assert loaded.pauses == frozenset({2})
+
+
+def test_progress_stays_silent_when_disabled_or_early():
+    from emu._progress import Progress
+    with Progress(enabled=False, delay=0) as quiet:
+        line = quiet.line("run", 100)
+        line.update(50)
+        assert quiet.bar is None and line.done == 50
+    with Progress(enabled=True, delay=3600) as early:
+        early.line("run", 100).update(99)
+        assert early.bar is None
+
+
+def test_no_progress_bar_when_piped(capsys, tmp_path):
+    """Under capture stdout is no terminal, so only the summary is printed."""
+    from emu._progress import terminal_attached
+    assert not terminal_attached()
+    loop = write(tmp_path, "loop.asm", "top: jmp top\n")
+    code, out, err = cli(capsys, "run", loop, "--max-cycles", "3000000")
+    assert code == 3 and err == "" and out.startswith(f"{loop}: stopped at the cycle limit")

@@ -84,11 +84,6 @@ def load_program(path: str | os.PathLike, machine: Machine) -> LoadedProgram:
         raise ProgramError(_not_a_program(path, exc) or str(exc)) from None
     if loaded.word_count == 0:
         raise ProgramError(f"{path}: error: the program is empty (no instruction or data to load)")
-    too_far = [start + len(words) for start, words in loaded.segments
-               if start + len(words) > machine.memory_words]
-    if too_far:
-        raise ProgramError(f"{path}: error: the image needs {max(too_far)} words but {machine.name} "
-                           f"has {machine.memory_words} words of memory")
     return loaded
 
 

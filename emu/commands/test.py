@@ -13,6 +13,7 @@ import sys
 
 from .._progress import Progress, terminal_attached
 from .._summary import format_duration
+from .._runner import DEFAULT_MAX_CYCLES
 from .._testrunner import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
 from ._options import add_machine_option, cycle_count, keep_parser, machine_from
 
@@ -86,7 +87,7 @@ def main(args) -> int:
         with Progress(enabled=terminal_attached() and not args.json) as progress:
             batch = progress.line("programs", len(programs))
             for done, path in enumerate(programs):
-                bar = progress.line(path, args.max_cycles or 50_000_000, remove_when_done=True)
+                bar = progress.line(path, args.max_cycles or DEFAULT_MAX_CYCLES, remove_when_done=True)
                 verdict = check_program(path, machine, max_cycles=args.max_cycles,
                                         chunk=lambda emu: bar.update(emu.cycles))
                 bar.finish()

@@ -636,3 +636,18 @@ def test_cycle_count_is_fetch_plus_steps(path, display):
     assert machine.instructions == 1
     assert machine.cycles == len(REF8.fetch) + len(ins.steps)
     assert machine.time_ns == machine.cycles * REF8.cycle_ns
+
+
+@pytest.mark.parametrize("path", PATHS)
+@EXAMPLES
+@given(value=word, start=st.sampled_from([0xFFFD, 0xFFFE, 0xFFFF]))
+def test_an_instruction_across_the_end_of_memory_wraps_pc_to_0(path, value, start):
+    machine = emu.Emulator(REF8)
+    if path == "stepped":
+        machine.observe(emu.Observer())
+    for offset, w in enumerate(program(("li x, addr", {"addr": value}), ("halt", {}))):
+        machine.memory[(start + offset) % 65536] = w
+    machine.set("pc", start)
+    stop = machine.run(max_cycles=100)
+    assert (stop.kind, stop.address) == ("halted", (start + 3) % 65536)
+    assert (machine.get("x"), machine.pc) == (value, (start + 4) % 65536)

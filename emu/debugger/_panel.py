@@ -132,9 +132,9 @@ def panel_text(emu, state: str) -> str:
 
 _EVENT_MARKS = {"stop": "s", "run": "r", "resume": "R", "reset": "Z", "switches": "t",
                 "latch set": "L", "latch clear": "l"}
-_LEGEND = ("clock ‾ high _ low; █ lit ring stage or control line driven; hold and latch as levels;\n"
-           "generator: F frozen at a hold point, P a STEP pulse; panel: s stop, r run, R resume, "
-           "Z reset, t toggles, L latch set, l latch cleared")
+_LEGEND = ("clock: ‾ high, _ low; █ a lit ring stage or a control line driven; hold, latch: levels\n"
+           "generator: F frozen at a hold point, P a STEP pulse\n"
+           "panel: s stop, r run, R resume, Z reset, t toggles, L latch set, l latch cleared")
 
 
 def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = False) -> str:

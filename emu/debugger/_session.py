@@ -364,6 +364,7 @@ class Session:
         breakpoints = {b.address for b in self.breakpoints.values()}
         pulses = 0
         why = ""
+        interrupted = self._watch_for_ctrl_c()
         while e.press_step():
             pulses += 1
             if e.at_instruction_boundary:
@@ -374,7 +375,7 @@ class Session:
                     numbers = [str(b.number) for b in self.breakpoints.values() if b.address == e.pc]
                     why = f"breakpoint {', '.join(numbers)} at {self.describe_address(e.pc)}"
                     break
-            if self._interrupted:
+            if pulses % 4096 == 0 and interrupted():
                 why = "stepping stopped by Ctrl-C"
                 break
         self.last_stop = why
@@ -447,7 +448,7 @@ class Session:
                 rows.append(f"pulse {k + 1}: {doing} step {index + 1}: {step.text}   [{lines}]")
         if n > _PULSE_REPORT:
             rows.append(f"… {n - _PULSE_REPORT:,} more pulses")
-        latch = " The halt latch is set." if e.halt_latch else ""
+        latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch else ""
         return "\n".join(rows) + f"\n{self.here_text()}{latch}"
 
     @command("resume", "Press RESUME: clear the halt latch; at RUN the clock restarts.")

@@ -140,3 +140,107 @@ def test_emulators_share_the_compiled_code_but_not_state():
     one, two = emu.Emulator(machine), emu.Emulator(machine)
     one.set("acc", 5)
     assert two.get("acc") == 0
+
+
+# ----- a register kind whose count is not a power of two -------------------------------------
+
+THREE_REGISTERS = """
+[machine]
+name = "three"
+data_bits = 8
+address_bits = 8
+
+[registers]
+a = 8
+b = 8
+c = 8
+pc = 8
+
+[internal]
+ir = 8
+t = 8
+
+[flags]
+z = "zero"
+
+[operands]
+reg = { registers = ["a", "b", "c"] }
+
+[assembler]
+pause = "stop"
+
+[clock]
+stages = 2
+
+[[clock.phase]]
+level = 1
+ms = 10
+
+[[clock.phase]]
+level = 0
+ms = 10
+hold = true
+
+[fetch]
+steps = ["ir <- mem[pc]; pc <- pc + 1"]
+
+[[instruction]]
+syntax = "stop"
+encoding = ["00000000"]
+steps = ["halt"]
+"""
+
+COPY_IN_FIRST_WORD = """
+[[instruction]]
+syntax = "copy rd:reg, rs:reg"
+encoding = ["0001 rd rs"]
+steps = ["rd <- rs"]
+"""
+
+COPY_IN_SECOND_WORD = """
+[[instruction]]
+syntax = "copy rd:reg, rs:reg"
+encoding = ["00000010", "0000 rd rs"]
+steps = ["t <- mem[pc]; pc <- pc + 1", "rd <- rs"]
+"""
+
+
+def three_register_machine(extra: str):
+    """The machine, or None when the loader refuses the kind (also an acceptable fix)."""
+    try:
+        return emu.machine_from_text(THREE_REGISTERS + extra, "three.toml")
+    except emu.MachineError as exc:
+        assert "reg" in str(exc)
+        return None
+
+
+@pytest.mark.xfail(strict=True, raises=IndexError, reason=(
+    "engine bug: the fused compiler makes a function for every value of a first-word register "
+    "field, and field value 3 of a three-register kind names no register (IndexError in "
+    "_codegen.fused_function)"))
+def test_a_three_register_kind_in_the_first_word_compiles():
+    machine = three_register_machine(COPY_IN_FIRST_WORD)
+    if machine is not None:
+        emu.Emulator(machine)
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "engine bug: a later-word register field holding 3 (no such register) reaches slot 3, which "
+    "is pc: the stepping path jumps, the fused path reads a stale pc, and the two paths disagree"))
+@pytest.mark.parametrize("fields", [(3, 0), (0, 3)])
+def test_a_register_field_naming_no_register_leaves_pc_alone_on_both_paths(fields):
+    machine = three_register_machine(COPY_IN_SECOND_WORD)
+    if machine is None:
+        return
+    rd, rs = fields
+    finals = []
+    for watched in (False, True):
+        emulator = emu.Emulator(machine)
+        if watched:
+            emulator.observe(emu.Observer())
+        emulator.load([(0, [0b10, rd << 2 | rs, 0])])
+        emulator.set("a", 0x40)
+        emulator.run(max_cycles=20)
+        finals.append((emulator.pc, emulator.get("a"), emulator.get("b"), emulator.get("c")))
+    assert finals[0] == finals[1]
+    assert finals[0][0] == 3  # pc just past the stop after the copy

@@ -445,7 +445,7 @@ class Emulator:
             "memory": base64.b64encode(zlib.compress(raw)).decode("ascii"),
             "ring": self.ring.state(), "frozen": self.frozen, "released": self._released,
             "switch_run": self.switch_run, "halt_latch": self.halt_latch, "halt_address": self.halt_address,
-            "sequencer": [index, step], "instruction_address": self._instruction_address,
+            "sequencer": [index, step], "instruction_address": self.instruction_address,
             "cycles": self.cycles, "instructions": self.instructions,
             "ports": self.ports.state(), "undefined": [[a, n] for a, n in self._undefined.items()],
         }

@@ -384,18 +384,8 @@ class Session:
     def _released(self, was_frozen: bool, done: str) -> str:
         """After a panel action: if it let a frozen generator go, the clock now runs."""
         if was_frozen and not self.emu.frozen:
-            self._leave_hold_point()
             return f"{done}; the clock runs\n{self._let_run()}"
         return f"{done}; {self.state_text()}"
-
-    def _leave_hold_point(self) -> None:
-        """A released generator first runs out the hold phase it was frozen in.
-
-        Done here as one phase so the engine's released-once flag is spent
-        before a fast-path run, which would otherwise carry it to the next
-        hold point and let the clock pass that one.
-        """
-        self.emu.advance_phase()
 
     @command("throw run|stop", "Throw the RUN/STOP switch; at run the clock starts.",
              complete=("switch",))
@@ -491,7 +481,6 @@ class Session:
             raise DebugError(f"the halt latch holds the clock ({self.last_stop}); 'resume' clears it")
         if e.frozen:
             e.set_switch_run(True)
-            self._leave_hold_point()
             return f"switch at RUN\n{self._let_run(max_cycles=limit)}"
         if not e.switch_run:
             e.set_switch_run(True)

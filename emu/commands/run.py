@@ -9,12 +9,17 @@ and the result into the summary or the JSON object and the exit status:
 from __future__ import annotations
 
 import json
+import os
 import sys
+from contextlib import ExitStack
 
 from .._numbers import decode_escapes
 from .._progress import Progress, terminal_attached
 from .._runner import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
-from .._summary import format_summary
+from .._summary import format_duration, format_summary
+from ..timing import count_wear, format_wear, record_vcd, spread_source
+from argparse import ArgumentTypeError
+
 from ._options import (add_machine_option, check_range, check_word, cycle_count, keep_parser,
                        machine_from, memory_range, number, print_program_error, usage_error)
 
@@ -40,8 +45,21 @@ def add_arguments(parser) -> None:
     parser.add_argument("--dump", metavar="START:LEN", type=memory_range, action="append", default=[],
                         help="add a memory range to the report (repeatable)")
     parser.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
-    # ---- timing options: the lead adds --clock-spread SEED, --vcd FILE and --wear here ----
+    timing = parser.add_argument_group("timing")
+    timing.add_argument("--clock-spread", metavar="SEED", type=seed_number,
+                        help="an irregular clock: phase durations drawn from the machine's [timing] "
+                             "parts for one built clock (SEED picks it); results are unchanged")
+    timing.add_argument("--vcd", metavar="FILE", help="write a value change dump (IEEE 1364) of the run")
+    timing.add_argument("--wear", action="store_true",
+                        help="count relay operations and estimate how long each relay lasts")
     keep_parser(parser)
+
+
+def seed_number(text: str) -> int:
+    value = number(text)
+    if value < 0:
+        raise ArgumentTypeError(f"must be a seed of 0 or more, not {value}")
+    return value
 
 
 def input_stream(args) -> bytes:
@@ -71,9 +89,15 @@ def main(args) -> int:
         emulator = start_emulator(program, machine, switches=args.switches, input_bytes=data)
     except ProgramError as exc:
         return print_program_error(exc)
-    # ---- timing options: the lead attaches the clock source and observers to `emulator` here ----
+    if args.clock_spread is not None:
+        emulator.clock_source = spread_source(machine, args.clock_spread)
+    if args.vcd is not None and not os.path.isdir(os.path.dirname(os.path.abspath(args.vcd))):
+        usage_error(args, f"argument --vcd: no folder for '{args.vcd}'")
     try:
-        with Progress(enabled=terminal_attached() and not args.json) as progress:
+        with ExitStack() as observers, Progress(enabled=terminal_attached() and not args.json) as progress:
+            if args.vcd is not None:
+                observers.enter_context(record_vcd(emulator, args.vcd))
+            wear = observers.enter_context(count_wear(emulator)) if args.wear else None
             bar = progress.line(args.program, args.max_cycles)
             result = run_loaded(program, machine, max_cycles=args.max_cycles,
                                 stop_at_pause=args.stop_at_pause, emulator=emulator,
@@ -82,12 +106,22 @@ def main(args) -> int:
         print(f"relaybench: run interrupted after {emulator.cycles:,} cycles "
               f"(pc {emulator.pc:#x}); no report", file=sys.stderr)
         return EXIT_INTERRUPTED
-    # ---- timing options: the lead writes the VCD file and the wear report here ----
     facts = report(result, args.dump)
+    wear_report = wear.report() if wear is not None else None
+    if wear_report is not None:
+        facts["wear"] = wear_report
     if args.json:
         print(json.dumps(facts))
     else:
         place = program.source_map.get(result.halt_address) if result.halt_address is not None else None
         print(format_summary(args.program, facts, machine, max_cycles=args.max_cycles, dumps=args.dump,
                              halt_place=f"{place[0]}:{place[1]}" if place else None))
+        if args.clock_spread is not None:
+            nominal = emulator.cycles / machine.nominal_hz
+            print(f"  clock      irregular (seed {args.clock_spread}): {format_duration(emulator.sim_seconds)} "
+                  f"against {format_duration(nominal)} on the nominal clock")
+        if args.vcd is not None:
+            print(f"  waveform   {args.vcd}")
+        if wear_report is not None:
+            print(format_wear(wear_report))
     return EXIT_HALTED if result.status == "halted" else EXIT_CYCLE_LIMIT

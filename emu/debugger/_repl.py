@@ -101,6 +101,7 @@ def run_repl(session, *, input=None, output=None, write=print) -> int:
             write(text)
         if session.live_factor is not None:
             write(run_live(session, input=input, output=output))
+    session.close()
     return 0
 
 

@@ -26,6 +26,7 @@ from emu import Emulator, MachineError
 import asm
 from emu._numbers import NUMBER_FORMS, parse_number
 from emu._runner import DEFAULT_MAX_CYCLES
+from emu.timing import record_vcd, spread_source
 
 from ._calls import call_shape
 from ._conditions import AnyOf, CallDepth, Count, Watch, Watches
@@ -105,6 +106,8 @@ class Session:
         """Told once when a run goes on for a while (the terminal prints it)."""
         self._interrupted = False
         self._dump_next = 0
+        self._waves = None
+        """(path, open recording context) while 'waves' records."""
         if emulator is not None:
             self._attach(emulator)
             return
@@ -116,6 +119,7 @@ class Session:
         run_clock(emulator, self.recorder, max_cycles=self._settle_cycles())
 
     def _attach(self, emulator: Emulator) -> None:
+        self.close()
         self.emu = emulator
         self.recorder.clear()
         emulator.observe(self.recorder)
@@ -682,6 +686,57 @@ class Session:
         self.last_stop = f"snapshot loaded from {args[0]}"
         return f"snapshot loaded: cycle {self.emu.cycles:,}; {self.state_text()}. {self.here_text()}"
 
+    # ----- timing ----------------------------------------------------------------------
+
+    @command("waves FILE|off", "Record a waveform (VCD) of the clock from now on; 'waves off' writes it.")
+    def do_waves(self, args):
+        """The dump holds the clock, ring stages, hold line, halt latch, switch,
+        sequencer step, control lines, pc and registers in simulated time, for
+        any waveform viewer. While recording, runs step phase by phase (slower)."""
+        if len(args) != 1:
+            raise DebugError("usage: waves FILE|off")
+        if args[0].lower() == "off":
+            if self._waves is None:
+                raise DebugError("no waveform is being recorded ('waves FILE' starts one)")
+            path = self._waves[0]
+            self.close()
+            return f"waveform written to {path} (up to cycle {self.emu.cycles:,})"
+        if self._waves is not None:
+            raise DebugError(f"already recording to {self._waves[0]}; 'waves off' writes it first")
+        try:
+            recording = record_vcd(self.emu, args[0])
+            recording.__enter__()
+        except OSError as exc:
+            raise DebugError(f"cannot write {args[0]}: {exc.strerror or exc}") from None
+        self._waves = (args[0], recording)
+        return f"recording a waveform to {args[0]} from cycle {self.emu.cycles:,}; 'waves off' writes it"
+
+    @command("beat SEED|even", "An irregular clock drawn from the machine's parts (SEED), or the even one.")
+    def do_beat(self, args):
+        """Each turn of the ring then takes phase durations drawn from the
+        machine file's [timing] tolerances for one built clock; results and
+        cycle counts do not change, simulated time and the waveform do."""
+        if len(args) != 1:
+            raise DebugError("usage: beat SEED|even")
+        if args[0].lower() == "even":
+            self.emu.clock_source = None
+            return "the clock beats evenly at its nominal phase durations"
+        seed = self.number(args[0], "seed")
+        if seed < 0:
+            raise DebugError(f"a seed is 0 or more, not {seed}")
+        try:
+            self.emu.clock_source = spread_source(self.machine, seed)
+        except MachineError as exc:
+            raise DebugError(f"no irregular clock for {self.machine.name}: {exc.message}") from None
+        return f"irregular clock: one built from the [timing] parts with seed {seed}"
+
+    def close(self) -> None:
+        """Finish what is open: a waveform being recorded is written."""
+        if self._waves is not None:
+            _path, recording = self._waves
+            self._waves = None
+            recording.__exit__(None, None, None)
+
     # ----- the rest -------------------------------------------------------------------
 
     @command("help [COMMAND]", "List the commands, or explain one.", complete=("command",))
@@ -703,6 +758,7 @@ class Session:
     @command("quit", "Leave the debugger.")
     def do_quit(self, args):
         self._no_arguments(args, "quit")
+        self.close()
         self.finished = True
         return ""
 

@@ -147,6 +147,7 @@ def record_vcd(emu: Emulator, path):
         try:
             recorder.close(emu)
             stream.close()
+            os.chmod(temp, 0o644)
             os.replace(temp, path)
         except BaseException:
             _discard(stream, temp)

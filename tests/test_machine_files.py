@@ -10,6 +10,8 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import emu
 
@@ -370,3 +372,30 @@ def test_tiny_machine_errors(old, new, message):
     with pytest.raises(emu.MachineError) as caught:
         emu.machine_from_text(TINY.replace(old, new), "tiny.toml")
     assert str(caught.value) == f"tiny.toml: {message}"
+
+
+# ----- no edit of a valid file gives a traceback ----------------------------------------------
+
+WRONG_VALUES = ['"zz"', "[1, 2]", "-3", "{ a = 1 }", "true", "2.5"]
+TEXTS = {"ref8": REF8_TEXT, "acc12": ACC12_PATH.read_text(encoding="utf-8")}
+
+
+@pytest.mark.parametrize("name", list(TEXTS))
+@settings(max_examples=150, deadline=None)
+@given(data=st.data())
+def test_a_deleted_line_or_a_wrong_value_is_a_machine_error_or_a_working_machine(name, data):
+    lines = TEXTS[name].splitlines()
+    index = data.draw(st.integers(0, len(lines) - 1), label="line")
+    key, equals, _value = lines[index].partition(" = ")
+    if equals and data.draw(st.booleans(), label="replace value"):
+        lines[index] = f"{key} = {data.draw(st.sampled_from(WRONG_VALUES), label='value')}"
+    else:
+        del lines[index]
+    try:
+        machine = emu.machine_from_text("\n".join(lines), "edited.toml")
+    except emu.MachineError as exc:
+        assert str(exc).startswith("edited.toml: ")
+        return
+    emulator = emu.Emulator(machine)
+    emulator.load([(0, [w & machine.data_mask for w in range(1, 120)])])
+    emulator.run(max_cycles=300)

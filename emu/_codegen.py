@@ -24,6 +24,7 @@ tracebacks show.
 from __future__ import annotations
 
 import os
+import weakref
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -31,6 +32,7 @@ from ._alu import ALU_OPS
 from ._description import Instruction, Machine, Step
 from ._emitter import Emitter
 from ._errors import MachineError
+from ._files import write_atomic
 from ._rtl import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem,
                    Name, Offset, Output, walk)
 
@@ -58,7 +60,10 @@ _cache: dict[int, CompiledMachine] = {}
 
 
 def compile_machine(machine: Machine) -> CompiledMachine:
-    """Compile once per machine object; later calls return the cached result."""
+    """Compile once per machine object; later calls return the cached result.
+
+    The cache entry goes when the machine object does.
+    """
     key = id(machine)
     cached = _cache.get(key)
     if cached is not None and cached.machine is machine:
@@ -69,10 +74,11 @@ def compile_machine(machine: Machine) -> CompiledMachine:
     if dump:
         path = Path(dump) / f"{machine.name}_generated.py"
         path.parent.mkdir(parents=True, exist_ok=True)
-        path.write_text(source)
+        write_atomic(path, source)
         filename = str(path)
     compiled = CompiledMachine(machine, source, compile(source, filename, "exec"), max_cycles)
     _cache[key] = compiled
+    weakref.finalize(machine, _cache.pop, key, None)
     return compiled
 
 
@@ -491,7 +497,11 @@ class _MachineCompiler:
                 for names in step_names:
                     out.line(f"({''.join(n + ', ' for n in names)}),")
             out.line(")")
-            out.line(f"fused = [{', '.join(fused_by_word)}]")
+            out.line("fused = [")
+            with out.indent():
+                for row in range(0, len(fused_by_word), 4):
+                    out.line(" ".join(f"{name}," for name in fused_by_word[row:row + 4]))
+            out.line("]")
             out.line("return fetch_steps, instruction_steps, fused, run_free, run_free_watching")
         return out.source(), max_cycles
 

@@ -465,6 +465,9 @@ class _Loader:
                     if reg not in self.registers_:
                         self.fail(where, f"unknown register '{reg}' in 'registers'")
                 bits = max(1, (len(regs) - 1).bit_length())
+                if len(regs) != 1 << bits:
+                    self.fail(where, f"'registers' must list a power of two of registers (2, 4, 8 …) so "
+                                     f"that every value of its {bits}-bit field names one; it lists {len(regs)}")
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
             else:
                 bits = self.integer(spec, "bits", where, low=1, high=32)
@@ -551,9 +554,14 @@ class _Loader:
         specs = self.data.get("instruction")
         if not isinstance(specs, list) or not specs:
             self.fail("top level", "needs [[instruction]] entries")
-        result = []
+        result: list[Instruction] = []
         for spec in specs:
-            result.append(self.instruction(spec, len(result), kinds))
+            ins = self.instruction(spec, len(result), kinds)
+            twin = next((i for i in result if i.mnemonic == ins.mnemonic and i.operands == ins.operands), None)
+            if twin is not None:
+                self.fail(f"instruction '{ins.display}'", f"the same assembly form as instruction "
+                                                          f"{twin.index + 1}: forms must differ")
+            result.append(ins)
         return result
 
     def instruction(self, spec, index, kinds) -> Instruction:

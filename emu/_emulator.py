@@ -204,7 +204,8 @@ class Emulator:
         notes = self.ports.warnings()
         for address, count in sorted(self._undefined.items()):
             times = f" ({count} times)" if count > 1 else ""
-            notes.append(f"undefined opcode at {address:#06x} ran as a no-op{times}")
+            digits = (self.machine.address_bits + 3) // 4
+            notes.append(f"undefined opcode at 0x{address:0{digits}x} ran as a no-op{times}")
         return notes
 
     @property

@@ -205,42 +205,24 @@ steps = ["t <- mem[pc]; pc <- pc + 1", "rd <- rs"]
 """
 
 
-def three_register_machine(extra: str):
-    """The machine, or None when the loader refuses the kind (also an acceptable fix)."""
-    try:
-        return emu.machine_from_text(THREE_REGISTERS + extra, "three.toml")
-    except emu.MachineError as exc:
-        assert "reg" in str(exc)
-        return None
+@pytest.mark.parametrize("extra", [COPY_IN_FIRST_WORD, COPY_IN_SECOND_WORD], ids=["first", "second"])
+def test_a_register_kind_whose_field_values_name_no_register_is_refused(extra):
+    """Value 3 of a 2-bit field over three registers would reach whatever slot comes next."""
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(THREE_REGISTERS + extra, "three.toml")
+    assert str(caught.value) == ("three.toml: [operands] reg: 'registers' must list a power of two of "
+                                 "registers (2, 4, 8 …) so that every value of its 2-bit field names one; "
+                                 "it lists 3")
 
 
-@pytest.mark.xfail(strict=True, raises=IndexError, reason=(
-    "engine bug: the fused compiler makes a function for every value of a first-word register "
-    "field, and field value 3 of a three-register kind names no register (IndexError in "
-    "_codegen.fused_function)"))
-def test_a_three_register_kind_in_the_first_word_compiles():
-    machine = three_register_machine(COPY_IN_FIRST_WORD)
-    if machine is not None:
-        emu.Emulator(machine)
-
-
-@pytest.mark.xfail(strict=True, reason=(
-    "engine bug: a later-word register field holding 3 (no such register) reaches slot 3, which "
-    "is pc: the stepping path jumps, the fused path reads a stale pc, and the two paths disagree"))
-@pytest.mark.parametrize("fields", [(3, 0), (0, 3)])
-def test_a_register_field_naming_no_register_leaves_pc_alone_on_both_paths(fields):
-    machine = three_register_machine(COPY_IN_SECOND_WORD)
-    if machine is None:
-        return
-    rd, rs = fields
-    finals = []
-    for watched in (False, True):
-        emulator = emu.Emulator(machine)
-        if watched:
-            emulator.observe(emu.Observer())
-        emulator.load([(0, [0b10, rd << 2 | rs, 0])])
-        emulator.set("a", 0x40)
-        emulator.run(max_cycles=20)
-        finals.append((emulator.pc, emulator.get("a"), emulator.get("b"), emulator.get("c")))
-    assert finals[0] == finals[1]
-    assert finals[0][0] == 3  # pc just past the stop after the copy
+def test_two_instructions_with_the_same_form_are_refused():
+    twice = THREE_REGISTERS.replace('registers = ["a", "b", "c"]', 'registers = ["a", "b"]') + """
+[[instruction]]
+syntax = "stop"
+encoding = ["00000001"]
+steps = ["halt"]
+"""
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(twice, "twice.toml")
+    assert str(caught.value) == ("twice.toml: instruction 'stop': the same assembly form as "
+                                 "instruction 1: forms must differ")

@@ -324,7 +324,7 @@ UNDEFINED = [w for w, index in enumerate(ACC12.decode_table) if index < 0]
 def test_undefined_word_runs_as_a_no_op_with_a_warning(path, word):
     run = execute(stop_after([word]), path, acc=0x321, flags={"zf": 1, "lk": 1})
     check(run, [None, "stop"], {})
-    assert run.emu.warnings == ["undefined opcode at 0x0000 ran as a no-op"]
+    assert run.emu.warnings == ["undefined opcode at 0x00 ran as a no-op"]
 
 
 @pytest.mark.parametrize("path", PATHS)

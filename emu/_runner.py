@@ -24,6 +24,8 @@ __all__ = [
 ]
 
 DEFAULT_MAX_CYCLES = 50_000_000
+SOURCE_SUFFIXES = (".asm", ".inc")
+"""File names that always mean assembly source (``relaybench test`` runs the ``.asm`` ones)."""
 
 
 class ProgramError(Exception):
@@ -91,8 +93,11 @@ def _not_a_program(path: str, error: asm.AsmError) -> str | None:
     """One line instead of a flood when a text file is plainly no program at all.
 
     Text is taken as source; when not a single statement of it assembles
-    (every line with content has a problem), it is some other kind of file.
+    (every line with content has a problem), it is some other kind of file —
+    unless its name says it is assembly source, where the located errors help.
     """
+    if os.path.splitext(path)[1].lower() in SOURCE_SUFFIXES:
+        return None
     try:
         lines = open(path, encoding="utf-8").read().splitlines()
     except (OSError, UnicodeDecodeError):

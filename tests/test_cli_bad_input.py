@@ -203,3 +203,13 @@ def test_ctrl_c_during_a_long_run(tmp_path):
     assert out == ""
     assert "Traceback" not in err
     assert err.startswith("relaybench: run interrupted after ")
+
+
+def test_a_source_file_full_of_mistakes_gets_every_located_error(tmp_path, capsys):
+    """Even when no line assembles, a .asm file is source: each error with its place."""
+    program = write(tmp_path, "typos.asm", "loop: li r9, 3\n  jmp lop\n")
+    code, _out, err = cli(capsys, "run", program)
+    assert code == 1
+    assert f"{program}:1:10: error: r9 is not a register of ref8 (r0–r7)" in err
+    assert f"{program}:2:7: error: undefined label 'lop' (did you mean 'loop'?)" in err
+    assert "neither assembly source" not in err

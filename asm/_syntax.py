@@ -17,15 +17,15 @@ import lark
 from lark import v_args
 
 from ._errors import Diagnostic
+from emu._numbers import decode_escapes, literal_value
+
 from ._expr import Binary, Call, Expr, Group, Here, Invalid, Name, Number, Unary
 
 __all__ = [
     "Operand", "Text", "Comparison", "Label", "InstructionLine", "Directive",
-    "Assignment", "Line", "parse_source", "ESCAPES",
+    "Assignment", "Line", "parse_source",
 ]
 
-_BASES = {"0x": 16, "0b": 2}
-ESCAPES = {"n": "\n", "t": "\t", "r": "\r", "0": "\0", "\\": "\\", "'": "'", '"': '"'}
 
 
 @dataclass(slots=True)
@@ -112,24 +112,6 @@ class Line:
     body: InstructionLine | Directive | Assignment | None
 
 
-def decode_escapes(raw: str) -> tuple[str, str | None]:
-    """The text between the quotes → its value and the first problem, if any."""
-    out, i = [], 0
-    while i < len(raw):
-        ch = raw[i]
-        if ch == "\\":
-            code = raw[i + 1]
-            if code not in ESCAPES:
-                known = " ".join("\\" + k for k in ESCAPES)
-                return "", f"unknown escape '\\{code}' (known: {known})"
-            out.append(ESCAPES[code])
-            i += 2
-        else:
-            out.append(ch)
-            i += 1
-    return "".join(out), None
-
-
 @v_args(inline=True)
 class _Build(lark.Transformer):
     """One method per grammar rule; each builds one statement or expression node."""
@@ -172,9 +154,10 @@ class _Build(lark.Transformer):
         return Unary(str(op), operand, op.line, op.column)
 
     def number(self, token):
-        text = str(token).lower()
-        base = _BASES.get(text[:2], 10)
-        return Number(int(text[2:] if base != 10 else text, base), token.line, token.column)
+        try:
+            return Number(literal_value(str(token)), token.line, token.column)
+        except ValueError as exc:
+            return Invalid(str(exc), token.line, token.column)
 
     def char(self, token):
         value, problem = decode_escapes(str(token)[1:-1])

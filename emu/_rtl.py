@@ -21,6 +21,7 @@ from importlib import resources
 import lark
 
 from ._errors import MachineError
+from ._numbers import literal_value
 
 __all__ = [
     "Name", "Const", "Mem", "Join", "Offset", "Choose", "Input", "Call",
@@ -181,7 +182,7 @@ class _ToIR(lark.Transformer):
 
 
 def _number(token) -> int:
-    return int(str(token), 0)
+    return literal_value(str(token))
 
 
 @cache
@@ -203,7 +204,10 @@ def parse_step(text: str) -> tuple[Statement, ...]:
         raise MachineError(
             f"cannot read micro-step at column {column}\n    {text}\n    {caret}"
         ) from None
-    return _ToIR().transform(tree)
+    try:
+        return _ToIR().transform(tree)
+    except lark.exceptions.VisitError as exc:
+        raise MachineError(f"cannot read micro-step: {exc.orig_exc}\n    {text}") from None
 
 
 def walk(node):

@@ -206,3 +206,12 @@ def test_mutated_programs_raise_only_asm_error(machine, data):
 @pytest.mark.parametrize("machine", [REF8, ACC12], ids=["ref8", "acc12"])
 def test_the_fuzz_seed_programs_are_valid(machine):
     assert asm.assemble_text(VALID[machine.name], machine).flat()
+
+
+def test_a_number_with_absurdly_many_digits_is_a_located_error():
+    source = "li r0, 0x" + "f" * 5000 + "\nhalt\n"
+    with pytest.raises(asm.AsmError) as caught:
+        asm.assemble_text(source, emu.load_machine("ref8"), "big.asm")
+    (diagnostic,) = caught.value.diagnostics
+    assert (diagnostic.line, diagnostic.column) == (1, 8)
+    assert diagnostic.message.startswith("the number 0xffffffffff")

@@ -301,7 +301,7 @@ def test_a_snapshot_of_another_machine_is_refused(kiln, tmp_path):
 
 def test_toggles_are_read_by_the_program(tmp_path):
     session = session_for(tmp_path, "in r0, 0\nhalt\n")
-    assert session.execute("toggles 0b1010_0101") == "toggles 10100101 = a5 = 165"
+    assert session.execute("toggles 0b10100101") == "toggles 10100101 = a5 = 165"
     session.execute("go")
     assert session.emu.get("r0") == 0xA5
     assert session.execute("toggles") == "toggles 10100101 = a5 = 165"

@@ -399,3 +399,11 @@ def test_a_deleted_line_or_a_wrong_value_is_a_machine_error_or_a_working_machine
     emulator = emu.Emulator(machine)
     emulator.load([(0, [w & machine.data_mask for w in range(1, 120)])])
     emulator.run(max_cycles=300)
+
+
+def test_micro_step_numbers_read_as_in_the_assembler():
+    """Leading zeros are decimal, as spec §4 numbers are; an absurd literal is a located error."""
+    from emu._rtl import Name, Offset, parse_step
+    assert parse_step("pc <- pc + 09")[0].value == Offset(Name("pc"), 9)
+    with pytest.raises(emu.MachineError, match="has too many digits"):
+        parse_step("pc <- pc + " + "9" * 200)

@@ -71,10 +71,10 @@ def input_stream(args) -> bytes:
         except OSError as exc:
             usage_error(args, f"argument --input: cannot read '{args.input}' ({exc.strerror})")
     if args.input_text is not None:
-        try:
-            return decode_escapes(args.input_text).encode("utf-8")
-        except ValueError as exc:
-            usage_error(args, f"argument --input-text: {exc}")
+        text, problem = decode_escapes(args.input_text)
+        if problem is not None:
+            usage_error(args, f"argument --input-text: {problem}")
+        return text.encode("utf-8")
     return b""
 
 

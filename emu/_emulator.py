@@ -19,6 +19,7 @@ paths come from the same compiled description, so they agree (P6).
 from __future__ import annotations
 
 import base64
+import binascii
 import json
 import zlib
 from collections import Counter
@@ -469,21 +470,67 @@ class Emulator:
             raise MachineError(f"the snapshot is of machine '{state.get('machine')}', "
                                f"not '{self.machine.name}'", path=origin)
         try:
-            for name, value in state["slots"].items():
-                self._s[self._slots[name][0]] = value
-            raw = zlib.decompress(base64.b64decode(state["memory"]))
-            if self.machine.data_bits <= 8:
-                self.memory[:] = raw
-            else:
-                self.memory[:] = [int.from_bytes(raw[i:i + 2], "little") for i in range(0, len(raw), 2)]
-            self.ring.restore(state["ring"])
-            self.frozen, self._released = state["frozen"], state["released"]
-            self.switch_run, self.halt_latch = state["switch_run"], state["halt_latch"]
-            self.halt_address = state["halt_address"]
-            self._seq = tuple(state["sequencer"])
-            self._instruction_address = state["instruction_address"]
-            self.cycles, self.instructions = state["cycles"], state["instructions"]
-            self.ports.restore(state["ports"])
-            self._undefined = Counter({a: n for a, n in state["undefined"]})
-        except (KeyError, TypeError, ValueError, zlib.error) as exc:
+            checked = self._checked_state(state)
+        except (KeyError, TypeError, ValueError, IndexError, zlib.error, binascii.Error) as exc:
             raise MachineError(f"damaged snapshot ({exc})", path=origin) from None
+        slots, memory = checked
+        for name, value in slots.items():
+            self._s[self._slots[name][0]] = value
+        self.memory[:] = memory
+        self.ring.restore(state["ring"])
+        self.frozen, self._released = state["frozen"], state["released"]
+        self.switch_run, self.halt_latch = state["switch_run"], state["halt_latch"]
+        self.halt_address = state["halt_address"]
+        self._seq = tuple(state["sequencer"])
+        self._instruction_address = state["instruction_address"]
+        self.cycles, self.instructions = state["cycles"], state["instructions"]
+        self.ports.restore(state["ports"])
+        self._undefined = Counter({a: n for a, n in state["undefined"]})
+
+    def _checked_state(self, state: dict):
+        """Every value of a snapshot checked before any is used, so a bad file changes nothing."""
+        machine = self.machine
+        slots = state["slots"]
+        if set(slots) != set(self._slots):
+            raise ValueError("the registers and flags do not match the machine")
+        for name, value in slots.items():
+            _require_int(value, name, 0, (1 << self._slots[name][1]) - 1)
+        raw = zlib.decompress(base64.b64decode(state["memory"], validate=True))
+        if machine.data_bits <= 8:
+            memory = raw
+        else:
+            memory = [int.from_bytes(raw[i:i + 2], "little") & machine.data_mask for i in range(0, len(raw), 2)]
+        if len(memory) != machine.memory_words:
+            raise ValueError(f"memory holds {len(memory)} words, not {machine.memory_words}")
+        ring = state["ring"]
+        _require_int(ring["index"], "ring index", 0, len(machine.phases) - 1)
+        _require_int(ring["time_ns"], "time", 0)
+        if len(ring["turn"]) != len(machine.phases):
+            raise ValueError("the ring's phase durations do not match the phase table")
+        for duration in ring["turn"]:
+            _require_int(duration, "phase duration", 1)
+        for key in ("frozen", "released", "switch_run", "halt_latch"):
+            if not isinstance(state[key], bool):
+                raise ValueError(f"'{key}' is not true or false")
+        index, step = state["sequencer"]
+        _require_int(index, "sequencer", -1, len(machine.instructions) - 1)
+        steps = machine.fetch if index < 0 else machine.instructions[index].steps
+        _require_int(step, "sequencer step", 0, len(steps) - 1)
+        top = machine.memory_words - 1
+        if state["halt_address"] is not None:
+            _require_int(state["halt_address"], "halt address", 0, top)
+        _require_int(state["instruction_address"], "instruction address", 0, top)
+        _require_int(state["cycles"], "cycles", 0)
+        _require_int(state["instructions"], "instructions", 0)
+        for address, count in state["undefined"]:
+            _require_int(address, "undefined opcode address", 0, top)
+            _require_int(count, "undefined opcode count", 1)
+        Ports(machine).restore(state["ports"])
+        return slots, memory
+
+
+def _require_int(value, what: str, low: int, high: int | None = None) -> None:
+    if not isinstance(value, int) or isinstance(value, bool):
+        raise ValueError(f"{what} is not an integer")
+    if value < low or high is not None and value > high:
+        raise ValueError(f"{what} {value} is out of range")

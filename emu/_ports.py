@@ -66,6 +66,12 @@ class Ports:
         }
 
     def restore(self, state: dict) -> None:
+        """Raises ValueError or TypeError, before changing anything, on a damaged state."""
+        for key in ("lamps", "switches", "input_position"):
+            if not isinstance(state[key], int) or state[key] < 0:
+                raise ValueError(f"'{key}' is not a count or word")
+        if state["input_position"] > len(state["input"]) // 2:
+            raise ValueError("the input position is past the input stream")
         self.output = bytearray.fromhex(state["output"])
         self.lamps = state["lamps"]
         self.switches = state["switches"]

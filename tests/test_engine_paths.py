@@ -201,3 +201,35 @@ def test_a_released_generator_obeys_the_next_hold_point_after_a_fast_run():
     assert emu.run(max_cycles=100, until=lambda e: e.get("r0") == 3).kind == "condition"
     emu.set_switch_run(False)
     assert emu.advance_phase() is False and emu.frozen
+
+
+@pytest.mark.parametrize("damage", [
+    lambda s: s["slots"].update(r0=300),
+    lambda s: s["slots"].update(r0="7"),
+    lambda s: s["slots"].pop("r1"),
+    lambda s: s.update(memory="AAAA"),
+    lambda s: s.update(memory="!!"),
+    lambda s: s.update(sequencer=[999, 0]),
+    lambda s: s.update(sequencer=[-1, 5]),
+    lambda s: s["ring"].update(index=17),
+    lambda s: s["ring"].update(turn=[1, 2]),
+    lambda s: s.update(frozen="yes"),
+    lambda s: s.update(cycles=-1),
+    lambda s: s["ports"].update(input_position=99),
+    lambda s: s.pop("ring"),
+], ids=["wide register", "text register", "missing register", "short memory", "bad base64",
+        "sequencer past the table", "fetch step past the fetch", "ring index", "ring turn",
+        "frozen not bool", "negative cycles", "input position", "no ring"])
+def test_a_damaged_snapshot_is_refused_and_changes_nothing(damage, tmp_path):
+    import json
+    machine = MACHINES["ref8"]
+    emu = boot(machine, encode(machine, "inc rd", rd=0) * 3 + encode(machine, "halt"))
+    emu.run(max_cycles=100)
+    state = emu.snapshot_state()
+    damage(state)
+    path = tmp_path / "damaged.json"
+    path.write_text(json.dumps(state))
+    before = _full_state(emu)
+    with pytest.raises(MachineError, match="damaged snapshot"):
+        emu.restore_state(json.loads(path.read_text()), str(path))
+    assert _full_state(emu) == before

@@ -60,7 +60,9 @@ def test_timing_options_refuse_bad_values(tmp_path, capsys):
     code, _out, err = cli(capsys, "run", FARES, "--clock-spread", "-3")
     assert code == 2 and "must be a seed of 0 or more, not -3" in err
     code, _out, err = cli(capsys, "run", FARES, "--vcd", tmp_path / "missing" / "w.vcd")
-    assert code == 2 and "argument --vcd: no folder" in err
+    assert code == 2 and "argument --vcd: cannot write" in err and "No such file or directory" in err
+    code, _out, err = cli(capsys, "run", FARES, "--vcd", "/proc/w.vcd")
+    assert code == 2 and "argument --vcd: cannot write '/proc/w.vcd'" in err
 
 
 def test_debugger_records_waves_and_beats_irregularly(tmp_path):

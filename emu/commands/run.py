@@ -9,7 +9,6 @@ and the result into the summary or the JSON object and the exit status:
 from __future__ import annotations
 
 import json
-import os
 import sys
 from contextlib import ExitStack
 
@@ -91,12 +90,13 @@ def main(args) -> int:
         return print_program_error(exc)
     if args.clock_spread is not None:
         emulator.clock_source = spread_source(machine, args.clock_spread)
-    if args.vcd is not None and not os.path.isdir(os.path.dirname(os.path.abspath(args.vcd))):
-        usage_error(args, f"argument --vcd: no folder for '{args.vcd}'")
     try:
         with ExitStack() as observers, Progress(enabled=terminal_attached() and not args.json) as progress:
             if args.vcd is not None:
-                observers.enter_context(record_vcd(emulator, args.vcd))
+                try:
+                    observers.enter_context(record_vcd(emulator, args.vcd))
+                except OSError as exc:
+                    usage_error(args, f"argument --vcd: cannot write '{args.vcd}' ({exc.strerror or exc})")
             wear = observers.enter_context(count_wear(emulator)) if args.wear else None
             bar = progress.line(args.program, args.max_cycles)
             result = run_loaded(program, machine, max_cycles=args.max_cycles,

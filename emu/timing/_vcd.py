@@ -10,16 +10,14 @@ when the recording ends, so a failure never leaves half of one.
 
 from __future__ import annotations
 
-import os
 import re
-import tempfile
 from contextlib import contextmanager
-from pathlib import Path
 
 from vcd import VCDWriter
 
 from .. import Emulator, Observer
 from .._description import Machine
+from .._files import atomic_output
 
 __all__ = ["VcdRecorder", "record_vcd", "control_lines", "signal_name"]
 
@@ -131,32 +129,11 @@ def record_vcd(emu: Emulator, path):
     The file appears at ``path`` when the block ends, also when it ends by
     an exception such as Ctrl-C: the waveform up to there is sound.
     """
-    path = Path(path)
-    handle, temp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    stream = os.fdopen(handle, "w", encoding="utf-8")
-    try:
+    with atomic_output(path, text=True, keep_on_error=True) as stream:
         recorder = VcdRecorder(emu, stream)
-    except BaseException:
-        _discard(stream, temp)
-        raise
-    emu.observe(recorder)
-    try:
-        yield recorder
-    finally:
-        emu.unobserve(recorder)
+        emu.observe(recorder)
         try:
+            yield recorder
+        finally:
+            emu.unobserve(recorder)
             recorder.close(emu)
-            stream.close()
-            os.chmod(temp, 0o644)
-            os.replace(temp, path)
-        except BaseException:
-            _discard(stream, temp)
-            raise
-
-
-def _discard(stream, temp: str) -> None:
-    stream.close()
-    try:
-        os.unlink(temp)
-    except FileNotFoundError:
-        pass

@@ -156,8 +156,13 @@ def write_debug(program, path) -> None:
     write_atomic(path, text.encode("utf-8"))
 
 
-def read_debug(path) -> DebugInfo:
-    """Read a debug file; a broken one raises AsmError naming the key and what was expected."""
+def read_debug(path, machine=None) -> DebugInfo:
+    """Read a debug file; a broken one raises AsmError naming the key and what was expected.
+
+    Given the machine the image is for, every address, length and checked
+    item is also checked against it, so a stale or hand-edited file cannot
+    reach the runner with values it cannot use.
+    """
     path = str(path)
     try:
         text = Path(path).read_text(encoding="utf-8")
@@ -168,15 +173,27 @@ def read_debug(path) -> DebugInfo:
     except json.JSONDecodeError as exc:
         line_text = text.splitlines()[exc.lineno - 1] if text.splitlines() else ""
         raise AsmError([Diagnostic(path, exc.lineno, exc.colno, f"not valid JSON: {exc.msg}", line_text)]) from None
-    return _Reader(path).info(data)
+    return _Reader(path, machine).info(data)
 
 
 class _Reader:
     """Checks a decoded debug file key by key."""
 
-    def __init__(self, path: str):
+    def __init__(self, path: str, machine=None):
         self.path = path
         self.folder = os.path.dirname(path)
+        self.machine = machine
+        self.words = machine.memory_words if machine is not None else 1 << 24
+        self.items = None
+        if machine is not None:
+            names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
+            self.items = {*names, "mem", "lamps", "out"}
+
+    def address(self, entry, key: str, where: str) -> int:
+        value = self.get(entry, key, int, "an address", where)
+        if not 0 <= value < self.words:
+            self.fail(f"{where}: key '{key}' must be an address 0…{self.words - 1}, not {value}")
+        return value
 
     def fail(self, message: str):
         raise file_error(self.path, message)
@@ -202,11 +219,14 @@ class _Reader:
         constants = self.names(data, "constants")
         lines = [self.line(entry, i, files) for i, entry in enumerate(self.get(data, "lines", list, "a list", top))]
         pauses = self.get(data, "pauses", list, "a list of addresses", top)
-        if not all(isinstance(a, int) and not isinstance(a, bool) for a in pauses):
-            self.fail("top level: key 'pauses' must be a list of addresses")
+        if not all(isinstance(a, int) and not isinstance(a, bool) and 0 <= a < self.words for a in pauses):
+            self.fail(f"top level: key 'pauses' must be a list of addresses 0…{self.words - 1}")
         expects = [self.expect(entry, i, files)
                    for i, entry in enumerate(self.get(data, "expects", list, "a list", top))]
-        return DebugInfo(self.get(data, "machine", str, "a machine name", top),
+        name = self.get(data, "machine", str, "a machine name", top)
+        if self.machine is not None and name != self.machine.name:
+            self.fail(f"the debug file is for machine '{name}', not '{self.machine.name}'")
+        return DebugInfo(name,
                          self.get(data, "word_bits", int, "an integer", top),
                          files, labels, constants, lines, pauses, expects)
 
@@ -230,8 +250,11 @@ class _Reader:
         cycles = entry.get("cycles")
         if cycles is not None and (not isinstance(cycles, int) or isinstance(cycles, bool)):
             self.fail(f"{where}: key 'cycles' must be an integer or null")
-        return LineEntry(self.get(entry, "address", int, "an address", where),
-                         self.get(entry, "length", int, "a word count", where),
+        address = self.address(entry, "address", where)
+        length = self.get(entry, "length", int, "a word count", where)
+        if not 0 <= length <= self.words - address:
+            self.fail(f"{where}: key 'length' must be a word count 0…{self.words - address}, not {length}")
+        return LineEntry(address, length,
                          self.file(entry, where, files), self.get(entry, "line", int, "a line number", where),
                          kind, cycles)
 
@@ -243,10 +266,13 @@ class _Reader:
         op = self.get(entry, "op", str, '"==" or "!="', where)
         if op not in ("==", "!="):
             self.fail(f"{where}: key 'op' must be \"==\" or \"!=\"")
-        memory = entry.get("memory_address")
-        if memory is not None and (not isinstance(memory, int) or isinstance(memory, bool)):
-            self.fail(f"{where}: key 'memory_address' must be an address or null")
-        return Expect(self.get(entry, "address", int, "an address", where), self.file(entry, where, files),
+        item = self.get(entry, "item", str, "an item name", where)
+        if self.items is not None and item not in self.items:
+            self.fail(f"{where}: key 'item' must be one of {', '.join(sorted(self.items))}, not {item!r}")
+        memory = self.address(entry, "memory_address", where) if item == "mem" else None
+        if (item == "out") != isinstance(value, str):
+            self.fail(f"{where}: key 'value' must be a string for out and an integer otherwise")
+        return Expect(self.address(entry, "address", where), self.file(entry, where, files),
                       self.get(entry, "line", int, "a line number", where),
-                      self.get(entry, "item", str, "an item name", where), op, value, memory,
+                      item, op, value, memory,
                       entry.get("text", "") if isinstance(entry.get("text", ""), str) else "")

@@ -49,6 +49,11 @@ class LoadedProgram:
     symbols: dict[str, int] = field(default_factory=dict)
     debug_path: str | None = None
     """The debug file that was read for an image, if one was found."""
+    labels: dict[str, int] = field(default_factory=dict)
+    lines: tuple = ()
+    """``asm.LineEntry`` per statement: what the debugger's code view shows."""
+    sources: dict[str, str] = field(default_factory=dict)
+    """Source text by file name (assembled programs only)."""
 
     @property
     def word_count(self) -> int:
@@ -113,7 +118,9 @@ def _not_a_program(path: str, error: asm.AsmError) -> str | None:
 def _from_source(path: str, machine: Machine) -> LoadedProgram:
     program = asm.assemble_file(path, machine)
     return LoadedProgram(path, "source", program.segments, frozenset(program.pauses),
-                         tuple(program.expects), dict(program.source_map), dict(program.symbols))
+                         tuple(program.expects), dict(program.source_map), dict(program.symbols),
+                         labels=dict(program.labels), lines=tuple(program.lines),
+                         sources=dict(program.sources))
 
 
 def _from_image(path: str, kind: str, machine: Machine) -> LoadedProgram:
@@ -121,12 +128,10 @@ def _from_image(path: str, kind: str, machine: Machine) -> LoadedProgram:
     debug_path = asm.debug_path_for(path)
     if not debug_path.exists():
         return LoadedProgram(path, kind, segments)
-    info = asm.read_debug(debug_path)
-    if info.machine != machine.name:
-        raise ProgramError(f"{debug_path}: error: the debug file is for machine '{info.machine}', "
-                           f"not '{machine.name}'")
+    info = asm.read_debug(debug_path, machine)
     return LoadedProgram(path, kind, segments, frozenset(info.pauses), tuple(info.expects),
-                         dict(info.source_map), dict(info.symbols), str(debug_path))
+                         dict(info.source_map), dict(info.symbols), str(debug_path),
+                         labels=dict(info.labels), lines=tuple(info.lines))
 
 
 def start_emulator(program: LoadedProgram, machine: Machine, *, switches: int = 0,

@@ -213,3 +213,27 @@ def test_a_source_file_full_of_mistakes_gets_every_located_error(tmp_path, capsy
     assert f"{program}:1:10: error: r9 is not a register of ref8 (r0–r7)" in err
     assert f"{program}:2:7: error: undefined label 'lop' (did you mean 'loop'?)" in err
     assert "neither assembly source" not in err
+
+
+@pytest.mark.parametrize("damage, message", [
+    (lambda d: d["lines"][0].update(length=10**9), "lines[0]: key 'length' must be a word count 0…65536"),
+    (lambda d: d["expects"][0].update(item="mem", memory_address=None),
+     "expects[0]: key 'memory_address' must be an address"),
+    (lambda d: d["expects"][0].update(item="r9"), "expects[0]: key 'item' must be one of"),
+    (lambda d: d["expects"][0].update(address=70000), "expects[0]: key 'address' must be an address 0…65535"),
+    (lambda d: d.update(pauses=[-1]), "top level: key 'pauses' must be a list of addresses 0…65535"),
+], ids=["huge length", "memory check without address", "unknown item", "address past memory",
+        "negative pause"])
+def test_a_stale_debug_file_is_refused_with_the_key_named(tmp_path, capsys, damage, message):
+    import json
+    source = write(tmp_path, "p.asm", "li r0, 1\npause\n.expect r0 == 1\nhalt\n")
+    code, _out, _err = cli(capsys, "asm", source)
+    assert code == 0
+    debug = tmp_path / "p.dbg.json"
+    data = json.loads(debug.read_text())
+    damage(data)
+    debug.write_text(json.dumps(data))
+    for command in ("run", "test"):
+        code, out, err = cli(capsys, command, tmp_path / "p.hex")
+        assert code == 1, (command, out, err)
+        assert message in err + out

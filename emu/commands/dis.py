@@ -38,9 +38,9 @@ def disassembly(args, machine) -> str:
     segments = asm.read_image(image, machine)
     debug = None
     if args.debug:
-        debug = asm.read_debug(args.debug)
+        debug = asm.read_debug(args.debug, machine)
     elif not args.no_debug and asm.debug_path_for(image).exists():
-        debug = asm.read_debug(asm.debug_path_for(image))
+        debug = asm.read_debug(asm.debug_path_for(image), machine)
     lines = [f"; {image} ({'Intel HEX' if kind == 'hex' else 'raw binary'}) for {machine.name}"]
     for start, words in segments:
         lines.extend(asm.disassemble(machine, words, start, debug))

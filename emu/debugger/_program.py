@@ -14,7 +14,6 @@ import bisect
 import os
 from dataclasses import dataclass, field
 
-import asm
 from emu._runner import LoadedProgram, load_program
 
 __all__ = ["ProgramView", "load_view", "empty_view"]
@@ -105,15 +104,8 @@ def _same_tail(path: str, tail: str) -> bool:
 def load_view(path, machine) -> ProgramView:
     """Load a program as ``relaybench run`` would; raises the runner's ProgramError."""
     loaded = load_program(path, machine)
-    labels, lines, sources = {}, [], {}
-    if loaded.kind == "source":
-        program = asm.assemble_file(loaded.path, machine)
-        labels, lines, sources = dict(program.labels), list(program.lines), dict(program.sources)
-    elif loaded.debug_path:
-        info = asm.read_debug(loaded.debug_path)
-        labels, lines = dict(info.labels), list(info.lines)
-    return ProgramView(loaded.path, loaded, labels, dict(loaded.symbols), lines,
-                       frozenset(loaded.pauses), dict(loaded.source_map), sources)
+    return ProgramView(loaded.path, loaded, dict(loaded.labels), dict(loaded.symbols), list(loaded.lines),
+                       frozenset(loaded.pauses), dict(loaded.source_map), dict(loaded.sources))
 
 
 def empty_view() -> ProgramView:

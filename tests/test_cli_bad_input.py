@@ -192,11 +192,22 @@ def test_real_process_exit_statuses(tmp_path):
 
 
 def test_ctrl_c_during_a_long_run(tmp_path):
-    """SIGINT mid-run: a clean message and status 130, no traceback."""
+    """SIGINT mid-run: a clean message and status 130, no traceback.
+
+    The program never halts, so the signal cannot come too late; the input
+    stream is a FIFO, so the test knows the command has started before it
+    signals (the half second after that only covers loading a 1-line program).
+    """
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
-    process = subprocess.Popen([sys.executable, "-m", "emu.cli", "run", PROGRAMS / "ledger.asm"],
+    forever = write(tmp_path, "forever.asm", "top: inc r0\njmp top\n")
+    fifo = tmp_path / "input"
+    os.mkfifo(fifo)
+    process = subprocess.Popen([sys.executable, "-m", "emu.cli", "run", forever, "--input", fifo,
+                                "--max-cycles", "10000000000"],
                                stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
-    time.sleep(1.0)
+    with open(fifo, "w") as stream:
+        stream.write("go")
+    time.sleep(0.5)
     process.send_signal(signal.SIGINT)
     out, err = process.communicate(timeout=60)
     assert process.returncode == 130

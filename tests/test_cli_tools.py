@@ -145,7 +145,8 @@ def test_isa_json(capsys, name):
     for entry, spec in zip(data["instructions"], raw["instruction"]):
         assert entry["cycles"] == fetch_steps + len(spec.get("steps", []))
         assert [s["text"] for s in entry["steps"]] == [s.strip() for s in spec.get("steps", [])]
-    assert data["nominal_hz"] == machine.nominal_hz
+    assert data["nominal_hz"] == {"ref8": 5.0, "acc12": 10.0}[name]   # ref8: spec §3; acc12: its table
+    assert machine.name == name
 
 
 def test_isa_text_rows(capsys):
@@ -165,10 +166,18 @@ def test_isa_brief_and_unknown(capsys):
 
 
 def test_isa_python_source(capsys):
+    """The printed source is valid Python with one fused function per non-halting form."""
     code, out, _ = cli(capsys, "isa", "--python")
     assert code == 0
-    assert out == emu._codegen.compile_machine(emu.load_machine("ref8")).source
     compile(out, "generated", "exec")
+    raw = tomllib.loads(MACHINE_FILES["ref8"].read_text())
+    for spec in raw["instruction"]:
+        if "halt" in spec["steps"]:
+            continue
+        display = " ".join(spec["syntax"].replace(":reg", "").replace(":imm8", "").replace(":addr", "")
+                           .replace(":port", "").split())
+        cycles = len(raw["fetch"]["steps"]) + len(spec["steps"])
+        assert f'"""{display} — {cycles} cycle' in out, display
 
 
 def test_shipped_programs_assemble(capsys, tmp_path):

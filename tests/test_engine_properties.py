@@ -264,16 +264,25 @@ class PanelMachine(RuleBasedStateMachine):
         assert emu.pc != emu.halt_address, "pc already points past the halt"
 
 
-def _case(machine_name: str, observed: bool):
-    cls = type(f"Panel_{machine_name}_{'observed' if observed else 'fast'}", (PanelMachine,),
-               {"machine_name": machine_name, "observed": observed})
-    return cls.TestCase
+class Ref8Stepping(PanelMachine):
+    machine_name, observed = "ref8", True
 
 
-@pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
-@pytest.mark.parametrize("observed", [True, False], ids=["stepping", "fast"])
-def test_panel_actions_keep_the_program_semantics(machine_name, observed):
-    case = _case(machine_name, observed)
+class Ref8Fast(PanelMachine):
+    machine_name, observed = "ref8", False
+
+
+class Acc12Stepping(PanelMachine):
+    machine_name, observed = "acc12", True
+
+
+class Acc12Fast(PanelMachine):
+    machine_name, observed = "acc12", False
+
+
+@pytest.mark.parametrize("panel_machine", [Ref8Stepping, Ref8Fast, Acc12Stepping, Acc12Fast],
+                         ids=["ref8-stepping", "ref8-fast", "acc12-stepping", "acc12-fast"])
+def test_panel_actions_keep_the_program_semantics(panel_machine):
+    case = panel_machine.TestCase
     case.settings = SETTINGS
-    runner = case("runTest")
-    runner.runTest()
+    case("runTest").runTest()

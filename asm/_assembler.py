@@ -19,6 +19,7 @@ from ._debuginfo import Expect, LineEntry
 from ._errors import AsmError, Diagnostic, file_error
 from ._expr import EvalError, Expr, Name
 from ._forms import PAUSE, Chosen, FormError, MachineSyntax
+from ._image import segments_of
 from ._program import Program
 from ._syntax import Assignment, Comparison, Directive, InstructionLine, Line, Operand, Text, parse_source
 
@@ -153,7 +154,7 @@ class _Assembly:
             self.diagnostics.sort(key=lambda d: (order.get(d.file, -1), d.line or 0, d.column or 0))
             raise AsmError(self.diagnostics)
         return Program(
-            machine=self.machine, segments=_segments(image), labels=dict(self.labels),
+            machine=self.machine, segments=segments_of(image), labels=dict(self.labels),
             constants={name: c.value for name, c in self.constants.items()},
             lines=self.entries, pauses=self.pauses, expects=expects, sources=self.sources,
             listing_rows=self.listing_rows,
@@ -260,7 +261,7 @@ class _Assembly:
         ins = chosen.instruction
         if ins.drives_halt:
             self.last_halt = self.address
-        cycles = len(self.machine.fetch) + len(ins.steps)
+        cycles = ins.cycles(self.machine)
         return self.emit(_Item(self.address, ins.word_count, place, chosen=chosen), "code", cycles)
 
     def emit(self, item: _Item, kind: str, cycles: int | None = None) -> LineEntry | None:
@@ -603,14 +604,3 @@ class _Assembly:
             return self.word_range
         width = self.machine.register_width(item)
         return -(1 << (width - 1)), (1 << width) - 1
-
-
-def _segments(image: dict[int, int]) -> list[tuple[int, list[int]]]:
-    segments = []
-    previous = None
-    for address in sorted(image):
-        if previous is None or address != previous + 1:
-            segments.append((address, []))
-        segments[-1][1].append(image[address])
-        previous = address
-    return segments

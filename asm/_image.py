@@ -194,7 +194,7 @@ def read_image(path, machine: Machine) -> list[tuple[int, list[int]]]:
         _check_width(words, start, machine, path, where)
         for i, word in enumerate(words):
             image[start + i] = word
-    return _runs(image)
+    return segments_of(image)
 
 
 def _fail(path, where, message):
@@ -212,7 +212,7 @@ def _check_width(words, start, machine: Machine, path, where):
             _fail(path, where, message)
 
 
-def _runs(image: dict[int, int]) -> list[tuple[int, list[int]]]:
+def segments_of(image: dict[int, int]) -> list[tuple[int, list[int]]]:
     segments, previous = [], None
     for address in sorted(image):
         if previous is None or address != previous + 1:

@@ -538,7 +538,7 @@ class _MachineCompiler:
             key = (index, tuple(sorted(fixed.items())))
             if key not in made:
                 made[key] = self.fused_function(ins, fixed)
-                max_cycles = max(max_cycles, len(machine.fetch) + len(ins.steps))
+                max_cycles = max(max_cycles, ins.cycles(machine))
             by_word[word] = made[key]
         return by_word, max_cycles
 
@@ -546,7 +546,7 @@ class _MachineCompiler:
         machine, out = self.machine, self.out
         suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
         name = self.unique(f"run_{_ident(ins)}{suffix}", ins)
-        cycles = len(machine.fetch) + len(ins.steps)
+        cycles = ins.cycles(machine)
         out.line()
         out.line(f"def {name}():")
         with out.indent():

@@ -147,13 +147,20 @@ class Instruction:
         ops = ", ".join(op.text() for op in self.operands)
         return f"{self.mnemonic} {ops}".strip()
 
-    @property
-    def opcode_mask(self) -> int:
-        return self.fixed[0][0]
+    def cycles(self, machine: "Machine") -> int:
+        """Clock cycles of the whole instruction: the fetch steps and its own."""
+        return len(machine.fetch) + len(self.steps)
 
-    @property
-    def opcode_value(self) -> int:
-        return self.fixed[0][1]
+    def first_words(self, data_bits: int):
+        """Every first-word value this instruction's fixed bits admit."""
+        mask, value = self.fixed[0]
+        free = [b for b in range(data_bits) if not mask >> b & 1]
+        for combo in range(1 << len(free)):
+            word = value
+            for i, bit in enumerate(free):
+                if combo >> i & 1:
+                    word |= 1 << bit
+            yield word
 
     @property
     def drives_halt(self) -> bool:
@@ -233,13 +240,7 @@ class Machine:
         """First word value → instruction index, or -1 for an undefined opcode."""
         table = [-1] * (1 << self.data_bits)
         for ins in self.instructions:
-            mask, value = ins.fixed[0]
-            free = [b for b in range(self.data_bits) if not mask >> b & 1]
-            for combo in range(1 << len(free)):
-                word = value
-                for i, bit in enumerate(free):
-                    if combo >> i & 1:
-                        word |= 1 << bit
+            for word in ins.first_words(self.data_bits):
                 table[word] = ins.index
         return tuple(table)
 
@@ -694,13 +695,7 @@ class _Loader:
     def check_overlaps(self, machine: Machine):
         owner = [-1] * (1 << self.data_bits)
         for ins in machine.instructions:
-            mask, value = ins.fixed[0]
-            free = [b for b in range(self.data_bits) if not mask >> b & 1]
-            for combo in range(1 << len(free)):
-                word = value
-                for i, bit in enumerate(free):
-                    if combo >> i & 1:
-                        word |= 1 << bit
+            for word in ins.first_words(self.data_bits):
                 if owner[word] >= 0:
                     other = machine.instructions[owner[word]]
                     width = (self.data_bits + 3) // 4

@@ -16,7 +16,7 @@ import time
 
 import pytest
 
-from cli_support import ACC12, PROGRAMS, ROOT, cli, cli_process, write
+from cli_support import ACC12, ROOT, cli, cli_process, write
 
 GOOD = "li r0, 1\nhalt\n"
 

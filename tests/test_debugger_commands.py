@@ -16,7 +16,7 @@ import pytest
 from emu import Emulator
 from emu.debugger import COMMANDS, call_shape
 
-from debugger_programs import ACC12, GAUGE, KILN, REF8, SOAK, session_for
+from debugger_programs import ACC12, GAUGE, REF8, SOAK, session_for
 
 
 @pytest.fixture(autouse=True)

@@ -56,10 +56,6 @@ def encoding_words(ins: Instruction, machine: Machine) -> list[str]:
     return words
 
 
-def cycles_of(ins: Instruction, machine: Machine) -> int:
-    return len(machine.fetch) + len(ins.steps)
-
-
 def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     def steps(seq):
         return [{"text": s.text, "control_lines": list(s.control_lines)} for s in seq]
@@ -69,7 +65,7 @@ def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
         "nominal_hz": machine.nominal_hz, "pause": machine.pause, "fetch": steps(machine.fetch),
         "instructions": [{
             "syntax": ins.display, "mnemonic": ins.mnemonic, "encoding": encoding_words(ins, machine),
-            "words": ins.word_count, "cycles": cycles_of(ins, machine),
+            "words": ins.word_count, "cycles": ins.cycles(machine),
             "flags": list(ins.flags_written(machine)), "drives_halt": ins.drives_halt,
             "steps": steps(ins.steps),
         } for ins in instructions],
@@ -95,7 +91,7 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
     for ins in instructions:
         flags = " ".join(ins.flags_written(machine)) or "-"
         lines.append(f"{ins.display:<{syntax_width}}  {encodings[ins.index]:<{encoding_width}}  "
-                     f"{cycles_of(ins, machine):>6}  {flags}")
+                     f"{ins.cycles(machine):>6}  {flags}")
         if not brief:
             lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(ins.steps, fetch + 1)]
     return "\n".join(lines) + "\n"

@@ -110,7 +110,7 @@ def panel_text(emu, state: str) -> str:
     if emu.frozen:
         clock += ", frozen at a hold point"
     instruction, index = emu.sequencer
-    total = len(m.fetch) + (len(instruction.steps) if instruction else 0)
+    total = instruction.cycles(m) if instruction else len(m.fetch)
     doing = "fetch" if instruction is None else instruction.display
     step = emu.current_step
     lines = ", ".join(step.control_lines) or "none"

@@ -293,7 +293,7 @@ class Session:
         if e.at_instruction_boundary:
             return f"next: {text}   at {at}"
         instruction, index = e.sequencer
-        total = len(self.machine.fetch) + (len(instruction.steps) if instruction else 0)
+        total = instruction.cycles(self.machine) if instruction else len(self.machine.fetch)
         return f"inside: {text}   at {at}, micro-step {index + 1} of {total} next"
 
     def _instruction(self, address: int) -> tuple[str, int]:
@@ -461,7 +461,7 @@ class Session:
         self.emu.press_reset()
         return self._released(was_frozen, "reset: pc 0")
 
-    @command("toggles [VALUE]", "Show or set the panel's toggle switches (read on port 0).")
+    @command("toggles [VALUE]", "Show or set the panel's toggle switches (an input port of the machine).")
     def do_toggles(self, args):
         m = self.machine
         if args:

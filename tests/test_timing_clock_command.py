@@ -88,8 +88,8 @@ def test_csv_to_standard_output_alone(capsys):
 
 @pytest.mark.parametrize("argv, message", [
     (["--samples", "0"], "argument --samples: must be 1…5,000,000, not 0"),
-    (["--samples", "many"], "argument --samples: must be a whole number, not 'many'"),
-    (["--seed", "-4"], "argument --seed: must not be negative, not -4"),
+    (["--samples", "many"], "argument --samples: 'many' is not a number (write it as 42, 0x2A, 0b101010 or 'A')"),
+    (["--seed", "-4"], "argument --seed: must be a seed of 0 or more, not -4"),
     (["--json", "--csv", "-"], "--json and --csv - both want standard output; give --csv a file name"),
     (["--colour"], "unrecognized arguments: --colour"),
 ])

@@ -16,7 +16,7 @@ from .._numbers import NUMBER_FORMS, parse_number
 from .._runner import ProgramError
 
 __all__ = [
-    "add_machine_option", "keep_parser", "usage_error", "number", "cycle_count",
+    "add_machine_option", "keep_parser", "usage_error", "number", "seed", "cycle_count",
     "memory_range", "check_word", "check_range", "machine_from", "print_program_error",
 ]
 
@@ -41,6 +41,14 @@ def number(text: str) -> int:
         return parse_number(text)
     except ValueError as exc:
         raise argparse.ArgumentTypeError(str(exc)) from None
+
+
+def seed(text: str) -> int:
+    """A seed for random parts: any number of 0 or more, in assembler notation."""
+    value = number(text)
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"must be a seed of 0 or more, not {value}")
+    return value
 
 
 def cycle_count(text: str) -> int:

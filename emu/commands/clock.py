@@ -13,57 +13,46 @@ import argparse
 import io
 import json
 import sys
-import time
 
 import numpy as np
 
-from .. import MachineError, load_machine
+from .. import MachineError
 from .._files import write_atomic
+from .._progress import Progress, terminal_attached
 from ..timing import has_timing, monte_carlo, timing_model
 from ..timing._montecarlo import METRICS, PERCENTILES
+from ._options import add_machine_option, keep_parser, machine_from, number, seed, usage_error
 
 SUMMARY = "clock timing: nominal rate, and the spread that tolerances of the parts give"
 MAX_SAMPLES = 5_000_000
 HISTOGRAM_BINS = 16
 HISTOGRAM_WIDTH = 40
-PROGRESS_AFTER_S = 1.0
 DIGITS = {"rate_hz": ".3f", "duty": ".1f", "shortest_high_s": ".1f", "shortest_low_s": ".1f",
           "irregularity": ".2f"}
 
 
 def _samples(text: str) -> int:
-    value = _whole(text)
+    value = number(text)
     if not 1 <= value <= MAX_SAMPLES:
         raise argparse.ArgumentTypeError(f"must be 1…{MAX_SAMPLES:,}, not {value}")
     return value
 
 
-def _whole(text: str) -> int:
-    try:
-        value = int(text.replace("_", ""))
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"must be a whole number, not {text!r}") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"must not be negative, not {value}")
-    return value
-
-
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--machine", default="ref8", metavar="FILE",
-                        help="machine description (a shipped name or a .toml path; default ref8)")
+    add_machine_option(parser)
     parser.add_argument("--samples", type=_samples, default=100_000, metavar="N",
                         help="clocks to build from random parts (default 100000)")
-    parser.add_argument("--seed", type=_whole, default=1, metavar="S",
+    parser.add_argument("--seed", type=seed, default=1, metavar="S",
                         help="seed of the random parts, for reproducible figures (default 1)")
     parser.add_argument("--csv", metavar="FILE|-", help="write each built clock's figures as CSV ('-': stdout)")
     parser.add_argument("--json", action="store_true", help="print the figures as one JSON document")
-    parser.set_defaults(usage_error=parser.error)
+    keep_parser(parser)
 
 
 def main(args) -> int:
     if args.json and args.csv == "-":
-        args.usage_error("--json and --csv - both want standard output; give --csv a file name")
-    machine = load_machine(args.machine)
+        usage_error(args, "--json and --csv - both want standard output; give --csv a file name")
+    machine = machine_from(args)
     report = {"machine": machine.name, "title": machine.title, "nominal": _nominal(machine),
               "phases": _phase_rows(machine), "monte_carlo": None, "warnings": []}
     samples = None
@@ -71,7 +60,7 @@ def main(args) -> int:
         model = timing_model(machine)
         for row, seconds in zip(report["phases"], model.nominal_phase_seconds()):
             row["parts_ms"] = float(seconds * 1e3)
-        quiet = args.json or args.csv == "-" or not sys.stdout.isatty()
+        quiet = args.json or args.csv == "-" or not terminal_attached()
         samples = _run(model, args.samples, args.seed, quiet)
         report["monte_carlo"] = samples.summary()
         report["warnings"] = _warnings(samples)
@@ -107,38 +96,10 @@ def _phase_rows(machine) -> list[dict]:
 
 
 def _run(model, count: int, seed: int, quiet: bool):
-    """The Monte Carlo, with a progress bar once it is clear the work takes over a second."""
-    bar = _LateProgress(count, quiet)
-    try:
-        return monte_carlo(model, count, seed, progress=bar.update)
-    finally:
-        bar.close()
-
-
-class _LateProgress:
-    def __init__(self, total: int, quiet: bool):
-        self.total, self.quiet = total, quiet
-        self.started = time.perf_counter()
-        self.bar = self.counter = None
-
-    def update(self, done: int, total: int) -> None:
-        if self.quiet or done >= total:
-            return
-        if self.bar is None:
-            elapsed = time.perf_counter() - self.started
-            if elapsed * total / done < PROGRESS_AFTER_S:
-                return
-            from prompt_toolkit.shortcuts import ProgressBar
-            self.bar = ProgressBar(title="building clocks from random parts")
-            self.bar.__enter__()
-            self.counter = self.bar(label="samples", total=total)
-        self.counter.items_completed = done
-        self.bar.invalidate()
-
-    def close(self) -> None:
-        if self.bar is not None:
-            self.counter.items_completed = self.total
-            self.bar.__exit__(None, None, None)
+    """The Monte Carlo, with a progress bar on a terminal once it has taken a second."""
+    with Progress(enabled=not quiet) as progress:
+        bar = progress.line("building clocks from random parts", count)
+        return monte_carlo(model, count, seed, progress=lambda done, _total: bar.update(done))
 
 
 def _warnings(samples) -> list[str]:

@@ -17,10 +17,8 @@ from .._progress import Progress, terminal_attached
 from .._runner import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
 from .._summary import format_duration, format_summary
 from ..timing import count_wear, format_wear, record_vcd, spread_source
-from argparse import ArgumentTypeError
-
 from ._options import (add_machine_option, check_range, check_word, cycle_count, keep_parser,
-                       machine_from, memory_range, number, print_program_error, usage_error)
+                       machine_from, memory_range, number, print_program_error, seed, usage_error)
 
 SUMMARY = "run a program headless and report the machine at its halt"
 
@@ -45,7 +43,7 @@ def add_arguments(parser) -> None:
                         help="add a memory range to the report (repeatable)")
     parser.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
     timing = parser.add_argument_group("timing")
-    timing.add_argument("--clock-spread", metavar="SEED", type=seed_number,
+    timing.add_argument("--clock-spread", metavar="SEED", type=seed,
                         help="an irregular clock: phase durations drawn from the machine's [timing] "
                              "parts for one built clock (SEED picks it); results are unchanged")
     timing.add_argument("--vcd", metavar="FILE", help="write a value change dump (IEEE 1364) of the run")
@@ -53,12 +51,6 @@ def add_arguments(parser) -> None:
                         help="count relay operations and estimate how long each relay lasts")
     keep_parser(parser)
 
-
-def seed_number(text: str) -> int:
-    value = number(text)
-    if value < 0:
-        raise ArgumentTypeError(f"must be a seed of 0 or more, not {value}")
-    return value
 
 
 def input_stream(args) -> bytes:

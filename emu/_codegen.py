@@ -29,7 +29,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ._alu import ALU_OPS
-from ._description import Instruction, Machine, Step
+from ._description import Instruction, Machine, Step, name_width, value_width
 from ._emitter import Emitter
 from ._errors import MachineError
 from ._files import write_atomic
@@ -189,27 +189,7 @@ class _StepTranslator:
 
     def width(self, node) -> int:
         machine = self.machine
-        match node:
-            case Name(name) if name in self.fields:
-                kind = self.fields[name].kind
-                if kind.is_register:
-                    return max(machine.registers[r].width for r in kind.registers)
-                return kind.bits
-            case Name(name):
-                return machine.register_width(name)
-            case Const(value):
-                return max(value.bit_length(), 1)
-            case Mem() | Input():
-                return machine.data_bits
-            case Join(high, low):
-                return self.width(high) + self.width(low)
-            case Offset(base, _):
-                return self.width(base)
-            case Choose(_, _, a, b):
-                return max(self.width(a), self.width(b))
-            case Call(op, args):
-                return machine.data_bits if op in ("hi", "lo") else self.width(args[0])
-        raise AssertionError(node)
+        return value_width(node, machine.registers, machine.pairs, self.fields, machine.data_bits)
 
     # -- expressions
 
@@ -341,7 +321,7 @@ class _StepTranslator:
         name = target.name
         if name in self.fields:
             fld = self.fields[name]
-            reg_width = max(machine.registers[r].width for r in fld.kind.registers)
+            reg_width = name_width(name, machine.registers, machine.pairs, self.fields)
             value = value if width <= reg_width else f"{value} & {(1 << reg_width) - 1:#x}"
             if name in self.fixed:
                 reg = fld.kind.registers[self.fixed[name]]

@@ -26,7 +26,7 @@ __all__ = [
     "Machine", "Instruction", "Step", "Register", "RegisterPair", "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
     "load_machine", "machine_from_text", "shipped_machines",
-    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES",
+    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "name_width", "value_width",
 ]
 
 FLAG_ROLES = ("zero", "negative", "carry", "overflow")
@@ -705,6 +705,40 @@ class _Loader:
                 owner[word] = ins.index
 
 
+def name_width(name: str, registers: dict, pairs: dict, fields: dict) -> int:
+    """Bits of a register, pair or operand field (a register field: its widest register)."""
+    if name in fields:
+        kind = fields[name].kind
+        if kind.is_register:
+            return max(registers[r].width for r in kind.registers)
+        return kind.bits
+    if name in pairs:
+        return pairs[name].width
+    return registers[name].width
+
+
+def value_width(node, registers: dict, pairs: dict, fields: dict, data_bits: int) -> int:
+    """Bits of an IR expression's value, before any masking to its destination."""
+    def width(n) -> int:
+        match n:
+            case Name(name):
+                return name_width(name, registers, pairs, fields)
+            case Const(value):
+                return max(value.bit_length(), 1)
+            case Mem() | Input():
+                return data_bits
+            case Join(high, low):
+                return width(high) + width(low)
+            case Offset(base, _):
+                return width(base)
+            case Choose(_, _, a, b):
+                return max(width(a), width(b))
+            case Call(op, args):
+                return data_bits if op in WORD_SELECTORS else width(args[0])
+        raise AssertionError(n)
+    return width(node)
+
+
 class _StepChecker:
     """Checks one micro-step against the design rule and the machine's names.
 
@@ -738,7 +772,8 @@ class _StepChecker:
     def statement(self, st):
         match st:
             case Assign(target, value, flags):
-                width = self.expr(value)
+                self.expr(value)
+                width = self.width(value)
                 if isinstance(target, Mem):
                     self.memory += 1
                     self.expr(target.address)
@@ -767,22 +802,17 @@ class _StepChecker:
             if not fld.kind.is_register:
                 self.fail(f"cannot write to '{name}': it is a value field, not a register")
             self.require_available(name)
-            regs = fld.kind.registers
-            self.write(f"{name}", name)
-            self.line(f"load {name}")
-            width = max(loader.registers_[r].width for r in regs)
+            self.write(name, name)
         elif name in loader.pairs_:
             pair = loader.pairs_[name]
             self.write(pair.high, name)
             self.write(pair.low, name)
-            self.line(f"load {name}")
-            width = pair.width
         elif name in loader.registers_:
             self.write(name, name)
-            self.line(f"load {name}")
-            width = loader.registers_[name].width
         else:
             self.unknown(name)
+        self.line(f"load {name}")
+        width = name_width(name, loader.registers_, loader.pairs_, self.fields)
         if value_width > width:
             self.fail(f"'{name}' holds {width} bits but the value written to it has {value_width}")
 
@@ -813,68 +843,66 @@ class _StepChecker:
         self.fail(f"unknown register or field '{name}' (registers: {', '.join(known)}; "
                   f"fields: {', '.join(fields) or 'none'})")
 
-    def expr(self, node) -> int:
-        """Check an expression; return its width in bits."""
+    def width(self, node) -> int:
+        loader = self.loader
+        return value_width(node, loader.registers_, loader.pairs_, self.fields, loader.data_bits)
+
+    def expr(self, node) -> None:
+        """Check an expression: names known, fields fetched, the design rule kept."""
         loader = self.loader
         match node:
             case Name(name):
                 if name in self.fields:
                     self.require_available(name)
-                    fld = self.fields[name]
-                    if fld.kind.is_register:
-                        return max(loader.registers_[r].width for r in fld.kind.registers)
-                    return fld.kind.bits
-                if name in loader.pairs_:
-                    return loader.pairs_[name].width
-                if name in loader.registers_:
-                    return loader.registers_[name].width
-                if name in loader.flags_:
+                elif name in loader.flags_:
                     self.fail(f"flag '{name}' can only be read as a condition (flag ? a : b)")
-                self.unknown(name)
+                elif name not in loader.pairs_ and name not in loader.registers_:
+                    self.unknown(name)
             case Const(value):
-                if value < 0 or value >= 1 << 32:
+                if value >= 1 << 32:
                     self.fail(f"constant {value} out of range")
-                return max(value.bit_length(), 1)
             case Mem(address):
                 self.memory += 1
                 if self.memory > 1:
                     self.fail("two memory accesses in one micro-step (the design rule allows one)")
                 self.line("read")
                 self.expr(address)
-                return loader.data_bits
             case Join(high, low):
-                return self.expr(high) + self.expr(low)
-            case Offset(base, _delta):
-                return self.expr(base)
-            case Choose(flag, _neg, a, b):
+                self.expr(high)
+                self.expr(low)
+            case Offset(base, _):
+                self.expr(base)
+            case Choose(flag, _, a, b):
                 if flag not in loader.flags_:
                     self.fail(f"'{flag}' in a condition is not a flag (flags: {', '.join(loader.flags_)})")
-                return max(self.expr(a), self.expr(b))
+                self.expr(a)
+                self.expr(b)
             case Input(port):
                 self.expr(port)
                 self.io += 1
                 self.line("in")
-                return loader.data_bits
             case Call(op, args):
-                if op in WORD_SELECTORS:
-                    if len(args) != 1:
-                        self.fail(f"{op}() takes one argument")
-                    self.expr(args[0])
-                    return loader.data_bits
-                if op not in ALU_OPS:
-                    self.fail(f"unknown operation '{op}' (ALU: {', '.join(ALU_OPS)}; also hi, lo)")
-                spec = ALU_OPS[op]
-                if len(args) != spec.arity:
-                    self.fail(f"{op}() takes {spec.arity} argument{'s' if spec.arity > 1 else ''}, not {len(args)}")
-                if spec.uses_carry_in and not any(f.role == "carry" for f in loader.flags_.values()):
-                    self.fail(f"{op} needs a carry flag, and the machine has none")
-                self.alu += 1
-                if self.alu > 1:
-                    self.fail("two ALU operations in one micro-step (the design rule allows one)")
-                self.line(f"alu {op}")
-                widths = [self.expr(a) for a in args]
-                return widths[0]
-        raise AssertionError(node)
+                self.call(op, args)
+
+    def call(self, op, args) -> None:
+        loader = self.loader
+        if op in WORD_SELECTORS:
+            if len(args) != 1:
+                self.fail(f"{op}() takes one argument")
+        elif op not in ALU_OPS:
+            self.fail(f"unknown operation '{op}' (ALU: {', '.join(ALU_OPS)}; also hi, lo)")
+        else:
+            spec = ALU_OPS[op]
+            if len(args) != spec.arity:
+                self.fail(f"{op}() takes {spec.arity} argument{'s' if spec.arity > 1 else ''}, not {len(args)}")
+            if spec.uses_carry_in and not any(f.role == "carry" for f in loader.flags_.values()):
+                self.fail(f"{op} needs a carry flag, and the machine has none")
+            self.alu += 1
+            if self.alu > 1:
+                self.fail("two ALU operations in one micro-step (the design rule allows one)")
+            self.line(f"alu {op}")
+        for arg in args:
+            self.expr(arg)
 
     def finish(self):
         if self.memory > 1:

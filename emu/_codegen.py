@@ -180,12 +180,17 @@ class _StepTranslator:
             parts.append(f"{part} << {piece.field_bit}" if piece.field_bit else part)
         return " | ".join(parts) if len(parts) > 1 else parts[0]
 
-    def dynamic_slot(self, field_name: str) -> str:
+    def dynamic_slot(self, field_name: str, writing: bool = False) -> str:
+        """The slot a register field chooses at run time; values naming no register
+        reach the undriven slot (reads 0) or, for writes, the one after it."""
         slots = self.kind_slots(field_name)
         index = self.field_value(field_name)
-        if slots == list(range(slots[0], slots[0] + len(slots))):
+        size = 1 << self.fields[field_name].kind.bits
+        if len(slots) == size and slots == list(range(slots[0], slots[0] + size)):
             return f"{slots[0]} + {index}" if slots[0] else index
-        return f"({', '.join(map(str, slots))})[{index}]"
+        spare = self.machine.undriven_slot + (1 if writing else 0)
+        padded = slots + [spare] * (size - len(slots))
+        return f"({', '.join(map(str, padded))})[{index}]"
 
     def width(self, node) -> int:
         machine = self.machine
@@ -329,7 +334,7 @@ class _StepTranslator:
             else:
                 slots = self.kind_slots(name)
                 self.access.flush(slots)
-                self.out.line(f"s[{self.dynamic_slot(name)}] = {value}")
+                self.out.line(f"s[{self.dynamic_slot(name, writing=True)}] = {value}")
                 self.access.forget(slots)
             return
         if name in machine.pairs:

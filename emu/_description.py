@@ -152,15 +152,23 @@ class Instruction:
         return len(machine.fetch) + len(self.steps)
 
     def first_words(self, data_bits: int):
-        """Every first-word value this instruction's fixed bits admit."""
+        """Every first-word value that decodes to this instruction.
+
+        Values whose first-word register fields name no register (3 in a
+        2-bit field over three registers) are left out: they are undefined.
+        """
         mask, value = self.fixed[0]
         free = [b for b in range(data_bits) if not mask >> b & 1]
+        checked = [(f, len(f.kind.registers)) for f in self.fields.values()
+                   if f.kind.is_register and len(f.kind.registers) < 1 << f.kind.bits
+                   and all(p.word == 0 for p in f.pieces)]
         for combo in range(1 << len(free)):
             word = value
             for i, bit in enumerate(free):
                 if combo >> i & 1:
                     word |= 1 << bit
-            yield word
+            if all(self.decode([word] + [0] * (self.word_count - 1))[f.name] < count for f, count in checked):
+                yield word
 
     @property
     def drives_halt(self) -> bool:
@@ -225,6 +233,15 @@ class Machine:
 
     @property
     def slot_count(self) -> int:
+        """Registers, flags, and two spare slots for register fields that name no register.
+
+        A 2-bit field over three registers can hold 3: such a value reads the
+        first spare slot (always 0, an undriven bus) and writes the second.
+        """
+        return len(self.registers) + len(self.flags) + 2
+
+    @property
+    def undriven_slot(self) -> int:
         return len(self.registers) + len(self.flags)
 
     @property
@@ -466,9 +483,6 @@ class _Loader:
                     if reg not in self.registers_:
                         self.fail(where, f"unknown register '{reg}' in 'registers'")
                 bits = max(1, (len(regs) - 1).bit_length())
-                if len(regs) != 1 << bits:
-                    self.fail(where, f"'registers' must list a power of two of registers (2, 4, 8 …) so "
-                                     f"that every value of its {bits}-bit field names one; it lists {len(regs)}")
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
             else:
                 bits = self.integer(spec, "bits", where, low=1, high=32)

@@ -69,5 +69,6 @@ def boot(machine, words, switches: int = 0, input_bytes: bytes = b"") -> Emulato
 
 def datapath_state(emu: Emulator) -> tuple:
     """Registers, flags, memory, ports: everything a program can observe."""
-    return (tuple(int(v) for v in emu._s), bytes(emu.memory) if isinstance(emu.memory, bytearray)
+    registers_and_flags = emu._s[:emu.machine.undriven_slot]
+    return (tuple(int(v) for v in registers_and_flags), bytes(emu.memory) if isinstance(emu.memory, bytearray)
             else tuple(emu.memory), bytes(emu.output), emu.lamps, emu.ports.input_position)

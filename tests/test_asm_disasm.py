@@ -158,3 +158,12 @@ def test_round_trip_with_labels(name, data):
     again = asm.assemble_text(text, machine)
     assert again.segments == program.segments
     assert again.pauses == program.pauses
+
+
+def test_a_register_field_naming_no_register_disassembles_as_data():
+    """Three registers in a 2-bit field: the word holding 3 there is no instruction."""
+    from test_codegen import COPY_IN_SECOND_WORD, THREE_REGISTERS
+    machine = emu.machine_from_text(THREE_REGISTERS + COPY_IN_SECOND_WORD, "three.toml")
+    lines = asm.disassemble(machine, [0b10, 3 << 2 | 1, 0b10, 1 << 2 | 2, 0])
+    assert [line.split(";")[0].strip() for line in lines] == [
+        ".org 0x00", ".byte 0x02, 0x0D", "copy b, c", "stop"]

@@ -205,14 +205,43 @@ steps = ["t <- mem[pc]; pc <- pc + 1", "rd <- rs"]
 """
 
 
-@pytest.mark.parametrize("extra", [COPY_IN_FIRST_WORD, COPY_IN_SECOND_WORD], ids=["first", "second"])
-def test_a_register_kind_whose_field_values_name_no_register_is_refused(extra):
-    """Value 3 of a 2-bit field over three registers would reach whatever slot comes next."""
-    with pytest.raises(emu.MachineError) as caught:
-        emu.machine_from_text(THREE_REGISTERS + extra, "three.toml")
-    assert str(caught.value) == ("three.toml: [operands] reg: 'registers' must list a power of two of "
-                                 "registers (2, 4, 8 …) so that every value of its 2-bit field names one; "
-                                 "it lists 3")
+def test_a_first_word_register_field_naming_no_register_is_an_undefined_opcode():
+    """Three registers in a 2-bit field: value 3 decodes to nothing, runs as a no-op."""
+    machine = emu.machine_from_text(THREE_REGISTERS + COPY_IN_FIRST_WORD, "three.toml")
+    copy = next(i for i in machine.instructions if i.mnemonic == "copy")
+    assert machine.decode_table[0b0001_0100] == copy.index            # copy b, a
+    assert machine.decode_table[0b0001_1100] == -1                    # rd = 3: no register
+    for watched in (False, True):
+        emulator = emu.Emulator(machine)
+        if watched:
+            emulator.observe(emu.Observer())
+        emulator.load([(0, [0b0001_1100, 0b0001_0100, 0])])
+        emulator.set("a", 7)
+        assert emulator.run(max_cycles=20).kind == "halted"
+        assert (emulator.get("b"), emulator.pc) == (7, 3)
+        assert emulator.warnings == ["undefined opcode at 0x00 ran as a no-op"]
+
+
+@pytest.mark.parametrize("fields, expected", [((3, 0), (0x40, 0, 0)), ((1, 3), (0x40, 0, 0))],
+                         ids=["write to no register", "read from no register"])
+def test_a_later_word_field_naming_no_register_reads_zero_and_writes_nowhere(fields, expected):
+    """Both paths agree: an undriven bus reads 0, a load strobe with no register loads nothing."""
+    machine = emu.machine_from_text(THREE_REGISTERS + COPY_IN_SECOND_WORD, "three.toml")
+    rd, rs = fields
+    finals = []
+    for watched in (False, True):
+        emulator = emu.Emulator(machine)
+        if watched:
+            emulator.observe(emu.Observer())
+        emulator.load([(0, [0b10, rd << 2 | rs, 0])])
+        emulator.set("a", 0x40)
+        emulator.set("b", 0x55)
+        emulator.run(max_cycles=20)
+        finals.append((emulator.pc, emulator.get("a"), emulator.get("b"), emulator.get("c")))
+    assert finals[0] == finals[1]
+    pc, a, b, c = finals[0]
+    assert pc == 3 and a == expected[0] and c == expected[2]
+    assert b == (0x55 if rd == 3 else 0)
 
 
 def test_two_instructions_with_the_same_form_are_refused():

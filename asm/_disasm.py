@@ -9,6 +9,8 @@ field that reaches a memory address or the program counter is one.
 
 from __future__ import annotations
 
+import weakref
+
 from emu import Instruction, Machine
 from emu._rtl import Assign, Mem, Name, walk
 
@@ -25,7 +27,7 @@ def disassemble(machine: Machine, words, start: int = 0, debug=None) -> list[str
     a DebugInfo or a debug-file dict) adds labels, pauses and data regions."""
     words = list(words)
     names = _Names(debug)
-    decoder = _Decoder(machine)
+    decoder = _decoder_for(machine)
     pieces = []
     offset = 0
     while offset < len(words):
@@ -66,7 +68,7 @@ def disassemble(machine: Machine, words, start: int = 0, debug=None) -> list[str
 def disassemble_at(machine: Machine, read_word, address: int, debug=None) -> tuple[str, int]:
     """The instruction at ``address`` (words from ``read_word(a)``) as text, and its length in words."""
     names = _Names(debug)
-    decoder = _Decoder(machine)
+    decoder = _decoder_for(machine)
     count = min(decoder.longest, machine.memory_words - address)
     words = [read_word(address + i) for i in range(max(count, 1))]
     ins = None if names.is_data(address) else decoder.instruction(words)
@@ -75,6 +77,18 @@ def disassemble_at(machine: Machine, read_word, address: int, debug=None) -> tup
     everywhere = set(names.by_address)
     text = decoder.text(ins, words[:ins.word_count], names, everywhere, set(), pause=address in names.pauses)
     return text, ins.word_count
+
+
+_decoders: dict[int, "_Decoder"] = {}
+
+
+def _decoder_for(machine: Machine) -> "_Decoder":
+    """One decoder per machine object: reading its micro-steps for address operands is not free."""
+    decoder = _decoders.get(id(machine))
+    if decoder is None or decoder.machine is not machine:
+        decoder = _decoders[id(machine)] = _Decoder(machine)
+        weakref.finalize(machine, _decoders.pop, id(machine), None)
+    return decoder
 
 
 def _line(text: str, address: int, chunk, decoder: "_Decoder") -> str:

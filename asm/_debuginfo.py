@@ -46,7 +46,7 @@ from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
 __all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "write_debug", "read_debug",
-           "debug_path_for", "source_map_of", "line_map_of", "FORMAT", "VERSION"]
+           "debug_path_for", "source_map_of", "FORMAT", "VERSION"]
 
 FORMAT = "relaybench-debug"
 VERSION = 1
@@ -88,11 +88,9 @@ class DebugInfo:
     pauses: list[int]
     expects: list[Expect]
     source_map: dict[int, tuple[str, int]] = field(init=False)
-    line_map: dict[tuple[str, int], int] = field(init=False)
 
     def __post_init__(self):
         self.source_map = source_map_of(self.lines)
-        self.line_map = line_map_of(self.lines)
 
     @property
     def symbols(self) -> dict[str, int]:
@@ -107,11 +105,6 @@ def source_map_of(lines: list[LineEntry]) -> dict[int, tuple[str, int]]:
         for address in range(entry.address, entry.address + entry.length):
             result[address] = place
     return result
-
-
-def line_map_of(lines: list[LineEntry]) -> dict[tuple[str, int], int]:
-    """(file, line) → the first address the statement there emitted (for breakpoints on lines)."""
-    return {(e.file, e.line): e.address for e in sorted(lines, key=lambda e: e.address, reverse=True)}
 
 
 def debug_path_for(image_path) -> Path:

@@ -14,7 +14,6 @@ import weakref
 from emu import Instruction, Machine
 from emu._rtl import Assign, Mem, Name, walk
 
-from ._debuginfo import DebugInfo, LineEntry
 
 __all__ = ["disassemble", "disassemble_at"]
 
@@ -23,8 +22,8 @@ _TEXT_WIDTH = 28
 
 
 def disassemble(machine: Machine, words, start: int = 0, debug=None) -> list[str]:
-    """Assembly lines for ``words`` placed at ``start``; ``debug`` (a Program,
-    a DebugInfo or a debug-file dict) adds labels, pauses and data regions."""
+    """Assembly lines for ``words`` placed at ``start``; ``debug`` (a Program
+    or a DebugInfo) adds labels, pauses and data regions."""
     words = list(words)
     names = _Names(debug)
     decoder = _decoder_for(machine)
@@ -100,8 +99,6 @@ class _Names:
     """What a debug source knows about addresses, whatever form it came in."""
 
     def __init__(self, debug):
-        if isinstance(debug, dict):
-            debug = _from_dict(debug)
         self.labels: dict[str, int] = dict(getattr(debug, "labels", {}) or {})
         self.pauses = set(getattr(debug, "pauses", ()) or ())
         self.by_address: dict[int, list[str]] = {}
@@ -114,14 +111,6 @@ class _Names:
 
     def is_data(self, address: int) -> bool:
         return address in self.data
-
-
-def _from_dict(data: dict) -> DebugInfo:
-    files = data.get("files", [])
-    lines = [LineEntry(e["address"], e["length"], files[e["file"]], e["line"], e["kind"], e.get("cycles"))
-             for e in data.get("lines", [])]
-    return DebugInfo(data.get("machine", ""), data.get("word_bits", 0), files, data.get("labels", {}),
-                     data.get("constants", {}), lines, data.get("pauses", []), [])
 
 
 class _Decoder:

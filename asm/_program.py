@@ -13,7 +13,7 @@ from functools import cached_property
 
 from emu import Machine
 
-from ._debuginfo import Expect, LineEntry, debug_dict, line_map_of, source_map_of
+from ._debuginfo import Expect, LineEntry, debug_dict, source_map_of
 from ._files import write_atomic
 
 __all__ = ["Program", "write_listing"]
@@ -45,11 +45,6 @@ class Program:
     def source_map(self) -> dict[int, tuple[str, int]]:
         """Word address → (file, line) of the statement that put it there."""
         return source_map_of(self.lines)
-
-    @cached_property
-    def line_map(self) -> dict[tuple[str, int], int]:
-        """(file, line) → first address of what that line emitted."""
-        return line_map_of(self.lines)
 
     def image(self) -> dict[int, int]:
         """Address → word for every word the program sets."""

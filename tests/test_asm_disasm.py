@@ -72,10 +72,11 @@ far = 0x4000
     assert again.pauses == program.pauses
 
 
-def test_debug_dict_from_a_file_works_the_same(tmp_path):
+def test_a_debug_file_read_back_disassembles_like_the_program(tmp_path):
     program = asm.assemble_text("top: nop\n jmp top\n", REF8)
-    assert asm.disassemble(REF8, program.flat(), 0, program.debug_info()) == \
-        asm.disassemble(REF8, program.flat(), 0, program)
+    asm.write_debug(program, tmp_path / "p.dbg.json")
+    info = asm.read_debug(tmp_path / "p.dbg.json", REF8)
+    assert asm.disassemble(REF8, program.flat(), 0, info) == asm.disassemble(REF8, program.flat(), 0, program)
 
 
 def test_acc12_labels_only_on_address_operands():

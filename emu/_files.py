@@ -20,6 +20,8 @@ def atomic_output(path: str | Path, *, text: bool = False, keep_on_error: bool =
     permissions, or gets the usual 0644.
     """
     path = Path(path)
+    if path.is_dir():
+        raise IsADirectoryError(21, "Is a directory", str(path))
     handle, temp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.resolve().parent)
     stream = os.fdopen(handle, "w" if text else "wb", **({"encoding": "utf-8"} if text else {}))
     keep = False

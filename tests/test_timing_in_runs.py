@@ -83,3 +83,11 @@ def test_beat_on_a_machine_without_parts_says_why(tmp_path):
     plain = write(tmp_path, "plain.toml", text.split("[timing]")[0])
     session = Session(load_machine(plain))
     assert "no irregular clock for acc12" in session.execute("beat 1")
+
+
+def test_vcd_and_waves_refuse_a_folder(tmp_path, capsys):
+    code, _out, err = cli(capsys, "run", FARES, "--vcd", tmp_path)
+    assert code == 2 and f"argument --vcd: cannot write '{tmp_path}' (Is a directory)" in err
+    machine = load_machine("ref8")
+    session = Session(machine, load_view(str(FARES), machine))
+    assert session.execute(f"waves {tmp_path}") == f"error: cannot write {tmp_path}: Is a directory"

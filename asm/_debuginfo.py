@@ -19,6 +19,7 @@ to check there. Schema (version 1)::
          "kind": "code",              #   "code" (an instruction) or "data"
          "cycles": 2}                 #   clock cycles of the instruction; null for data
       ],
+      "image_crc32": 1234567890,      # fingerprint of the image it describes (image_fingerprint)
       "pauses": [12],                 # addresses of `pause` instructions
       "expects": [                    # .expect checks, in source order
         {"address": 12,               #   the halt/pause they are attached to
@@ -38,6 +39,7 @@ File names are written relative to the folder of the debug file, and
 from __future__ import annotations
 
 import json
+import zlib
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -46,7 +48,7 @@ from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
 __all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "write_debug", "read_debug",
-           "debug_path_for", "source_map_of", "FORMAT", "VERSION"]
+           "debug_path_for", "source_map_of", "image_fingerprint", "FORMAT", "VERSION"]
 
 FORMAT = "relaybench-debug"
 VERSION = 1
@@ -87,6 +89,8 @@ class DebugInfo:
     lines: list[LineEntry]
     pauses: list[int]
     expects: list[Expect]
+    image_crc32: int | None = None
+    """Fingerprint of the image the file was written for (None in files that predate it)."""
     source_map: dict[int, tuple[str, int]] = field(init=False)
 
     def __post_init__(self):
@@ -105,6 +109,22 @@ def source_map_of(lines: list[LineEntry]) -> dict[int, tuple[str, int]]:
         for address in range(entry.address, entry.address + entry.length):
             result[address] = place
     return result
+
+
+def image_fingerprint(segments) -> int:
+    """CRC-32 of the image as memory sees it: words from address 0, gaps as 0, trailing zeros dropped.
+
+    The same for the HEX and the raw binary of one program, so a debug file
+    can tell whether an image is still the one it was written for.
+    """
+    flat: dict[int, int] = {}
+    for start, words in segments:
+        for offset, word in enumerate(words):
+            flat[start + offset] = word
+    used = [a for a, w in flat.items() if w]
+    end = max(used) + 1 if used else 0
+    data = b"".join(flat.get(a, 0).to_bytes(2, "little") for a in range(end))
+    return zlib.crc32(data)
 
 
 def debug_path_for(image_path) -> Path:
@@ -127,6 +147,7 @@ def debug_dict(program, relative_to: str | None = None) -> dict:
         "lines": [{"address": e.address, "length": e.length, "file": index[e.file], "line": e.line,
                    "kind": e.kind, "cycles": e.cycles}
                   for e in sorted(program.lines, key=lambda e: e.address)],
+        "image_crc32": image_fingerprint(program.segments),
         "pauses": list(program.pauses),
         "expects": [{"address": x.address, "file": index[x.file], "line": x.line, "item": x.item,
                      "memory_address": x.memory_address, "op": x.op, "value": x.value, "text": x.text}
@@ -219,9 +240,12 @@ class _Reader:
         name = self.get(data, "machine", str, "a machine name", top)
         if self.machine is not None and name != self.machine.name:
             self.fail(f"the debug file is for machine '{name}', not '{self.machine.name}'")
+        crc = data.get("image_crc32")
+        if crc is not None and (not isinstance(crc, int) or isinstance(crc, bool)):
+            self.fail("top level: key 'image_crc32' must be an integer")
         return DebugInfo(name,
                          self.get(data, "word_bits", int, "an integer", top),
-                         files, labels, constants, lines, pauses, expects)
+                         files, labels, constants, lines, pauses, expects, crc)
 
     def names(self, data, key) -> dict[str, int]:
         table = self.get(data, key, dict, "an object of name → integer", "top level")

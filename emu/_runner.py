@@ -129,6 +129,9 @@ def _from_image(path: str, kind: str, machine: Machine) -> LoadedProgram:
     if not debug_path.exists():
         return LoadedProgram(path, kind, segments)
     info = asm.read_debug(debug_path, machine)
+    if info.image_crc32 is not None and info.image_crc32 != asm.image_fingerprint(segments):
+        raise ProgramError(f"{debug_path}: error: this debug file was written for another image than "
+                           f"{path} (assemble again, or remove the debug file)")
     return LoadedProgram(path, kind, segments, frozenset(info.pauses), tuple(info.expects),
                          dict(info.source_map), dict(info.symbols), str(debug_path),
                          labels=dict(info.labels), lines=tuple(info.lines))

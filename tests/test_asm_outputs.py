@@ -1,6 +1,7 @@
 """Listing and debug file contents, with real values."""
 
 import json
+import zlib
 from pathlib import Path
 
 import pytest
@@ -66,11 +67,19 @@ def test_debug_info_contents():
             {"address": 5, "length": 3, "file": 0, "line": 6, "kind": "code", "cycles": 3},
             {"address": 8, "length": 6, "file": 0, "line": 7, "kind": "data", "cycles": None},
         ],
+        "image_crc32": _crc32_of_memory(program.flat()),
         "pauses": [4],
         "expects": [{"address": 4, "file": 0, "line": 5, "item": "out", "memory_address": None,
                      "op": "==", "value": "h", "text": 'out == "h"'}],
     }
     json.dumps(info)
+
+
+def _crc32_of_memory(words: list[int]) -> int:
+    """The image fingerprint computed apart, with zlib's CRC-32 (ISO 3309 / ITU-T V.42 polynomial)."""
+    while words and words[-1] == 0:
+        words = words[:-1]
+    return zlib.crc32(bytes(b for w in words for b in (w & 0xFF, w >> 8)))
 
 
 def test_debug_file_round_trip_with_includes(tmp_path):

@@ -8,6 +8,7 @@ two's complement of the sum of the other bytes.
 
 from __future__ import annotations
 
+import json
 import os
 import signal
 import subprocess
@@ -248,3 +249,19 @@ def test_a_stale_debug_file_is_refused_with_the_key_named(tmp_path, capsys, dama
         code, out, err = cli(capsys, command, tmp_path / "p.hex")
         assert code == 1, (command, out, err)
         assert message in err + out
+
+
+def test_a_debug_file_left_from_another_assembly_is_refused(tmp_path, capsys):
+    """asm --no-debug leaves an old debug file beside the new image; trusting it would
+    take the new program's halt for the old one's pause."""
+    source = write(tmp_path, "q.asm", "nop\nnop\npause\nhalt\n")
+    assert cli(capsys, "asm", source)[0] == 0
+    write(tmp_path, "q.asm", "nop\nnop\nhalt\nli r0, 0x55\nout 1, r0\nhalt\n")
+    assert cli(capsys, "asm", source, "--no-debug")[0] == 0
+    for command in ("run", "dis"):
+        code, _out, err = cli(capsys, command, tmp_path / "q.hex")
+        assert code == 1
+        assert "this debug file was written for another image than" in err
+    assert cli(capsys, "asm", source, "-o", tmp_path / "q.bin")[0] == 0
+    code, out, _err = cli(capsys, "run", tmp_path / "q.bin", "--json")
+    assert code == 0 and json.loads(out)["pc"] == 3      # the same debug file fits the raw binary

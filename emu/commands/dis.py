@@ -36,11 +36,12 @@ def disassembly(args, machine) -> str:
         raise asm.AsmError([asm.Diagnostic(str(image), None, None,
                                            "this is assembly source; dis reads images (.hex or .bin)")])
     segments = asm.read_image(image, machine)
-    debug = None
-    if args.debug:
-        debug = asm.read_debug(args.debug, machine)
-    elif not args.no_debug and asm.debug_path_for(image).exists():
-        debug = asm.read_debug(asm.debug_path_for(image), machine)
+    debug_path = args.debug or (None if args.no_debug or not asm.debug_path_for(image).exists()
+                                else asm.debug_path_for(image))
+    debug = asm.read_debug(debug_path, machine) if debug_path else None
+    if debug is not None and debug.image_crc32 not in (None, asm.image_fingerprint(segments)):
+        raise asm.AsmError([asm.Diagnostic(str(debug_path), None, None,
+                                           f"this debug file was written for another image than {image}")])
     lines = [f"; {image} ({'Intel HEX' if kind == 'hex' else 'raw binary'}) for {machine.name}"]
     for start, words in segments:
         lines.extend(asm.disassemble(machine, words, start, debug))

@@ -524,6 +524,8 @@ class _Loader:
             self.known_keys(spec, ("name", "level", "ms", "ring", "hold"), where)
             name = self.string(spec, "name", where, default=f"phase{i}")
             where = f"[[clock.phase]] {i} ('{name}')"
+            if any(p.name == name for p in phases):
+                self.fail(where, f"two phases are named '{name}'; each phase needs a name of its own")
             level = self.integer(spec, "level", where, low=0, high=1)
             ms = spec.get("ms")
             if not isinstance(ms, (int, float)) or isinstance(ms, bool) or ms <= 0:
@@ -591,9 +593,10 @@ class _Loader:
         if not isinstance(encoding, list) or not encoding or not all(isinstance(w, str) for w in encoding):
             self.fail(where, "'encoding' must be a non-empty list of word strings, e.g. [\"0001 rd\", \"imm\"]")
         fixed, fields = self.encoding(encoding, field_kinds, where)
-        texts = spec.get("steps", [])
+        texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
-            self.fail(where, "'steps' must be a list of micro-step strings")
+            self.fail(where, "'steps' must be a list of micro-step strings (steps = [] for one "
+                             "that only fetches)")
         holders = self.word_holders(texts, len(encoding), where)
         steps = []
         for i, text in enumerate(texts, 1):

@@ -185,6 +185,18 @@ def _number(token) -> int:
     return literal_value(str(token))
 
 
+def _token_word(name: str) -> str:
+    """A grammar token as a builder reads it in 'expected …': ``'<-'``, ``a name``."""
+    if name in ("NAME", "NUMBER"):
+        return f"a {name.lower()}"
+    if name == "$END":
+        return "the end of the step"
+    try:
+        return repr(_parser().get_terminal(name).pattern.value)
+    except KeyError:
+        return name
+
+
 @cache
 def _parser() -> lark.Lark:
     text = resources.files("emu").joinpath("grammar/microstep.lark").read_text()
@@ -201,8 +213,10 @@ def parse_step(text: str) -> tuple[Statement, ...]:
     except lark.UnexpectedInput as exc:
         column = getattr(exc, "column", 0) or 0
         caret = " " * max(column - 1, 0) + "^"
+        expected = sorted(getattr(exc, "expected", None) or getattr(exc, "allowed", None) or ())
+        wanted = f" (expected {', '.join(_token_word(t) for t in expected)})" if expected else ""
         raise MachineError(
-            f"cannot read micro-step at column {column}\n    {text}\n    {caret}"
+            f"cannot read micro-step at column {column}{wanted}\n    {text}\n    {caret}"
         ) from None
     try:
         return _ToIR().transform(tree)

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import importlib.metadata
 import sys
 
 from ._errors import MachineError
@@ -28,11 +29,19 @@ def _load_commands():
     return found
 
 
+def _version() -> str:
+    try:
+        return importlib.metadata.version("relaybench")
+    except importlib.metadata.PackageNotFoundError:
+        return "(not installed)"
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="relaybench",
         description="Assemble, run, test and debug programs for relay computers.",
     )
+    parser.add_argument("--version", action="version", version=f"relaybench {_version()}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     sub.required = True
     for name, module in _load_commands().items():

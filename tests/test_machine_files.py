@@ -193,13 +193,14 @@ CASES = {
     ),
     "unreadable micro-step": (
         ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd = mem[x]"]'),
-        "instruction 'ld rd, [x]' step 2: cannot read micro-step at column 4\n"
+        "instruction 'ld rd, [x]' step 2: cannot read micro-step at column 4 (expected '(', '<-')\n"
         "    rd = mem[x]\n"
         "       ^",
     ),
     "unreadable fetch step": (
         ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', 'steps = ["ir <- mem[pc] pc <- pc + 1"]'),
-        "[fetch] step 1: cannot read micro-step at column 15\n"
+        "[fetch] step 1: cannot read micro-step at column 15 "
+        "(expected ':', ',', '-', '+', '}', ')', ']', ';', 'sets')\n"
         "    ir <- mem[pc] pc <- pc + 1\n"
         "                  ^",
     ),
@@ -407,3 +408,19 @@ def test_micro_step_numbers_read_as_in_the_assembler():
     assert parse_step("pc <- pc + 09")[0].value == Offset(Name("pc"), 9)
     with pytest.raises(emu.MachineError, match="has too many digits"):
         parse_step("pc <- pc + " + "9" * 200)
+
+
+@pytest.mark.parametrize("old, new, message", [
+    ('name = "D"', 'name = "A"', "ref8.toml: [[clock.phase]] 4 ('A'): two phases are named 'A'; "
+                                 "each phase needs a name of its own"),
+    ('syntax = "shr rd:reg"\nencoding = ["10000 rd"]\nsteps = ["rd <- shr(rd) sets z n c"]',
+     'syntax = "shr rd:reg"\nencoding = ["10000 rd"]',
+     "ref8.toml: instruction 'shr rd': 'steps' must be a list of micro-step strings "
+     "(steps = [] for one that only fetches)"),
+], ids=["two phases of one name", "an instruction without steps"])
+def test_slips_a_typo_could_make(old, new, message):
+    text = (Path(emu.__file__).parent / "machines" / "ref8.toml").read_text()
+    assert old in text
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(text.replace(old, new, 1), "ref8.toml")
+    assert str(caught.value) == message

@@ -10,10 +10,11 @@ from hypothesis import strategies as st
 
 import asm
 import emu
+import emu.cli
 from emu._runner import load_program, report, run_loaded
 from emu._summary import format_duration, format_rate
 
-from cli_support import ACC12, cli, write
+from cli_support import ACC12, PROGRAMS, cli, write
 
 SPEC_KEYS = {"status", "pc", "cycles", "instructions", "sim_seconds", "registers", "flags", "lamps",
              "output", "pauses", "warnings", "dumps"}
@@ -240,3 +241,23 @@ def test_no_progress_bar_when_piped(capsys, tmp_path):
     loop = write(tmp_path, "loop.asm", "top: jmp top\n")
     code, out, err = cli(capsys, "run", loop, "--max-cycles", "3000000")
     assert code == 3 and err == "" and out.startswith(f"{loop}: stopped at the cycle limit")
+
+
+def test_run_takes_the_panel_file_and_options_win_over_it(capsys):
+    """tickets.panel.toml gives switches 0x82 and three groups; --input-text replaces the groups."""
+    code, out, _err = cli(capsys, "run", PROGRAMS / "tickets.asm", "--json")
+    assert code == 0 and "3 groups, 49 passengers, 42140p" in json.loads(out)["output"]
+    code, out, _err = cli(capsys, "run", PROGRAMS / "tickets.asm", "--json", "--input-text", "5\\n")
+    output = json.loads(out)["output"]
+    assert code == 0 and "return to Far Ness" in output          # switches still from the panel file
+    assert "group of 5: 4300p\n1 groups, 5 passengers, 4300p" in output
+
+
+def test_debug_takes_the_input_stream_from_the_command_line(tmp_path, monkeypatch):
+    """The debugger powers on with the toggles and input the options give."""
+    seen = {}
+    monkeypatch.setattr("emu.debugger._repl.run_repl", lambda session: seen.setdefault("emu", session.emu) and 0)
+    program = write(tmp_path, "echo.asm", "in r0, 1\nin r1, 0\nhalt\n")
+    assert emu.cli.main(["debug", str(program), "--input-text", "A", "--switches", "0x21"]) == 0
+    emulator = seen["emu"]
+    assert (emulator.switches, emulator.input_bytes) == (0x21, b"A")

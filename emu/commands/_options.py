@@ -12,11 +12,12 @@ import argparse
 import sys
 
 from .._description import Machine, load_machine
-from .._numbers import NUMBER_FORMS, parse_number
+from .._numbers import NUMBER_FORMS, decode_escapes, parse_number
 from .._runner import ProgramError
+from .._testrunner import panel_path_for, read_panel_file
 
 __all__ = [
-    "add_machine_option", "keep_parser", "usage_error", "number", "seed", "cycle_count",
+    "add_machine_option", "add_panel_options", "input_stream", "panel_settings", "keep_parser", "usage_error", "number", "seed", "cycle_count",
     "memory_range", "check_word", "check_range", "machine_from", "print_program_error",
 ]
 
@@ -24,6 +25,51 @@ __all__ = [
 def add_machine_option(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--machine", metavar="FILE", default="ref8",
                         help="machine description: a shipped name or a .toml file (default: ref8)")
+
+
+def add_panel_options(parser: argparse.ArgumentParser) -> None:
+    """The panel toggles and the input stream, as run and debug take them."""
+    parser.add_argument("--switches", metavar="V", type=number, default=None,
+                        help="the panel toggles, e.g. 0b00101010 (default 0)")
+    source = parser.add_mutually_exclusive_group()
+    source.add_argument("--input", metavar="FILE", help="bytes of the input stream, from a file")
+    source.add_argument("--input-text", metavar="S",
+                        help="the input stream as text (UTF-8; escapes \\n \\t \\r \\0 \\\\ \\' \\\" as in the assembler)")
+
+
+def input_stream(args) -> bytes:
+    """The bytes of --input FILE or --input-text S (a usage error if unreadable)."""
+    if args.input is not None:
+        try:
+            with open(args.input, "rb") as stream:
+                return stream.read()
+        except OSError as exc:
+            usage_error(args, f"argument --input: cannot read '{args.input}' ({exc.strerror})")
+    if args.input_text is not None:
+        text, problem = decode_escapes(args.input_text)
+        if problem is not None:
+            usage_error(args, f"argument --input-text: {problem}")
+        return text.encode("utf-8")
+    return b""
+
+
+def panel_settings(args, program_path: str, machine: Machine) -> tuple[int, bytes]:
+    """Toggles and input stream: the program's panel file if it has one, then the options.
+
+    ``prog.asm`` → ``prog.panel.toml`` is what ``relaybench test`` runs the
+    program with; an option given on the command line wins over it.
+    """
+    switches, data = 0, b""
+    panel_path = panel_path_for(program_path)
+    if panel_path.exists():
+        panel = read_panel_file(panel_path, machine)
+        switches, data = panel.switches, panel.input_bytes
+    if args.switches is not None:
+        check_word(args, "--switches", args.switches, machine)
+        switches = args.switches
+    if args.input is not None or args.input_text is not None:
+        data = input_stream(args)
+    return switches, data
 
 
 def keep_parser(parser: argparse.ArgumentParser) -> None:

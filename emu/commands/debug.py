@@ -4,26 +4,32 @@ from __future__ import annotations
 
 import sys
 
-from emu import load_machine
 from emu._runner import ProgramError
+
+from ._options import add_machine_option, add_panel_options, keep_parser, machine_from, panel_settings
 
 SUMMARY = "debug a program at the machine's panel in the terminal"
 
 
 def add_arguments(parser) -> None:
     parser.add_argument("program", metavar="PROGRAM", help="assembly source, Intel HEX or raw binary")
-    parser.add_argument("--machine", metavar="FILE", default="ref8",
-                        help="machine description (default: ref8)")
+    add_machine_option(parser)
+    add_panel_options(parser)
+    keep_parser(parser)
 
 
 def main(args) -> int:
     from emu.debugger import Session, load_view
     from emu.debugger._repl import run_repl
 
-    machine = load_machine(args.machine)
+    machine = machine_from(args)
     try:
         view = load_view(args.program, machine)
+        switches, data = panel_settings(args, args.program, machine)
     except ProgramError as exc:
         print(exc, file=sys.stderr)
         return 1
-    return run_repl(Session(machine, view))
+    session = Session(machine, view)
+    session.emu.switches = switches
+    session.emu.input_bytes = data
+    return run_repl(session)

@@ -12,13 +12,13 @@ import json
 import sys
 from contextlib import ExitStack
 
-from .._numbers import decode_escapes
 from .._progress import Progress, terminal_attached
 from .._runner import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
 from .._summary import format_duration, format_summary
 from ..timing import count_wear, format_wear, record_vcd, spread_source
-from ._options import (add_machine_option, check_range, check_word, cycle_count, keep_parser,
-                       machine_from, memory_range, number, print_program_error, seed, usage_error)
+from ._options import (add_machine_option, add_panel_options, check_range, cycle_count, keep_parser,
+                       machine_from, memory_range, panel_settings, print_program_error, seed,
+                       usage_error)
 
 SUMMARY = "run a program headless and report the machine at its halt"
 
@@ -32,12 +32,7 @@ def add_arguments(parser) -> None:
     add_machine_option(parser)
     parser.add_argument("--max-cycles", metavar="N", type=cycle_count, default=DEFAULT_MAX_CYCLES,
                         help=f"cycle limit for the whole run (default {DEFAULT_MAX_CYCLES:,})")
-    parser.add_argument("--switches", metavar="V", type=number, default=0,
-                        help="the panel toggles, e.g. 0b00101010 (default 0)")
-    source = parser.add_mutually_exclusive_group()
-    source.add_argument("--input", metavar="FILE", help="bytes of the input stream, from a file")
-    source.add_argument("--input-text", metavar="S",
-                        help="the input stream as text (UTF-8; escapes \\n \\t \\r \\0 \\\\ as in the assembler)")
+    add_panel_options(parser)
     parser.add_argument("--stop-at-pause", action="store_true", help="end the run at the first pause")
     parser.add_argument("--dump", metavar="START:LEN", type=memory_range, action="append", default=[],
                         help="add a memory range to the report (repeatable)")
@@ -53,31 +48,14 @@ def add_arguments(parser) -> None:
 
 
 
-def input_stream(args) -> bytes:
-    """The bytes of --input FILE or --input-text S (a usage error if unreadable)."""
-    if args.input is not None:
-        try:
-            with open(args.input, "rb") as stream:
-                return stream.read()
-        except OSError as exc:
-            usage_error(args, f"argument --input: cannot read '{args.input}' ({exc.strerror})")
-    if args.input_text is not None:
-        text, problem = decode_escapes(args.input_text)
-        if problem is not None:
-            usage_error(args, f"argument --input-text: {problem}")
-        return text.encode("utf-8")
-    return b""
-
-
 def main(args) -> int:
     machine = machine_from(args)
-    check_word(args, "--switches", args.switches, machine)
     for dump in args.dump:
         check_range(args, "--dump", dump, machine)
-    data = input_stream(args)
     try:
         program = load_program(args.program, machine)
-        emulator = start_emulator(program, machine, switches=args.switches, input_bytes=data)
+        switches, data = panel_settings(args, args.program, machine)
+        emulator = start_emulator(program, machine, switches=switches, input_bytes=data)
     except ProgramError as exc:
         return print_program_error(exc)
     if args.clock_spread is not None:

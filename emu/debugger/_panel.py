@@ -140,7 +140,7 @@ _LEGEND = ("clock: ‾ high, _ low; █ a lit ring stage or a control line drive
 def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = False) -> str:
     """A logic-analyser picture of the recorded columns, in blocks of ``width``."""
     if not columns:
-        return "nothing recorded yet: the clock has not run since the debugger started"
+        return "nothing recorded yet: the clock has not run since the debugger started or a snapshot was loaded"
     lines_seen: list[str] = []
     for column in columns:
         for line in sorted(column.lines):

@@ -244,6 +244,14 @@ class Session:
         address = self.address(text)
         return address, self.describe_address(address)
 
+    def _latch_origin(self) -> str:
+        """What set the halt latch, in words: the halt or pause instruction and its place."""
+        address = self.emu.halt_address
+        if address is None:
+            return "set"
+        kind = "pause" if address in self.view.pauses else "halt"
+        return f"set by the {kind} at {self.describe_address(address)}"
+
     def describe_address(self, address: int) -> str:
         parts = [address_hex(self.machine, address)]
         if symbol := self.view.symbol_for(address):
@@ -331,33 +339,37 @@ class Session:
         parts = [p for p in parts if p is not None]
         return AnyOf(parts) if parts else None
 
-    def _let_run(self, extra=None, max_cycles: int | None = None) -> str:
+    def _let_run(self, extra=None, max_cycles: int | None = None, prelude: str | None = None) -> str:
+        """Run the clock; ``prelude`` (what the panel action did) comes first in what is said,
+        also when a long run announces itself before it ends."""
         self._interrupted = False
         max_cycles = max_cycles or self.max_cycles
         condition = self._conditions(extra)
         start = self.emu.cycles
+        watch = self._watch_for_ctrl_c(prelude)
         result = run_clock(self.emu, self.recorder, condition=condition,
                            breakpoints=[b.address for b in self.breakpoints.values()],
-                           max_cycles=max_cycles, interrupted=self._watch_for_ctrl_c())
+                           max_cycles=max_cycles, interrupted=watch)
         self.last_stop = self._stop_text(result, condition, max_cycles)
         if self.emu.halt_latch and not self.emu.frozen:
             also = self.last_stop
             result = run_clock(self.emu, self.recorder, max_cycles=self._settle_cycles())
             self.last_stop = f"{self._stop_text(result, None)} (also: {also})"
         ran = self.emu.cycles - start
-        return f"{self.last_stop}\n{ran:,} cycles run. {self.here_text()}"
+        head = f"{prelude}\n" if prelude and not watch.told else ""
+        return f"{head}{self.last_stop}\n{ran:,} cycles run. {self.here_text()}"
 
-    def _watch_for_ctrl_c(self):
-        """The run's look at the Ctrl-C flag; a run that lasts says so once."""
+    def _watch_for_ctrl_c(self, prelude: str | None = None):
+        """The run's look at the Ctrl-C flag; a run that lasts says so once (after ``prelude``)."""
         started = time.monotonic()
-        told = False
 
         def interrupted() -> bool:
-            nonlocal told
-            if not told and self.announce is not None and time.monotonic() - started > ANNOUNCE_AFTER:
-                told = True
-                self.announce("the clock is running; Ctrl-C throws the stop switch")
+            if not interrupted.told and self.announce is not None and time.monotonic() - started > ANNOUNCE_AFTER:
+                interrupted.told = True
+                running = "the clock is running; Ctrl-C throws the stop switch"
+                self.announce(f"{prelude}\n{running}" if prelude else running)
             return self._interrupted
+        interrupted.told = False
         return interrupted
 
     def _pulse_until(self, condition) -> str:
@@ -388,7 +400,7 @@ class Session:
     def _released(self, was_frozen: bool, done: str) -> str:
         """After a panel action: if it let a frozen generator go, the clock now runs."""
         if was_frozen and not self.emu.frozen:
-            return f"{done}; the clock runs\n{self._let_run()}"
+            return self._let_run(prelude=f"{done}; the clock runs")
         return f"{done}; {self.state_text()}"
 
     @command("throw run|stop", "Throw the RUN/STOP switch; at run the clock starts.",
@@ -420,7 +432,7 @@ class Session:
         if e.frozen:
             return "switch at RUN; the halt latch still holds the clock ('resume' clears it)"
         if not was_frozen:
-            return f"switch at RUN\n{self._let_run()}"
+            return self._let_run(prelude="switch at RUN")
         return self._released(was_frozen, "switch at RUN")
 
     @command("pulse [N]", "Press STEP N times: N clock pulses, one micro-step each.",
@@ -482,10 +494,10 @@ class Session:
         limit = self.count(args, self.max_cycles, "cycle limit")
         e = self.emu
         if e.frozen and e.halt_latch:
-            raise DebugError(f"the halt latch holds the clock ({self.last_stop}); 'resume' clears it")
+            raise DebugError(f"the halt latch holds the clock ({self._latch_origin()}); 'resume' clears it")
         if e.frozen:
             e.set_switch_run(True)
-            return f"switch at RUN\n{self._let_run(max_cycles=limit)}"
+            return self._let_run(max_cycles=limit, prelude="switch at RUN")
         if not e.switch_run:
             e.set_switch_run(True)
         return self._let_run(max_cycles=limit)

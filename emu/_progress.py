@@ -9,8 +9,11 @@ above it instead of tearing it.
 
 from __future__ import annotations
 
+import signal
 import sys
+import threading
 import time
+from contextlib import contextmanager
 
 __all__ = ["Progress", "terminal_attached"]
 
@@ -96,7 +99,22 @@ class Progress:
         line.counter.items_completed = min(line.done, line.total)
 
     def close(self) -> None:
+        """Take the bar down; a Ctrl-C in these few milliseconds must not tear it half down."""
         if self.bar is not None:
             bar, self.bar = self.bar, None
-            self.printing.__exit__(None, None, None)
-            bar.__exit__(None, None, None)
+            with _sigint_held():
+                self.printing.__exit__(None, None, None)
+                bar.__exit__(None, None, None)
+
+
+@contextmanager
+def _sigint_held():
+    """Ignore SIGINT for the duration (main thread only; elsewhere signals cannot be set)."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, previous)

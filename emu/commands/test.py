@@ -96,8 +96,9 @@ def main(args) -> int:
                 if not args.json:
                     print("\n".join(verdict_lines(verdict)), flush=True)
     except KeyboardInterrupt:
-        print(f"relaybench: interrupted after {len(verdicts)} of {len(programs)} programs", file=sys.stderr)
-        return 130
+        if len(verdicts) < len(programs):
+            print(f"relaybench: interrupted after {len(verdicts)} of {len(programs)} programs", file=sys.stderr)
+            return 130
     passed = sum(v.passed for v in verdicts)
     if args.json:
         print(json.dumps({"passed": passed, "failed": len(verdicts) - passed,

@@ -257,6 +257,7 @@ def test_debug_takes_the_input_stream_from_the_command_line(tmp_path, monkeypatc
     """The debugger powers on with the toggles and input the options give."""
     seen = {}
     monkeypatch.setattr("emu.debugger._repl.run_repl", lambda session: seen.setdefault("emu", session.emu) and 0)
+    monkeypatch.setattr("emu.commands.debug.interactive", lambda: True)
     program = write(tmp_path, "echo.asm", "in r0, 1\nin r1, 0\nhalt\n")
     assert emu.cli.main(["debug", str(program), "--input-text", "A", "--switches", "0x21"]) == 0
     emulator = seen["emu"]

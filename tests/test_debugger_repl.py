@@ -156,5 +156,20 @@ def test_the_debug_command_runs_the_prompt(tmp_path, monkeypatch):
     write(tmp_path, KILN)
     calls = []
     monkeypatch.setattr("emu.debugger._repl.run_repl", lambda session: calls.append(session) or 0)
+    monkeypatch.setattr("emu.commands.debug.interactive", lambda: True)
     assert cli.main(["debug", "kiln.asm"]) == 0
     assert calls[0].view.labels["mark"] == 0x17
+
+
+def test_commands_from_a_pipe_give_a_transcript(tmp_path, monkeypatch, capsys):
+    """relaybench debug prog.asm < steps.txt: each command echoed after the prompt, then its answer."""
+    import io
+    write(tmp_path, KILN)
+    monkeypatch.setattr("emu.commands.debug.interactive", lambda: False)
+    monkeypatch.setattr("sys.stdin", io.StringIO("break mark\ngo\nlive\nquit\nregisters\n"))
+    assert cli.main(["debug", "kiln.asm"]) == 0
+    out = capsys.readouterr().out
+    assert "ref8> break mark\nbreakpoint 1 at 0017 mark" in out
+    assert "ref8> go\nswitch at RUN\nbreakpoint 1 at 0017 mark" in out
+    assert "ref8> live\nerror: live mode needs a terminal" in out
+    assert "ref8> registers" not in out, "nothing runs after quit"

@@ -20,7 +20,7 @@ def add_arguments(parser) -> None:
 
 def main(args) -> int:
     from emu.debugger import Session, load_view
-    from emu.debugger._repl import run_repl
+    from emu.debugger._repl import run_repl, run_script
 
     machine = machine_from(args)
     try:
@@ -32,4 +32,11 @@ def main(args) -> int:
     session = Session(machine, view)
     session.emu.switches = switches
     session.emu.input_bytes = data
+    if not interactive():
+        return run_script(session, sys.stdin)
     return run_repl(session)
+
+
+def interactive() -> bool:
+    """A person at a terminal gets the prompt; a pipe or a file of commands gets a transcript."""
+    return sys.stdin.isatty()

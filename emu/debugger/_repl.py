@@ -25,7 +25,7 @@ from prompt_toolkit.layout.controls import FormattedTextControl
 
 from ._live import LiveClock
 
-__all__ = ["HISTORY_VARIABLE", "history_path", "run_repl", "run_live"]
+__all__ = ["HISTORY_VARIABLE", "history_path", "run_repl", "run_live", "run_script"]
 
 HISTORY_VARIABLE = "RELAYBENCH_DEBUG_HISTORY"
 FRAME_SECONDS = 0.04
@@ -80,6 +80,27 @@ def _banner(session) -> str:
     return (f"relaybench debug: {program} on {m.name} ({m.nominal_hz:g} Hz nominal). "
             f"The RUN/STOP switch is at STOP.\n"
             f"'go' runs the program, 'instr' steps it, 'help' lists the commands.")
+
+
+def run_script(session, lines, write=print) -> int:
+    """Commands from a file or a pipe (``relaybench debug prog.asm < steps.txt``), echoed
+    after the prompt so the transcript reads like a session; returns the exit status."""
+    write(_banner(session))
+    session.announce = None
+    for line in lines:
+        command = line.rstrip("\n")
+        write(f"{session.machine.name}> {command}")
+        if command.strip().lower() == "live" or command.strip().lower().startswith("live "):
+            write("error: live mode needs a terminal")
+            continue
+        with _ctrl_c_is_the_stop_switch(session):
+            text = session.execute(command)
+        if text:
+            write(text)
+        if session.finished:
+            break
+    session.close()
+    return 0
 
 
 def run_repl(session, *, input=None, output=None, write=print) -> int:

@@ -166,6 +166,9 @@ def test_empty_program(capsys, tmp_path, text):
     code, _out, err = cli(capsys, "run", prog)
     assert code == 1
     assert err.strip() == f"{prog}: error: the program is empty (no instruction or data to load)"
+    code, _out, err = cli(capsys, "asm", prog)
+    assert code == 1 and not (tmp_path / "empty.hex").exists()
+    assert err.strip() == f"{prog}: error: the program is empty (no instruction or data to write)"
 
 
 def test_empty_image(capsys, tmp_path):

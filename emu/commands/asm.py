@@ -56,6 +56,9 @@ def main(args) -> int:
             return 1
         program = asm.assemble_file(source, machine)
         words = sum(len(w) for _s, w in program.segments)
+        if not words:
+            print(f"{source}: error: the program is empty (no instruction or data to write)", file=sys.stderr)
+            return 1
         if args.check:
             print(f"{source}: {words} words in {len(program.segments)} segment(s), no errors")
             return 0

@@ -227,7 +227,8 @@ def test_panel_shows_the_sequencer_mid_instruction_and_the_program_lamps(tmp_pat
     session.execute("throw stop")
     session.execute("reset")
     session.execute("pulse")
-    assert "sequencer   li rd, imm, step 2 of 2 next: rd <- mem[pc]; pc <- pc + 1" in session.execute("panel")
+    assert ("sequencer   li rd, imm (li r0, 129 at 0000), step 2 of 2 next: rd <- mem[pc]; pc <- pc + 1"
+            in session.execute("panel"))
 
 
 def test_scope_shows_the_latch_setting_and_the_freeze_after_a_halt(kiln):

@@ -101,8 +101,11 @@ def code_lines(emu, view, addresses, breakpoints) -> list[str]:
     return rows
 
 
-def panel_text(emu, state: str) -> str:
-    """The panel as a person would see it, plus what the control unit is doing."""
+def panel_text(emu, state: str, view=None) -> str:
+    """The panel as a person would see it, plus what the control unit is doing.
+
+    ``view`` (what is known of the program) puts labels into the instruction shown.
+    """
     m = emu.machine
     phase = m.phases[emu.phase_index]
     ring = " ".join(LIT if s + 1 in phase.ring else DARK for s in range(m.ring_stages))
@@ -111,7 +114,11 @@ def panel_text(emu, state: str) -> str:
         clock += ", frozen at a hold point"
     instruction, index = emu.sequencer
     total = instruction.cycles(m) if instruction else len(m.fetch)
-    doing = "fetch" if instruction is None else instruction.display
+    if instruction is None:
+        doing = "fetch"
+    else:
+        concrete, _length = asm.disassemble_at(m, emu.memory.__getitem__, emu.instruction_address, view)
+        doing = f"{instruction.display} ({concrete} at {address_hex(m, emu.instruction_address)})"
     step = emu.current_step
     lines = ", ".join(step.control_lines) or "none"
     data_bits = m.data_bits

@@ -643,7 +643,7 @@ class Session:
     @command("panel", "The panel: ring lamps, clock, hold line, latch, switch, sequencer, lamps, time.")
     def do_panel(self, args):
         self._no_arguments(args, "panel")
-        return panel_text(self.emu, self.state_text())
+        return panel_text(self.emu, self.state_text(), self.view)
 
     @command("scope [CYCLES]", "Timing diagram of the last CYCLES clock cycles (default 16).")
     def do_scope(self, args):

@@ -184,8 +184,11 @@ def read_debug(path, machine=None) -> DebugInfo:
         raise file_error(path, f"cannot read debug file ({getattr(exc, 'strerror', None) or exc})") from None
     try:
         data = json.loads(text)
+    except RecursionError:
+        raise file_error(path, "not a relaybench debug file (nested too deeply)") from None
     except json.JSONDecodeError as exc:
-        line_text = text.splitlines()[exc.lineno - 1] if text.splitlines() else ""
+        lines = text.splitlines()
+        line_text = lines[exc.lineno - 1] if exc.lineno <= len(lines) else ""
         raise AsmError([Diagnostic(path, exc.lineno, exc.colno, f"not valid JSON: {exc.msg}", line_text)]) from None
     return _Reader(path, machine).info(data)
 
@@ -230,6 +233,9 @@ class _Reader:
         files = [f if f.startswith("<") or os.path.isabs(f) else os.path.normpath(os.path.join(self.folder, f))
                  for f in files]
         labels = self.names(data, "labels")
+        for name, value in labels.items():
+            if not 0 <= value < self.words:
+                self.fail(f"top level: label '{name}' must be an address 0…{self.words - 1}, not {value}")
         constants = self.names(data, "constants")
         lines = [self.line(entry, i, files) for i, entry in enumerate(self.get(data, "lines", list, "a list", top))]
         pauses = self.get(data, "pauses", list, "a list of addresses", top)

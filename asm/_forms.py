@@ -58,6 +58,8 @@ class MachineSyntax:
         return f" (did you mean '{close[0]}'?)" if close else ""
 
     def not_a_register(self, text: str, kind: OperandKind) -> str:
+        if text.lower() in self.reserved:
+            return f"{text} cannot stand here: this operand takes {kind.describe()}"
         return f"{text} is not a register of {self.machine.name} ({kind.describe()})"
 
     def looks_like_register(self, name: str) -> str | None:

@@ -74,8 +74,14 @@ class OperandKind:
         return bool(self.registers)
 
     def describe(self) -> str:
+        """``r0–r7`` for a numbered run of registers, else the names: ``a, b or c``."""
         if self.registers:
-            return f"{self.registers[0]}–{self.registers[-1]}"
+            match = [re.fullmatch(r"(\D*)(\d+)", r) for r in self.registers]
+            if all(match) and len({m[1] for m in match}) == 1 and len(self.registers) > 2 and \
+                    [int(m[2]) for m in match] == list(range(int(match[0][2]), int(match[0][2]) + len(match))):
+                return f"{self.registers[0]}–{self.registers[-1]}"
+            return ", ".join(self.registers[:-1]) + f" or {self.registers[-1]}" if len(self.registers) > 1 \
+                else self.registers[0]
         return f"{self.low}…{self.high}"
 
 
@@ -317,6 +323,8 @@ def machine_from_text(text: str, path: str = "<machine>") -> Machine:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise MachineError(f"not valid TOML: {exc}", path=path) from None
+    except RecursionError:
+        raise MachineError("not a machine description (nested too deeply)", path=path) from None
     return _Loader(data, path).machine()
 
 
@@ -482,6 +490,8 @@ class _Loader:
                 for reg in regs:
                     if reg not in self.registers_:
                         self.fail(where, f"unknown register '{reg}' in 'registers'")
+                    if regs.count(reg) > 1:
+                        self.fail(where, f"register '{reg}' is listed twice in 'registers'")
                 bits = max(1, (len(regs) - 1).bit_length())
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
             else:
@@ -490,6 +500,9 @@ class _Loader:
                 high = self.integer(spec, "max", where, default=(1 << bits) - 1)
                 if low > high:
                     self.fail(where, f"'min' ({low}) is above 'max' ({high})")
+                if high >= 1 << bits or low < -(1 << (bits - 1)):
+                    self.fail(where, f"{bits} bits hold {-(1 << (bits - 1))}…{(1 << bits) - 1} at most "
+                                     f"(signed or unsigned), not {low}…{high}")
                 kinds[kind_name] = OperandKind(kind_name, bits, low, high)
         return kinds
 

@@ -457,8 +457,10 @@ class Emulator:
         try:
             with open(path, encoding="utf-8") as stream:
                 state = json.load(stream)
-        except (OSError, ValueError) as exc:
-            raise MachineError(f"cannot read snapshot: {exc}", path=str(path)) from None
+        except OSError as exc:
+            raise MachineError(f"cannot read snapshot ({exc.strerror or exc})", path=str(path)) from None
+        except (ValueError, RecursionError):
+            raise MachineError("not a relaybench snapshot (not readable JSON)", path=str(path)) from None
         emu = cls(machine)
         emu.restore_state(state, str(path))
         return emu
@@ -471,7 +473,9 @@ class Emulator:
                                f"not '{self.machine.name}'", path=origin)
         try:
             checked = self._checked_state(state)
-        except (KeyError, TypeError, ValueError, IndexError, zlib.error, binascii.Error) as exc:
+        except KeyError as exc:
+            raise MachineError(f"damaged snapshot (no key {exc})", path=origin) from None
+        except (TypeError, ValueError, IndexError, zlib.error, binascii.Error) as exc:
             raise MachineError(f"damaged snapshot ({exc})", path=origin) from None
         slots, memory = checked
         for name, value in slots.items():
@@ -490,6 +494,8 @@ class Emulator:
     def _checked_state(self, state: dict):
         """Every value of a snapshot checked before any is used, so a bad file changes nothing."""
         machine = self.machine
+        if state.get("version") != 1:
+            raise ValueError(f"version {state.get('version')!r}; this relaybench reads version 1")
         slots = state["slots"]
         if set(slots) != set(self._slots):
             raise ValueError("the registers and flags do not match the machine")
@@ -504,11 +510,11 @@ class Emulator:
             raise ValueError(f"memory holds {len(memory)} words, not {machine.memory_words}")
         ring = state["ring"]
         _require_int(ring["index"], "ring index", 0, len(machine.phases) - 1)
-        _require_int(ring["time_ns"], "time", 0)
+        _require_int(ring["time_ns"], "time", 0, _COUNTER_MAX)
         if len(ring["turn"]) != len(machine.phases):
             raise ValueError("the ring's phase durations do not match the phase table")
         for duration in ring["turn"]:
-            _require_int(duration, "phase duration", 1)
+            _require_int(duration, "phase duration", 1, _COUNTER_MAX)
         for key in ("frozen", "released", "switch_run", "halt_latch"):
             if not isinstance(state[key], bool):
                 raise ValueError(f"'{key}' is not true or false")
@@ -520,13 +526,17 @@ class Emulator:
         if state["halt_address"] is not None:
             _require_int(state["halt_address"], "halt address", 0, top)
         _require_int(state["instruction_address"], "instruction address", 0, top)
-        _require_int(state["cycles"], "cycles", 0)
-        _require_int(state["instructions"], "instructions", 0)
+        _require_int(state["cycles"], "cycles", 0, _COUNTER_MAX)
+        _require_int(state["instructions"], "instructions", 0, _COUNTER_MAX)
         for address, count in state["undefined"]:
             _require_int(address, "undefined opcode address", 0, top)
-            _require_int(count, "undefined opcode count", 1)
+            _require_int(count, "undefined opcode count", 1, _COUNTER_MAX)
         Ports(machine).restore(state["ports"])
         return slots, memory
+
+
+_COUNTER_MAX = 1 << 63
+"""Bound on counters and times read from a snapshot (centuries of simulated time)."""
 
 
 def _require_int(value, what: str, low: int, high: int | None = None) -> None:

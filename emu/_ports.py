@@ -67,9 +67,14 @@ class Ports:
 
     def restore(self, state: dict) -> None:
         """Raises ValueError or TypeError, before changing anything, on a damaged state."""
-        for key in ("lamps", "switches", "input_position"):
-            if not isinstance(state[key], int) or state[key] < 0:
-                raise ValueError(f"'{key}' is not a count or word")
+        for key, top in (("lamps", self._mask), ("switches", self._mask), ("input_position", 1 << 63)):
+            value = state[key]
+            if not isinstance(value, int) or isinstance(value, bool) or not 0 <= value <= top:
+                raise ValueError(f"'{key}' is not a word or count of this machine")
+        for entry in state["unmapped"]:
+            direction, port, count = entry
+            if direction not in ("in", "out") or not isinstance(port, int) or not isinstance(count, int):
+                raise ValueError("'unmapped' entries must be [\"in\"|\"out\", port, count]")
         if state["input_position"] > len(state["input"]) // 2:
             raise ValueError("the input position is past the input stream")
         self.output = bytearray.fromhex(state["output"])

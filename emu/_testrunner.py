@@ -96,6 +96,8 @@ def read_panel_file(path: Path, machine: Machine) -> PanelSettings:
         fail(f"cannot read the panel file ({exc})")
     except tomllib.TOMLDecodeError as exc:
         fail(f"not valid TOML: {exc}")
+    except RecursionError:
+        fail("not a panel file (nested too deeply)")
     known = ("switches", "input", "input_file", "max_cycles")
     for key in data:
         if key not in known:

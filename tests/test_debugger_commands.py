@@ -470,3 +470,13 @@ def test_acc12_pulses_and_breakpoints(gauge):
     assert "\nbreakpoint 1 at 04 done gauge.asm:6" in gauge.execute("go")
     rows = gauge.execute("scope 2").splitlines()
     assert any(r.startswith("stage 5") for r in rows)
+
+
+def test_stepping_by_pulses_stops_at_the_cycle_limit(tmp_path):
+    """'leave' at the top of an endless loop pulses STEP until the limit, not for ever."""
+    session = session_for(tmp_path, "top: inc r0\njmp top\n", max_cycles=5_000)
+    before = session.emu.cycles
+    reply = session.execute("leave")
+    assert "cycle limit of 5,000 reached while stepping" in reply
+    assert session.emu.cycles - before == 5_000
+    assert "cycle limit of 5,000 reached while stepping" in session.execute("instr 99999999999999999999")

@@ -187,7 +187,7 @@ def test_restore_refuses_another_machines_snapshot(tmp_path):
     with pytest.raises(MachineError, match="machine 'ref8', not 'acc12'"):
         Emulator.restore(path, MACHINES["acc12"])
     path.write_text("{not json")
-    with pytest.raises(MachineError, match="cannot read snapshot"):
+    with pytest.raises(MachineError, match="not a relaybench snapshot"):
         Emulator.restore(path, MACHINES["ref8"])
 
 

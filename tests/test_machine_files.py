@@ -424,3 +424,28 @@ def test_slips_a_typo_could_make(old, new, message):
     with pytest.raises(emu.MachineError) as caught:
         emu.machine_from_text(text.replace(old, new, 1), "ref8.toml")
     assert str(caught.value) == message
+
+
+@pytest.mark.parametrize("old, new, message", [
+    ('imm8 = { bits = 8, min = -128, max = 255 }', 'imm8 = { bits = 8, min = -128, max = 999 }',
+     "ref8.toml: [operands] imm8: 8 bits hold -128…255 at most (signed or unsigned), not -128…999"),
+    ('reg = { registers = ["r0", "r1",', 'reg = { registers = ["r0", "r0",',
+     "ref8.toml: [operands] reg: register 'r0' is listed twice in 'registers'"),
+], ids=["range wider than its bits", "a register listed twice"])
+def test_operand_kinds_that_could_not_work(old, new, message):
+    text = (Path(emu.__file__).parent / "machines" / "ref8.toml").read_text()
+    assert old in text
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(text.replace(old, new, 1), "ref8.toml")
+    assert str(caught.value) == message
+
+
+def test_a_register_of_the_machine_outside_an_operand_kind_is_named_as_such():
+    import asm
+    text = (Path(emu.__file__).parent / "machines" / "ref8.toml").read_text()
+    text += '\n[[instruction]]\nsyntax = "clr rd:few"\nencoding = ["10011 0 rd"]\nsteps = ["rd <- 0"]\n'
+    text = text.replace('[operands]\n', '[operands]\nfew = { registers = ["r0", "r5", "r7"] }\n', 1)
+    machine = emu.machine_from_text(text, "ref8.toml")
+    with pytest.raises(asm.AsmError) as caught:
+        asm.assemble_text("clr r1\n", machine, "p.asm")
+    assert caught.value.diagnostics[0].message == "r1 cannot stand here: this operand takes r0, r5 or r7"

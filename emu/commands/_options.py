@@ -30,7 +30,7 @@ def add_machine_option(parser: argparse.ArgumentParser) -> None:
 def add_panel_options(parser: argparse.ArgumentParser) -> None:
     """The panel toggles and the input stream, as run and debug take them."""
     parser.add_argument("--switches", metavar="V", type=number, default=None,
-                        help="the panel toggles, e.g. 0b00101010 (default 0)")
+                        help="the panel toggles, e.g. 0b00101010 (default: the program's panel file, else 0)")
     source = parser.add_mutually_exclusive_group()
     source.add_argument("--input", metavar="FILE", help="bytes of the input stream, from a file")
     source.add_argument("--input-text", metavar="S",

@@ -5,6 +5,7 @@ from __future__ import annotations
 import sys
 
 from emu._runner import ProgramError
+from emu._testrunner import panel_path_for
 
 from ._options import add_machine_option, add_panel_options, keep_parser, machine_from, panel_settings
 
@@ -32,6 +33,8 @@ def main(args) -> int:
     session = Session(machine, view)
     session.emu.switches = switches
     session.emu.input_bytes = data
+    if panel_path_for(args.program).exists():
+        print(f"toggles and input stream from {panel_path_for(args.program)} (options override it)")
     if not interactive():
         return run_script(session, sys.stdin)
     return run_repl(session)

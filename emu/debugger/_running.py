@@ -51,7 +51,19 @@ def run_clock(emu: Emulator, recorder: Recorder, *, condition=None, breakpoints=
     """Run the generator until it freezes, a breakpoint, ``condition`` or the limit.
 
     ``recorder`` must be attached to ``emu``; it is attached again afterwards.
+    On an irregular clock the run keeps the recorder (and so steps phase by
+    phase): a replay could not draw the same phase durations again.
     """
+    if emu.clock_source is not None:
+        flip: list[int] = []
+
+        def watch_for_ctrl_c(e: Emulator) -> None:
+            if interrupted() and e.switch_run:
+                flip.append(e.cycles)
+                e.set_switch_run(False)
+        stop = emu.run(max_cycles=max_cycles, until=condition, breakpoints=breakpoints,
+                       chunk=watch_for_ctrl_c, chunk_cycles=CHUNK_CYCLES)
+        return RunResult(stop, bool(flip), True)
     emu.unobserve(recorder)
     start = _Checkpoint(emu.cycles, emu.snapshot_state(), _clone(condition))
     recent: list[_Checkpoint] = []

@@ -383,6 +383,9 @@ class Session:
         interrupted = self._watch_for_ctrl_c()
         while e.press_step():
             pulses += 1
+            if pulses >= self.max_cycles:
+                why = f"cycle limit of {self.max_cycles:,} reached while stepping"
+                break
             if e.at_instruction_boundary:
                 if condition(e):
                     why = self._condition_text(condition)

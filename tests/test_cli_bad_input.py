@@ -17,6 +17,8 @@ import time
 
 import pytest
 
+import emu
+
 from cli_support import ACC12, ROOT, cli, cli_process, write
 
 GOOD = "li r0, 1\nhalt\n"
@@ -268,3 +270,25 @@ def test_a_debug_file_left_from_another_assembly_is_refused(tmp_path, capsys):
     assert cli(capsys, "asm", source, "-o", tmp_path / "q.bin")[0] == 0
     code, out, _err = cli(capsys, "run", tmp_path / "q.bin", "--json")
     assert code == 0 and json.loads(out)["pc"] == 3      # the same debug file fits the raw binary
+
+
+@pytest.mark.parametrize("text, message", [
+    ('{"format": "relaybench-debug", \n', "not valid JSON"),
+    ("[" * 100_000 + "]" * 100_000, "nested too deeply"),
+], ids=["cut off after a newline", "nested too deeply"])
+def test_a_broken_debug_file_is_one_line_not_a_traceback(tmp_path, capsys, text, message):
+    source = write(tmp_path, "p.asm", "halt\n")
+    assert cli(capsys, "asm", source)[0] == 0
+    (tmp_path / "p.dbg.json").write_text(text)
+    for command in ("run", "dis", "test"):
+        code, out, err = cli(capsys, command, tmp_path / "p.hex")
+        assert code == 1 and message in err + out and "Traceback" not in err
+
+
+def test_deeply_nested_machine_file_and_snapshot_are_refused(tmp_path, capsys):
+    deep = write(tmp_path, "deep.toml", "a = " + "[" * 100_000 + "]" * 100_000 + "\n")
+    code, _out, err = cli(capsys, "isa", "--machine", deep)
+    assert code == 1 and "nested too deeply" in err
+    snapshot = write(tmp_path, "deep.json", "[" * 100_000 + "]" * 100_000)
+    with pytest.raises(emu.MachineError, match="not a relaybench snapshot"):
+        emu.Emulator.restore(snapshot, emu.load_machine("ref8"))

@@ -91,3 +91,13 @@ def test_vcd_and_waves_refuse_a_folder(tmp_path, capsys):
     machine = load_machine("ref8")
     session = Session(machine, load_view(str(FARES), machine))
     assert session.execute(f"waves {tmp_path}") == f"error: cannot write {tmp_path}: Is a directory"
+
+
+def test_scope_follows_the_run_on_an_irregular_clock():
+    machine = load_machine("ref8")
+    session = Session(machine, load_view(str(FARES), machine))
+    session.execute("go 100")
+    session.execute("beat 3")
+    session.execute("go 20")
+    assert session.emu.cycles == 120
+    assert session.execute("scope 4").splitlines()[0] == "cycles 117 to 120"

@@ -41,7 +41,8 @@ def disassembly(args, machine) -> str:
     debug = asm.read_debug(debug_path, machine) if debug_path else None
     if debug is not None and debug.image_crc32 not in (None, asm.image_fingerprint(segments)):
         raise asm.AsmError([asm.Diagnostic(str(debug_path), None, None,
-                                           f"this debug file was written for another image than {image}")])
+                                           f"this debug file was written for another image than {image} "
+                                           f"(assemble again, or pass --no-debug)")])
     lines = [f"; {image} ({'Intel HEX' if kind == 'hex' else 'raw binary'}) for {machine.name}"]
     for start, words in segments:
         lines.extend(asm.disassemble(machine, words, start, debug))

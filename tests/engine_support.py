@@ -7,11 +7,12 @@ small values so that jumps, loads and stores land inside the program.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from pathlib import Path
 
 from hypothesis import strategies as st
 
-from emu import Emulator, load_machine
+from emu import Emulator, Observer, load_machine
 
 ACC12_PATH = Path(__file__).parent / "machines" / "acc12.toml"
 MACHINES = {"ref8": load_machine("ref8"), "acc12": load_machine(ACC12_PATH)}
@@ -72,3 +73,39 @@ def datapath_state(emu: Emulator) -> tuple:
     registers_and_flags = emu._s[:emu.machine.undriven_slot]
     return (tuple(int(v) for v in registers_and_flags), bytes(emu.memory) if isinstance(emu.memory, bytearray)
             else tuple(emu.memory), bytes(emu.output), emu.lamps, emu.ports.input_position)
+
+
+# ----- one-program runs for the instruction tests ---------------------------------------
+
+@dataclass
+class Run:
+    emu: Emulator
+    before: dict[str, int]
+    memory_before: list[int]
+    stop: object
+
+
+def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
+    """Words of the instruction forms given as (display, field values)."""
+    words = []
+    for display, values in parts:
+        words += forms[display].encode(values)
+    return words
+
+
+def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",
+                max_cycles=200) -> Run:
+    """Load, set ``values`` (registers, pairs, flags by name), run on the ``path`` asked for."""
+    emulator = Emulator(machine)
+    if path == "stepped":
+        emulator.observe(Observer())
+    emulator.load([(0, words)])
+    for address, value in (memory or {}).items():
+        emulator.memory[address] = value
+    for name, value in (values or {}).items():
+        emulator.set(name, value)
+    emulator.switches = switches
+    emulator.input_bytes = input_bytes
+    names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
+    before = {name: emulator.get(name) for name in names}
+    return Run(emulator, before, list(emulator.memory), emulator.run(max_cycles=max_cycles))

@@ -20,7 +20,6 @@ cycle lets one more fetch run before the freeze (pc one further on).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -29,6 +28,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import emu
+
+from engine_support import Run, encode_forms, run_program
 
 ACC12 = emu.load_machine(Path(__file__).parent / "machines" / "acc12.toml")
 FORMS = {ins.display: ins for ins in ACC12.instructions}
@@ -68,19 +69,8 @@ def reference_sub(a: int, b: int) -> tuple[int, int]:
 
 # ----- running one program -----------------------------------------------------------
 
-@dataclass
-class Run:
-    emu: emu.Emulator
-    before: dict[str, int]
-    memory_before: list[int]
-    stop: emu.StopReason
-
-
 def program(*parts: tuple[str, dict]) -> list[int]:
-    words = []
-    for display, values in parts:
-        words += FORMS[display].encode(values)
-    return words
+    return encode_forms(FORMS, *parts)
 
 
 def stop_after(words) -> list[int]:
@@ -89,20 +79,8 @@ def stop_after(words) -> list[int]:
 
 def execute(words, path, *, acc=0, flags=None, memory=None, switches=0, input_bytes=b"",
             max_cycles=200) -> Run:
-    machine = emu.Emulator(ACC12)
-    if path == "stepped":
-        machine.observe(emu.Observer())
-    machine.load([(0, words)])
-    for address, value in (memory or {}).items():
-        machine.memory[address] = value
-    machine.set("acc", acc)
-    for name, value in (flags or {}).items():
-        machine.set(name, value)
-    machine.switches = switches
-    machine.input_bytes = input_bytes
-    before = {name: machine.get(name) for name in VISIBLE + FLAGS}
-    memory_before = list(machine.memory)
-    return Run(machine, before, memory_before, machine.run(max_cycles=max_cycles))
+    return run_program(ACC12, words, path, values={"acc": acc, **(flags or {})}, memory=memory,
+                       switches=switches, input_bytes=input_bytes, max_cycles=max_cycles)
 
 
 def cycles_of(*displays: str) -> int:

@@ -27,12 +27,15 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import emu
+
+from engine_support import Run, encode_forms, run_program
 
 REF8 = emu.load_machine("ref8")
 FORMS = {ins.display: ins for ins in REF8.instructions}
@@ -150,42 +153,16 @@ def reference_unary(op: str, a: int, carry: int) -> Expected:
 
 # ----- running one program -----------------------------------------------------
 
-@dataclass
-class Run:
-    emu: emu.Emulator
-    before: dict[str, int]
-    memory_before: bytes
-    stop: emu.StopReason
-
-
 def program(*parts: tuple[str, dict]) -> list[int]:
-    """Words of the instruction forms given as (display, field values)."""
-    words = []
-    for display, values in parts:
-        words += FORMS[display].encode(values)
-    return words
+    return encode_forms(FORMS, *parts)
 
 
 def execute(words, path, *, registers=None, flags=None, memory=None, x=None, sp=None,
             switches=0, input_bytes=b"", max_cycles=200) -> Run:
-    machine = emu.Emulator(REF8)
-    if path == "stepped":
-        machine.observe(emu.Observer())
-    machine.load([(0, words)])
-    for address, value in (memory or {}).items():
-        machine.memory[address] = value
-    for name, value in {**(registers or {}), **(flags or {})}.items():
-        machine.set(name, value)
-    if x is not None:
-        machine.set("x", x)
-    if sp is not None:
-        machine.set("sp", sp)
-    machine.switches = switches
-    machine.input_bytes = input_bytes
-    before = {name: machine.get(name) for name in VISIBLE + FLAGS}
-    memory_before = bytes(machine.memory)
-    stop = machine.run(max_cycles=max_cycles)
-    return Run(machine, before, memory_before, stop)
+    values = {**(registers or {}), **(flags or {})}
+    values.update({name: v for name, v in (("x", x), ("sp", sp)) if v is not None})
+    return run_program(REF8, words, path, values=values, memory=memory, switches=switches,
+                       input_bytes=input_bytes, max_cycles=max_cycles)
 
 
 def check(run: Run, changes: dict[str, int], memory_changes: dict[int, int] | None = None,

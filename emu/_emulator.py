@@ -359,18 +359,7 @@ class Emulator:
         target = None if max_cycles is None else self.cycles + max_cycles
         points = frozenset(breakpoints)
         applied = [0, 0]
-        watch = None
-        if points or until is not None:
-            s, pc = self._s, self._pc
-
-            def watch(cycles=0, count=0):
-                if s[pc] in points:
-                    return True
-                if until is None:
-                    return False
-                self._account(cycles - applied[0], count - applied[1])
-                applied[:] = cycles, count
-                return until(self)
+        watch = self._watcher(points, until, applied) if points or until is not None else None
         next_chunk = self.cycles + chunk_cycles
         while True:
             if self.frozen:
@@ -401,6 +390,25 @@ class Emulator:
             self.advance_phase()
             if self.instructions != done and watch is not None and watch():
                 return self._watch_reason(points)
+
+    def _watcher(self, points, until, applied):
+        """The check made after every instruction of a watched run.
+
+        On the fast path it is called with the run's own counts so far;
+        ``applied`` remembers how much of them the counters already hold, so
+        ``until`` sees cycles, ring and time up to date.
+        """
+        s, pc = self._s, self._pc
+
+        def watch(cycles=0, count=0):
+            if s[pc] in points:
+                return True
+            if until is None:
+                return False
+            self._account(cycles - applied[0], count - applied[1])
+            applied[:] = cycles, count
+            return until(self)
+        return watch
 
     def _account(self, cycles: int, count: int) -> None:
         """Bring counters and the ring up to date with work the fast path has done."""

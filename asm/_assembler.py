@@ -151,7 +151,9 @@ class _Assembly:
             self.diagnostics.append(Diagnostic(filename, None, None, "expressions or includes nested too deeply"))
         if self.diagnostics:
             order = {name: i for i, name in enumerate(self.sources)}
-            self.diagnostics.sort(key=lambda d: (order.get(d.file, -1), d.line or 0, d.column or 0))
+            # An include that cannot be read comes first: the undefined labels it causes follow from it.
+            self.diagnostics.sort(key=lambda d: (not d.message.startswith("cannot read include file"),
+                                                 order.get(d.file, -1), d.line or 0, d.column or 0))
             raise AsmError(self.diagnostics)
         return Program(
             machine=self.machine, segments=segments_of(image), labels=dict(self.labels),

@@ -215,3 +215,12 @@ def test_a_number_with_absurdly_many_digits_is_a_located_error():
     (diagnostic,) = caught.value.diagnostics
     assert (diagnostic.line, diagnostic.column) == (1, 8)
     assert diagnostic.message.startswith("the number 0xffffffffff")
+
+
+def test_an_unreadable_include_is_reported_before_the_labels_it_would_have_defined():
+    source = "call greet\nhalt\n.include \"missing.inc\"\n"
+    with pytest.raises(asm.AsmError) as caught:
+        asm.assemble_text(source, emu.load_machine("ref8"), "main.asm")
+    first, second = caught.value.diagnostics
+    assert first.line == 3 and first.message.startswith("cannot read include file 'missing.inc'")
+    assert second.line == 1 and second.message.startswith("undefined label 'greet'")

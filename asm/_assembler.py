@@ -13,7 +13,7 @@ import difflib
 import os
 from dataclasses import dataclass, field
 
-from emu import Machine
+from emu.description import Machine
 
 from ._debuginfo import Expect, LineEntry
 from ._errors import AsmError, Diagnostic, file_error

@@ -11,8 +11,8 @@ from __future__ import annotations
 
 import weakref
 
-from emu import Instruction, Machine
-from emu._rtl import Assign, Mem, Name, walk
+from emu.description import Instruction, Machine
+from emu.description.notation import Assign, Mem, Name, walk
 
 
 __all__ = ["disassemble", "disassemble_at"]

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import os
 
-from emu._files import write_atomic as _write_atomic
+from emu.files import write_atomic as _write_atomic
 
 from ._errors import file_error
 

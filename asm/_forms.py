@@ -12,7 +12,7 @@ import difflib
 import re
 from dataclasses import dataclass
 
-from emu import Instruction, Machine, OperandKind
+from emu.description import Instruction, Machine, OperandKind
 
 from ._expr import Expr, Name
 from ._syntax import InstructionLine, Operand

@@ -18,7 +18,7 @@ import os
 import re
 from pathlib import Path
 
-from emu import Machine
+from emu.description import Machine
 
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic

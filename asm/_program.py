@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from functools import cached_property
 
-from emu import Machine
+from emu.description import Machine
 
 from ._debuginfo import Expect, LineEntry, debug_dict, source_map_of
 from ._files import write_atomic

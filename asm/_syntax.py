@@ -17,7 +17,7 @@ import lark
 from lark import v_args
 
 from ._errors import Diagnostic
-from emu._numbers import decode_escapes, literal_value
+from emu.description.notation import decode_escapes, literal_value
 
 from ._expr import Binary, Call, Expr, Group, Here, Invalid, Name, Number, Unary
 

@@ -1,11 +1,16 @@
-"""relaybench's engine: machine descriptions, the micro-step compiler, the
-clock and control unit, and the emulator built from them."""
+"""relaybench's machine side: the machine description and the engine built from it.
 
-from ._description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern,
-                           Phase, Register, RegisterPair, Step, load_machine,
-                           machine_from_text, shipped_machines)
-from ._emulator import Emulator, Observer, StopReason
-from ._errors import MachineError
+``emu.description`` is what a builder writes down (model, loader, design
+rules, notation); ``emu.engine`` is where it runs (micro-step compiler,
+control unit, clock ring, ports); ``emu.runs`` loads and runs programs
+headless; ``emu.debugger`` is the panel in a terminal; ``emu.timing`` the
+clock as parts, waveforms and wear; ``emu.commands`` the sub-commands.
+"""
+
+from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,
+                          RegisterPair, Step, load_machine, machine_from_text, shipped_machines)
+from .engine import Emulator, Observer, StopReason
+from .errors import MachineError
 
 __all__ = [
     "Emulator", "Field", "Flag", "Instruction", "Machine", "MachineError", "OperandKind",

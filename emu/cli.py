@@ -13,7 +13,7 @@ import importlib
 import importlib.metadata
 import sys
 
-from ._errors import MachineError
+from .errors import MachineError
 
 COMMANDS = ("run", "test", "asm", "dis", "isa", "debug", "clock")
 

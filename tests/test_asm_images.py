@@ -10,7 +10,7 @@ from hypothesis import given, settings, strategies as st
 
 import asm
 import emu
-from asm._image import intel_hex_text, parse_intel_hex
+from asm import intel_hex_text, parse_intel_hex
 
 HERE = Path(__file__).parent
 REF8 = emu.load_machine("ref8")

@@ -11,8 +11,8 @@ from hypothesis import strategies as st
 import asm
 import emu
 import emu.cli
-from emu._runner import load_program, report, run_loaded
-from emu._summary import format_duration, format_rate
+from emu.runs import load_program, report, run_loaded
+from emu.runs import format_duration, format_rate
 
 from cli_support import ACC12, PROGRAMS, cli, write
 
@@ -209,7 +209,7 @@ def test_run_adds_like_python(a, b):
 
 
 def load_program_from(program):
-    from emu._runner import LoadedProgram
+    from emu.runs import LoadedProgram
     return LoadedProgram("sum.asm", "source", program.segments, frozenset(program.pauses))
 
 
@@ -224,7 +224,7 @@ def test_runner_loads_any_kind(tmp_path, capsys):
 
 
 def test_progress_stays_silent_when_disabled_or_early():
-    from emu._progress import Progress
+    from emu.commands import Progress
     with Progress(enabled=False, delay=0) as quiet:
         line = quiet.line("run", 100)
         line.update(50)
@@ -236,7 +236,7 @@ def test_progress_stays_silent_when_disabled_or_early():
 
 def test_no_progress_bar_when_piped(capsys, tmp_path):
     """Under capture stdout is no terminal, so only the summary is printed."""
-    from emu._progress import terminal_attached
+    from emu.commands import terminal_attached
     assert not terminal_attached()
     loop = write(tmp_path, "loop.asm", "top: jmp top\n")
     code, out, err = cli(capsys, "run", loop, "--max-cycles", "3000000")
@@ -256,7 +256,7 @@ def test_run_takes_the_panel_file_and_options_win_over_it(capsys):
 def test_debug_takes_the_input_stream_from_the_command_line(tmp_path, monkeypatch):
     """The debugger powers on with the toggles and input the options give."""
     seen = {}
-    monkeypatch.setattr("emu.debugger._repl.run_repl", lambda session: seen.setdefault("emu", session.emu) and 0)
+    monkeypatch.setattr("emu.debugger.run_repl", lambda session: seen.setdefault("emu", session.emu) and 0)
     monkeypatch.setattr("emu.commands.debug.interactive", lambda: True)
     program = write(tmp_path, "echo.asm", "in r0, 1\nin r1, 0\nhalt\n")
     assert emu.cli.main(["debug", str(program), "--input-text", "A", "--switches", "0x21"]) == 0

@@ -15,7 +15,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import emu
-from emu._clock import Ring
+from emu.engine import Ring
 
 MACHINES = {
     "ref8": emu.load_machine("ref8"),

@@ -17,7 +17,7 @@ from pathlib import Path
 import pytest
 
 import emu
-from emu._codegen import compile_machine
+from emu.engine import compile_machine
 
 ACC12_PATH = Path(__file__).parent / "machines" / "acc12.toml"
 MACHINES = {"ref8": emu.load_machine("ref8"), "acc12": emu.load_machine(ACC12_PATH)}

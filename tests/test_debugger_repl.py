@@ -16,8 +16,7 @@ from prompt_toolkit.input import create_pipe_input
 from prompt_toolkit.output import DummyOutput
 
 from emu import cli
-from emu.debugger._live import LiveClock
-from emu.debugger._repl import HISTORY_VARIABLE, history_path, run_live, run_repl
+from emu.debugger import HISTORY_VARIABLE, LiveClock, history_path, run_live, run_repl
 
 from debugger_programs import KILN, SOAK, session_for, write
 
@@ -155,7 +154,7 @@ def test_the_debug_command_needs_a_program(capsys):
 def test_the_debug_command_runs_the_prompt(tmp_path, monkeypatch):
     write(tmp_path, KILN)
     calls = []
-    monkeypatch.setattr("emu.debugger._repl.run_repl", lambda session: calls.append(session) or 0)
+    monkeypatch.setattr("emu.debugger.run_repl", lambda session: calls.append(session) or 0)
     monkeypatch.setattr("emu.commands.debug.interactive", lambda: True)
     assert cli.main(["debug", "kiln.asm"]) == 0
     assert calls[0].view.labels["mark"] == 0x17

@@ -57,7 +57,7 @@ register_values = st.fixed_dictionaries({name: byte for name in GENERAL})
 data_address = st.integers(0x0100, 0xFFFF)
 
 
-# ----- reference arithmetic (independent of emu._alu) ------------------------
+# ----- reference arithmetic (independent of emu.description) ------------------------
 
 def signed8(value: int) -> int:
     """Two's-complement reading of a byte, via numpy's int8 view."""

@@ -404,7 +404,7 @@ def test_a_deleted_line_or_a_wrong_value_is_a_machine_error_or_a_working_machine
 
 def test_micro_step_numbers_read_as_in_the_assembler():
     """Leading zeros are decimal, as spec §4 numbers are; an absurd literal is a located error."""
-    from emu._rtl import Name, Offset, parse_step
+    from emu.description.notation import Name, Offset, parse_step
     assert parse_step("pc <- pc + 09")[0].value == Offset(Name("pc"), 9)
     with pytest.raises(emu.MachineError, match="has too many digits"):
         parse_step("pc <- pc + " + "9" * 200)

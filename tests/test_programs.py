@@ -13,8 +13,8 @@ import zlib
 import pytest
 
 import emu
-from emu._runner import load_program, run_loaded
-from emu._testrunner import panel_path_for, read_panel_file
+from emu.runs import load_program, run_loaded
+from emu.runs import panel_path_for, read_panel_file
 
 from cli_support import PROGRAMS, cli
 

@@ -10,7 +10,7 @@ import pytest
 
 from emu import load_machine
 from emu.timing import monte_carlo, timing_model
-from emu.timing._model import PARTS
+from emu.timing import PARTS
 
 REF8 = load_machine("ref8")
 

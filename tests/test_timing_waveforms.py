@@ -13,7 +13,7 @@ from vcdvcd import VCDVCD
 
 from emu import Emulator, Observer, load_machine
 from emu.timing import control_lines, count_wear, record_vcd, spread_source
-from emu.timing._vcd import signal_name
+from emu.timing import signal_name
 
 MACHINES = {name: load_machine(name) for name in ("ref8", "tests/machines/acc12.toml")}
 

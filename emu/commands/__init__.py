@@ -1,1 +1,10 @@
-"""Sub-commands of ``relaybench``; the table lives in ``emu.cli.COMMANDS``."""
+"""Sub-commands of ``relaybench``; the table lives in ``emu.cli.COMMANDS``.
+
+Each sub-command is a module of its own with ``SUMMARY``, ``add_arguments``
+and ``main``; ``_options`` holds the option types they share and
+``_progress`` the progress bar shown on a terminal.
+"""
+
+from ._progress import Progress, terminal_attached
+
+__all__ = ["Progress", "terminal_attached"]

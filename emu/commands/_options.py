@@ -11,10 +11,10 @@ from __future__ import annotations
 import argparse
 import sys
 
-from .._description import Machine, load_machine
-from .._numbers import NUMBER_FORMS, decode_escapes, parse_number
-from .._runner import ProgramError
-from .._testrunner import panel_path_for, read_panel_file
+from ..description import Machine, load_machine
+from ..description.notation import NUMBER_FORMS, decode_escapes, parse_number
+from ..runs import ProgramError
+from ..runs import panel_path_for, read_panel_file
 
 __all__ = [
     "add_machine_option", "add_panel_options", "input_stream", "panel_settings", "keep_parser", "usage_error", "number", "seed", "cycle_count",

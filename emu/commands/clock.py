@@ -17,10 +17,9 @@ import sys
 import numpy as np
 
 from .. import MachineError
-from .._files import write_atomic
-from .._progress import Progress, terminal_attached
-from ..timing import has_timing, monte_carlo, timing_model
-from ..timing._montecarlo import METRICS, PERCENTILES
+from ..files import write_atomic
+from ._progress import Progress, terminal_attached
+from ..timing import METRICS, PERCENTILES, has_timing, monte_carlo, timing_model
 from ._options import add_machine_option, keep_parser, machine_from, number, seed, usage_error
 
 SUMMARY = "clock timing: nominal rate, and the spread that tolerances of the parts give"

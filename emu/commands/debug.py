@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import sys
 
-from emu._runner import ProgramError
-from emu._testrunner import panel_path_for
+from emu.runs import ProgramError
+from emu.runs import panel_path_for
 
 from ._options import add_machine_option, add_panel_options, keep_parser, machine_from, panel_settings
 
@@ -20,8 +20,7 @@ def add_arguments(parser) -> None:
 
 
 def main(args) -> int:
-    from emu.debugger import Session, load_view
-    from emu.debugger._repl import run_repl, run_script
+    from emu.debugger import Session, load_view, run_repl, run_script
 
     machine = machine_from(args)
     try:

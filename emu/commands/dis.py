@@ -13,7 +13,7 @@ from pathlib import Path
 
 import asm
 
-from .._files import write_atomic
+from ..files import write_atomic
 from ._options import add_machine_option, keep_parser, machine_from
 
 SUMMARY = "disassemble an Intel HEX or raw binary image, with labels from its debug file"

@@ -11,9 +11,9 @@ from __future__ import annotations
 import json
 import sys
 
-from .._codegen import compile_machine
-from .._description import Instruction, Machine
-from .._summary import format_rate
+from ..engine import compile_machine
+from ..description import Instruction, Machine
+from ..runs import format_rate
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
 SUMMARY = "print the instruction table (encoding, micro-steps, cycles, flags) of a machine"

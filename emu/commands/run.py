@@ -1,6 +1,6 @@
 """``relaybench run``: run a program headless (spec §5 is the contract).
 
-The work is in ``emu._runner``; this module only turns options into a call
+The work is in ``emu.runs``; this module only turns options into a call
 and the result into the summary or the JSON object and the exit status:
 0 at a halt, 3 at the cycle limit, 1 for a bad program or machine file,
 2 for a bad command line, 130 when interrupted.
@@ -12,9 +12,9 @@ import json
 import sys
 from contextlib import ExitStack
 
-from .._progress import Progress, terminal_attached
-from .._runner import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
-from .._summary import format_duration, format_summary
+from ._progress import Progress, terminal_attached
+from ..runs import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
+from ..runs import format_duration, format_summary
 from ..timing import count_wear, format_wear, record_vcd, spread_source
 from ._options import (add_machine_option, add_panel_options, check_range, cycle_count, keep_parser,
                        machine_from, memory_range, panel_settings, print_program_error, seed,

@@ -3,7 +3,7 @@
 One line per program, then a line for each failing check with its
 file:line, what was expected and what the machine held. Exit 0 when every
 program passed, 1 otherwise (also when no program was found), 130 when
-interrupted. The judging is in ``emu._testrunner``.
+interrupted. The judging is in ``emu.runs``.
 """
 
 from __future__ import annotations
@@ -11,10 +11,10 @@ from __future__ import annotations
 import json
 import sys
 
-from .._progress import Progress, terminal_attached
-from .._summary import format_duration
-from .._runner import DEFAULT_MAX_CYCLES
-from .._testrunner import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
+from ._progress import Progress, terminal_attached
+from ..runs import format_duration
+from ..runs import DEFAULT_MAX_CYCLES
+from ..runs import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
 from ._options import add_machine_option, cycle_count, keep_parser, machine_from
 
 SUMMARY = "run programs and check their .expect lines; exit 0 when all pass"

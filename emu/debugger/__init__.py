@@ -7,9 +7,13 @@ terminal.
 """
 
 from ._calls import CallShape, call_shape
+from ._live import LiveClock
 from ._program import ProgramView, empty_view, load_view
 from ._session import COMMANDS, Command, DebugError, Session
+from ._repl import (FRAME_SECONDS, HISTORY_VARIABLE, ctrl_c_is_the_stop_switch, history_path, run_live,
+                    run_repl, run_script)
 from ._trace import Recorder
 
-__all__ = ["COMMANDS", "CallShape", "Command", "DebugError", "ProgramView", "Recorder",
-           "Session", "call_shape", "empty_view", "load_view"]
+__all__ = ["COMMANDS", "CallShape", "Command", "DebugError", "FRAME_SECONDS", "HISTORY_VARIABLE", "LiveClock",
+           "ProgramView", "Recorder", "Session", "call_shape", "ctrl_c_is_the_stop_switch", "empty_view",
+           "history_path", "load_view", "run_live", "run_repl", "run_script"]

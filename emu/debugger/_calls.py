@@ -13,7 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from emu import Machine
-from emu._rtl import Assign, Mem, Name, Offset, walk
+from emu.description.notation import Assign, Mem, Name, Offset, walk
 
 __all__ = ["CallShape", "call_shape"]
 

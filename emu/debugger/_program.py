@@ -14,7 +14,7 @@ import bisect
 import os
 from dataclasses import dataclass, field
 
-from emu._runner import LoadedProgram, load_program
+from emu.runs import LoadedProgram, load_program
 
 __all__ = ["ProgramView", "load_view", "empty_view"]
 

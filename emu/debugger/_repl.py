@@ -62,7 +62,7 @@ class _SessionCompleter(Completer):
 
 
 @contextmanager
-def _ctrl_c_is_the_stop_switch(session):
+def ctrl_c_is_the_stop_switch(session):
     """While a command runs, SIGINT only sets a flag that the run turns into the stop switch."""
     if threading.current_thread() is not threading.main_thread():
         yield
@@ -93,7 +93,7 @@ def run_script(session, lines, write=print) -> int:
         if command.strip().lower() == "live" or command.strip().lower().startswith("live "):
             write("error: live mode needs a terminal")
             continue
-        with _ctrl_c_is_the_stop_switch(session):
+        with ctrl_c_is_the_stop_switch(session):
             text = session.execute(command)
         if text:
             write(text)
@@ -116,7 +116,7 @@ def run_repl(session, *, input=None, output=None, write=print) -> int:
             continue
         except EOFError:
             break
-        with _ctrl_c_is_the_stop_switch(session):
+        with ctrl_c_is_the_stop_switch(session):
             text = session.execute(line)
         if text:
             write(text)

@@ -24,8 +24,8 @@ from typing import Callable
 
 from emu import Emulator, MachineError
 import asm
-from emu._numbers import NUMBER_FORMS, parse_number
-from emu._runner import DEFAULT_MAX_CYCLES
+from emu.description.notation import NUMBER_FORMS, parse_number
+from emu.runs import DEFAULT_MAX_CYCLES
 from emu.timing import record_vcd, spread_source
 
 from ._calls import call_shape

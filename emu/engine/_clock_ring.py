@@ -9,7 +9,7 @@ asks this ring to run one phase or to skip whole cycles.
 
 from __future__ import annotations
 
-from ._description import Machine
+from ..description import Machine
 
 __all__ = ["Ring"]
 

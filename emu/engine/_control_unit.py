@@ -18,24 +18,21 @@ paths come from the same compiled description, so they agree (P6).
 
 from __future__ import annotations
 
-import base64
-import binascii
 import json
-import zlib
 from collections import Counter
 from dataclasses import dataclass
 
-from ._clock import Ring
-from ._codegen import compile_machine
-from ._description import Machine, Step
-from ._errors import MachineError
-from ._files import write_atomic
+from ._clock_ring import Ring
+from ._microstep_compiler import compile_machine
+from ..description import Machine, Step
+from ..errors import MachineError
+from ..files import write_atomic
 from ._ports import Ports
+from ._snapshots import read_snapshot, restore_state, snapshot_state
 
 __all__ = ["Emulator", "Observer", "StopReason"]
 
 _FETCH_START = (-1, 0)
-_SNAPSHOT_FORMAT = "relaybench-snapshot"
 
 
 class Observer:
@@ -444,111 +441,14 @@ class Emulator:
         write_atomic(path, json.dumps(self.snapshot_state(), indent=1))
 
     def snapshot_state(self) -> dict:
-        if self.machine.data_bits <= 8:
-            raw = bytes(self.memory)
-        else:
-            raw = b"".join(w.to_bytes(2, "little") for w in self.memory)
-        index, step = self._seq
-        return {
-            "format": _SNAPSHOT_FORMAT, "version": 1, "machine": self.machine.name,
-            "slots": {name: int(self._s[slot]) for name, (slot, _w) in self._slots.items()},
-            "memory": base64.b64encode(zlib.compress(raw)).decode("ascii"),
-            "ring": self.ring.state(), "frozen": self.frozen, "released": self._released,
-            "switch_run": self.switch_run, "halt_latch": self.halt_latch, "halt_address": self.halt_address,
-            "sequencer": [index, step], "instruction_address": self.instruction_address,
-            "cycles": self.cycles, "instructions": self.instructions,
-            "ports": self.ports.state(), "undefined": [[a, n] for a, n in self._undefined.items()],
-        }
+        return snapshot_state(self)
 
     @classmethod
     def restore(cls, path, machine: Machine) -> "Emulator":
-        try:
-            with open(path, encoding="utf-8") as stream:
-                state = json.load(stream)
-        except OSError as exc:
-            raise MachineError(f"cannot read snapshot ({exc.strerror or exc})", path=str(path)) from None
-        except (ValueError, RecursionError):
-            raise MachineError("not a relaybench snapshot (not readable JSON)", path=str(path)) from None
         emu = cls(machine)
-        emu.restore_state(state, str(path))
+        emu.restore_state(read_snapshot(path), str(path))
         return emu
 
     def restore_state(self, state: dict, origin: str = "<snapshot>") -> None:
-        if not isinstance(state, dict) or state.get("format") != _SNAPSHOT_FORMAT:
-            raise MachineError("not a relaybench snapshot", path=origin)
-        if state.get("machine") != self.machine.name:
-            raise MachineError(f"the snapshot is of machine '{state.get('machine')}', "
-                               f"not '{self.machine.name}'", path=origin)
-        try:
-            checked = self._checked_state(state)
-        except KeyError as exc:
-            raise MachineError(f"damaged snapshot (no key {exc})", path=origin) from None
-        except (TypeError, ValueError, IndexError, zlib.error, binascii.Error) as exc:
-            raise MachineError(f"damaged snapshot ({exc})", path=origin) from None
-        slots, memory = checked
-        for name, value in slots.items():
-            self._s[self._slots[name][0]] = value
-        self.memory[:] = memory
-        self.ring.restore(state["ring"])
-        self.frozen, self._released = state["frozen"], state["released"]
-        self.switch_run, self.halt_latch = state["switch_run"], state["halt_latch"]
-        self.halt_address = state["halt_address"]
-        self._seq = tuple(state["sequencer"])
-        self._instruction_address = state["instruction_address"]
-        self.cycles, self.instructions = state["cycles"], state["instructions"]
-        self.ports.restore(state["ports"])
-        self._undefined = Counter({a: n for a, n in state["undefined"]})
-
-    def _checked_state(self, state: dict):
-        """Every value of a snapshot checked before any is used, so a bad file changes nothing."""
-        machine = self.machine
-        if state.get("version") != 1:
-            raise ValueError(f"version {state.get('version')!r}; this relaybench reads version 1")
-        slots = state["slots"]
-        if set(slots) != set(self._slots):
-            raise ValueError("the registers and flags do not match the machine")
-        for name, value in slots.items():
-            _require_int(value, name, 0, (1 << self._slots[name][1]) - 1)
-        raw = zlib.decompress(base64.b64decode(state["memory"], validate=True))
-        if machine.data_bits <= 8:
-            memory = raw
-        else:
-            memory = [int.from_bytes(raw[i:i + 2], "little") & machine.data_mask for i in range(0, len(raw), 2)]
-        if len(memory) != machine.memory_words:
-            raise ValueError(f"memory holds {len(memory)} words, not {machine.memory_words}")
-        ring = state["ring"]
-        _require_int(ring["index"], "ring index", 0, len(machine.phases) - 1)
-        _require_int(ring["time_ns"], "time", 0, _COUNTER_MAX)
-        if len(ring["turn"]) != len(machine.phases):
-            raise ValueError("the ring's phase durations do not match the phase table")
-        for duration in ring["turn"]:
-            _require_int(duration, "phase duration", 1, _COUNTER_MAX)
-        for key in ("frozen", "released", "switch_run", "halt_latch"):
-            if not isinstance(state[key], bool):
-                raise ValueError(f"'{key}' is not true or false")
-        index, step = state["sequencer"]
-        _require_int(index, "sequencer", -1, len(machine.instructions) - 1)
-        steps = machine.fetch if index < 0 else machine.instructions[index].steps
-        _require_int(step, "sequencer step", 0, len(steps) - 1)
-        top = machine.memory_words - 1
-        if state["halt_address"] is not None:
-            _require_int(state["halt_address"], "halt address", 0, top)
-        _require_int(state["instruction_address"], "instruction address", 0, top)
-        _require_int(state["cycles"], "cycles", 0, _COUNTER_MAX)
-        _require_int(state["instructions"], "instructions", 0, _COUNTER_MAX)
-        for address, count in state["undefined"]:
-            _require_int(address, "undefined opcode address", 0, top)
-            _require_int(count, "undefined opcode count", 1, _COUNTER_MAX)
-        Ports(machine).restore(state["ports"])
-        return slots, memory
-
-
-_COUNTER_MAX = 1 << 63
-"""Bound on counters and times read from a snapshot (centuries of simulated time)."""
-
-
-def _require_int(value, what: str, low: int, high: int | None = None) -> None:
-    if not isinstance(value, int) or isinstance(value, bool):
-        raise ValueError(f"{what} is not an integer")
-    if value < low or high is not None and value > high:
-        raise ValueError(f"{what} {value} is out of range")
+        """Apply a snapshot; every value is checked before any is used, so a bad one changes nothing."""
+        restore_state(self, state, origin)

@@ -28,12 +28,11 @@ import weakref
 from dataclasses import dataclass
 from pathlib import Path
 
-from ._alu import ALU_OPS
-from ._description import Instruction, Machine, Step, name_width, value_width
+from ..description import ALU_OPS, Instruction, Machine, Step
 from ._emitter import Emitter
-from ._errors import MachineError
-from ._files import write_atomic
-from ._rtl import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem,
+from ..errors import MachineError
+from ..files import write_atomic
+from ..description.notation import (name_width, value_width, Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem,
                    Name, Offset, Output, walk)
 
 __all__ = ["CompiledMachine", "compile_machine", "Fallback"]

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections import Counter
 
-from ._description import Machine
+from ..description import Machine
 
 __all__ = ["Ports"]
 

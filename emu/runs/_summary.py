@@ -7,7 +7,7 @@ the program would take on the real machine at its nominal clock.
 
 from __future__ import annotations
 
-from ._description import Machine
+from ..description import Machine
 
 __all__ = ["format_duration", "format_rate", "format_summary"]
 

@@ -6,19 +6,19 @@ does not read them, this package does.
 """
 
 from ._model import PARTS, SILICON_DIODE_DROP_V, StageParts, TimingModel, has_timing, timing_model
-from ._montecarlo import ClockSamples, monte_carlo
+from ._montecarlo import METRICS, PERCENTILES, ClockSamples, monte_carlo
 from ._rc import (charging_voltage, discharging_voltage, divider, time_constant,
                   time_to_charge, time_to_discharge)
 from ._spread import SpreadClock, spread_source
-from ._vcd import VcdRecorder, control_lines, record_vcd
+from ._vcd import VcdRecorder, control_lines, record_vcd, signal_name
 from ._wear import WearCounter, WearRatings, count_wear, format_wear, relay_names, wear_ratings
 
 __all__ = [
     "PARTS", "SILICON_DIODE_DROP_V", "StageParts", "TimingModel", "has_timing", "timing_model",
-    "ClockSamples", "monte_carlo",
+    "METRICS", "PERCENTILES", "ClockSamples", "monte_carlo",
     "charging_voltage", "discharging_voltage", "divider", "time_constant",
     "time_to_charge", "time_to_discharge",
     "SpreadClock", "spread_source",
-    "VcdRecorder", "control_lines", "record_vcd",
+    "VcdRecorder", "control_lines", "record_vcd", "signal_name",
     "WearCounter", "WearRatings", "count_wear", "format_wear", "relay_names", "wear_ratings",
 ]

@@ -30,8 +30,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .._description import Machine
-from .._errors import MachineError
+from ..description import Machine
+from ..errors import MachineError
 from ._rc import divider, time_to_charge, time_to_discharge
 
 __all__ = ["Part", "PARTS", "StageParts", "TimingModel", "timing_model", "has_timing",

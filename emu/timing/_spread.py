@@ -12,8 +12,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .._description import Machine
-from .._errors import MachineError
+from ..description import Machine
+from ..errors import MachineError
 from ._model import TimingModel, timing_model
 
 __all__ = ["SpreadClock", "spread_source"]

@@ -16,8 +16,8 @@ from contextlib import contextmanager
 from vcd import VCDWriter
 
 from .. import Emulator, Observer
-from .._description import Machine
-from .._files import atomic_output
+from ..description import Machine
+from ..files import atomic_output
 
 __all__ = ["VcdRecorder", "record_vcd", "control_lines", "signal_name"]
 

@@ -15,8 +15,8 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 
 from .. import Emulator, Observer
-from .._description import Machine
-from .._errors import MachineError
+from ..description import Machine
+from ..errors import MachineError
 from ._vcd import control_lines
 
 __all__ = ["WearCounter", "WearRatings", "count_wear", "wear_ratings", "format_wear",

@@ -25,8 +25,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from debugger_programs import KILN, REF8, session_for  # noqa: E402
-from emu.debugger._live import LiveClock  # noqa: E402
-from emu.debugger._repl import FRAME_SECONDS, _ctrl_c_is_the_stop_switch  # noqa: E402
+from emu.debugger import FRAME_SECONDS, LiveClock, ctrl_c_is_the_stop_switch  # noqa: E402
 
 COMMAND_TARGET_S = 0.050
 STOP_TARGET_S = 0.2
@@ -77,7 +76,7 @@ def ctrl_c_stop(folder: Path, *, watch: bool, after_s: float = 1.0) -> tuple[flo
 
     presser = threading.Thread(target=press)
     presser.start()
-    with _ctrl_c_is_the_stop_switch(session):
+    with ctrl_c_is_the_stop_switch(session):
         reply = session.execute("go 100000000")
         done = time.perf_counter()
     presser.join()

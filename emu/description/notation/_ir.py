@@ -20,7 +20,7 @@ from importlib import resources
 
 import lark
 
-from ._errors import MachineError
+from ...errors import MachineError
 from ._numbers import literal_value
 
 __all__ = [
@@ -199,7 +199,7 @@ def _token_word(name: str) -> str:
 
 @cache
 def _parser() -> lark.Lark:
-    text = resources.files("emu").joinpath("grammar/microstep.lark").read_text()
+    text = resources.files("emu.description.notation").joinpath("microstep.lark").read_text()
     return lark.Lark(text, start="step", parser="lalr", maybe_placeholders=False)
 
 

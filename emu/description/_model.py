@@ -1,0 +1,287 @@
+"""The parts of a machine description, as the loader builds them.
+
+The description is the one source of truth. The assembler reads syntax and
+encodings from it, the disassembler decodes with it, the compiler turns its
+micro-steps into Python, the control unit runs its phase table and
+``relaybench isa`` prints it. So every mistake in it is caught here, once,
+with a message that names the file, the key or instruction, and what was
+expected.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from functools import cached_property
+
+from .notation import Assign, FlagsOnly, Statement
+
+__all__ = [
+    "Machine", "Instruction", "Step", "Register", "RegisterPair", "Flag",
+    "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
+    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES",
+]
+
+FLAG_ROLES = ("zero", "negative", "carry", "overflow")
+OUTPUT_DEVICES = ("console", "lamps")
+INPUT_DEVICES = ("switches", "input", "input_ready")
+
+
+# ----- the parts of a machine ----------------------------------------------
+
+@dataclass(frozen=True)
+class Register:
+    name: str
+    width: int
+    slot: int
+    internal: bool
+
+
+@dataclass(frozen=True)
+class RegisterPair:
+    """Two registers read and written as one wider value (high word first)."""
+    name: str
+    high: str
+    low: str
+    width: int
+
+
+@dataclass(frozen=True)
+class Flag:
+    name: str
+    role: str
+    slot: int
+
+
+@dataclass(frozen=True)
+class OperandKind:
+    """What may stand in an operand position: a register set or a number range."""
+    name: str
+    bits: int
+    low: int
+    high: int
+    registers: tuple[str, ...] = ()
+
+    @property
+    def is_register(self) -> bool:
+        return bool(self.registers)
+
+    def describe(self) -> str:
+        """``r0–r7`` for a numbered run of registers, else the names: ``a, b or c``."""
+        if self.registers:
+            match = [re.fullmatch(r"(\D*)(\d+)", r) for r in self.registers]
+            if all(match) and len({m[1] for m in match}) == 1 and len(self.registers) > 2 and \
+                    [int(m[2]) for m in match] == list(range(int(match[0][2]), int(match[0][2]) + len(match))):
+                return f"{self.registers[0]}–{self.registers[-1]}"
+            return ", ".join(self.registers[:-1]) + f" or {self.registers[-1]}" if len(self.registers) > 1 \
+                else self.registers[0]
+        return f"{self.low}…{self.high}"
+
+
+@dataclass(frozen=True)
+class FieldPiece:
+    """``width`` bits of a field, from its bit ``field_bit`` up, at ``shift`` in word ``word``."""
+    word: int
+    shift: int
+    width: int
+    field_bit: int
+
+
+@dataclass(frozen=True)
+class Field:
+    name: str
+    kind: OperandKind
+    pieces: tuple[FieldPiece, ...]
+
+
+@dataclass(frozen=True)
+class OperandPattern:
+    """One operand of an assembly form: literal text around at most one field.
+
+    ``[addr:addr]`` is before="[", field="addr", after="]"; ``x`` is a pure
+    literal (field None). Literal text is kept in lower case.
+    """
+    before: str
+    field: str | None
+    after: str
+
+    def text(self) -> str:
+        return self.before + (self.field or "") + self.after
+
+
+@dataclass(frozen=True)
+class Phase:
+    name: str
+    level: int
+    duration_ns: int
+    ring: tuple[int, ...]
+    hold: bool
+
+
+@dataclass(frozen=True)
+class Step:
+    """One micro-step: its text, its IR, and the control lines it drives."""
+    text: str
+    statements: tuple[Statement, ...]
+    control_lines: tuple[str, ...]
+    drives_halt: bool
+
+
+@dataclass
+class Instruction:
+    index: int
+    syntax: str
+    mnemonic: str
+    operands: tuple[OperandPattern, ...]
+    fields: dict[str, Field]
+    word_count: int
+    fixed: tuple[tuple[int, int], ...]
+    steps: tuple[Step, ...]
+    holders: dict[int, str]
+    """word index → the register holding that word after it was fetched."""
+
+    @property
+    def display(self) -> str:
+        """The assembly form without operand kinds, as a programmer writes it."""
+        ops = ", ".join(op.text() for op in self.operands)
+        return f"{self.mnemonic} {ops}".strip()
+
+    def cycles(self, machine: "Machine") -> int:
+        """Clock cycles of the whole instruction: the fetch steps and its own."""
+        return len(machine.fetch) + len(self.steps)
+
+    def first_words(self, data_bits: int):
+        """Every first-word value that decodes to this instruction.
+
+        Values whose first-word register fields name no register (3 in a
+        2-bit field over three registers) are left out: they are undefined.
+        """
+        mask, value = self.fixed[0]
+        free = [b for b in range(data_bits) if not mask >> b & 1]
+        checked = [(f, len(f.kind.registers)) for f in self.fields.values()
+                   if f.kind.is_register and len(f.kind.registers) < 1 << f.kind.bits
+                   and all(p.word == 0 for p in f.pieces)]
+        for combo in range(1 << len(free)):
+            word = value
+            for i, bit in enumerate(free):
+                if combo >> i & 1:
+                    word |= 1 << bit
+            if all(self.decode([word] + [0] * (self.word_count - 1))[f.name] < count for f, count in checked):
+                yield word
+
+    @property
+    def drives_halt(self) -> bool:
+        return any(step.drives_halt for step in self.steps)
+
+    def encode(self, values: dict[str, int]) -> list[int]:
+        """Field values (already range-checked, register fields as indices) → words."""
+        words = [value for _mask, value in self.fixed]
+        for name, fld in self.fields.items():
+            value = values[name] & ((1 << fld.kind.bits) - 1)
+            for piece in fld.pieces:
+                bits = (value >> piece.field_bit) & ((1 << piece.width) - 1)
+                words[piece.word] |= bits << piece.shift
+        return words
+
+    def matches(self, words) -> bool:
+        return len(words) >= self.word_count and all(
+            (words[i] & mask) == value for i, (mask, value) in enumerate(self.fixed))
+
+    def decode(self, words) -> dict[str, int]:
+        """Words → raw field values (register fields as indices)."""
+        values = {}
+        for name, fld in self.fields.items():
+            value = 0
+            for piece in fld.pieces:
+                value |= ((words[piece.word] >> piece.shift) & ((1 << piece.width) - 1)) << piece.field_bit
+            values[name] = value
+        return values
+
+    def flags_written(self, machine: "Machine") -> tuple[str, ...]:
+        written = []
+        for step in self.steps:
+            for st in step.statements:
+                if isinstance(st, (Assign, FlagsOnly)):
+                    written.extend(f for f in st.flags if f not in written)
+        return tuple(f for f in machine.flags if f in written)
+
+
+@dataclass
+class Machine:
+    name: str
+    title: str
+    path: str
+    data_bits: int
+    address_bits: int
+    memory_words: int
+    registers: dict[str, Register]
+    pairs: dict[str, RegisterPair]
+    flags: dict[str, Flag]
+    operand_kinds: dict[str, OperandKind]
+    ports_out: dict[int, str]
+    ports_in: dict[int, str]
+    ring_stages: int
+    phases: tuple[Phase, ...]
+    fetch: tuple[Step, ...]
+    instructions: list[Instruction]
+    program_counter: str
+    instruction_register: str
+    pause: str
+    extra: dict = field(default_factory=dict)
+    """Sections the engine does not read itself (timing, wear), kept for their own modules."""
+
+    @property
+    def slot_count(self) -> int:
+        """Registers, flags, and two spare slots for register fields that name no register.
+
+        A 2-bit field over three registers can hold 3: such a value reads the
+        first spare slot (always 0, an undriven bus) and writes the second.
+        """
+        return len(self.registers) + len(self.flags) + 2
+
+    @property
+    def undriven_slot(self) -> int:
+        return len(self.registers) + len(self.flags)
+
+    @property
+    def data_mask(self) -> int:
+        return (1 << self.data_bits) - 1
+
+    @property
+    def visible_registers(self) -> list[Register]:
+        return [r for r in self.registers.values() if not r.internal]
+
+    @cached_property
+    def decode_table(self) -> tuple[int, ...]:
+        """First word value → instruction index, or -1 for an undefined opcode."""
+        table = [-1] * (1 << self.data_bits)
+        for ins in self.instructions:
+            for word in ins.first_words(self.data_bits):
+                table[word] = ins.index
+        return tuple(table)
+
+    @cached_property
+    def cycle_ns(self) -> int:
+        """Nominal time of one full turn of the phase table."""
+        return sum(p.duration_ns for p in self.phases)
+
+    @cached_property
+    def pulses_per_turn(self) -> int:
+        return sum(1 for i, p in enumerate(self.phases)
+                   if p.level == 1 and self.phases[i - 1].level == 0)
+
+    @property
+    def nominal_hz(self) -> float:
+        return self.pulses_per_turn / (self.cycle_ns * 1e-9)
+
+    def instruction_at(self, words) -> Instruction | None:
+        index = self.decode_table[words[0]] if words else -1
+        if index < 0:
+            return None
+        ins = self.instructions[index]
+        return ins if ins.matches(words) else None
+
+    def register_width(self, name: str) -> int:
+        if name in self.pairs:
+            return self.pairs[name].width
+        return self.registers[name].width

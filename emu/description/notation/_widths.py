@@ -1,0 +1,42 @@
+"""How many bits a micro-step value has: one rule, shared by the design-rule checker and the compiler."""
+
+from __future__ import annotations
+
+from .._alu import WORD_SELECTORS
+from ._ir import Call, Choose, Const, Input, Join, Mem, Name, Offset
+
+__all__ = ["name_width", "value_width"]
+
+
+def name_width(name: str, registers: dict, pairs: dict, fields: dict) -> int:
+    """Bits of a register, pair or operand field (a register field: its widest register)."""
+    if name in fields:
+        kind = fields[name].kind
+        if kind.is_register:
+            return max(registers[r].width for r in kind.registers)
+        return kind.bits
+    if name in pairs:
+        return pairs[name].width
+    return registers[name].width
+
+
+def value_width(node, registers: dict, pairs: dict, fields: dict, data_bits: int) -> int:
+    """Bits of an IR expression's value, before any masking to its destination."""
+    def width(n) -> int:
+        match n:
+            case Name(name):
+                return name_width(name, registers, pairs, fields)
+            case Const(value):
+                return max(value.bit_length(), 1)
+            case Mem() | Input():
+                return data_bits
+            case Join(high, low):
+                return width(high) + width(low)
+            case Offset(base, _):
+                return width(base)
+            case Choose(_, _, a, b):
+                return max(width(a), width(b))
+            case Call(op, args):
+                return data_bits if op in WORD_SELECTORS else width(args[0])
+        raise AssertionError(n)
+    return width(node)

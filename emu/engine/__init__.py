@@ -1,0 +1,17 @@
+"""The engine: where a micro-step runs.
+
+``_microstep_compiler`` turns a machine description's micro-steps into
+Python (one function per micro-step, one fused function per instruction),
+written through ``_emitter``. ``_control_unit`` is the hold line, the halt
+latch, STEP, RESUME and RESET, and the two paths that run the compiled
+steps; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
+devices on the I/O bus; ``_snapshots`` the whole state as a file.
+"""
+
+from ._clock_ring import Ring
+from ._control_unit import Emulator, Observer, StopReason
+from ._microstep_compiler import CompiledMachine, Fallback, compile_machine
+from ._ports import Ports
+
+__all__ = ["CompiledMachine", "Emulator", "Fallback", "Observer", "Ports", "Ring", "StopReason",
+           "compile_machine"]

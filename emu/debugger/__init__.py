@@ -11,7 +11,7 @@ from ._calls import CallShape, call_shape
 from ._live import LiveClock
 from ._program import Places, ProgramView, empty_view, load_view
 from ._running import ClockRun, ReplayMismatch, run_clock
-from ._session import COMMAND_GROUPS, Session
+from ._session import Session
 from ._stopping import (AtBreakpoint, Breakpoint, CycleLimit, GoalReached, HaltedByProgram, RunPolicy, Stop,
                         SteppingInterrupted, StoppedBySwitch, WatchFired)
 from ._table import COMMANDS, Command, DebugError
@@ -19,7 +19,7 @@ from ._repl import (FRAME_SECONDS, HISTORY_VARIABLE, ctrl_c_is_the_stop_switch, 
                     run_repl, run_script)
 from ._trace import Recorder
 
-__all__ = ["AtBreakpoint", "Breakpoint", "COMMANDS", "COMMAND_GROUPS", "CallShape", "ClockRun", "Command",
+__all__ = ["AtBreakpoint", "Breakpoint", "COMMANDS", "CallShape", "ClockRun", "Command",
            "CycleLimit", "DebugError", "FRAME_SECONDS", "GoalReached", "HISTORY_VARIABLE", "HaltedByProgram",
            "LiveClock", "Places", "ProgramView", "Recorder", "ReplayMismatch", "RunPolicy", "Session",
            "SteppingInterrupted", "Stop", "StoppedBySwitch", "WatchFired", "call_shape",

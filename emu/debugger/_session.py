@@ -41,7 +41,8 @@ from ._trace import Recorder
 __all__ = ["COMMAND_GROUPS", "Session"]
 
 COMMAND_GROUPS = (_clock_commands, _point_commands, _view_commands, _file_commands)
-"""The modules whose commands fill the table, in the order ``help`` lists them."""
+"""The modules whose commands fill the table, in the order ``help`` lists them
+(this module's ``help`` and ``quit`` come last)."""
 ANNOUNCE_AFTER = 0.3
 """Seconds of wall time after which a run says that it is running."""
 
@@ -256,8 +257,10 @@ def do_help(session, args):
         if cmd.repeats:
             text += "\n  An empty line repeats it."
         return text
-    width = max(len(c.usage) for c in COMMANDS.values())
-    rows = [f"  {c.usage:<{width}}  {c.summary}" for c in COMMANDS.values()]
+    groups = [group.__name__ for group in COMMAND_GROUPS] + [__name__]
+    listed = sorted(COMMANDS.values(), key=lambda c: groups.index(c.function.__module__))
+    width = max(len(c.usage) for c in listed)
+    rows = [f"  {c.usage:<{width}}  {c.summary}" for c in listed]
     return ("Commands (any unambiguous start of a name will do):\n" + "\n".join(rows) +
             f"\nNumbers: {NUMBER_FORMS}. An empty line repeats pulse, instr, over or leave. "
             "Ctrl-C during a run throws the stop switch.")

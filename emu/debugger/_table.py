@@ -3,8 +3,8 @@
 Each command is one function ``do_NAME(session, args)`` in the module of its
 group, with its usage, summary and help text beside it. The table is the one
 source that ``Session.execute`` dispatches from, ``help`` lists and tab
-completion reads; a group's commands are listed in the order the session
-imports the groups.
+completion reads; ``help`` lists the groups in the order of the session's
+``COMMAND_GROUPS``.
 """
 
 from __future__ import annotations

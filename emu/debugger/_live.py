@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import time
 
-from ._conditions import Watches
 from ._panel import panel_text
 
 __all__ = ["LiveClock"]
@@ -30,7 +29,8 @@ class LiveClock:
         """Why live mode ended on its own (a breakpoint or watchpoint), else None."""
         self.worst_lag = 0.0
         """Largest distance, in phases, between the scaled wall clock and the phase shown."""
-        self._watches = Watches(session.watches.values(), session.emu) if session.watches else None
+        self.policy = session.policy()
+        """The session's breakpoints and watchpoints; watched from the values they have now."""
         self.anchor()
 
     def anchor(self) -> None:
@@ -46,16 +46,13 @@ class LiveClock:
         if e.frozen:
             self.anchor()
             return
-        breakpoints = {b.address for b in self.session.breakpoints.values()}
-        for _ in range(MAX_PHASES_PER_TICK):
-            if e.time_ns + e.ring.turn[e.phase_index] > self.target_ns():
-                break
-            done = e.instructions
-            if not e.advance_phase():
-                self.anchor()
-                return
-            if e.instructions != done and self._hit(e, breakpoints):
-                return
+        stop = self.policy.follow(self.target_ns, MAX_PHASES_PER_TICK)
+        if stop is not None:
+            self.finished = stop.describe(self.session.places)
+            return
+        if e.frozen:
+            self.anchor()
+            return
         self.worst_lag = max(self.worst_lag, self.lag_phases())
 
     def lag_phases(self) -> float:
@@ -66,15 +63,6 @@ class LiveClock:
         end = e.time_ns + e.ring.turn[e.phase_index]
         target = self.target_ns()
         return max(0.0, (target - end) / e.ring.turn[e.phase_index])
-
-    def _hit(self, e, breakpoints) -> bool:
-        if e.pc in breakpoints:
-            numbers = [str(b.number) for b in self.session.breakpoints.values() if b.address == e.pc]
-            self.finished = f"breakpoint {', '.join(numbers)} at {self.session.describe_address(e.pc)}"
-        elif self._watches is not None and self._watches(e):
-            watch, old, new = self._watches.hit
-            self.finished = f"watchpoint {watch.number}: {watch.label} changed from {old:#x} to {new:#x}"
-        return self.finished is not None
 
     # ----- panel actions from the keyboard -------------------------------------
 

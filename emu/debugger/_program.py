@@ -14,9 +14,12 @@ import bisect
 import os
 from dataclasses import dataclass, field
 
+from emu import Machine
 from emu.runs import LoadedProgram, load_program
 
-__all__ = ["ProgramView", "load_view", "empty_view"]
+from ._panel import address_hex
+
+__all__ = ["Places", "ProgramView", "load_view", "empty_view"]
 
 
 @dataclass
@@ -94,6 +97,33 @@ class ProgramView:
     def instruction_starts_before(self, address: int, count: int) -> list[int]:
         i = bisect.bisect_left(self.code_starts, address)
         return self.code_starts[max(i - count, 0):i]
+
+
+@dataclass(frozen=True)
+class Places:
+    """How the debugger names an address to a person: its hex digits, then the
+    nearest label (``label+k``) and the source line where the program says so.
+
+    Commands, arguments and stop reasons all name places through it, so an
+    address reads the same in a breakpoint, a halt and a watchpoint message.
+    """
+    machine: Machine
+    view: ProgramView
+
+    def hex(self, address: int) -> str:
+        return address_hex(self.machine, address)
+
+    def name(self, address: int) -> str:
+        parts = [self.hex(address)]
+        if symbol := self.view.symbol_for(address):
+            parts.append(symbol)
+        if place := self.view.place_text(address):
+            parts.append(place)
+        return " ".join(parts)
+
+    def halt_kind(self, address: int) -> str:
+        """``"pause"`` or ``"halt"``: what the instruction at ``address`` was written as."""
+        return "pause" if address in self.view.pauses else "halt"
 
 
 def _same_tail(path: str, tail: str) -> bool:

@@ -10,8 +10,9 @@ are done from the engine's ``chunk`` callback, between chunks of work:
 * Checkpoints: now and then the whole machine state is saved. When the run
   ends, its last cycles are run again from a checkpoint on a scratch
   emulator with the recorder attached. The engine is deterministic, so the
-  replay ends in the same state; it is checked, and the diagram is only
-  taken from a replay that agrees.
+  replay ends in the same state; it is checked, and a replay that
+  disagrees is a bug of the engine or of the replay: ``ReplayMismatch``,
+  which the session shows as an internal error.
 """
 
 from __future__ import annotations
@@ -22,7 +23,7 @@ from emu import Emulator, StopReason
 
 from ._trace import Recorder
 
-__all__ = ["RunResult", "run_clock", "CHUNK_CYCLES"]
+__all__ = ["CHUNK_CYCLES", "ClockRun", "ReplayMismatch", "run_clock"]
 
 CHUNK_CYCLES = 20_000
 """Cycles between two looks at the Ctrl-C flag (a few milliseconds)."""
@@ -30,13 +31,20 @@ CHECKPOINT_EVERY = 5
 """Chunks between two checkpoints."""
 
 
-@dataclass
-class RunResult:
+@dataclass(frozen=True)
+class ClockRun:
+    """How one run of the clock ended, as the engine tells it."""
     stop: StopReason
     interrupted: bool
     """The stop switch was thrown by Ctrl-C during the run."""
-    traced: bool
-    """The recorder holds the run's last cycles."""
+
+
+class ReplayMismatch(Exception):
+    """The replay of a run, made for the timing diagram, ended elsewhere than the run.
+
+    The engine is deterministic, so this is a bug, never bad input; the
+    machine keeps the state of the run itself and the diagram is left empty.
+    """
 
 
 @dataclass
@@ -47,7 +55,7 @@ class _Checkpoint:
 
 
 def run_clock(emu: Emulator, recorder: Recorder, *, condition=None, breakpoints=(),
-              max_cycles: int | None = None, interrupted=lambda: False) -> RunResult:
+              max_cycles: int | None = None, interrupted=lambda: False) -> ClockRun:
     """Run the generator until it freezes, a breakpoint, ``condition`` or the limit.
 
     ``recorder`` must be attached to ``emu``; it is attached again afterwards.
@@ -63,7 +71,7 @@ def run_clock(emu: Emulator, recorder: Recorder, *, condition=None, breakpoints=
                 e.set_switch_run(False)
         stop = emu.run(max_cycles=max_cycles, until=condition, breakpoints=breakpoints,
                        chunk=watch_for_ctrl_c, chunk_cycles=CHUNK_CYCLES)
-        return RunResult(stop, bool(flip), True)
+        return ClockRun(stop, bool(flip))
     emu.unobserve(recorder)
     start = _Checkpoint(emu.cycles, emu.snapshot_state(), _clone(condition))
     recent: list[_Checkpoint] = []
@@ -85,17 +93,17 @@ def run_clock(emu: Emulator, recorder: Recorder, *, condition=None, breakpoints=
                        chunk=chunk, chunk_cycles=CHUNK_CYCLES)
     finally:
         emu.observe(recorder)
-    traced = _replay(emu, recorder, [start, *recent], stop.kind == "condition",
-                     breakpoints if stop.kind == "breakpoint" else (), limit, flip[0] if flip else None)
-    return RunResult(stop, bool(flip), traced)
+    _replay(emu, recorder, [start, *recent], stop.kind == "condition",
+            breakpoints if stop.kind == "breakpoint" else (), limit, flip[0] if flip else None)
+    return ClockRun(stop, bool(flip))
 
 
 def _clone(condition):
     return None if condition is None else condition.clone()
 
 
-def _replay(emu, recorder, checkpoints, has_condition, breakpoints, limit, flip) -> bool:
-    """Run the tail of the run again with the recorder attached; False if it disagrees.
+def _replay(emu, recorder, checkpoints, has_condition, breakpoints, limit, flip) -> None:
+    """Run the tail of the run again with the recorder attached; raise if it disagrees.
 
     The replay needs only what ended the run: it cannot stop earlier than the
     run did, so a run ended by a halt, the stop switch or the limit is
@@ -114,19 +122,27 @@ def _replay(emu, recorder, checkpoints, has_condition, breakpoints, limit, flip)
     for mark in marks:
         stop = scratch.run(max_cycles=mark - scratch.cycles, until=condition, breakpoints=breakpoints)
         if stop.kind != "cycle_limit" or scratch.cycles != mark:
-            return False
+            _disagree(recorder, f"the replay stopped ({stop.kind}) at cycle {scratch.cycles:,}, "
+                                f"before cycle {mark:,} that the run went through")
         if mark == attach_at:
             scratch.observe(tail)
         if mark == flip:
             scratch.set_switch_run(False)
     scratch.run(max_cycles=None if limit is None else limit - scratch.cycles,
                 until=condition, breakpoints=breakpoints)
-    if (scratch.cycles, scratch.pc, scratch.time_ns, scratch.frozen) != (emu.cycles, emu.pc, emu.time_ns, emu.frozen):
-        return False
+    ran, replayed = emu.snapshot_state(), scratch.snapshot_state()
+    if ran != replayed:
+        differ = ", ".join(key for key in ran if ran[key] != replayed.get(key))
+        _disagree(recorder, f"after cycle {emu.cycles:,} the two differ in {differ}")
     if origin is checkpoints[0] and not usable:
         recorder.columns.extend(tail.columns)
     else:
         recorder.clear()
         recorder.columns.extend(tail.columns)
         recorder.gap = True
-    return True
+
+
+def _disagree(recorder, what: str):
+    """No diagram rather than a wrong one; then the mismatch surfaces."""
+    recorder.clear()
+    raise ReplayMismatch(f"the replay of the last run for the timing diagram disagrees with it: {what}")

@@ -425,10 +425,11 @@ class Emulator:
         """Run the generator to the next instruction boundary (or until it freezes)."""
         return self.run(until=lambda emu: True)
 
-    def step_instruction(self) -> int:
-        """STEP pulses until the next instruction boundary; returns the pulses given (0 if running)."""
+    def step_instruction(self, max_pulses: int | None = None) -> int:
+        """STEP pulses until the next instruction boundary, or ``max_pulses`` of them;
+        returns the pulses given (0 if running)."""
         pulses = 0
-        while self.press_step():
+        while (max_pulses is None or pulses < max_pulses) and self.press_step():
             pulses += 1
             if self._seq == _FETCH_START:
                 break

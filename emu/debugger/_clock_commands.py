@@ -1,0 +1,186 @@
+"""The clock and the panel: switch, STEP, RESUME, RESET, toggles, runs and steps.
+
+These commands are the panel's controls plus the ways of letting the clock
+go (``go``, the instruction steps, ``live``) and of changing its beat. How
+a run or a step stops is the session's ``RunPolicy``; here only what the
+panel does first.
+"""
+
+from __future__ import annotations
+
+from emu import MachineError
+from emu.timing import spread_source
+
+from ._arguments import count, no_arguments, number
+from ._conditions import CallDepth, Count
+from ._panel import word_hex
+from ._table import DebugError, command
+
+__all__ = []
+
+PULSE_REPORT = 8
+"""Pulses listed one by one; beyond that only a count."""
+
+
+@command("throw run|stop", "Throw the RUN/STOP switch; at run the clock starts.",
+         complete=("switch",))
+def do_throw(session, args):
+    """At *stop* the clock carries on to the next hold point and freezes
+    there. At *run* a clock frozen by the switch restarts and runs until
+    something stops it (unless the halt latch still holds it)."""
+    if len(args) != 1 or args[0].lower() not in ("run", "stop"):
+        raise DebugError("usage: throw run|stop")
+    e = session.emu
+    if args[0].lower() == "stop":
+        if not e.switch_run:
+            return f"the switch is already at STOP; {session.state_text()}"
+        e.set_switch_run(False)
+        if e.frozen:
+            return f"switch at STOP; {session.state_text()}"
+        start = e.cycles
+        session.last_stop = session.settle().describe(session.places)
+        return (f"switch at STOP; the clock ran on {e.cycles - start} cycle(s) to the hold point: "
+                f"{session.state_text()}. {session.here_text()}")
+    if e.switch_run:
+        if e.frozen:
+            return "the switch is already at RUN; the halt latch holds the clock ('resume' clears it)"
+        return "the switch is already at RUN; 'go' lets the clock carry on"
+    was_frozen = e.frozen
+    e.set_switch_run(True)
+    if e.frozen:
+        return "switch at RUN; the halt latch still holds the clock ('resume' clears it)"
+    if not was_frozen:
+        return session.let_run(prelude="switch at RUN")
+    return session.released(was_frozen, "switch at RUN")
+
+
+@command("pulse [N]", "Press STEP N times: N clock pulses, one micro-step each.", repeats=True)
+def do_pulse(session, args):
+    """Works only while the generator is frozen at a hold point, as on the
+    panel; the ring does not move. Breakpoints are not checked."""
+    n = count(args, 1, "pulse count")
+    e = session.emu
+    if not e.frozen:
+        raise DebugError("STEP has no effect while the clock runs; 'throw stop' first")
+    rows = []
+    for k in range(n):
+        step, (instruction, index) = e.current_step, e.sequencer
+        e.press_step()
+        if k < PULSE_REPORT:
+            doing = "fetch" if instruction is None else instruction.mnemonic
+            lines = ", ".join(step.control_lines) or "no lines"
+            rows.append(f"pulse {k + 1}: {doing} step {index + 1}: {step.text}   [{lines}]")
+    if n > PULSE_REPORT:
+        rows.append(f"… {n - PULSE_REPORT:,} more pulses")
+    latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch else ""
+    return "\n".join(rows) + f"\n{session.here_text()}{latch}"
+
+
+@command("resume", "Press RESUME: clear the halt latch; at RUN the clock restarts.")
+def do_resume(session, args):
+    no_arguments(args, "resume")
+    was_frozen = session.emu.frozen
+    session.emu.press_resume()
+    return session.released(was_frozen, "halt latch clear")
+
+
+@command("reset", "Press RESET: pc, sequencer, flags and halt latch to zero.")
+def do_reset(session, args):
+    """Registers, the stack pointer and memory are kept. At RUN, with the
+    latch cleared, a frozen clock restarts from address 0."""
+    no_arguments(args, "reset")
+    was_frozen = session.emu.frozen
+    session.emu.press_reset()
+    return session.released(was_frozen, "reset: pc 0")
+
+
+@command("toggles [VALUE]", "Show or set the panel's toggle switches (an input port of the machine).")
+def do_toggles(session, args):
+    m = session.machine
+    if args:
+        if len(args) > 1:
+            raise DebugError("usage: toggles [VALUE]")
+        value = number(args[0])
+        if not 0 <= value <= m.data_mask:
+            raise DebugError(f"the toggles take 0…{m.data_mask}, not {value}")
+        session.emu.switches = value
+    value = session.emu.switches
+    return f"toggles {value:0{m.data_bits}b} = {word_hex(m, value)} = {value}"
+
+
+@command("go [CYCLES]", "Let the clock run until a halt, breakpoint, watchpoint, Ctrl-C or CYCLES.")
+def do_go(session, args):
+    """The limit is that of 'relaybench run' unless given. A clock frozen by
+    the switch is started by throwing it to RUN; one held by the halt
+    latch needs 'resume'."""
+    limit = count(args, session.max_cycles, "cycle limit")
+    e = session.emu
+    if e.frozen and e.halt_latch:
+        raise DebugError(f"the halt latch holds the clock ({session.latch_origin()}); 'resume' clears it")
+    if e.frozen:
+        e.set_switch_run(True)
+        return session.let_run(max_cycles=limit, prelude="switch at RUN")
+    if not e.switch_run:
+        e.set_switch_run(True)
+    return session.let_run(max_cycles=limit)
+
+
+@command("instr [N]", "Execute N whole instructions (STEP pulses while frozen).", repeats=True)
+def do_instr(session, args):
+    return session.step(Count(count(args, 1, "instruction count")))
+
+
+@command("over", "Execute one instruction; a call runs until it has returned.", repeats=True)
+def do_over(session, args):
+    no_arguments(args, "over")
+    return session.step(CallDepth(session.machine, session.shape, session.emu.instruction_address, 1,
+                                  "stepped over one instruction"))
+
+
+@command("leave", "Run until the routine running now returns to its caller.", repeats=True)
+def do_leave(session, args):
+    no_arguments(args, "leave")
+    if not session.shape.returns:
+        raise DebugError(f"{session.machine.name} has no return instruction "
+                         f"(none loads pc from memory at a stack register)")
+    return session.step(CallDepth(session.machine, session.shape, session.emu.instruction_address, 0,
+                                  "returned to the caller"))
+
+
+@command("live [FACTOR]", "Run in real time, FACTOR times the nominal clock, panel updating.")
+def do_live(session, args):
+    """Keys in the live view: s or Ctrl-C throw the switch to stop, r to
+    run, space presses RESUME, p presses STEP, q or Enter return to
+    the prompt (the clock is then held between commands)."""
+    if len(args) > 1:
+        raise DebugError("usage: live [FACTOR]")
+    factor = 1.0
+    if args:
+        try:
+            factor = float(args[0])
+        except ValueError:
+            raise DebugError(f"factor '{args[0]}' is not a number") from None
+        if not 0 < factor <= 10_000:
+            raise DebugError(f"factor must be above 0 and at most 10000, not {args[0]}")
+    session.live_factor = factor
+    return f"live at {factor:g} × {session.machine.nominal_hz:g} Hz"
+
+
+@command("beat SEED|even", "An irregular clock drawn from the machine's parts (SEED), or the even one.")
+def do_beat(session, args):
+    """Each turn of the ring then takes phase durations drawn from the
+    machine file's [timing] tolerances for one built clock; results and
+    cycle counts do not change, simulated time and the waveform do."""
+    if len(args) != 1:
+        raise DebugError("usage: beat SEED|even")
+    if args[0].lower() == "even":
+        session.emu.clock_source = None
+        return "the clock beats evenly at its nominal phase durations"
+    seed = number(args[0], "seed")
+    if seed < 0:
+        raise DebugError(f"a seed is 0 or more, not {seed}")
+    try:
+        session.emu.clock_source = spread_source(session.machine, seed)
+    except MachineError as exc:
+        raise DebugError(f"no irregular clock for {session.machine.name}: {exc.message}") from None
+    return f"irregular clock: one built from the [timing] parts with seed {seed}"

@@ -1,0 +1,207 @@
+"""Stepping and stopping: when a clock the debugger lets go must stop, and why it did.
+
+Three things move the machine for the debugger: the engine's run (its fast
+path, traced by replay in ``run_clock``), STEP pulses given one instruction
+at a time while the generator is frozen, and the live view's phases paced
+against the wall clock. The rules for stopping are the same for all three
+and are written here once, as a ``RunPolicy``: at each instruction boundary
+reached, a breakpoint at pc first (the engine's order), then a watchpoint
+or the command's goal (an instruction count, a call depth); besides that
+the cycle limit and Ctrl-C. Every drive returns a ``Stop`` that puts the
+reason in words, so ``go``, ``pulse``, ``instr``, ``over``, ``leave`` and
+``live`` say the same sentence for the same event.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+from emu import StopReason
+
+from ._conditions import AnyOf, Watch, Watches
+from ._program import Places
+from ._running import run_clock
+
+__all__ = ["AtBreakpoint", "Breakpoint", "CycleLimit", "GoalReached", "HaltedByProgram", "RunPolicy",
+           "Stop", "SteppingInterrupted", "StoppedBySwitch", "WatchFired"]
+
+
+@dataclass(frozen=True)
+class Breakpoint:
+    number: int
+    address: int
+    label: str
+
+
+class Stop:
+    """Why the clock stopped; ``describe`` gives the sentence the debugger prints."""
+
+    def describe(self, places: Places) -> str:
+        raise NotImplementedError(type(self).__name__)
+
+
+@dataclass(frozen=True)
+class HaltedByProgram(Stop):
+    address: int
+    """The halt or pause instruction that set the latch."""
+    pc: int
+
+    def describe(self, places: Places) -> str:
+        return (f"halted by the program: {places.halt_kind(self.address)} at {places.name(self.address)}; "
+                f"the clock froze with pc at {places.hex(self.pc)}")
+
+
+@dataclass(frozen=True)
+class StoppedBySwitch(Stop):
+    ctrl_c: bool
+
+    def describe(self, places: Places) -> str:
+        how = " (Ctrl-C)" if self.ctrl_c else ""
+        return f"stopped by the stop switch{how}: the clock froze at the hold point"
+
+
+@dataclass(frozen=True)
+class CycleLimit(Stop):
+    limit: int
+    stepping: bool
+    """Reached by STEP pulses (the generator stays frozen) rather than by the running clock."""
+
+    def describe(self, places: Places) -> str:
+        if self.stepping:
+            return f"cycle limit of {self.limit:,} reached while stepping"
+        return f"cycle limit of {self.limit:,} cycles reached; the clock is held between two commands"
+
+
+@dataclass(frozen=True)
+class AtBreakpoint(Stop):
+    numbers: tuple[int, ...]
+    address: int
+
+    def describe(self, places: Places) -> str:
+        return f"breakpoint {', '.join(map(str, self.numbers))} at {places.name(self.address)}"
+
+
+@dataclass(frozen=True)
+class WatchFired(Stop):
+    watch: Watch
+    old: int
+    new: int
+    pc: int
+    """Where the clock stopped: the instruction before it wrote the watched value."""
+
+    def describe(self, places: Places) -> str:
+        return (f"watchpoint {self.watch.number}: {self.watch.label} changed from {self.old:#x} to "
+                f"{self.new:#x} (the instruction before {places.name(self.pc)} wrote it)")
+
+
+@dataclass(frozen=True)
+class GoalReached(Stop):
+    why: str
+    """The goal's own words: "2 instructions done", "returned to the caller"…"""
+
+    def describe(self, places: Places) -> str:
+        return self.why
+
+
+@dataclass(frozen=True)
+class SteppingInterrupted(Stop):
+    def describe(self, places: Places) -> str:
+        return "stepping stopped by Ctrl-C"
+
+
+class RunPolicy:
+    """The stopping rules of one command, and the three ways of moving the machine under them.
+
+    ``goal`` is a condition from ``_conditions`` (called at instruction
+    boundaries, with a ``why``); watchpoints are watched from the values they
+    have now; ``limit`` counts cycles (the pulses of a frozen clock);
+    ``interrupted()`` is the Ctrl-C flag.
+    """
+
+    def __init__(self, emu, breakpoints=(), watches=(), goal=None, *, limit: int | None = None,
+                 interrupted: Callable[[], bool] = lambda: False):
+        self.emu = emu
+        self.breakpoints = list(breakpoints)
+        self.addresses = frozenset(b.address for b in self.breakpoints)
+        watches = list(watches)
+        parts = [c for c in (Watches(watches, emu) if watches else None, goal) if c is not None]
+        self.condition = AnyOf(parts) if parts else None
+        self.limit = limit
+        self.interrupted = interrupted
+
+    def at_boundary(self) -> Stop | None:
+        """The check at an instruction boundary: a breakpoint first, then a watchpoint or the goal."""
+        e = self.emu
+        if e.pc in self.addresses:
+            return self._breakpoint(e.pc)
+        if self.condition is not None and self.condition(e):
+            return self._fired()
+        return None
+
+    # ----- the three drives ---------------------------------------------------
+
+    def run(self, recorder) -> Stop:
+        """Let the generator run: the engine checks the same rules on its fast path."""
+        ended = run_clock(self.emu, recorder, condition=self.condition, breakpoints=self.addresses,
+                          max_cycles=self.limit, interrupted=self.interrupted)
+        return self._from_engine(ended.stop, ended.interrupted)
+
+    def pulse(self) -> tuple[Stop, int]:
+        """STEP pulses, an instruction at a time, until a rule stops them; also the pulses given.
+
+        The generator must be frozen (STEP does nothing otherwise); the limit
+        counts pulses, and is needed: a goal may never be reached.
+        """
+        e = self.emu
+        pulses = 0
+        while True:
+            pulses += e.step_instruction(max_pulses=self.limit - pulses)
+            if pulses >= self.limit:
+                return CycleLimit(self.limit, stepping=True), pulses
+            stop = self.at_boundary()
+            if stop is None and self.interrupted():
+                stop = SteppingInterrupted()
+            if stop is not None:
+                return stop, pulses
+
+    def follow(self, target_ns: Callable[[], float], max_phases: int) -> Stop | None:
+        """Phase by phase while each phase ends by ``target_ns()`` (real time); None unless a rule fired.
+
+        Returns early, with None, when the generator freezes at a hold point.
+        """
+        e = self.emu
+        for _ in range(max_phases):
+            if e.time_ns + e.ring.turn[e.phase_index] > target_ns():
+                return None
+            done = e.instructions
+            if not e.advance_phase():
+                return None
+            if e.instructions != done and (stop := self.at_boundary()) is not None:
+                return stop
+        return None
+
+    # ----- naming what happened -------------------------------------------------
+
+    def _from_engine(self, stop: StopReason, ctrl_c: bool) -> Stop:
+        if stop.kind == "halted":
+            return HaltedByProgram(stop.address, stop.pc)
+        if stop.kind == "stopped":
+            return StoppedBySwitch(ctrl_c)
+        if stop.kind == "cycle_limit":
+            return CycleLimit(self.limit, stepping=False)
+        if stop.kind == "breakpoint":
+            return self._breakpoint(stop.pc)
+        if stop.kind == "condition":
+            return self._fired()
+        raise ValueError(f"unknown engine stop '{stop.kind}'")
+
+    def _breakpoint(self, address: int) -> AtBreakpoint:
+        return AtBreakpoint(tuple(b.number for b in self.breakpoints if b.address == address), address)
+
+    def _fired(self) -> Stop:
+        fired = self.condition.fired
+        if isinstance(fired, Watches):
+            watch, old, new = fired.hit
+            return WatchFired(watch, old, new, self.emu.pc)
+        return GoalReached(fired.why)

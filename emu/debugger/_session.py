@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from typing import Callable
 
 from emu import Emulator, MachineError
+from emu.errors import RelaybenchError
 import asm
 from emu.description.notation import NUMBER_FORMS, parse_number
 from emu.runs import DEFAULT_MAX_CYCLES
@@ -39,7 +40,7 @@ from ._trace import Recorder
 __all__ = ["Command", "COMMANDS", "DebugError", "Session"]
 
 
-class DebugError(Exception):
+class DebugError(RelaybenchError):
     """A command that cannot be carried out; the message says why, in one line."""
 
 
@@ -144,10 +145,8 @@ class Session:
         try:
             cmd = self.find_command(words[0])
             text = cmd.function(self, words[1:])
-        except DebugError as exc:
-            return f"error: {exc}"
-        except MachineError as exc:
-            return f"error: {exc}"
+        except RelaybenchError as exc:
+            return exc.render()
         self.last_repeat = line if cmd.repeats else None
         return text
 

@@ -14,6 +14,7 @@ import re
 from dataclasses import dataclass, field
 from functools import cached_property
 
+from ._sections import TimingSection, WearRatings
 from .notation import Assign, FlagsOnly, Statement
 
 __all__ = [
@@ -227,8 +228,21 @@ class Machine:
     program_counter: str
     instruction_register: str
     pause: str
-    extra: dict = field(default_factory=dict)
-    """Sections the engine does not read itself (timing, wear), kept for their own modules."""
+    timing: TimingSection | None = None
+    """The checked ``[timing]`` section (the clock ring's parts), None when the file has none."""
+    wear: WearRatings = field(default_factory=WearRatings)
+    """The checked ``[wear]`` section; without one no rated life is known."""
+
+    def control_lines(self) -> list[str]:
+        """Every control line some micro-step of the machine drives, in first-use order."""
+        lines: list[str] = []
+        for step in list(self.fetch) + [s for ins in self.instructions for s in ins.steps]:
+            lines.extend(line for line in step.control_lines if line not in lines)
+        return lines
+
+    def relay_names(self) -> list[str]:
+        """The relays whose wear is counted: the ring stages (``stage N``), then the control lines."""
+        return [f"stage {s}" for s in range(1, self.ring_stages + 1)] + self.control_lines()
 
     @property
     def slot_count(self) -> int:

@@ -120,13 +120,13 @@ def test_bad_machine_file(capsys, tmp_path):
     for command in (["run", prog], ["test", prog], ["asm", prog], ["isa"], ["dis", prog]):
         code, _out, err = cli(capsys, *command, "--machine", machine)
         assert code == 1
-        assert err.strip() == f"relaybench: error: {machine}: [machine]: 'data_bits' must be an integer, not a string"
+        assert err.strip() == f"{machine}:3: error: [machine]: 'data_bits' must be an integer, not a string"
 
 
 def test_missing_machine_file(capsys, tmp_path):
     code, _out, err = cli(capsys, "isa", "--machine", tmp_path / "none.toml")
     assert code == 1
-    assert err.strip().startswith("relaybench: error:") and "no such machine file" in err
+    assert err.strip().startswith(f"{tmp_path / 'none.toml'}: error:") and "no such machine file" in err
 
 
 @pytest.mark.parametrize("options, message", [

@@ -16,7 +16,8 @@ from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiec
                      Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
 from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
-                        TimingSection, WearRatings, read_timing, read_wear)
+                        TimingSection, WearRatings, read_timing, read_wear, timing_section,
+                        wear_section)
 from ._toml_lines import key_line
 
 __all__ = [
@@ -26,6 +27,6 @@ __all__ = [
     "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step",
     "REQUIRED", "Table", "is_integer", "is_number", "kind_of",
     "MAX_TOLERANCE", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",
-    "TimingSection", "WearRatings", "read_timing", "read_wear",
+    "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section",
     "key_line",
 ]

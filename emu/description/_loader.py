@@ -137,8 +137,8 @@ class _Loader:
             if reg not in registers:
                 head.fail(f"'{key}' names '{reg}', which is not a register", key)
         if registers[ir].width != data_bits:
-            head.fail(f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)",
-                      "instruction_register")
+            self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
+                         f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
         names = MachineNames(data_bits, registers, pairs, flags, pc, ir)
 
         kinds = self.operand_kinds(names)

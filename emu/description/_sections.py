@@ -20,13 +20,14 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from ._schema import Table
+from ..errors import MachineError
+from ._schema import Table, kind_of
 
 if TYPE_CHECKING:
     from ._model import Phase
 
 __all__ = ["MODES", "PARTS", "SPREADS", "MAX_TOLERANCE", "SILICON_DIODE_DROP_V", "Part", "StageParts",
-           "TimingSection", "WearRatings", "read_timing", "read_wear"]
+           "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section"]
 
 SILICON_DIODE_DROP_V = 0.7
 """Forward drop of a small-signal silicon diode (common practice)."""
@@ -202,3 +203,22 @@ def read_wear(spec: Table, relays: list[str]) -> WearRatings:
             table.fail(f"no relay named '{name}' (relays: {', '.join(relays)})", name)
         checked[name] = float(table.number(name, above=0, expected=expected))
     return WearRatings(None if default is None else float(default), checked)
+
+
+def _fail_in(path: str):
+    def fail(where: str, key: tuple, message: str):
+        raise MachineError(message, path=path, where=where, key=key)
+    return fail
+
+
+def timing_section(data, machine) -> TimingSection:
+    """``[timing]`` given as a table rather than read from the machine's file (to vary the parts)."""
+    if not isinstance(data, dict):
+        _fail_in(machine.path)("top level", ("timing",), "'timing' must be a table, not " + kind_of(data))
+    return read_timing(Table(data, "[timing]", _fail_in(machine.path), ("timing",)),
+                       machine.ring_stages, machine.phases)
+
+
+def wear_section(data, machine) -> WearRatings:
+    """``[wear]`` given as a table rather than read from the machine's file."""
+    return read_wear(Table(data, "[wear]", _fail_in(machine.path), ("wear",)), machine.relay_names())

@@ -18,7 +18,7 @@ from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
 from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
                         TimingSection, WearRatings, read_timing, read_wear, timing_section,
                         wear_section)
-from ._toml_lines import key_line
+from ._toml_lines import key_line, toml_syntax_error
 
 __all__ = [
     "ALU_OPS", "WORD_SELECTORS",
@@ -28,5 +28,5 @@ __all__ = [
     "REQUIRED", "Table", "is_integer", "is_number", "kind_of",
     "MAX_TOLERANCE", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",
     "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section",
-    "key_line",
+    "key_line", "toml_syntax_error",
 ]

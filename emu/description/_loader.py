@@ -22,7 +22,7 @@ from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiec
                      Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import Table, is_integer
 from ._sections import read_timing, read_wear
-from ._toml_lines import key_line
+from ._toml_lines import key_line, toml_syntax_error
 from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
 
 __all__ = ["load_machine", "machine_from_text", "shipped_machines"]
@@ -61,16 +61,9 @@ def machine_from_text(text: str, path: str = "<machine>") -> Machine:
 
 
 def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineError:
-    """The parser's message, with its ``(at line L, column C)`` made the error's location."""
-    message = str(exc)
-    found = re.search(r" \(at line (\d+), column (\d+)\)$", message)
-    if not found:
-        return MachineError(f"not valid TOML: {message}", path=path)
-    line, column = int(found[1]), int(found[2])
-    error = MachineError(f"not valid TOML: {message[:found.start()]}", path=path, line=line)
-    lines = text.splitlines()
-    if line <= len(lines):
-        error.column, error.source_line = column, lines[line - 1]
+    message, line, column, source = toml_syntax_error(exc, text)
+    error = MachineError(f"not valid TOML: {message}", path=path, line=line)
+    error.column, error.source_line = column, source
     return error
 
 
@@ -351,11 +344,11 @@ class _Loader:
         syntax = spec.string("syntax").strip()
         spec.where = f"instruction '{_strip_kinds(syntax)}'"
         mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
+        words = 'a non-empty list of word strings, e.g. ["0001 rd", "imm"]'
         encoding = spec.list_of("encoding", lambda w: isinstance(w, str), nonempty=True, default=None,
-                                expected="")
+                                expected=words)
         if encoding is None:
-            spec.fail("'encoding' must be a non-empty list of word strings, e.g. [\"0001 rd\", \"imm\"]",
-                      "encoding")
+            spec.fail(f"'encoding' must be {words}", "encoding")
         fixed, fields = self.encoding(spec, encoding, field_kinds, names.data_bits)
         texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):

@@ -23,6 +23,7 @@ class _Required:
 
 REQUIRED = _Required()
 """The default of a getter whose key must be present."""
+_NONE = object()
 
 Fail = Callable[[str, tuple, str], NoReturn]
 """``fail(where, key_path, message)`` raises the reader's error."""
@@ -145,11 +146,18 @@ class Table:
         return value
 
     def list_of(self, key, accept: Callable[[object], bool], *, expected: str, default=REQUIRED,
-                nonempty: bool = False, shown: Callable[[object], str] = repr) -> list | None:
+                nonempty: bool = False) -> list | None:
         """A list whose every item ``accept`` takes; ``expected`` says what such a list is."""
         value, given = self._value(key, default, expected)
-        if given and (not isinstance(value, list) or nonempty and not value or not all(map(accept, value))):
-            self.fail(f"'{key}' must be {expected}, not {shown(value)}", key)
+        if not given:
+            return value
+        if not isinstance(value, list):
+            self.fail(f"'{key}' must be {expected}, not {kind_of(value)}", key)
+        if nonempty and not value:
+            self.fail(f"'{key}' must be {expected}, not an empty list", key)
+        bad = next((item for item in value if not accept(item)), _NONE)
+        if bad is not _NONE:
+            self.fail(f"'{key}' must be {expected}, not a list holding {bad!r}", key)
         return value
 
     def table(self, key, where: str | None = None, *, required: bool = True) -> "Table":

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["key_line"]
+__all__ = ["key_line", "toml_syntax_error"]
 
 _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\[\]]+?)\s*\]\]?\s*(?:#.*)?$")
 _KEY = re.compile(r"""^\s*((?:[A-Za-z0-9_-]+|"[^"]*"|'[^']*')(?:\s*\.\s*(?:[A-Za-z0-9_-]+|"[^"]*"|'[^']*'))*)\s*=""")
@@ -129,3 +129,19 @@ def _string_end(text: str, start: int) -> int:
             return position
         position += 1
     return position
+
+
+def toml_syntax_error(exc: Exception, text: str) -> tuple[str, int | None, int | None, str | None]:
+    """A ``tomllib`` parse error as (message, line, column, source line).
+
+    The parser puts its position at the end of its message, ``(at line L,
+    column C)``; relaybench puts it in front, as every located error.
+    """
+    message = str(exc)
+    found = re.search(r" \(at line (\d+), column (\d+)\)$", message)
+    if not found:
+        return message, None, None, None
+    line, column = int(found[1]), int(found[2])
+    lines = text.splitlines()
+    source = lines[line - 1] if line <= len(lines) else None
+    return message[:found.start()], line, column if source is not None else None, source

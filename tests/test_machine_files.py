@@ -502,3 +502,80 @@ def test_a_register_of_the_machine_outside_an_operand_kind_is_named_as_such():
     with pytest.raises(asm.AsmError) as caught:
         asm.assemble_text("clr r1\n", machine, "p.asm")
     assert caught.value.diagnostics[0].message == "r1 cannot stand here: this operand takes r0, r5 or r7"
+
+
+# ----- the line of the offending key ---------------------------------------------------------
+
+@pytest.mark.parametrize("old, new, line, message", [
+    ("data_bits = 8", "data_bits = 0", 21, "[machine]: 'data_bits' must be 1…16, not 0"),
+    ("ms = 40", "ms = -3", 85, "[[clock.phase]] 2 ('B'): 'ms' must be a positive number of milliseconds, not -3"),
+    ("imm8 = { bits = 8,", "imm8 = { bits = 40,", 55, "[operands] imm8: 'bits' must be 1…32, not 40"),
+    ('in.1 = "input"', 'in.1 = "tape"', 63,
+     "[ports.in] 1: an in port device must be one of switches, input, input_ready, not 'tape'"),
+    ('"pc <- {mem[sp], t}; sp <- sp + 1"', '"pc <- {mem[sp], q}; sp <- sp + 1"', 123,
+     "instruction 'ret' step 3: unknown register or field 'q' "
+     "(registers: r0, r1, r2, r3, r4, r5, r6, r7, sp, pc, ir, t, u, x; fields: none)"),
+    ("c_uf = 330", "c_uf = -1", 488, "[[timing.stage]] 3: 'c_uf' must be above zero, not -1"),
+    ("rated_operations = 10_000_000", "rated_operations = -5", 499,
+     "[wear]: 'rated_operations' must be a positive number of operations, not -5"),
+    ('"stage 1" = 20_000_000', '"stage 9" = 20_000_000', 502,
+     "[wear.relays]: no relay named 'stage 9' (relays: stage 1, stage 2, stage 3, stage 4, read, load ir, "),
+], ids=["machine", "clock phase", "operand kind", "port", "instruction step", "timing stage", "wear",
+        "wear relay"])
+def test_a_message_names_the_line_of_the_key(old, new, line, message):
+    error = load_error(ref8_with(old, new))
+    assert error.line == line
+    assert str(error).startswith(f"{FILE}:{line}: error: {message}")
+    assert ref8_with(old, new).splitlines()[line - 1].strip().startswith(new.split(" = ")[0].split("{")[0].strip())
+
+
+def test_a_step_in_a_list_over_several_lines_names_its_own_line():
+    text = ref8_with('steps = ["pc <- x"]', 'steps = [\n  "t <- u",\n  "pc <- y",\n]')
+    error = load_error(text)
+    assert error.text().startswith("instruction 'jmp x' step 3: unknown register or field 'y'")
+    assert text.splitlines()[error.line - 1] == '  "pc <- y",'
+
+
+@pytest.mark.parametrize("value, message", [
+    ("inf", "'ms' must be a positive number of milliseconds, not inf"),
+    ("nan", "'ms' must be a positive number of milliseconds, not nan"),
+    ("-inf", "'ms' must be a positive number of milliseconds, not -inf"),
+    ("1e-300", "'ms' must be at least 0.000001 (one nanosecond, the clock's resolution), not 1e-300"),
+    ("4e-7", "'ms' must be at least 0.000001 (one nanosecond, the clock's resolution), not 4e-07"),
+    ("1e300", "'ms' must be at most 86400000 (a day), not 1e+300"),
+    ("true", "'ms' must be a positive number of milliseconds, not True"),
+])
+def test_a_phase_length_the_clock_cannot_count_is_refused_at_its_line(value, message):
+    error = load_error(ref8_with("ms = 40", f"ms = {value}"))
+    assert str(error) == f"{FILE}:85: error: [[clock.phase]] 2 ('B'): {message}"
+
+
+def test_the_shortest_phase_the_clock_counts_is_one_nanosecond():
+    machine = emu.machine_from_text(ref8_with("ms = 40", "ms = 0.000001"), FILE)
+    assert machine.phases[1].duration_ns == 1
+
+
+def test_a_fetch_step_that_computes_the_opcode_is_refused_by_the_loader():
+    """The engine peeks at the next opcode by replaying plain transfers, so the loader refuses the rest."""
+    for fetch in ('"ir <- not(mem[pc]); pc <- pc + 1"', '"t <- in(0); pc <- pc + 1", "ir <- t"',
+                  '"ir <- z ? mem[pc] : t; pc <- pc + 1"'):
+        error = load_error(ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', f"steps = [{fetch}]"))
+        assert str(error) == (f"{FILE}:102: error: [fetch]: the fetch steps must load the instruction register "
+                              f"by plain register transfers (no ALU, input or choice)"), fetch
+
+
+def test_a_fetch_step_through_a_latch_is_plain():
+    text = ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', 'steps = ["t <- mem[pc]; pc <- pc + 1", "ir <- t"]')
+    machine = emu.machine_from_text(text, FILE)
+    assert len(machine.fetch) == 2
+
+
+def test_timing_and_wear_are_checked_into_typed_fields_at_load():
+    machine = emu.machine_from_text(REF8_TEXT, FILE)
+    assert machine.timing.supply == 24.0 and machine.timing.phase_stage == (0, 1, 2, 3)
+    assert [s.mode for s in machine.timing.stages] == ["charge", "discharge", "charge", "charge"]
+    assert machine.timing.stages[0].line == 475
+    assert machine.wear.life("stage 1") == 20_000_000 and machine.wear.life("read") == 10_000_000
+    bare = REF8_TEXT[:REF8_TEXT.index("[timing]")]
+    machine = emu.machine_from_text(bare, FILE)
+    assert machine.timing is None and machine.wear.life("read") is None

@@ -78,7 +78,8 @@ class Table:
         return self.data.get(key, default)
 
     def _value(self, key, default, what: str):
-        if key in self.data:
+        """(value, given); a JSON null stands for an absent optional key."""
+        if key in self.data and not (self.data[key] is None and default is not REQUIRED):
             return self.data[key], True
         if default is REQUIRED:
             self.fail(f"missing key '{key}' ({what})", key)

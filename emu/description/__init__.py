@@ -11,9 +11,10 @@ assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
 """
 
 from ._alu import ALU_OPS, WORD_SELECTORS
-from ._loader import MachineNames, load_machine, machine_from_text, shipped_machines
+from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
+                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair,
+                     Step)
 from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
 from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
                         TimingSection, WearRatings, read_timing, read_wear, timing_section,

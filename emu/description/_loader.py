@@ -12,14 +12,13 @@ from __future__ import annotations
 
 import re
 import tomllib
-from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
 
 from ..errors import MachineError
 from ._design_rules import StepChecker
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
+                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import Table, is_integer
 from ._sections import read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
@@ -74,26 +73,6 @@ _ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(
 _IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 _LONGEST_PHASE_MS = 86_400_000
 """A day: far beyond any relay clock, and well inside the engine's nanosecond counters."""
-
-
-@dataclass(frozen=True)
-class MachineNames:
-    """What the micro-steps may name, fixed once ``[machine]``, the registers and flags are read.
-
-    Passed to each later section (and to the design-rule checker) instead of
-    living on the loader, so no section depends on the order of another.
-    """
-    data_bits: int
-    registers: dict[str, Register]
-    pairs: dict[str, RegisterPair]
-    flags: dict[str, Flag]
-    pc: str
-    ir: str
-
-    @property
-    def kinds_of_name(self) -> dict[str, str]:
-        return {**{n: "register" for n in self.registers}, **{n: "register pair" for n in self.pairs},
-                **{n: "flag" for n in self.flags}}
 
 
 class _Loader:
@@ -262,11 +241,12 @@ class _Loader:
         table = clock.get("phase")
         if not isinstance(table, list) or len(table) < 2:
             clock.fail("needs at least two [[clock.phase]] entries (one high, one low)", "phase")
-        if not all(isinstance(spec, dict) for spec in table):
-            number = next(i for i, spec in enumerate(table, 1) if not isinstance(spec, dict))
-            self.fail_at(f"[[clock.phase]] {number}", ("clock", "phase", number - 1), "a phase must be a table")
+        for number, spec in enumerate(table, 1):
+            if not isinstance(spec, dict):
+                self.fail_at(f"[[clock.phase]] {number}", ("clock", "phase", number - 1), "a phase must be a table")
         phases = []
-        for i, spec in enumerate(clock.tables("phase", lambda n: f"[[clock.phase]] {n}", expected=""), 1):
+        for i, spec in enumerate(clock.tables("phase", lambda n: f"[[clock.phase]] {n}",
+                                              expected="every [[clock.phase]] must be a table"), 1):
             spec.known_keys(("name", "level", "ms", "ring", "hold"))
             name = spec.string("name", default=f"phase{i}")
             spec.where = f"[[clock.phase]] {i} ('{name}')"

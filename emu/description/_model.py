@@ -18,7 +18,7 @@ from ._sections import TimingSection, WearRatings
 from .notation import Assign, FlagsOnly, Statement
 
 __all__ = [
-    "Machine", "Instruction", "Step", "Register", "RegisterPair", "Flag",
+    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterPair", "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES",
 ]
@@ -205,6 +205,27 @@ class Instruction:
                 if isinstance(st, (Assign, FlagsOnly)):
                     written.extend(f for f in st.flags if f not in written)
         return tuple(f for f in machine.flags if f in written)
+
+
+@dataclass(frozen=True)
+class MachineNames:
+    """What the micro-steps may name, fixed once ``[machine]``, the registers and flags are read.
+
+    The loader passes it to each later section (and to the design-rule
+    checker) instead of keeping it on itself, so no section depends on the
+    order in which another was read.
+    """
+    data_bits: int
+    registers: dict[str, Register]
+    pairs: dict[str, RegisterPair]
+    flags: dict[str, Flag]
+    pc: str
+    ir: str
+
+    @property
+    def kinds_of_name(self) -> dict[str, str]:
+        return {**{n: "register" for n in self.registers}, **{n: "register pair" for n in self.pairs},
+                **{n: "flag" for n in self.flags}}
 
 
 @dataclass

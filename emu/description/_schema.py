@@ -68,6 +68,10 @@ class Table:
         """Raise the reader's error about this table, or about one of its keys."""
         self._fail(self.where, self.key if key is None else self.key + (key,), message)
 
+    def fail_at(self, where: str, key: tuple, message: str) -> NoReturn:
+        """Raise the reader's error about another place of the same file (``key`` from the top)."""
+        self._fail(where, key, message)
+
     def __contains__(self, key) -> bool:
         return key in self.data
 

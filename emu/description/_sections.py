@@ -167,7 +167,7 @@ def _stage(number: int, spec: Table, top: Table, line: int | None) -> StageParts
 def _phase_stages(top: Table, ring_stages: int, phases: tuple[Phase, ...]) -> tuple[int, ...]:
     """Which stage times each phase: a timed clock gives every phase a stage of its own."""
     def fail(number, message, key=()):
-        top._fail(f"[[clock.phase]] {number} ('{phases[number - 1].name}')",
+        top.fail_at(f"[[clock.phase]] {number} ('{phases[number - 1].name}')",
                   ("clock", "phase", number - 1) + key, message)
 
     owners: dict[int, str] = {}
@@ -184,7 +184,7 @@ def _phase_stages(top: Table, ring_stages: int, phases: tuple[Phase, ...]) -> tu
         result.append(stage - 1)
     unused = [s for s in range(1, ring_stages + 1) if s not in owners]
     if unused:
-        top._fail("[clock]", ("clock", "stages"),
+        top.fail_at("[clock]", ("clock", "stages"),
                   f"ring stage {unused[0]} lights in no phase, so its parts time nothing")
     return tuple(result)
 

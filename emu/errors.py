@@ -65,9 +65,10 @@ class MachineError(RelaybenchError):
     """
 
     def __init__(self, message: str, *, path: str | None = None, where: str | None = None,
-                 line: int | None = None, key: tuple = ()):
+                 line: int | None = None, key: tuple = (), column: int | None = None,
+                 source_line: str | None = None):
         self.where = where
-        super().__init__(message, file=path, line=line, key=key)
+        super().__init__(message, file=path, line=line, column=column, key=key, source_line=source_line)
 
     @property
     def path(self) -> str | None:

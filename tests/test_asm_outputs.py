@@ -115,7 +115,8 @@ def test_debug_path_naming(name):
     ("[1, 2", "not valid JSON"),
     ('{"format": "other"}', "not a relaybench debug file"),
     ('{"format": "relaybench-debug", "version": 9}', "'version' must be 1, not 9"),
-    ('{"format": "relaybench-debug", "version": 1, "files": "x"}', "'files' must be a list of file names, not a string"),
+    ('{"format": "relaybench-debug", "version": 1, "files": "x"}',
+     "'files' must be a list of file names, not a string"),
     ('{"format": "relaybench-debug", "version": 1, "files": [], "labels": {"a": "b"}}',
      "top level: 'a' must be an integer \\(the value of the name\\), not 'b'"),
 ])

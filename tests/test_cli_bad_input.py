@@ -238,7 +238,8 @@ def test_a_source_file_full_of_mistakes_gets_every_located_error(tmp_path, capsy
      "expects[0]: 'memory_address' must be an address 0…65535, not None"),
     (lambda d: d["expects"][0].update(item="r9"), "expects[0]: 'item' must be one of"),
     (lambda d: d["expects"][0].update(address=70000), "expects[0]: 'address' must be an address 0…65535, not 70000"),
-    (lambda d: d.update(pauses=[-1]), "top level: 'pauses' must be a list of addresses 0…65535, not a list holding -1"),
+    (lambda d: d.update(pauses=[-1]),
+     "top level: 'pauses' must be a list of addresses 0…65535, not a list holding -1"),
 ], ids=["huge length", "memory check without address", "unknown item", "address past memory",
         "negative pause"])
 def test_a_stale_debug_file_is_refused_with_the_key_named(tmp_path, capsys, damage, message):

@@ -61,9 +61,7 @@ def machine_from_text(text: str, path: str = "<machine>") -> Machine:
 
 def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineError:
     message, line, column, source = toml_syntax_error(exc, text)
-    error = MachineError(f"not valid TOML: {message}", path=path, line=line)
-    error.column, error.source_line = column, source
-    return error
+    return MachineError(f"not valid TOML: {message}", path=path, line=line, column=column, source_line=source)
 
 
 _SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",

@@ -20,7 +20,7 @@ from .notation import Assign, FlagsOnly, Statement
 __all__ = [
     "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterPair", "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
-    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES",
+    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
 ]
 
 FLAG_ROLES = ("zero", "negative", "carry", "overflow")
@@ -207,6 +207,11 @@ class Instruction:
         return tuple(f for f in machine.flags if f in written)
 
 
+def stage_relay(stage: int) -> str:
+    """The relay of clock-ring stage ``stage`` (from 1), as wear reports and ``[wear.relays]`` name it."""
+    return f"stage {stage}"
+
+
 @dataclass(frozen=True)
 class MachineNames:
     """What the micro-steps may name, fixed once ``[machine]``, the registers and flags are read.
@@ -263,7 +268,7 @@ class Machine:
 
     def relay_names(self) -> list[str]:
         """The relays whose wear is counted: the ring stages (``stage N``), then the control lines."""
-        return [f"stage {s}" for s in range(1, self.ring_stages + 1)] + self.control_lines()
+        return [stage_relay(s) for s in range(1, self.ring_stages + 1)] + self.control_lines()
 
     @property
     def slot_count(self) -> int:

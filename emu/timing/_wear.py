@@ -14,14 +14,10 @@ import math
 from contextlib import contextmanager
 
 from .. import Emulator, Observer
-from ..description import Machine, WearRatings
+from ..description import Machine, WearRatings, stage_relay
 
 __all__ = ["WearCounter", "WearRatings", "count_wear", "wear_ratings", "format_wear",
            "relay_names"]
-
-
-def stage_relay(stage: int) -> str:
-    return f"stage {stage}"
 
 
 def relay_names(machine: Machine) -> list[str]:

@@ -34,8 +34,7 @@ def _tables(lines: list[str]) -> list[tuple[tuple, int, int]]:
         path = _parts(match[2])
         if match[1] == "[[":
             counts[path] = counts.get(path, -1) + 1
-            # an array of tables nested in the latest element of its parent array
-            path = path + (counts[path],)
+            path = path + (counts[path],)  # the n-th [[clock.phase]] is ("clock", "phase", n)
         else:
             path = _indexed(path, counts)
         found.append((path, number))

@@ -44,6 +44,8 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from emu.description import Table, is_integer
+
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
@@ -194,7 +196,7 @@ def read_debug(path, machine=None) -> DebugInfo:
 
 
 class _Reader:
-    """Checks a decoded debug file key by key."""
+    """Checks a decoded debug file key by key, through the getters every relaybench file reader shares."""
 
     def __init__(self, path: str, machine=None):
         self.path = path
@@ -206,96 +208,72 @@ class _Reader:
             names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
             self.items = {*names, "mem", "lamps", "out"}
 
-    def address(self, entry, key: str, where: str) -> int:
-        value = self.get(entry, key, int, "an address", where)
-        if not 0 <= value < self.words:
-            self.fail(f"{where}: key '{key}' must be an address 0…{self.words - 1}, not {value}")
-        return value
+    def fail(self, where: str, _key, message: str):
+        raise file_error(self.path, f"{where}: {message}" if where else message)
 
-    def fail(self, message: str):
-        raise file_error(self.path, message)
+    def address(self, entry: Table, key: str) -> int:
+        return entry.integer(key, low=0, high=self.words - 1, expected=f"an address 0…{self.words - 1}")
 
-    def get(self, data: dict, key: str, kind, what: str, where: str):
-        value = data.get(key) if isinstance(data, dict) else None
-        if not isinstance(value, kind) or isinstance(value, bool) and kind is not bool:
-            self.fail(f"{where}: key '{key}' must be {what}")
-        return value
+    def entries(self, top: Table, key: str, where: str) -> list[Table]:
+        """A list of objects, each read as a table named ``where[i]``."""
+        items = top.list_of(key, lambda e: isinstance(e, dict), expected="a list of objects")
+        return [Table(item, f"{where}[{i}]", self.fail, (key, i)) for i, item in enumerate(items)]
 
     def info(self, data) -> DebugInfo:
         if not isinstance(data, dict) or data.get("format") != FORMAT:
-            self.fail(f"not a relaybench debug file (key 'format' must be \"{FORMAT}\")")
+            self.fail("", (), f"not a relaybench debug file ('format' must be \"{FORMAT}\")")
+        top = Table(data, "top level", self.fail)
         if data.get("version") != VERSION:
-            self.fail(f"key 'version' must be {VERSION}, not {data.get('version')!r}")
-        top = "top level"
-        files = self.get(data, "files", list, "a list of file names", top)
-        if not all(isinstance(f, str) for f in files):
-            self.fail("top level: key 'files' must be a list of file names")
+            self.fail("", ("version",), f"'version' must be {VERSION}, not {data.get('version')!r}")
+        files = top.list_of("files", lambda f: isinstance(f, str), expected="a list of file names")
         files = [f if f.startswith("<") or os.path.isabs(f) else os.path.normpath(os.path.join(self.folder, f))
                  for f in files]
-        labels = self.names(data, "labels")
+        labels = self.names(top, "labels")
         for name, value in labels.items():
             if not 0 <= value < self.words:
-                self.fail(f"top level: label '{name}' must be an address 0…{self.words - 1}, not {value}")
-        constants = self.names(data, "constants")
-        lines = [self.line(entry, i, files) for i, entry in enumerate(self.get(data, "lines", list, "a list", top))]
-        pauses = self.get(data, "pauses", list, "a list of addresses", top)
-        if not all(isinstance(a, int) and not isinstance(a, bool) and 0 <= a < self.words for a in pauses):
-            self.fail(f"top level: key 'pauses' must be a list of addresses 0…{self.words - 1}")
-        expects = [self.expect(entry, i, files)
-                   for i, entry in enumerate(self.get(data, "expects", list, "a list", top))]
-        name = self.get(data, "machine", str, "a machine name", top)
+                top.fail(f"label '{name}' must be an address 0…{self.words - 1}, not {value}", "labels")
+        constants = self.names(top, "constants")
+        lines = [self.line(entry, files) for entry in self.entries(top, "lines", "lines")]
+        pauses = top.list_of("pauses", lambda a: is_integer(a) and 0 <= a < self.words,
+                             expected=f"a list of addresses 0…{self.words - 1}")
+        expects = [self.expect(entry, files) for entry in self.entries(top, "expects", "expects")]
+        name = top.string("machine", expected="a machine name")
         if self.machine is not None and name != self.machine.name:
-            self.fail(f"the debug file is for machine '{name}', not '{self.machine.name}'")
-        crc = data.get("image_crc32")
-        if crc is not None and (not isinstance(crc, int) or isinstance(crc, bool)):
-            self.fail("top level: key 'image_crc32' must be an integer")
-        return DebugInfo(name,
-                         self.get(data, "word_bits", int, "an integer", top),
-                         files, labels, constants, lines, pauses, expects, crc)
+            self.fail("", ("machine",), f"the debug file is for machine '{name}', not '{self.machine.name}'")
+        crc = top.integer("image_crc32", default=None)
+        return DebugInfo(name, top.integer("word_bits"), files, labels, constants, lines, pauses, expects, crc)
 
-    def names(self, data, key) -> dict[str, int]:
-        table = self.get(data, key, dict, "an object of name → integer", "top level")
-        if not all(isinstance(v, int) and not isinstance(v, bool) for v in table.values()):
-            self.fail(f"top level: key '{key}' must be an object of name → integer")
-        return table
+    def names(self, top: Table, key: str) -> dict[str, int]:
+        table = top.table(key)
+        for name in table.data:
+            table.integer(name, expected="an integer (the value of the name)")
+        return table.data
 
-    def file(self, entry, where, files) -> str:
-        index = self.get(entry, "file", int, f"an index into 'files' (0…{len(files) - 1})", where)
-        if not 0 <= index < len(files):
-            self.fail(f"{where}: key 'file' must be an index into 'files' (0…{len(files) - 1})")
-        return files[index]
+    def file(self, entry: Table, files) -> str:
+        return files[entry.integer("file", low=0, high=len(files) - 1,
+                                   expected=f"an index into 'files' (0…{len(files) - 1})")]
 
-    def line(self, entry, i, files) -> LineEntry:
-        where = f"lines[{i}]"
-        kind = self.get(entry, "kind", str, '"code" or "data"', where)
-        if kind not in ("code", "data"):
-            self.fail(f"{where}: key 'kind' must be \"code\" or \"data\"")
-        cycles = entry.get("cycles")
-        if cycles is not None and (not isinstance(cycles, int) or isinstance(cycles, bool)):
-            self.fail(f"{where}: key 'cycles' must be an integer or null")
-        address = self.address(entry, "address", where)
-        length = self.get(entry, "length", int, "a word count", where)
-        if not 0 <= length <= self.words - address:
-            self.fail(f"{where}: key 'length' must be a word count 0…{self.words - address}, not {length}")
-        return LineEntry(address, length,
-                         self.file(entry, where, files), self.get(entry, "line", int, "a line number", where),
+    def line(self, entry: Table, files) -> LineEntry:
+        kind = entry.choice("kind", ("code", "data"))
+        cycles = entry.integer("cycles", default=None, expected="an integer or null")
+        address = self.address(entry, "address")
+        length = entry.integer("length", low=0, high=self.words - address,
+                               expected=f"a word count 0…{self.words - address}")
+        return LineEntry(address, length, self.file(entry, files), entry.integer("line", expected="a line number"),
                          kind, cycles)
 
-    def expect(self, entry, i, files) -> Expect:
-        where = f"expects[{i}]"
-        value = entry.get("value") if isinstance(entry, dict) else None
-        if not isinstance(value, (int, str)) or isinstance(value, bool):
-            self.fail(f"{where}: key 'value' must be an integer or a string")
-        op = self.get(entry, "op", str, '"==" or "!="', where)
-        if op not in ("==", "!="):
-            self.fail(f"{where}: key 'op' must be \"==\" or \"!=\"")
-        item = self.get(entry, "item", str, "an item name", where)
+    def expect(self, entry: Table, files) -> Expect:
+        value = entry.get("value")
+        if not (is_integer(value) or isinstance(value, str)):
+            entry.fail(f"'value' must be an integer or a string, not {value!r}", "value")
+        op = entry.choice("op", ("==", "!="))
+        item = entry.string("item", expected="an item name")
         if self.items is not None and item not in self.items:
-            self.fail(f"{where}: key 'item' must be one of {', '.join(sorted(self.items))}, not {item!r}")
-        memory = self.address(entry, "memory_address", where) if item == "mem" else None
+            entry.fail(f"'item' must be one of {', '.join(sorted(self.items))}, not {item!r}", "item")
+        memory = self.address(entry, "memory_address") if item == "mem" else None
         if (item == "out") != isinstance(value, str):
-            self.fail(f"{where}: key 'value' must be a string for out and an integer otherwise")
-        return Expect(self.address(entry, "address", where), self.file(entry, where, files),
-                      self.get(entry, "line", int, "a line number", where),
-                      item, op, value, memory,
-                      entry.get("text", "") if isinstance(entry.get("text", ""), str) else "")
+            entry.fail("'value' must be a string for out and an integer otherwise", "value")
+        text = entry.get("text", "")
+        return Expect(self.address(entry, "address"), self.file(entry, files),
+                      entry.integer("line", expected="a line number"), item, op, value, memory,
+                      text if isinstance(text, str) else "")

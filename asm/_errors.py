@@ -1,14 +1,16 @@
-"""The one error type of the assembler and the image readers.
+"""The error of the assembler and the image readers, in relaybench's one family.
 
 A program is hand-written and often wrong in several places at once, so the
 assembler collects every problem as a ``Diagnostic`` and raises a single
-``AsmError`` holding all of them. Rendering follows the compiler habit that
-editors understand: ``FILE:LINE:COL: error: message``, the line, a caret.
+``AsmError`` holding all of them. Each renders as every relaybench error
+does (``emu.errors``): ``FILE:LINE:COL: error: message``, the line, a caret.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+
+from emu.errors import RelaybenchError, render_location
 
 __all__ = ["AsmError", "Diagnostic"]
 
@@ -24,24 +26,19 @@ class Diagnostic:
     source_line: str | None = None
 
     def render(self) -> str:
-        if self.line is None:
-            return f"{self.file}: error: {self.message}"
-        head = f"{self.file}:{self.line}:{self.column}: error: {self.message}"
-        if self.source_line is None:
-            return head
-        text = self.source_line.rstrip("\r\n")
-        lead = "".join(ch if ch == "\t" else " " for ch in text[: max(self.column - 1, 0)])
-        return f"{head}\n    {text}\n    {lead}^"
+        return render_location(self.message, self.file, self.line, self.column, self.source_line)
 
 
-class AsmError(Exception):
-    """Raised with every diagnostic found; ``str()`` renders them all."""
+class AsmError(RelaybenchError):
+    """Raised with every diagnostic found; its location is the first one's, ``str()`` renders them all."""
 
     def __init__(self, diagnostics: list[Diagnostic]):
         self.diagnostics = list(diagnostics)
-        super().__init__(str(self))
+        first = self.diagnostics[0] if self.diagnostics else Diagnostic("<program>", None, None, "no diagnostic")
+        super().__init__(first.message, file=first.file, line=first.line, column=first.column,
+                         source_line=first.source_line)
 
-    def __str__(self) -> str:
+    def render(self) -> str:
         return "\n".join(d.render() for d in self.diagnostics)
 
 

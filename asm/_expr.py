@@ -11,6 +11,8 @@ from __future__ import annotations
 import operator
 from typing import Protocol
 
+from emu.errors import RelaybenchError
+
 __all__ = [
     "EvalError", "Context", "Expr", "Number", "Name", "Here", "Unary", "Binary",
     "Group", "Call", "Invalid", "FUNCTIONS",
@@ -20,14 +22,12 @@ _LIMIT = 1 << 256
 """No value in a program is anywhere near this; past it, something is runaway."""
 
 
-class EvalError(Exception):
+class EvalError(RelaybenchError):
     """An expression that has no value; ``node`` says where."""
 
     def __init__(self, message: str | None, node: "Expr", file: str | None = None):
-        super().__init__(message)
-        self.message = message
+        super().__init__(message, file=file)
         self.node = node
-        self.file = file
     """``file`` is set when the expression came from another file (a constant's
     definition); a message of None means "already reported"."""
 

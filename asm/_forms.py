@@ -13,6 +13,7 @@ import re
 from dataclasses import dataclass
 
 from emu.description import Instruction, Machine, OperandKind
+from emu.errors import RelaybenchError
 
 from ._expr import Expr, Name
 from ._syntax import InstructionLine, Operand
@@ -22,10 +23,12 @@ __all__ = ["MachineSyntax", "Chosen", "FormError", "PAUSE"]
 PAUSE = "pause"
 
 
-class FormError(Exception):
+class FormError(RelaybenchError):
+    """An operand that fits no form of the instruction, at its line and column;
+    the assembler turns it into a ``Diagnostic`` of the file being read."""
+
     def __init__(self, message: str, line: int, column: int):
-        super().__init__(message)
-        self.message, self.line, self.column = message, line, column
+        super().__init__(message, line=line, column=column)
 
 
 @dataclass(slots=True)

@@ -3,7 +3,7 @@
 Each command module has ``SUMMARY`` (one line for the overview),
 ``add_arguments(parser)`` and ``main(args) -> int``; this file only builds
 the argument parser from that table and maps failures to exit statuses:
-1 for a bad program or machine file, 2 for a bad command line (argparse).
+1 for a bad program or machine file (any ``RelaybenchError``, printed located), 2 for a bad command line (argparse).
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ import importlib
 import importlib.metadata
 import sys
 
-from .errors import MachineError
+from .errors import RelaybenchError
 
 COMMANDS = ("run", "test", "asm", "dis", "isa", "debug", "clock")
 
@@ -56,8 +56,8 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(argv)
     try:
         return args.handler(args)
-    except MachineError as exc:
-        print(f"relaybench: error: {exc}", file=sys.stderr)
+    except RelaybenchError as exc:
+        print(exc.render() if exc.file else f"relaybench: {exc.render()}", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
         print("relaybench: interrupted", file=sys.stderr)

@@ -114,10 +114,11 @@ def test_debug_path_naming(name):
 @pytest.mark.parametrize("content, message", [
     ("[1, 2", "not valid JSON"),
     ('{"format": "other"}', "not a relaybench debug file"),
-    ('{"format": "relaybench-debug", "version": 9}', "key 'version' must be 1, not 9"),
-    ('{"format": "relaybench-debug", "version": 1, "files": "x"}', "key 'files' must be a list of file names"),
+    ('{"format": "relaybench-debug", "version": 9}', "'version' must be 1, not 9"),
+    ('{"format": "relaybench-debug", "version": 1, "files": "x"}',
+     "'files' must be a list of file names, not a string"),
     ('{"format": "relaybench-debug", "version": 1, "files": [], "labels": {"a": "b"}}',
-     "key 'labels' must be an object of name → integer"),
+     "top level: 'a' must be an integer \\(the value of the name\\), not 'b'"),
 ])
 def test_bad_debug_files(content, message, tmp_path):
     path = tmp_path / "p.dbg.json"

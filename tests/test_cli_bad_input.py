@@ -120,13 +120,13 @@ def test_bad_machine_file(capsys, tmp_path):
     for command in (["run", prog], ["test", prog], ["asm", prog], ["isa"], ["dis", prog]):
         code, _out, err = cli(capsys, *command, "--machine", machine)
         assert code == 1
-        assert err.strip() == f"relaybench: error: {machine}: [machine]: 'data_bits' must be an integer, not a string"
+        assert err.strip() == f"{machine}:3: error: [machine]: 'data_bits' must be an integer, not a string"
 
 
 def test_missing_machine_file(capsys, tmp_path):
     code, _out, err = cli(capsys, "isa", "--machine", tmp_path / "none.toml")
     assert code == 1
-    assert err.strip().startswith("relaybench: error:") and "no such machine file" in err
+    assert err.strip().startswith(f"{tmp_path / 'none.toml'}: error:") and "no such machine file" in err
 
 
 @pytest.mark.parametrize("options, message", [
@@ -233,12 +233,13 @@ def test_a_source_file_full_of_mistakes_gets_every_located_error(tmp_path, capsy
 
 
 @pytest.mark.parametrize("damage, message", [
-    (lambda d: d["lines"][0].update(length=10**9), "lines[0]: key 'length' must be a word count 0…65536"),
+    (lambda d: d["lines"][0].update(length=10**9), "lines[0]: 'length' must be a word count 0…65536, not 1000000000"),
     (lambda d: d["expects"][0].update(item="mem", memory_address=None),
-     "expects[0]: key 'memory_address' must be an address"),
-    (lambda d: d["expects"][0].update(item="r9"), "expects[0]: key 'item' must be one of"),
-    (lambda d: d["expects"][0].update(address=70000), "expects[0]: key 'address' must be an address 0…65535"),
-    (lambda d: d.update(pauses=[-1]), "top level: key 'pauses' must be a list of addresses 0…65535"),
+     "expects[0]: 'memory_address' must be an address 0…65535, not None"),
+    (lambda d: d["expects"][0].update(item="r9"), "expects[0]: 'item' must be one of"),
+    (lambda d: d["expects"][0].update(address=70000), "expects[0]: 'address' must be an address 0…65535, not 70000"),
+    (lambda d: d.update(pauses=[-1]),
+     "top level: 'pauses' must be a list of addresses 0…65535, not a list holding -1"),
 ], ids=["huge length", "memory check without address", "unknown item", "address past memory",
         "negative pause"])
 def test_a_stale_debug_file_is_refused_with_the_key_named(tmp_path, capsys, damage, message):
@@ -292,3 +293,71 @@ def test_deeply_nested_machine_file_and_snapshot_are_refused(tmp_path, capsys):
     snapshot = write(tmp_path, "deep.json", "[" * 100_000 + "]" * 100_000)
     with pytest.raises(emu.MachineError, match="not a relaybench snapshot"):
         emu.Emulator.restore(snapshot, emu.load_machine("ref8"))
+
+
+REF8_TOML = (ROOT / "emu" / "machines" / "ref8.toml").read_text(encoding="utf-8")
+
+
+@pytest.mark.parametrize("old, new, line, message", [
+    ("rated_operations = 10_000_000", "rated_operations = -5", 499,
+     "[wear]: 'rated_operations' must be a positive number of operations, not -5"),
+    ("supply_v = 24.0", "supply_v = -24", 460, "[timing]: 'supply_v' must be above zero, not -24"),
+    ("ms = 40", "ms = inf", 85, "[[clock.phase]] 2 ('B'): 'ms' must be a positive number of milliseconds, "
+                                "not inf"),
+], ids=["wear", "timing", "clock phase"])
+def test_a_bad_section_stops_every_command_at_load(capsys, tmp_path, old, new, line, message):
+    """Not only `clock` or `--wear`: every command loads the machine, and the load refuses it."""
+    assert REF8_TOML.count(old) == 1
+    machine = write(tmp_path, "m.toml", REF8_TOML.replace(old, new))
+    prog = write(tmp_path, "p.asm", GOOD)
+    for command in (["run", prog], ["isa"], ["test", prog], ["asm", prog]):
+        code, out, err = cli(capsys, *command, "--machine", machine)
+        assert code == 1 and out == "", command
+        assert err == f"{machine}:{line}: error: {message}\n", command
+
+
+def test_a_broken_toml_machine_file_points_at_the_column(capsys, tmp_path):
+    machine = write(tmp_path, "m.toml", '[machine]\nname = "m\n')
+    code, _out, err = cli(capsys, "isa", "--machine", machine)
+    assert code == 1
+    assert err == (f"{machine}:2:10: error: not valid TOML: Illegal character '\\n'\n"
+                   f'    name = "m\n'
+                   f"             ^\n")
+
+
+def test_a_program_error_keeps_the_assemblers_located_diagnostics(tmp_path):
+    from emu.runs import ProgramError, load_program
+    program = write(tmp_path, "typos.asm", "li r9, 3\n  jmp lop\n")
+    with pytest.raises(ProgramError) as caught:
+        load_program(program, emu.load_machine("ref8"))
+    found = [(d.file, d.line, d.column) for d in caught.value.diagnostics]
+    assert found == [(str(program), 1, 4), (str(program), 2, 7)]
+    assert (caught.value.file, caught.value.line, caught.value.column) == (str(program), 1, 4)
+
+
+def test_every_user_facing_error_is_one_family():
+    import asm
+    from emu.debugger import DebugError
+    from emu.errors import RelaybenchError
+    from emu.runs import ProgramError
+    from asm._expr import EvalError
+    from asm._forms import FormError
+    for error in (emu.MachineError, asm.AsmError, ProgramError, DebugError, EvalError, FormError):
+        assert issubclass(error, RelaybenchError), error
+
+
+@pytest.mark.parametrize("damage, message", [
+    (lambda s: s.update(slots=list(s["slots"])), "damaged snapshot ('slots' must be a table, not a list)"),
+    (lambda s: s["ports"].update(unmapped=[["in", 5, -3]]),
+     "damaged snapshot (ports: 'unmapped' must be a list of [\"in\"|\"out\", port, count] with a count of "
+     "1 or more, not a list holding ['in', 5, -3])"),
+], ids=["slots as a list", "negative count of unmapped reads"])
+def test_a_damaged_snapshot_is_a_machine_error(tmp_path, damage, message):
+    machine = emu.load_machine("ref8")
+    state = emu.Emulator(machine).snapshot_state()
+    damage(state)
+    path = tmp_path / "s.json"
+    path.write_text(json.dumps(state))
+    with pytest.raises(emu.MachineError) as caught:
+        emu.Emulator.restore(path, machine)
+    assert str(caught.value) == f"{path}: error: {message}"

@@ -124,18 +124,19 @@ def test_panel_file_input_from_a_file(capsys, tmp_path):
 
 
 @pytest.mark.parametrize("panel, message", [
-    ("switches = 300\n", "'switches' must be an integer 0…255 (the 8 toggles of ref8), not 300"),
-    ("speed = 3\n", "unknown key 'speed' (expected one of: switches, input, input_file, max_cycles)"),
-    ('input = "a"\ninput_file = "b"\n', "give 'input' or 'input_file', not both"),
-    ("max_cycles = 0\n", "'max_cycles' must be a positive integer, not 0"),
-    ("switches = \n", "not valid TOML"),
+    ("switches = 300\n", "1: error: 'switches' must be an integer 0…255 (the 8 toggles of ref8), not 300"),
+    ("# toggles\nspeed = 3\n", "2: error: unknown key 'speed' (expected one of: switches, input, input_file, "
+                               "max_cycles)"),
+    ('input = "a"\ninput_file = "b"\n', "2: error: give 'input' or 'input_file', not both"),
+    ("max_cycles = 0\n", "1: error: 'max_cycles' must be a positive integer, not 0"),
+    ("switches = \n", "1:12: error: not valid TOML: Invalid value"),
 ])
 def test_bad_panel_file(capsys, tmp_path, panel, message):
     prog = write(tmp_path, "p.asm", "halt\n")
     panel_path = write(tmp_path, "p.panel.toml", panel)
     code, out, _ = cli(capsys, "test", prog)
     assert code == 1
-    assert f"{panel_path}: error: {message}" in out
+    assert f"{panel_path}:{message}" in out
 
 
 def test_image_with_debug_file_keeps_its_checks(capsys, tmp_path):

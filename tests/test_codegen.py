@@ -253,5 +253,5 @@ steps = ["halt"]
 """
     with pytest.raises(emu.MachineError) as caught:
         emu.machine_from_text(twice, "twice.toml")
-    assert str(caught.value) == ("twice.toml: instruction 'stop': the same assembly form as "
+    assert str(caught.value) == ("twice.toml:47: error: instruction 'stop': the same assembly form as "
                                  "instruction 1: forms must differ")

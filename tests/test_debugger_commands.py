@@ -286,7 +286,7 @@ def test_snapshots_save_and_load_the_whole_machine(kiln, tmp_path):
 @pytest.mark.parametrize("line, message", [
     ("save", "error: usage: save FILE"),
     ("load", "error: usage: load FILE"),
-    ("load /nonexistent/kiln.snap", "error: "),
+    ("load /nonexistent/kiln.snap", "/nonexistent/kiln.snap: error: cannot read snapshot"),
     ("save /nonexistent/folder/kiln.snap", "error: cannot write /nonexistent/folder/kiln.snap"),
 ])
 def test_snapshot_commands_reject_bad_arguments(kiln, line, message):

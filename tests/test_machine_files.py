@@ -7,6 +7,7 @@ the whole message: the file, the key or instruction, and what was expected.
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import pytest
@@ -41,7 +42,9 @@ def test_the_unedited_text_loads():
 CASES = {
     "not TOML": (
         "[machine\nname = 'x'\n",
-        "not valid TOML: Expected ']' at the end of a table declaration (at line 1, column 9)",
+        "not valid TOML: Expected ']' at the end of a table declaration\n"
+        "    [machine\n"
+        "            ^",
     ),
     "missing [machine] name": (
         ref8_with('name = "ref8"\n', ""),
@@ -232,20 +235,70 @@ CASES = {
 }
 
 
+LINES = {
+    "not TOML": 1,
+    "missing [machine] name": 18,
+    "wrong type": 21,
+    "out of range": 21,
+    "unknown key": 22,
+    "unknown section": 101,
+    "overlapping encodings": 128,
+    "overlap through a register field": 251,
+    "two memory reads": 275,
+    "a memory read and a write": 280,
+    "two memory writes": 280,
+    "two ALU operations": 316,
+    "hold point on a high phase": 87,
+    "no hold point": 73,
+    "unknown register written": 275,
+    "unknown register read": 129,
+    "unknown field": 280,
+    "unknown flag in sets": 316,
+    "a flag the operation does not produce": 326,
+    "sets without an ALU operation": 129,
+    "a register written twice": 275,
+    "a register written twice through its pair": 129,
+    "a pair written after its half": 129,
+    "a flag written twice": 316,
+    "a value too wide for its register": 129,
+    "an encoding word too short": 274,
+    "an encoding word too long": 274,
+    "a field not placed": 274,
+    "a field placed twice": 274,
+    "a field placed in part": 251,
+    "a slice outside the field": 251,
+    "an encoding token that is not bits or a field": 274,
+    "a field used before its word is fetched": 245,
+    "more encoding words than fetches": 274,
+    "more fetches than encoding words": 274,
+    "unreadable micro-step": 275,
+    "unreadable fetch step": 102,
+    "an empty micro-step": 275,
+    "halt driven twice": 115,
+    "pause naming a non-halting instruction": 67,
+    "bad output device": 61,
+    "an output device on an input port": 64,
+    "a port number out of range": 61,
+}
+"""The line of ref8.toml (as edited by the case) that each message names: the offending key,
+the micro-step's own line in a multi-line list, or the table's header for a missing key."""
+LINES["not TOML"] = "1:9"
+
+
 @pytest.mark.parametrize("case", list(CASES))
 def test_bad_machine_file_message(case):
     text, message = CASES[case]
     error = load_error(text)
-    assert str(error) == f"{FILE}: {message}"
+    assert str(error) == f"{FILE}:{LINES[case]}: error: {message}"
 
 
-def test_a_message_is_one_located_line_apart_from_a_micro_step_caret():
+def test_a_message_is_one_located_line_apart_from_a_caret():
     for case, (text, _message) in CASES.items():
         error = load_error(text)
         first, *rest = str(error).split("\n")
-        assert first.startswith(f"{FILE}: "), case
-        assert error.where or "(at line " in first, case
-        assert rest == [] or "cannot read micro-step" in first, case
+        assert re.match(rf"{re.escape(FILE)}:\d+(:\d+)?: error: ", first), case
+        assert error.where or first.startswith(f"{FILE}:1:9: error: not valid TOML"), case
+        assert rest == [] or "cannot read micro-step" in first or error.column is not None, case
 
 
 def test_missing_file_lists_the_shipped_machines(tmp_path):
@@ -254,11 +307,11 @@ def test_missing_file_lists_the_shipped_machines(tmp_path):
         emu.load_machine(missing)
     shipped = ", ".join(sorted(emu.shipped_machines()))
     assert "ref8" in shipped
-    assert str(caught.value) == f"{missing}: no such machine file (shipped machines: {shipped})"
+    assert str(caught.value) == f"{missing}: error: no such machine file (shipped machines: {shipped})"
 
 
 def test_a_misspelt_machine_name_lists_the_shipped_machines():
-    with pytest.raises(emu.MachineError, match=r"^ref9: no such machine file \(shipped machines: .*ref8"):
+    with pytest.raises(emu.MachineError, match=r"^ref9: error: no such machine file \(shipped machines: .*ref8"):
         emu.load_machine("ref9")
 
 
@@ -283,7 +336,7 @@ def test_errors_from_a_file_name_that_file(tmp_path):
     with pytest.raises(emu.MachineError) as caught:
         emu.load_machine(path)
     assert caught.value.path == str(path)
-    assert str(caught.value).startswith(f"{path}: [clock]: the phase table has no hold point")
+    assert str(caught.value).startswith(f"{path}:73: error: [clock]: the phase table has no hold point")
 
 
 # ----- hand-written small files -----------------------------------------------------------
@@ -347,32 +400,32 @@ def test_a_tiny_hand_written_machine_loads_and_runs():
 
 
 @pytest.mark.parametrize(("old", "new", "message"), [
-    ('pc = 4\n', '', "[machine]: 'program_counter' names 'pc', which is not a register"),
-    ('ir = 4', 'ir = 3', "[machine]: the instruction register 'ir' must be 4 bits wide (data_bits)"),
-    ('z = "zero"', 'z = "sign"', "[flags] z: a flag's role must be one of zero, negative, carry, overflow, "
+    ('pc = 4\n', '', "2: error: [machine]: 'program_counter' names 'pc', which is not a register"),
+    ('ir = 4', 'ir = 3', "12: error: [machine]: the instruction register 'ir' must be 4 bits wide (data_bits)"),
+    ('z = "zero"', 'z = "sign"', "15: error: [flags] z: a flag's role must be one of zero, negative, carry, overflow, "
                                  "not 'sign'"),
-    ('ms = 10\nhold', 'ms = -1\nhold', "[[clock.phase]] 2 ('phase2'): 'ms' must be a positive number of "
+    ('ms = 10\nhold', 'ms = -1\nhold', "32: error: [[clock.phase]] 2 ('phase2'): 'ms' must be a positive number of "
                                        "milliseconds, not -1"),
-    ('level = 1\nms = 10', 'level = 0\nms = 10', "[clock]: the phase table needs at least one high "
+    ('level = 1\nms = 10', 'level = 0\nms = 10', "23: error: [clock]: the phase table needs at least one high "
                                                  "(level 1) and one low (level 0) phase"),
-    ('encoding = ["01 n"]', 'encoding = ["00 n"]', "instruction 'put n': its encoding overlaps "
+    ('encoding = ["01 n"]', 'encoding = ["00 n"]', "45: error: instruction 'put n': its encoding overlaps "
                                                    "instruction 'stop' at first word 0x0; the first word "
                                                    "alone must tell instructions apart"),
     ('steps = ["a <- n"]', 'steps = ["a <- n; out(n, a); out(n, a)"]',
-     "instruction 'put n' step 2: two port transfers in one micro-step (there is one I/O bus)"),
+     "46: error: instruction 'put n' step 2: two port transfers in one micro-step (there is one I/O bus)"),
     ('steps = ["a <- n"]', 'steps = ["a <- z"]',
-     "instruction 'put n' step 2: flag 'z' can only be read as a condition (flag ? a : b)"),
+     "46: error: instruction 'put n' step 2: flag 'z' can only be read as a condition (flag ? a : b)"),
     ('steps = ["a <- n"]', 'steps = ["a <- add(a, n) sets z"]\n\n[[instruction]]\nsyntax = "put n:n"\n'
                            'encoding = ["10 n"]\nsteps = ["a <- adc(a, n) sets z"]',
-     "instruction 'put n' step 2: adc needs a carry flag, and the machine has none"),
+     "51: error: instruction 'put n' step 2: adc needs a carry flag, and the machine has none"),
     ('syntax = "stop"', 'syntax = "stop n:m"',
-     "instruction 'stop n': unknown operand kind 'm' (kinds: n)"),
+     "39: error: instruction 'stop n': unknown operand kind 'm' (kinds: n)"),
 ])
 def test_tiny_machine_errors(old, new, message):
     assert TINY.count(old) == 1
     with pytest.raises(emu.MachineError) as caught:
         emu.machine_from_text(TINY.replace(old, new), "tiny.toml")
-    assert str(caught.value) == f"tiny.toml: {message}"
+    assert str(caught.value) == f"tiny.toml:{message}"
 
 
 # ----- no edit of a valid file gives a traceback ----------------------------------------------
@@ -395,7 +448,7 @@ def test_a_deleted_line_or_a_wrong_value_is_a_machine_error_or_a_working_machine
     try:
         machine = emu.machine_from_text("\n".join(lines), "edited.toml")
     except emu.MachineError as exc:
-        assert str(exc).startswith("edited.toml: ")
+        assert str(exc).startswith("edited.toml:")
         return
     emulator = emu.Emulator(machine)
     emulator.load([(0, [w & machine.data_mask for w in range(1, 120)])])
@@ -411,11 +464,11 @@ def test_micro_step_numbers_read_as_in_the_assembler():
 
 
 @pytest.mark.parametrize("old, new, message", [
-    ('name = "D"', 'name = "A"', "ref8.toml: [[clock.phase]] 4 ('A'): two phases are named 'A'; "
+    ('name = "D"', 'name = "A"', "ref8.toml:96: error: [[clock.phase]] 4 ('A'): two phases are named 'A'; "
                                  "each phase needs a name of its own"),
     ('syntax = "shr rd:reg"\nencoding = ["10000 rd"]\nsteps = ["rd <- shr(rd) sets z n c"]',
      'syntax = "shr rd:reg"\nencoding = ["10000 rd"]',
-     "ref8.toml: instruction 'shr rd': 'steps' must be a list of micro-step strings "
+     "ref8.toml:328: error: instruction 'shr rd': 'steps' must be a list of micro-step strings "
      "(steps = [] for one that only fetches)"),
 ], ids=["two phases of one name", "an instruction without steps"])
 def test_slips_a_typo_could_make(old, new, message):
@@ -428,9 +481,9 @@ def test_slips_a_typo_could_make(old, new, message):
 
 @pytest.mark.parametrize("old, new, message", [
     ('imm8 = { bits = 8, min = -128, max = 255 }', 'imm8 = { bits = 8, min = -128, max = 999 }',
-     "ref8.toml: [operands] imm8: 8 bits hold -128…255 at most (signed or unsigned), not -128…999"),
+     "ref8.toml:55: error: [operands] imm8: 8 bits hold -128…255 at most (signed or unsigned), not -128…999"),
     ('reg = { registers = ["r0", "r1",', 'reg = { registers = ["r0", "r0",',
-     "ref8.toml: [operands] reg: register 'r0' is listed twice in 'registers'"),
+     "ref8.toml:54: error: [operands] reg: register 'r0' is listed twice in 'registers'"),
 ], ids=["range wider than its bits", "a register listed twice"])
 def test_operand_kinds_that_could_not_work(old, new, message):
     text = (Path(emu.__file__).parent / "machines" / "ref8.toml").read_text()
@@ -449,3 +502,80 @@ def test_a_register_of_the_machine_outside_an_operand_kind_is_named_as_such():
     with pytest.raises(asm.AsmError) as caught:
         asm.assemble_text("clr r1\n", machine, "p.asm")
     assert caught.value.diagnostics[0].message == "r1 cannot stand here: this operand takes r0, r5 or r7"
+
+
+# ----- the line of the offending key ---------------------------------------------------------
+
+@pytest.mark.parametrize("old, new, line, message", [
+    ("data_bits = 8", "data_bits = 0", 21, "[machine]: 'data_bits' must be 1…16, not 0"),
+    ("ms = 40", "ms = -3", 85, "[[clock.phase]] 2 ('B'): 'ms' must be a positive number of milliseconds, not -3"),
+    ("imm8 = { bits = 8,", "imm8 = { bits = 40,", 55, "[operands] imm8: 'bits' must be 1…32, not 40"),
+    ('in.1 = "input"', 'in.1 = "tape"', 63,
+     "[ports.in] 1: an in port device must be one of switches, input, input_ready, not 'tape'"),
+    ('"pc <- {mem[sp], t}; sp <- sp + 1"', '"pc <- {mem[sp], q}; sp <- sp + 1"', 123,
+     "instruction 'ret' step 3: unknown register or field 'q' "
+     "(registers: r0, r1, r2, r3, r4, r5, r6, r7, sp, pc, ir, t, u, x; fields: none)"),
+    ("c_uf = 330", "c_uf = -1", 488, "[[timing.stage]] 3: 'c_uf' must be above zero, not -1"),
+    ("rated_operations = 10_000_000", "rated_operations = -5", 499,
+     "[wear]: 'rated_operations' must be a positive number of operations, not -5"),
+    ('"stage 1" = 20_000_000', '"stage 9" = 20_000_000', 502,
+     "[wear.relays]: no relay named 'stage 9' (relays: stage 1, stage 2, stage 3, stage 4, read, load ir, "),
+], ids=["machine", "clock phase", "operand kind", "port", "instruction step", "timing stage", "wear",
+        "wear relay"])
+def test_a_message_names_the_line_of_the_key(old, new, line, message):
+    error = load_error(ref8_with(old, new))
+    assert error.line == line
+    assert str(error).startswith(f"{FILE}:{line}: error: {message}")
+    assert ref8_with(old, new).splitlines()[line - 1].strip().startswith(new.split(" = ")[0].split("{")[0].strip())
+
+
+def test_a_step_in_a_list_over_several_lines_names_its_own_line():
+    text = ref8_with('steps = ["pc <- x"]', 'steps = [\n  "t <- u",\n  "pc <- y",\n]')
+    error = load_error(text)
+    assert error.text().startswith("instruction 'jmp x' step 3: unknown register or field 'y'")
+    assert text.splitlines()[error.line - 1] == '  "pc <- y",'
+
+
+@pytest.mark.parametrize("value, message", [
+    ("inf", "'ms' must be a positive number of milliseconds, not inf"),
+    ("nan", "'ms' must be a positive number of milliseconds, not nan"),
+    ("-inf", "'ms' must be a positive number of milliseconds, not -inf"),
+    ("1e-300", "'ms' must be at least 0.000001 (one nanosecond, the clock's resolution), not 1e-300"),
+    ("4e-7", "'ms' must be at least 0.000001 (one nanosecond, the clock's resolution), not 4e-07"),
+    ("1e300", "'ms' must be at most 86400000 (a day), not 1e+300"),
+    ("true", "'ms' must be a positive number of milliseconds, not True"),
+])
+def test_a_phase_length_the_clock_cannot_count_is_refused_at_its_line(value, message):
+    error = load_error(ref8_with("ms = 40", f"ms = {value}"))
+    assert str(error) == f"{FILE}:85: error: [[clock.phase]] 2 ('B'): {message}"
+
+
+def test_the_shortest_phase_the_clock_counts_is_one_nanosecond():
+    machine = emu.machine_from_text(ref8_with("ms = 40", "ms = 0.000001"), FILE)
+    assert machine.phases[1].duration_ns == 1
+
+
+def test_a_fetch_step_that_computes_the_opcode_is_refused_by_the_loader():
+    """The engine peeks at the next opcode by replaying plain transfers, so the loader refuses the rest."""
+    for fetch in ('"ir <- not(mem[pc]); pc <- pc + 1"', '"t <- in(0); pc <- pc + 1", "ir <- t"',
+                  '"ir <- z ? mem[pc] : t; pc <- pc + 1"'):
+        error = load_error(ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', f"steps = [{fetch}]"))
+        assert str(error) == (f"{FILE}:102: error: [fetch]: the fetch steps must load the instruction register "
+                              f"by plain register transfers (no ALU, input or choice)"), fetch
+
+
+def test_a_fetch_step_through_a_latch_is_plain():
+    text = ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', 'steps = ["t <- mem[pc]; pc <- pc + 1", "ir <- t"]')
+    machine = emu.machine_from_text(text, FILE)
+    assert len(machine.fetch) == 2
+
+
+def test_timing_and_wear_are_checked_into_typed_fields_at_load():
+    machine = emu.machine_from_text(REF8_TEXT, FILE)
+    assert machine.timing.supply == 24.0 and machine.timing.phase_stage == (0, 1, 2, 3)
+    assert [s.mode for s in machine.timing.stages] == ["charge", "discharge", "charge", "charge"]
+    assert machine.timing.stages[0].line == 475
+    assert machine.wear.life("stage 1") == 20_000_000 and machine.wear.life("read") == 10_000_000
+    bare = REF8_TEXT[:REF8_TEXT.index("[timing]")]
+    machine = emu.machine_from_text(bare, FILE)
+    assert machine.timing is None and machine.wear.life("read") is None

@@ -102,7 +102,7 @@ def test_bad_command_lines_get_usage(capsys, argv, message):
 def test_missing_machine_file(capsys, tmp_path):
     status, out, err = run(capsys, "--machine", str(tmp_path / "nowhere.toml"))
     assert status == 1 and out == ""
-    assert err.startswith("relaybench: error: ") and "no such machine file" in err
+    assert err.startswith(f"{tmp_path / 'nowhere.toml'}: error: ") and "no such machine file" in err
     assert len(err.splitlines()) == 1
 
 
@@ -111,7 +111,7 @@ def test_bad_timing_section_names_the_key(capsys, tmp_path):
     machine.write_text(REF8_FILE.read_text().replace("supply_v = 24.0", "supply_v = 0"))
     status, _out, err = run(capsys, "--machine", str(machine))
     assert status == 1
-    assert err == f"relaybench: error: {machine}: [timing]: 'supply_v' must be above zero, not 0\n"
+    assert err == f"{machine}:460: error: [timing]: 'supply_v' must be above zero, not 0\n"
 
 
 def test_machine_without_timing(capsys, tmp_path):

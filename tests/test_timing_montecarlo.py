@@ -4,23 +4,31 @@ exact probabilities of one uniformly spread part, and facts of the trade."""
 import copy
 import dataclasses
 import math
+import tomllib
+from pathlib import Path
 
 import numpy as np
 import pytest
 
 from emu import load_machine
 from emu.timing import monte_carlo, timing_model
+from emu.description import timing_section
 from emu.timing import PARTS
 
 REF8 = load_machine("ref8")
 
 
+def raw_timing(machine):
+    """The machine file's [timing] table as written, to vary its parts."""
+    return tomllib.loads(Path(machine.path).read_text(encoding="utf-8"))["timing"]
+
+
 def model_with(changes=None, stage_changes=None, machine=REF8):
-    timing = copy.deepcopy(machine.extra["timing"])
+    timing = copy.deepcopy(raw_timing(machine))
     timing.update(changes or {})
     for index, extra in (stage_changes or {}).items():
         timing["stage"][index].update(extra)
-    return timing_model(dataclasses.replace(machine, extra={**machine.extra, "timing": timing}))
+    return timing_model(dataclasses.replace(machine, timing=timing_section(timing, machine)))
 
 
 def all_tolerances(value):
@@ -51,7 +59,7 @@ def turn_seconds(x, stages):
 
 
 def ref8_parameters():
-    timing = REF8.extra["timing"]
+    timing = raw_timing(REF8)
     x, stages = [timing["supply_v"]], []
     for stage in timing["stage"]:
         merged = {**timing, **stage}
@@ -135,7 +143,7 @@ def test_common_tolerance_parts_move_a_6_hz_clock_by_several_percent():
     electrical = rough.nominal_phase_seconds() - rough.mechanical_times(rough.nominal_values)
     mechanical = rough.mechanical_times(rough.nominal_values)
     scale = (1 / 6 - mechanical.sum()) / electrical.sum()
-    stages = {i: {"c_uf": REF8.extra["timing"]["stage"][i]["c_uf"] * scale} for i in range(4)}
+    stages = {i: {"c_uf": raw_timing(REF8)["stage"][i]["c_uf"] * scale} for i in range(4)}
     sized = model_with({"table_tolerance": 0.99}, stages)
     phases = tuple(dataclasses.replace(p, duration_ns=round(s * 1e9))
                    for p, s in zip(REF8.phases, sized.nominal_phase_seconds()))

@@ -44,7 +44,7 @@ def test_one_seed_is_one_build_whose_turns_vary_around_it():
 def test_a_machine_without_timing_cannot_spread():
     import dataclasses
     with pytest.raises(MachineError, match=r"no \[timing\] section"):
-        spread_source(dataclasses.replace(MACHINES["ref8"], extra={}), seed=1)
+        spread_source(dataclasses.replace(MACHINES["ref8"], timing=None), seed=1)
 
 
 def _state(emu):

@@ -6,6 +6,7 @@ import json
 import pytest
 
 from emu import Emulator, MachineError, load_machine
+from emu.description import WearRatings, wear_section
 from emu.timing import count_wear, format_wear, relay_names, wear_ratings
 
 REF8 = load_machine("ref8")
@@ -13,7 +14,7 @@ ACC12 = load_machine("tests/machines/acc12.toml")
 
 
 def with_wear(wear, machine=REF8):
-    return dataclasses.replace(machine, extra={**machine.extra, "wear": wear})
+    return dataclasses.replace(machine, wear=wear_section(wear, machine))
 
 
 def counted(machine, cycles=200):
@@ -35,7 +36,7 @@ def test_ratings_from_the_machine_file():
     ratings = wear_ratings(REF8)
     assert ratings.life("stage 1") == 20_000_000
     assert ratings.life("read") == 10_000_000
-    assert wear_ratings(dataclasses.replace(REF8, extra={})).life("read") is None
+    assert wear_ratings(dataclasses.replace(REF8, wear=WearRatings())).life("read") is None
 
 
 @pytest.mark.parametrize("wear, message", [
@@ -50,7 +51,7 @@ def test_ratings_from_the_machine_file():
 def test_bad_wear_sections_are_named(wear, message):
     with pytest.raises(MachineError) as caught:
         wear_ratings(with_wear(wear))
-    assert str(caught.value).startswith(f"{REF8.path}: {message}")
+    assert str(caught.value).startswith(f"{REF8.path}: error: {message}")
 
 
 def test_nop_loop_wears_the_fetch_relays_once_a_pulse():
@@ -88,7 +89,7 @@ def test_report_text_names_the_relays_that_wear_first():
 
 
 def test_report_without_rated_life():
-    _emu, wear = counted(dataclasses.replace(REF8, extra={}), cycles=10)
+    _emu, wear = counted(dataclasses.replace(REF8, wear=WearRatings()), cycles=10)
     report = wear.report()
     assert report["wears_first"] == [] and report["relays"][0]["life_hours"] is None
     assert "no rated life" in format_wear(report)

@@ -22,7 +22,8 @@ import time
 from contextlib import ExitStack
 from typing import Callable
 
-from emu import Emulator, MachineError
+from emu import Emulator
+from emu.errors import RelaybenchError
 import asm
 from emu.description.notation import NUMBER_FORMS
 from emu.runs import DEFAULT_MAX_CYCLES
@@ -118,11 +119,11 @@ class Session:
         try:
             cmd = find_command(words[0])
             text = cmd.function(self, words[1:])
-        except (DebugError, MachineError) as exc:
-            return f"error: {exc}"
         except ReplayMismatch as exc:
             self.last_stop = "unknown: the last run's replay disagreed with it"
             return f"internal error: {exc}; please report it. The machine is as the run left it."
+        except RelaybenchError as exc:
+            return exc.render()
         self.last_repeat = line if cmd.repeats else None
         return text
 

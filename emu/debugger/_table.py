@@ -15,10 +15,12 @@ import re
 from dataclasses import dataclass
 from typing import Callable
 
+from emu.errors import RelaybenchError
+
 __all__ = ["COMMANDS", "Command", "DebugError", "command", "find_command", "words_of"]
 
 
-class DebugError(Exception):
+class DebugError(RelaybenchError):
     """A command that cannot be carried out; the message says why, in one line."""
 
 

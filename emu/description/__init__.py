@@ -2,7 +2,9 @@
 
 ``_model`` holds the parts (registers, flags, phases, instructions, steps);
 ``_loader`` reads a TOML machine file into them and checks every key;
-``_design_rules`` checks each micro-step against the rule a control unit
+``_schema`` are the typed getters every file
+reader shares, ``_toml_lines`` finds the line of a key, ``_sections`` reads
+``[timing]`` and ``[wear]``; ``_design_rules`` checks each micro-step against the rule a control unit
 obeys; ``_alu`` is the table of ALU operations; ``notation/`` is the
 micro-step notation and the number notation. Everything downstream (the
 assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
@@ -11,11 +13,22 @@ assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
 from ._alu import ALU_OPS, WORD_SELECTORS
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
+                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair,
+                     Step, stage_relay)
+from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
+from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
+                        TimingSection, WearRatings, read_timing, read_wear, timing_section,
+                        wear_section)
+from ._toml_lines import key_line, toml_syntax_error
 
 __all__ = [
     "ALU_OPS", "WORD_SELECTORS",
-    "load_machine", "machine_from_text", "shipped_machines",
+    "MachineNames", "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
     "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step",
+    "stage_relay",
+    "REQUIRED", "Table", "is_integer", "is_number", "kind_of",
+    "MAX_TOLERANCE", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",
+    "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section",
+    "key_line", "toml_syntax_error",
 ]

@@ -22,8 +22,10 @@ class StepChecker:
     and no register or flag written twice (a pair counts as its halves).
     """
 
-    def __init__(self, loader, where: str, fields: dict[str, Field], available: dict[str, Field]):
-        self.loader, self.where = loader, where
+    def __init__(self, names, where: str, fields: dict[str, Field], available: dict[str, Field], fail):
+        """``names`` is the loader's ``MachineNames`` (registers, pairs, flags, data_bits);
+        ``fail(where, message)`` raises the loader's located error."""
+        self.names, self.where, self._fail = names, where, fail
         self.fields, self.available = fields, available
         self.memory = self.alu = self.io = 0
         self.written: dict[str, str] = {}
@@ -31,7 +33,7 @@ class StepChecker:
         self.halts = False
 
     def fail(self, message):
-        self.loader.fail(self.where, message)
+        self._fail(self.where, message)
 
     def line(self, name):
         if name not in self.lines:
@@ -72,23 +74,23 @@ class StepChecker:
                 self.line("halt")
 
     def target(self, name, value_width):
-        loader = self.loader
+        names = self.names
         if name in self.fields:
             fld = self.fields[name]
             if not fld.kind.is_register:
                 self.fail(f"cannot write to '{name}': it is a value field, not a register")
             self.require_available(name)
             self.write(name, name)
-        elif name in loader.pairs_:
-            pair = loader.pairs_[name]
+        elif name in names.pairs:
+            pair = names.pairs[name]
             self.write(pair.high, name)
             self.write(pair.low, name)
-        elif name in loader.registers_:
+        elif name in names.registers:
             self.write(name, name)
         else:
             self.unknown(name)
         self.line(f"load {name}")
-        width = name_width(name, loader.registers_, loader.pairs_, self.fields)
+        width = name_width(name, names.registers, names.pairs, self.fields)
         if value_width > width:
             self.fail(f"'{name}' holds {width} bits but the value written to it has {value_width}")
 
@@ -99,9 +101,9 @@ class StepChecker:
             self.fail("'sets' needs an ALU operation (add, sub, …) as the value")
         op = ALU_OPS[value.op]
         for name in flags:
-            flag = self.loader.flags_.get(name)
+            flag = self.names.flags.get(name)
             if flag is None:
-                self.fail(f"unknown flag '{name}' (flags: {', '.join(self.loader.flags_)})")
+                self.fail(f"unknown flag '{name}' (flags: {', '.join(self.names.flags)})")
             if not op.produces(flag.role):
                 self.fail(f"{value.op} does not produce the {flag.role} flag '{name}'")
             self.write(name, name)
@@ -113,26 +115,26 @@ class StepChecker:
                       f"its word has been fetched into a register")
 
     def unknown(self, name):
-        loader = self.loader
-        known = list(loader.registers_) + list(loader.pairs_)
+        names = self.names
+        known = list(names.registers) + list(names.pairs)
         fields = list(self.fields)
         self.fail(f"unknown register or field '{name}' (registers: {', '.join(known)}; "
                   f"fields: {', '.join(fields) or 'none'})")
 
     def width(self, node) -> int:
-        loader = self.loader
-        return value_width(node, loader.registers_, loader.pairs_, self.fields, loader.data_bits)
+        names = self.names
+        return value_width(node, names.registers, names.pairs, self.fields, names.data_bits)
 
     def expr(self, node) -> None:
         """Check an expression: names known, fields fetched, the design rule kept."""
-        loader = self.loader
+        names = self.names
         match node:
             case Name(name):
                 if name in self.fields:
                     self.require_available(name)
-                elif name in loader.flags_:
+                elif name in names.flags:
                     self.fail(f"flag '{name}' can only be read as a condition (flag ? a : b)")
-                elif name not in loader.pairs_ and name not in loader.registers_:
+                elif name not in names.pairs and name not in names.registers:
                     self.unknown(name)
             case Const(value):
                 if value >= 1 << 32:
@@ -149,8 +151,8 @@ class StepChecker:
             case Offset(base, _):
                 self.expr(base)
             case Choose(flag, _, a, b):
-                if flag not in loader.flags_:
-                    self.fail(f"'{flag}' in a condition is not a flag (flags: {', '.join(loader.flags_)})")
+                if flag not in names.flags:
+                    self.fail(f"'{flag}' in a condition is not a flag (flags: {', '.join(names.flags)})")
                 self.expr(a)
                 self.expr(b)
             case Input(port):
@@ -161,7 +163,7 @@ class StepChecker:
                 self.call(op, args)
 
     def call(self, op, args) -> None:
-        loader = self.loader
+        names = self.names
         if op in WORD_SELECTORS:
             if len(args) != 1:
                 self.fail(f"{op}() takes one argument")
@@ -171,7 +173,7 @@ class StepChecker:
             spec = ALU_OPS[op]
             if len(args) != spec.arity:
                 self.fail(f"{op}() takes {spec.arity} argument{'s' if spec.arity > 1 else ''}, not {len(args)}")
-            if spec.uses_carry_in and not any(f.role == "carry" for f in loader.flags_.values()):
+            if spec.uses_carry_in and not any(f.role == "carry" for f in names.flags.values()):
                 self.fail(f"{op} needs a carry flag, and the machine has none")
             self.alu += 1
             if self.alu > 1:

@@ -18,8 +18,11 @@ from pathlib import Path
 from ..errors import MachineError
 from ._design_rules import StepChecker
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
-from .notation import Assign, Halt, Mem, Name, Output, parse_step, walk
+                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
+from ._schema import Table, is_integer
+from ._sections import read_timing, read_wear
+from ._toml_lines import key_line, toml_syntax_error
+from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
 
 __all__ = ["load_machine", "machine_from_text", "shipped_machines"]
 
@@ -50,10 +53,15 @@ def machine_from_text(text: str, path: str = "<machine>") -> Machine:
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise MachineError(f"not valid TOML: {exc}", path=path) from None
+        raise _toml_error(exc, text, path) from None
     except RecursionError:
         raise MachineError("not a machine description (nested too deeply)", path=path) from None
-    return _Loader(data, path).machine()
+    return _Loader(data, path, text).machine()
+
+
+def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineError:
+    message, line, column, source = toml_syntax_error(exc, text)
+    return MachineError(f"not valid TOML: {message}", path=path, line=line, column=column, source_line=source)
 
 
 _SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",
@@ -61,314 +69,300 @@ _SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "
 _SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
 _ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d+):(?P<lo>\d+)\])?)$")
 _IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
+_LONGEST_PHASE_MS = 86_400_000
+"""A day: far beyond any relay clock, and well inside the engine's nanosecond counters."""
 
 
 class _Loader:
     """Reads one TOML document; each method checks and builds one section."""
 
-    def __init__(self, data: dict, path: str):
-        self.data = data
+    def __init__(self, data: dict, path: str, text: str):
         self.path = path
+        self.text = text
+        self.top = Table(data, "top level", self.fail_at)
 
-    def fail(self, where: str | None, message: str):
-        raise MachineError(message, path=self.path, where=where)
-
-    # -- typed access with messages that say what was expected
-
-    def table(self, parent: dict, key: str, where: str, required=True) -> dict:
-        value = parent.get(key)
-        if value is None:
-            if required:
-                self.fail(where, f"missing key '{key}' (a table)")
-            return {}
-        if not isinstance(value, dict):
-            self.fail(where, f"'{key}' must be a table, not {_kind(value)}")
-        return value
-
-    def integer(self, parent: dict, key: str, where: str, *, low=None, high=None, default=None) -> int:
-        value = parent.get(key, default)
-        if value is None:
-            self.fail(where, f"missing key '{key}' (an integer)")
-        if not isinstance(value, int) or isinstance(value, bool):
-            self.fail(where, f"'{key}' must be an integer, not {_kind(value)}")
-        if low is not None and value < low or high is not None and value > high:
-            span = f"{low}…{high}" if high is not None else f"at least {low}"
-            self.fail(where, f"'{key}' must be {span}, not {value}")
-        return value
-
-    def string(self, parent: dict, key: str, where: str, default=None) -> str:
-        value = parent.get(key, default)
-        if value is None:
-            self.fail(where, f"missing key '{key}' (a string)")
-        if not isinstance(value, str):
-            self.fail(where, f"'{key}' must be a string, not {_kind(value)}")
-        return value
-
-    def known_keys(self, table: dict, allowed: tuple[str, ...], where: str):
-        for key in table:
-            if key not in allowed:
-                self.fail(where, f"unknown key '{key}' (expected one of: {', '.join(allowed)})")
+    def fail_at(self, where: str | None, key: tuple, message: str):
+        raise MachineError(message, path=self.path, where=where, line=key_line(self.text, key), key=key)
 
     # -- sections
 
     def machine(self) -> Machine:
-        self.known_keys(self.data, _SECTIONS, "top level")
-        head = self.table(self.data, "machine", "top level")
-        self.known_keys(head, ("name", "title", "data_bits", "address_bits", "memory_words",
-                               "program_counter", "instruction_register"), "[machine]")
-        name = self.string(head, "name", "[machine]")
-        data_bits = self.integer(head, "data_bits", "[machine]", low=1, high=16)
-        address_bits = self.integer(head, "address_bits", "[machine]", low=1, high=24)
-        memory_words = self.integer(head, "memory_words", "[machine]", low=1, high=1 << address_bits,
-                                    default=1 << address_bits)
+        top = self.top
+        top.known_keys(_SECTIONS)
+        head = top.table("machine", "[machine]")
+        head.known_keys(("name", "title", "data_bits", "address_bits", "memory_words",
+                         "program_counter", "instruction_register"))
+        name = head.string("name")
+        data_bits = head.integer("data_bits", low=1, high=16)
+        address_bits = head.integer("address_bits", low=1, high=24)
+        memory_words = head.integer("memory_words", low=1, high=1 << address_bits, default=1 << address_bits)
         if memory_words & (memory_words - 1):
-            self.fail("[machine]", f"'memory_words' must be a power of two, not {memory_words}")
-        self.data_bits = data_bits
-        self.address_bits = address_bits
+            head.fail(f"'memory_words' must be a power of two, not {memory_words}", "memory_words")
 
         registers, pairs = self.registers()
         flags = self.flags(len(registers))
-        self.names = {**{n: "register" for n in registers}, **{n: "register pair" for n in pairs},
-                      **{n: "flag" for n in flags}}
-        pc = self.string(head, "program_counter", "[machine]", default="pc")
-        ir = self.string(head, "instruction_register", "[machine]", default="ir")
+        pc = head.string("program_counter", default="pc")
+        ir = head.string("instruction_register", default="ir")
         for key, reg in (("program_counter", pc), ("instruction_register", ir)):
             if reg not in registers:
-                self.fail("[machine]", f"'{key}' names '{reg}', which is not a register")
+                head.fail(f"'{key}' names '{reg}', which is not a register", key)
         if registers[ir].width != data_bits:
-            self.fail("[machine]", f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
-        self.registers_, self.pairs_, self.flags_ = registers, pairs, flags
-        self.pc, self.ir = pc, ir
+            self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
+                         f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
+        names = MachineNames(data_bits, registers, pairs, flags, pc, ir)
 
-        kinds = self.operand_kinds()
+        kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
         stages, phases = self.clock()
-        fetch = self.fetch()
-        instructions = self.instructions(kinds)
-        assembler = self.table(self.data, "assembler", "top level", required=False)
-        self.known_keys(assembler, ("pause",), "[assembler]")
-        pause = self.string(assembler, "pause", "[assembler]", default="halt")
+        fetch = self.fetch(names)
+        instructions = self.instructions(names, kinds, len(fetch))
+        assembler = top.table("assembler", "[assembler]", required=False)
+        assembler.known_keys(("pause",))
+        pause = assembler.string("pause", default="halt")
         halting = [i for i in instructions if i.drives_halt and not i.operands]
         if pause.lower() not in {i.mnemonic for i in halting}:
             choices = ", ".join(i.mnemonic for i in halting) or "none"
-            self.fail("[assembler]", f"'pause' must name an instruction without operands that drives halt "
-                                     f"(candidates: {choices}), not '{pause}'")
-
+            assembler.fail(f"'pause' must name an instruction without operands that drives halt "
+                           f"(candidates: {choices}), not '{pause}'", "pause")
+        self.check_overlaps(instructions, data_bits)
         machine = Machine(
-            name=name, title=self.string(head, "title", "[machine]", default=name), path=self.path,
+            name=name, title=head.string("title", default=name), path=self.path,
             data_bits=data_bits, address_bits=address_bits, memory_words=memory_words,
             registers=registers, pairs=pairs, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
             instruction_register=ir, pause=pause.lower(),
-            extra={k: self.data[k] for k in ("timing", "wear") if k in self.data},
         )
-        self.check_overlaps(machine)
+        if "timing" in top:
+            machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
+                                         lambda key: key_line(self.text, key))
+        if "wear" in top:
+            machine.wear = read_wear(top.table("wear", "[wear]"), machine.relay_names())
         return machine
 
     def registers(self):
+        top = self.top
         registers: dict[str, Register] = {}
         for section, internal in (("registers", False), ("internal", True)):
-            table = self.table(self.data, section, "top level", required=not internal)
+            table = top.table(section, required=not internal)
             for reg_name, width in table.items():
-                where = f"[{section}] {reg_name}"
+                table.where = f"[{section}] {reg_name}"
                 if not _IDENTIFIER.match(reg_name):
-                    self.fail(where, "a register name must be an identifier")
+                    table.fail("a register name must be an identifier", reg_name)
                 if reg_name in registers:
-                    self.fail(where, "register declared twice")
-                if not isinstance(width, int) or isinstance(width, bool) or not 1 <= width <= 32:
-                    self.fail(where, f"a register width must be an integer 1…32 (bits), not {width!r}")
+                    table.fail("register declared twice", reg_name)
+                if not is_integer(width) or not 1 <= width <= 32:
+                    table.fail(f"a register width must be an integer 1…32 (bits), not {width!r}", reg_name)
                 registers[reg_name] = Register(reg_name, width, len(registers), internal)
         pairs = {}
-        for pair_name, parts in self.table(self.data, "pairs", "top level", required=False).items():
-            where = f"[pairs] {pair_name}"
+        table = top.table("pairs", required=False)
+        for pair_name, parts in table.items():
+            table.where = f"[pairs] {pair_name}"
             if (not isinstance(parts, list) or len(parts) != 2
                     or not all(isinstance(p, str) and p in registers for p in parts)):
-                self.fail(where, "a pair must be a list of two registers, high first, e.g. [\"r6\", \"r7\"]")
+                table.fail("a pair must be a list of two registers, high first, e.g. [\"r6\", \"r7\"]", pair_name)
             if pair_name in registers:
-                self.fail(where, "a pair must not have the name of a register")
+                table.fail("a pair must not have the name of a register", pair_name)
             high, low = parts
             pairs[pair_name] = RegisterPair(pair_name, high, low, registers[high].width + registers[low].width)
         return registers, pairs
 
     def flags(self, first_slot: int) -> dict[str, Flag]:
         flags = {}
-        for flag_name, role in self.table(self.data, "flags", "top level").items():
-            where = f"[flags] {flag_name}"
+        table = self.top.table("flags")
+        declared = {**self.top.get("registers", {}), **self.top.get("internal", {})}
+        for flag_name, role in table.items():
+            table.where = f"[flags] {flag_name}"
             if role not in FLAG_ROLES:
-                self.fail(where, f"a flag's role must be one of {', '.join(FLAG_ROLES)}, not {role!r}")
+                table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)}, not {role!r}", flag_name)
             if any(f.role == role for f in flags.values()):
-                self.fail(where, f"two flags have the role '{role}'")
-            if flag_name in self.data.get("registers", {}) or flag_name in self.data.get("internal", {}):
-                self.fail(where, "a flag must not have the name of a register")
+                table.fail(f"two flags have the role '{role}'", flag_name)
+            if flag_name in declared:
+                table.fail("a flag must not have the name of a register", flag_name)
             flags[flag_name] = Flag(flag_name, role, first_slot + len(flags))
         return flags
 
-    def operand_kinds(self) -> dict[str, OperandKind]:
+    def operand_kinds(self, names: MachineNames) -> dict[str, OperandKind]:
         kinds = {}
-        for kind_name, spec in self.table(self.data, "operands", "top level").items():
+        table = self.top.table("operands")
+        for kind_name, raw in table.items():
             where = f"[operands] {kind_name}"
-            if not isinstance(spec, dict):
-                self.fail(where, "an operand kind must be a table, e.g. { bits = 8, min = 0, max = 255 }")
-            self.known_keys(spec, ("registers", "bits", "min", "max"), where)
+            if not isinstance(raw, dict):
+                table.where = where
+                table.fail("an operand kind must be a table, e.g. { bits = 8, min = 0, max = 255 }", kind_name)
+            spec = table.table(kind_name, where)
+            spec.known_keys(("registers", "bits", "min", "max"))
             if "registers" in spec:
-                regs = spec["registers"]
-                if not isinstance(regs, list) or not regs:
-                    self.fail(where, "'registers' must be a non-empty list of register names")
+                regs = spec.list_of("registers", lambda r: True, nonempty=True,
+                                    expected="a non-empty list of register names")
                 for reg in regs:
-                    if reg not in self.registers_:
-                        self.fail(where, f"unknown register '{reg}' in 'registers'")
+                    if reg not in names.registers:
+                        spec.fail(f"unknown register '{reg}' in 'registers'", "registers")
                     if regs.count(reg) > 1:
-                        self.fail(where, f"register '{reg}' is listed twice in 'registers'")
+                        spec.fail(f"register '{reg}' is listed twice in 'registers'", "registers")
                 bits = max(1, (len(regs) - 1).bit_length())
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
             else:
-                bits = self.integer(spec, "bits", where, low=1, high=32)
-                low = self.integer(spec, "min", where, default=0)
-                high = self.integer(spec, "max", where, default=(1 << bits) - 1)
+                bits = spec.integer("bits", low=1, high=32)
+                low = spec.integer("min", default=0)
+                high = spec.integer("max", default=(1 << bits) - 1)
                 if low > high:
-                    self.fail(where, f"'min' ({low}) is above 'max' ({high})")
+                    spec.fail(f"'min' ({low}) is above 'max' ({high})", "min")
                 if high >= 1 << bits or low < -(1 << (bits - 1)):
-                    self.fail(where, f"{bits} bits hold {-(1 << (bits - 1))}…{(1 << bits) - 1} at most "
-                                     f"(signed or unsigned), not {low}…{high}")
+                    spec.fail(f"{bits} bits hold {-(1 << (bits - 1))}…{(1 << bits) - 1} at most "
+                              f"(signed or unsigned), not {low}…{high}", "max")
                 kinds[kind_name] = OperandKind(kind_name, bits, low, high)
         return kinds
 
     def ports(self):
-        table = self.table(self.data, "ports", "top level", required=False)
-        self.known_keys(table, ("in", "out"), "[ports]")
+        table = self.top.table("ports", "[ports]", required=False)
+        table.known_keys(("in", "out"))
         result = []
         for direction, devices in (("out", OUTPUT_DEVICES), ("in", INPUT_DEVICES)):
             ports = {}
-            for number, device in self.table(table, direction, "[ports]", required=False).items():
-                where = f"[ports.{direction}] {number}"
+            section = table.table(direction, required=False)
+            for number, device in section.items():
+                section.where = f"[ports.{direction}] {number}"
                 if not number.isdigit() or int(number) > 255:
-                    self.fail(where, "a port number must be 0…255")
+                    section.fail("a port number must be 0…255", number)
                 if device not in devices:
-                    self.fail(where, f"an {direction} port device must be one of {', '.join(devices)}, not {device!r}")
+                    section.fail(f"an {direction} port device must be one of {', '.join(devices)}, "
+                                 f"not {device!r}", number)
                 ports[int(number)] = device
             result.append(ports)
         return result
 
     def clock(self):
-        clock = self.table(self.data, "clock", "top level")
-        self.known_keys(clock, ("stages", "phase"), "[clock]")
-        stages = self.integer(clock, "stages", "[clock]", low=1, high=64)
+        clock = self.top.table("clock", "[clock]")
+        clock.known_keys(("stages", "phase"))
+        stages = clock.integer("stages", low=1, high=64)
         table = clock.get("phase")
         if not isinstance(table, list) or len(table) < 2:
-            self.fail("[clock]", "needs at least two [[clock.phase]] entries (one high, one low)")
-        phases = []
-        for i, spec in enumerate(table, 1):
-            where = f"[[clock.phase]] {i}"
+            clock.fail("needs at least two [[clock.phase]] entries (one high, one low)", "phase")
+        for number, spec in enumerate(table, 1):
             if not isinstance(spec, dict):
-                self.fail(where, "a phase must be a table")
-            self.known_keys(spec, ("name", "level", "ms", "ring", "hold"), where)
-            name = self.string(spec, "name", where, default=f"phase{i}")
-            where = f"[[clock.phase]] {i} ('{name}')"
+                self.fail_at(f"[[clock.phase]] {number}", ("clock", "phase", number - 1), "a phase must be a table")
+        phases = []
+        for i, spec in enumerate(clock.tables("phase", lambda n: f"[[clock.phase]] {n}",
+                                              expected="every [[clock.phase]] must be a table"), 1):
+            spec.known_keys(("name", "level", "ms", "ring", "hold"))
+            name = spec.string("name", default=f"phase{i}")
+            spec.where = f"[[clock.phase]] {i} ('{name}')"
             if any(p.name == name for p in phases):
-                self.fail(where, f"two phases are named '{name}'; each phase needs a name of its own")
-            level = self.integer(spec, "level", where, low=0, high=1)
-            ms = spec.get("ms")
-            if not isinstance(ms, (int, float)) or isinstance(ms, bool) or ms <= 0:
-                self.fail(where, f"'ms' must be a positive number of milliseconds, not {ms!r}")
-            ring = spec.get("ring", [])
-            if not isinstance(ring, list) or not all(isinstance(s, int) and 1 <= s <= stages for s in ring):
-                self.fail(where, f"'ring' must be a list of lit stage numbers 1…{stages}, not {ring!r}")
-            hold = spec.get("hold", False)
-            if not isinstance(hold, bool):
-                self.fail(where, f"'hold' must be true or false, not {hold!r}")
+                spec.fail(f"two phases are named '{name}'; each phase needs a name of its own", "name")
+            level = spec.integer("level", low=0, high=1)
+            ms = spec.number("ms", above=0, expected="a positive number of milliseconds")
+            if ms > _LONGEST_PHASE_MS:
+                spec.fail(f"'ms' must be at most {_LONGEST_PHASE_MS} (a day), not {ms!r}", "ms")
+            duration_ns = round(ms * 1_000_000)
+            if duration_ns < 1:
+                spec.fail(f"'ms' must be at least 0.000001 (one nanosecond, the clock's resolution), not {ms!r}",
+                          "ms")
+            ring = spec.list_of("ring", lambda s: is_integer(s) and 1 <= s <= stages, default=[],
+                                expected=f"a list of lit stage numbers 1…{stages}")
+            hold = spec.boolean("hold", default=False)
             if hold and level == 1:
-                self.fail(where, "a hold point must be on a phase with clock level 0; "
-                                 "this phase has level 1 (holding there would cut a pulse short)")
-            phases.append(Phase(name, level, round(ms * 1_000_000), tuple(ring), hold))
+                spec.fail("a hold point must be on a phase with clock level 0; "
+                          "this phase has level 1 (holding there would cut a pulse short)", "hold")
+            phases.append(Phase(name, level, duration_ns, tuple(ring), hold))
         levels = {p.level for p in phases}
         if levels != {0, 1}:
-            self.fail("[clock]", "the phase table needs at least one high (level 1) and one low (level 0) phase")
+            clock.fail("the phase table needs at least one high (level 1) and one low (level 0) phase", "phase")
         if not any(p.hold for p in phases):
-            self.fail("[clock]", "the phase table has no hold point (hold = true): "
-                                 "a stop or a halt could never freeze the clock")
+            clock.fail("the phase table has no hold point (hold = true): "
+                       "a stop or a halt could never freeze the clock", "phase")
         return stages, tuple(phases)
 
     # -- micro-steps
 
-    def fetch(self) -> tuple[Step, ...]:
-        spec = self.table(self.data, "fetch", "top level")
-        self.known_keys(spec, ("steps",), "[fetch]")
-        texts = spec.get("steps")
-        if not isinstance(texts, list) or not texts or not all(isinstance(t, str) for t in texts):
-            self.fail("[fetch]", "'steps' must be a non-empty list of micro-step strings")
-        steps = tuple(self.step(text, f"[fetch] step {i}", {}, {}) for i, text in enumerate(texts, 1))
-        writes_ir = any(isinstance(st, Assign) and st.target == Name(self.ir)
+    def fetch(self, names: MachineNames) -> tuple[Step, ...]:
+        spec = self.top.table("fetch", "[fetch]")
+        spec.known_keys(("steps",))
+        texts = spec.list_of("steps", lambda t: isinstance(t, str), nonempty=True, default=None,
+                             expected="a non-empty list of micro-step strings")
+        if texts is None:
+            spec.fail("'steps' must be a non-empty list of micro-step strings", "steps")
+        steps = tuple(self.step(names, self.parse(text, f"[fetch] step {i}", ("fetch", "steps", i - 1)),
+                                text, f"[fetch] step {i}", ("fetch", "steps", i - 1), {}, {})
+                      for i, text in enumerate(texts, 1))
+        writes_ir = any(isinstance(st, Assign) and st.target == Name(names.ir)
                         for step in steps for st in step.statements)
         if not writes_ir:
-            self.fail("[fetch]", f"the fetch steps must load the instruction register '{self.ir}'")
+            spec.fail(f"the fetch steps must load the instruction register '{names.ir}'", "steps")
         for i, step in enumerate(steps, 1):
             for st in step.statements:
                 if isinstance(st, Assign) and isinstance(st.target, Mem) or isinstance(st, (Output, Halt)):
-                    self.fail(f"[fetch] step {i}", "fetch steps may only read: no memory writes, output or halt")
+                    self.fail_at(f"[fetch] step {i}", ("fetch", "steps", i - 1),
+                                 "fetch steps may only read: no memory writes, output or halt")
+        if _computed(steps, names.ir):
+            spec.fail("the fetch steps must load the instruction register by plain register transfers "
+                      "(no ALU, input or choice)", "steps")
         return steps
 
-    def instructions(self, kinds) -> list[Instruction]:
-        specs = self.data.get("instruction")
+    def instructions(self, names: MachineNames, kinds, fetch_count: int) -> list[Instruction]:
+        specs = self.top.get("instruction")
         if not isinstance(specs, list) or not specs:
-            self.fail("top level", "needs [[instruction]] entries")
+            self.top.fail("needs [[instruction]] entries", "instruction")
         result: list[Instruction] = []
         for spec in specs:
-            ins = self.instruction(spec, len(result), kinds)
+            ins = self.instruction(names, spec, len(result), kinds, fetch_count)
             twin = next((i for i in result if i.mnemonic == ins.mnemonic and i.operands == ins.operands), None)
             if twin is not None:
-                self.fail(f"instruction '{ins.display}'", f"the same assembly form as instruction "
-                                                          f"{twin.index + 1}: forms must differ")
+                self.fail_at(f"instruction '{ins.display}'", ("instruction", ins.index, "syntax"),
+                             f"the same assembly form as instruction {twin.index + 1}: forms must differ")
             result.append(ins)
         return result
 
-    def instruction(self, spec, index, kinds) -> Instruction:
-        if not isinstance(spec, dict):
-            self.fail(f"[[instruction]] {index + 1}", "an instruction must be a table")
-        where = f"[[instruction]] {index + 1}"
-        self.known_keys(spec, ("syntax", "encoding", "steps"), where)
-        syntax = self.string(spec, "syntax", where).strip()
-        where = f"instruction '{_strip_kinds(syntax)}'"
-        mnemonic, operands, field_kinds = self.syntax(syntax, kinds, where)
-        encoding = spec.get("encoding")
-        if not isinstance(encoding, list) or not encoding or not all(isinstance(w, str) for w in encoding):
-            self.fail(where, "'encoding' must be a non-empty list of word strings, e.g. [\"0001 rd\", \"imm\"]")
-        fixed, fields = self.encoding(encoding, field_kinds, where)
+    def instruction(self, names: MachineNames, raw, index, kinds, fetch_count: int) -> Instruction:
+        key = ("instruction", index)
+        if not isinstance(raw, dict):
+            self.fail_at(f"[[instruction]] {index + 1}", key, "an instruction must be a table")
+        spec = Table(raw, f"[[instruction]] {index + 1}", self.fail_at, key)
+        spec.known_keys(("syntax", "encoding", "steps"))
+        syntax = spec.string("syntax").strip()
+        spec.where = f"instruction '{_strip_kinds(syntax)}'"
+        mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
+        words = 'a non-empty list of word strings, e.g. ["0001 rd", "imm"]'
+        encoding = spec.list_of("encoding", lambda w: isinstance(w, str), nonempty=True, default=None,
+                                expected=words)
+        if encoding is None:
+            spec.fail(f"'encoding' must be {words}", "encoding")
+        fixed, fields = self.encoding(spec, encoding, field_kinds, names.data_bits)
         texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
-            self.fail(where, "'steps' must be a list of micro-step strings (steps = [] for one "
-                             "that only fetches)")
-        holders = self.word_holders(texts, len(encoding), where)
+            spec.fail("'steps' must be a list of micro-step strings (steps = [] for one "
+                      "that only fetches)", "steps")
+        places = [(f"{spec.where} step {fetch_count + i}", key + ("steps", i - 1)) for i in range(1, len(texts) + 1)]
+        parsed = [self.parse(text, where, at) for text, (where, at) in zip(texts, places)]
+        holders = self.word_holders(spec, names, parsed, len(encoding))
         steps = []
-        for i, text in enumerate(texts, 1):
+        for i, (text, statements, (where, at)) in enumerate(zip(texts, parsed, places), 1):
             fetched_words = {w for w, (step_no, _reg) in holders.items() if step_no < i}
             available = {name: f for name, f in fields.items()
                          if all(p.word in fetched_words for p in f.pieces)}
-            steps.append(self.step(text, f"{where} step {len(self.fetch_texts()) + i}", fields, available))
+            steps.append(self.step(names, statements, text, where, at, fields, available))
         return Instruction(
             index=index, syntax=syntax, mnemonic=mnemonic, operands=operands, fields=fields,
             word_count=len(encoding), fixed=fixed, steps=tuple(steps),
             holders={w: reg for w, (_s, reg) in holders.items()},
         )
 
-    def fetch_texts(self):
-        return self.data["fetch"]["steps"]
-
-    def syntax(self, syntax: str, kinds, where):
+    def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):
         head, _, rest = syntax.partition(" ")
         mnemonic = head.lower()
         if not _IDENTIFIER.match(mnemonic):
-            self.fail(where, "the syntax must start with a mnemonic")
+            spec.fail("the syntax must start with a mnemonic", "syntax")
+        taken = names.kinds_of_name
         operands, field_kinds = [], {}
         for part in filter(None, (p.strip() for p in rest.split(","))) if rest.strip() else ():
             m = _SYNTAX_OPERAND.match(part)
             if m:
                 if m["kind"] not in kinds:
-                    self.fail(where, f"unknown operand kind '{m['kind']}' (kinds: {', '.join(kinds)})")
+                    spec.fail(f"unknown operand kind '{m['kind']}' (kinds: {', '.join(kinds)})", "syntax")
                 if m["field"] in field_kinds:
-                    self.fail(where, f"operand field '{m['field']}' appears twice")
-                if m["field"] in self.names:
-                    self.fail(where, f"operand field '{m['field']}' has the name of a {self.names[m['field']]}")
+                    spec.fail(f"operand field '{m['field']}' appears twice", "syntax")
+                if m["field"] in taken:
+                    spec.fail(f"operand field '{m['field']}' has the name of a {taken[m['field']]}", "syntax")
                 field_kinds[m["field"]] = kinds[m["kind"]]
                 operands.append(OperandPattern(m["before"].lower().replace(" ", ""), m["field"],
                                                m["after"].lower().replace(" ", "")))
@@ -376,15 +370,18 @@ class _Loader:
                 operands.append(OperandPattern(part.lower().replace(" ", ""), None, ""))
         return mnemonic, tuple(operands), field_kinds
 
-    def encoding(self, words, field_kinds, where):
+    def encoding(self, spec: Table, words, field_kinds, data_bits: int):
+        def fail(message):
+            spec.fail(message, "encoding")
+
         fixed, pieces = [], {name: [] for name in field_kinds}
         for w, text in enumerate(words):
-            position, mask, value = self.data_bits, 0, 0
+            position, mask, value = data_bits, 0, 0
             for token in text.split():
                 m = _ENCODING_TOKEN.match(token)
                 if not m:
-                    self.fail(where, f"cannot read encoding token '{token}' in word {w + 1} "
-                                     f"(expected bits like 0101, a field name, or field[hi:lo])")
+                    fail(f"cannot read encoding token '{token}' in word {w + 1} "
+                         f"(expected bits like 0101, a field name, or field[hi:lo])")
                 if m["bits"]:
                     position -= len(m["bits"])
                     if position >= 0:
@@ -393,17 +390,16 @@ class _Loader:
                     continue
                 name = m["field"]
                 if name not in field_kinds:
-                    self.fail(where, f"encoding word {w + 1} names '{name}', which is not an operand field "
-                                     f"of this instruction (fields: {', '.join(field_kinds) or 'none'})")
+                    fail(f"encoding word {w + 1} names '{name}', which is not an operand field "
+                         f"of this instruction (fields: {', '.join(field_kinds) or 'none'})")
                 kind = field_kinds[name]
                 hi, lo = (int(m["hi"]), int(m["lo"])) if m["hi"] else (kind.bits - 1, 0)
                 if hi < lo or hi >= kind.bits:
-                    self.fail(where, f"slice {name}[{hi}:{lo}] is outside the {kind.bits} bits of '{name}'")
+                    fail(f"slice {name}[{hi}:{lo}] is outside the {kind.bits} bits of '{name}'")
                 position -= hi - lo + 1
                 pieces[name].append(FieldPiece(w, max(position, 0), hi - lo + 1, lo))
             if position != 0:
-                used = self.data_bits - position
-                self.fail(where, f"encoding word {w + 1} has {used} bits, expected {self.data_bits} (data_bits)")
+                fail(f"encoding word {w + 1} has {data_bits - position} bits, expected {data_bits} (data_bits)")
             fixed.append((mask, value))
         fields = {}
         for name, kind in field_kinds.items():
@@ -412,61 +408,72 @@ class _Loader:
                 for b in range(piece.field_bit, piece.field_bit + piece.width):
                     covered[b] += 1
             if covered != [1] * kind.bits:
-                self.fail(where, f"the encoding must place each of the {kind.bits} bits of '{name}' exactly once")
+                fail(f"the encoding must place each of the {kind.bits} bits of '{name}' exactly once")
             fields[name] = Field(name, kind, tuple(pieces[name]))
         if fixed[0][0] == 0:
-            self.fail(where, "the first encoding word needs fixed opcode bits")
+            fail("the first encoding word needs fixed opcode bits")
         return tuple(fixed), fields
 
-    def word_holders(self, texts, word_count, where):
+    def word_holders(self, spec: Table, names: MachineNames, parsed, word_count: int):
         """Which step fetches each later word (a step reading mem[pc]) and where it lands."""
-        holders = {0: (0, self.ir)}
+        pc_word = Mem(Name(names.pc))
+        holders = {0: (0, names.ir)}
         fetch_reads = 0
-        for i, text in enumerate(texts, 1):
-            try:
-                statements = parse_step(text)
-            except MachineError as exc:
-                self.fail(f"{where} step {len(self.fetch_texts()) + i}", exc.message)
-            if not any(node == Mem(Name(self.pc)) for st in statements for node in walk(st)):
+        for i, statements in enumerate(parsed, 1):
+            if not any(node == pc_word for st in statements for node in walk(st)):
                 continue
             fetch_reads += 1
             for st in statements:
-                if isinstance(st, Assign) and st.value == Mem(Name(self.pc)) and isinstance(st.target, Name):
+                if isinstance(st, Assign) and st.value == pc_word and isinstance(st.target, Name):
                     holders[fetch_reads] = (i, st.target.name)
         if fetch_reads != word_count - 1:
             plural = "s" if word_count != 1 else ""
-            self.fail(where, f"the encoding has {word_count} word{plural} but the micro-steps read {fetch_reads} "
-                             f"after the opcode (each later word needs a step that reads mem[{self.pc}])")
+            spec.fail(f"the encoding has {word_count} word{plural} but the micro-steps read {fetch_reads} "
+                      f"after the opcode (each later word needs a step that reads mem[{names.pc}])", "encoding")
         return holders
 
-    def step(self, text, where, fields, available) -> Step:
+    def parse(self, text: str, where: str, key: tuple):
         try:
-            statements = parse_step(text)
+            return parse_step(text)
         except MachineError as exc:
-            self.fail(where, exc.message)
-        checker = StepChecker(self, where, fields, available)
+            self.fail_at(where, key, exc.message)
+
+    def step(self, names: MachineNames, statements, text: str, where: str, key: tuple,
+             fields, available) -> Step:
+        checker = StepChecker(names, where, fields, available,
+                              lambda at, message: self.fail_at(at, key, message))
         for st in statements:
             checker.statement(st)
         checker.finish()
         return Step(text.strip(), statements, tuple(checker.lines), checker.halts)
 
-    def check_overlaps(self, machine: Machine):
-        owner = [-1] * (1 << self.data_bits)
-        for ins in machine.instructions:
-            for word in ins.first_words(self.data_bits):
+    def check_overlaps(self, instructions: list[Instruction], data_bits: int):
+        owner = [-1] * (1 << data_bits)
+        for ins in instructions:
+            for word in ins.first_words(data_bits):
                 if owner[word] >= 0:
-                    other = machine.instructions[owner[word]]
-                    width = (self.data_bits + 3) // 4
-                    self.fail(f"instruction '{ins.display}'",
-                              f"its encoding overlaps instruction '{other.display}' at first word "
-                              f"0x{word:0{width}X}; the first word alone must tell instructions apart")
+                    other = instructions[owner[word]]
+                    width = (data_bits + 3) // 4
+                    self.fail_at(f"instruction '{ins.display}'", ("instruction", ins.index, "encoding"),
+                                 f"its encoding overlaps instruction '{other.display}' at first word "
+                                 f"0x{word:0{width}X}; the first word alone must tell instructions apart")
                 owner[word] = ins.index
+
+
+def _computed(steps: tuple[Step, ...], register: str) -> bool:
+    """Whether the value the fetch steps leave in ``register`` passed through the ALU, an
+    input port or a choice: the engine peeks at the next opcode by replaying plain transfers."""
+    computed: dict[str, bool] = {}
+    for step in steps:
+        updates = {}
+        for st in step.statements:
+            if isinstance(st, Assign) and isinstance(st.target, Name):
+                nodes = list(walk(st.value))
+                updates[st.target.name] = any(isinstance(n, (Input, Call, Choose)) for n in nodes) or any(
+                    isinstance(n, Name) and computed.get(n.name, False) for n in nodes)
+        computed.update(updates)
+    return computed.get(register, False)
 
 
 def _strip_kinds(syntax: str) -> str:
     return re.sub(r":[A-Za-z_]\w*", "", syntax)
-
-
-def _kind(value) -> str:
-    return {bool: "a boolean", int: "an integer", float: "a number", str: "a string",
-            list: "a list", dict: "a table"}.get(type(value), type(value).__name__)

@@ -14,12 +14,13 @@ import re
 from dataclasses import dataclass, field
 from functools import cached_property
 
+from ._sections import TimingSection, WearRatings
 from .notation import Assign, FlagsOnly, Statement
 
 __all__ = [
-    "Machine", "Instruction", "Step", "Register", "RegisterPair", "Flag",
+    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterPair", "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
-    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES",
+    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
 ]
 
 FLAG_ROLES = ("zero", "negative", "carry", "overflow")
@@ -206,6 +207,32 @@ class Instruction:
         return tuple(f for f in machine.flags if f in written)
 
 
+def stage_relay(stage: int) -> str:
+    """The relay of clock-ring stage ``stage`` (from 1), as wear reports and ``[wear.relays]`` name it."""
+    return f"stage {stage}"
+
+
+@dataclass(frozen=True)
+class MachineNames:
+    """What the micro-steps may name, fixed once ``[machine]``, the registers and flags are read.
+
+    The loader passes it to each later section (and to the design-rule
+    checker) instead of keeping it on itself, so no section depends on the
+    order in which another was read.
+    """
+    data_bits: int
+    registers: dict[str, Register]
+    pairs: dict[str, RegisterPair]
+    flags: dict[str, Flag]
+    pc: str
+    ir: str
+
+    @property
+    def kinds_of_name(self) -> dict[str, str]:
+        return {**{n: "register" for n in self.registers}, **{n: "register pair" for n in self.pairs},
+                **{n: "flag" for n in self.flags}}
+
+
 @dataclass
 class Machine:
     name: str
@@ -227,8 +254,21 @@ class Machine:
     program_counter: str
     instruction_register: str
     pause: str
-    extra: dict = field(default_factory=dict)
-    """Sections the engine does not read itself (timing, wear), kept for their own modules."""
+    timing: TimingSection | None = None
+    """The checked ``[timing]`` section (the clock ring's parts), None when the file has none."""
+    wear: WearRatings = field(default_factory=WearRatings)
+    """The checked ``[wear]`` section; without one no rated life is known."""
+
+    def control_lines(self) -> list[str]:
+        """Every control line some micro-step of the machine drives, in first-use order."""
+        lines: list[str] = []
+        for step in list(self.fetch) + [s for ins in self.instructions for s in ins.steps]:
+            lines.extend(line for line in step.control_lines if line not in lines)
+        return lines
+
+    def relay_names(self) -> list[str]:
+        """The relays whose wear is counted: the ring stages (``stage N``), then the control lines."""
+        return [stage_relay(s) for s in range(1, self.ring_stages + 1)] + self.control_lines()
 
     @property
     def slot_count(self) -> int:

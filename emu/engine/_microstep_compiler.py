@@ -30,7 +30,6 @@ from pathlib import Path
 
 from ..description import ALU_OPS, Instruction, Machine, Step
 from ._emitter import Emitter
-from ..errors import MachineError
 from ..files import write_atomic
 from ..description.notation import (name_width, value_width, Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem,
                    Name, Offset, Output, walk)
@@ -564,11 +563,6 @@ class _MachineCompiler:
                     updates[st.target.name] = _substitute(st.value, env)
             env.update(updates)
         word = env[machine.instruction_register]
-        for node in walk(word):
-            if isinstance(node, (Input, Call, Choose)):
-                raise MachineError("the fetch steps must load the instruction register by plain "
-                                   "register transfers (no ALU, input or choice)", path=machine.path,
-                                   where="[fetch]")
         text = _StepTranslator(machine, Emitter(), _SlotAccess(Emitter()), None).expr(word)
         return text
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections import Counter
 
-from ..description import Machine
+from ..description import Machine, Table, is_integer
 
 __all__ = ["Ports"]
 
@@ -65,21 +65,33 @@ class Ports:
             "unmapped": [[d, p, n] for (d, p), n in sorted(self.unmapped.items())],
         }
 
-    def restore(self, state: dict) -> None:
-        """Raises ValueError or TypeError, before changing anything, on a damaged state."""
+    def checked_state(self, state: Table) -> dict:
+        """The ports part of a snapshot, every value checked; ``state`` fails with the reader's error."""
         for key, top in (("lamps", self._mask), ("switches", self._mask), ("input_position", 1 << 63)):
-            value = state[key]
-            if not isinstance(value, int) or isinstance(value, bool) or not 0 <= value <= top:
-                raise ValueError(f"'{key}' is not a word or count of this machine")
-        for entry in state["unmapped"]:
-            direction, port, count = entry
-            if direction not in ("in", "out") or not isinstance(port, int) or not isinstance(count, int):
-                raise ValueError("'unmapped' entries must be [\"in\"|\"out\", port, count]")
-        if state["input_position"] > len(state["input"]) // 2:
-            raise ValueError("the input position is past the input stream")
+            state.integer(key, low=0, high=top, expected="a word or count of this machine")
+        for key in ("output", "input"):
+            text = state.string(key)
+            try:
+                bytes.fromhex(text)
+            except ValueError:
+                state.fail(f"'{key}' must be bytes written in hex, not {text[:20]!r}", key)
+        state.list_of("unmapped", _unmapped_entry,
+                      expected='a list of ["in"|"out", port, count] with a count of 1 or more')
+        if state.get("input_position") > len(state.get("input")) // 2:
+            state.fail("the input position is past the input stream", "input_position")
+        return state.data
+
+    def restore(self, state: dict) -> None:
+        """Take the ports part of a snapshot, as ``checked_state`` passed it."""
         self.output = bytearray.fromhex(state["output"])
         self.lamps = state["lamps"]
         self.switches = state["switches"]
         self.input_bytes = bytes.fromhex(state["input"])
         self.input_position = state["input_position"]
         self.unmapped = Counter({(d, p): n for d, p, n in state["unmapped"]})
+
+
+def _unmapped_entry(entry) -> bool:
+    """``["in", 3, 12]``: twelve reads from port 3, which has no device."""
+    return (isinstance(entry, list) and len(entry) == 3 and entry[0] in ("in", "out")
+            and is_integer(entry[1]) and 0 <= entry[1] <= 255 and is_integer(entry[2]) and entry[2] >= 1)

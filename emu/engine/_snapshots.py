@@ -13,6 +13,7 @@ import json
 import zlib
 from collections import Counter
 
+from ..description import Table, is_integer
 from ..errors import MachineError
 from ._ports import Ports
 
@@ -56,12 +57,11 @@ def restore_state(emu, state: dict, origin: str) -> None:
     if state.get("machine") != emu.machine.name:
         raise MachineError(f"the snapshot is of machine '{state.get('machine')}', "
                            f"not '{emu.machine.name}'", path=origin)
-    try:
-        slots, memory = _checked_state(emu, state)
-    except KeyError as exc:
-        raise MachineError(f"damaged snapshot (no key {exc})", path=origin) from None
-    except (TypeError, ValueError, IndexError, zlib.error, binascii.Error) as exc:
-        raise MachineError(f"damaged snapshot ({exc})", path=origin) from None
+
+    def fail(where, key, message):
+        raise MachineError(f"damaged snapshot ({where}{message})", path=origin, key=key)
+
+    slots, memory, ports = _checked_state(emu, Table(state, "", fail))
     for name, value in slots.items():
         emu._s[emu._slots[name][0]] = value
     emu.memory[:] = memory
@@ -72,60 +72,69 @@ def restore_state(emu, state: dict, origin: str) -> None:
     emu._seq = tuple(state["sequencer"])
     emu._instruction_address = state["instruction_address"]
     emu.cycles, emu.instructions = state["cycles"], state["instructions"]
-    emu.ports.restore(state["ports"])
+    emu.ports.restore(ports)
     emu._undefined = Counter({a: n for a, n in state["undefined"]})
 
 
-def _checked_state(emu, state: dict):
+def _checked_state(emu, state: Table):
     """Every value of a snapshot checked before any is used, so a bad file changes nothing."""
     machine = emu.machine
-    if state.get("version") != 1:
-        raise ValueError(f"version {state.get('version')!r}; this relaybench reads version 1")
-    slots = state["slots"]
-    if set(slots) != set(emu._slots):
-        raise ValueError("the registers and flags do not match the machine")
-    for name, value in slots.items():
-        _require_int(value, name, 0, (1 << emu._slots[name][1]) - 1)
-    raw = zlib.decompress(base64.b64decode(state["memory"], validate=True))
+    state.integer("version", low=1, high=1, expected="1 (the version this relaybench reads)")
+    slots = state.table("slots", "slots: ")
+    if set(slots.data) != set(emu._slots):
+        state.fail("the registers and flags do not match the machine", "slots")
+    for name in slots.data:
+        slots.integer(name, low=0, high=(1 << emu._slots[name][1]) - 1)
+    memory = _memory(machine, state)
+    ring = state.table("ring", "ring: ")
+    ring.integer("index", low=0, high=len(machine.phases) - 1)
+    ring.integer("time_ns", low=0, high=_COUNTER_MAX)
+    turn = ring.list_of("turn", lambda d: is_integer(d) and 1 <= d <= _COUNTER_MAX,
+                        expected="the durations of the phase table in ns")
+    if len(turn) != len(machine.phases):
+        ring.fail("the ring's phase durations do not match the phase table", "turn")
+    for key in ("frozen", "released", "switch_run", "halt_latch"):
+        state.boolean(key)
+    sequencer = state.list_of("sequencer", is_integer, expected="[instruction, step]")
+    if len(sequencer) != 2:
+        state.fail("'sequencer' must be [instruction, step]", "sequencer")
+    index, step = sequencer
+    if not -1 <= index < len(machine.instructions):
+        state.fail(f"sequencer {index} is out of range", "sequencer")
+    steps = machine.fetch if index < 0 else machine.instructions[index].steps
+    if not 0 <= step < len(steps):
+        state.fail(f"sequencer step {step} is out of range", "sequencer")
+    top = machine.memory_words - 1
+    if "halt_address" not in state:
+        state.fail("missing key 'halt_address' (an address or null)", "halt_address")
+    if state.get("halt_address") is not None:
+        state.integer("halt_address", low=0, high=top)
+    state.integer("instruction_address", low=0, high=top)
+    state.integer("cycles", low=0, high=_COUNTER_MAX)
+    state.integer("instructions", low=0, high=_COUNTER_MAX)
+    pairs = state.list_of("undefined", lambda e: isinstance(e, list) and len(e) == 2 and all(map(is_integer, e)),
+                          expected="a list of [address, count]")
+    for address, count in pairs:
+        if not (0 <= address <= top and 1 <= count <= _COUNTER_MAX):
+            state.fail(f"undefined opcode entry [{address}, {count}] is out of range", "undefined")
+    ports = state.table("ports", "ports: ")
+    return slots.data, memory, Ports(machine).checked_state(ports)
+
+
+def _memory(machine, state: Table):
+    text = state.string("memory")
+    try:
+        raw = zlib.decompress(base64.b64decode(text, validate=True))
+    except (ValueError, zlib.error, binascii.Error) as exc:
+        state.fail(f"memory: {exc}", "memory")
     if machine.data_bits <= 8:
         memory = raw
     else:
         memory = [int.from_bytes(raw[i:i + 2], "little") & machine.data_mask for i in range(0, len(raw), 2)]
     if len(memory) != machine.memory_words:
-        raise ValueError(f"memory holds {len(memory)} words, not {machine.memory_words}")
-    ring = state["ring"]
-    _require_int(ring["index"], "ring index", 0, len(machine.phases) - 1)
-    _require_int(ring["time_ns"], "time", 0, _COUNTER_MAX)
-    if len(ring["turn"]) != len(machine.phases):
-        raise ValueError("the ring's phase durations do not match the phase table")
-    for duration in ring["turn"]:
-        _require_int(duration, "phase duration", 1, _COUNTER_MAX)
-    for key in ("frozen", "released", "switch_run", "halt_latch"):
-        if not isinstance(state[key], bool):
-            raise ValueError(f"'{key}' is not true or false")
-    index, step = state["sequencer"]
-    _require_int(index, "sequencer", -1, len(machine.instructions) - 1)
-    steps = machine.fetch if index < 0 else machine.instructions[index].steps
-    _require_int(step, "sequencer step", 0, len(steps) - 1)
-    top = machine.memory_words - 1
-    if state["halt_address"] is not None:
-        _require_int(state["halt_address"], "halt address", 0, top)
-    _require_int(state["instruction_address"], "instruction address", 0, top)
-    _require_int(state["cycles"], "cycles", 0, _COUNTER_MAX)
-    _require_int(state["instructions"], "instructions", 0, _COUNTER_MAX)
-    for address, count in state["undefined"]:
-        _require_int(address, "undefined opcode address", 0, top)
-        _require_int(count, "undefined opcode count", 1, _COUNTER_MAX)
-    Ports(machine).restore(state["ports"])
-    return slots, memory
+        state.fail(f"memory holds {len(memory)} words, not {machine.memory_words}", "memory")
+    return memory
 
 
 _COUNTER_MAX = 1 << 63
 """Bound on counters and times read from a snapshot (centuries of simulated time)."""
-
-
-def _require_int(value, what: str, low: int, high: int | None = None) -> None:
-    if not isinstance(value, int) or isinstance(value, bool):
-        raise ValueError(f"{what} is not an integer")
-    if value < low or high is not None and value > high:
-        raise ValueError(f"{what} {value} is out of range")

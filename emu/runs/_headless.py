@@ -39,7 +39,7 @@ def start_emulator(program: LoadedProgram, machine: Machine, *, switches: int = 
     try:
         emulator.load(program.segments)
     except MachineError as exc:
-        raise ProgramError(f"{program.path}: error: {exc.message}") from None
+        raise ProgramError(exc.message, file=program.path) from None
     emulator.switches = switches
     emulator.input_bytes = input_bytes
     emulator.set_switch_run(True)

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 import asm
 
 from ..description import Machine
+from ..errors import RelaybenchError
 
 __all__ = ["LoadedProgram", "ProgramError", "SOURCE_SUFFIXES", "load_program"]
 
@@ -20,8 +21,22 @@ SOURCE_SUFFIXES = (".asm", ".inc")
 """File names that always mean assembly source (``relaybench test`` runs the ``.asm`` ones)."""
 
 
-class ProgramError(Exception):
-    """A program file that cannot be run; ``str()`` is the located message(s)."""
+class ProgramError(RelaybenchError):
+    """A program file that cannot be run, with every located problem found.
+
+    ``diagnostics`` are the assembler's own when the program did not
+    assemble (each with its file, line and column), else the one problem of
+    the file; ``str()`` renders them all.
+    """
+
+    def __init__(self, message: str, *, file: str | None = None, diagnostics=()):
+        self.diagnostics = tuple(diagnostics) or (asm.Diagnostic(file, None, None, message),)
+        first = self.diagnostics[0]
+        super().__init__(first.message, file=first.file, line=first.line, column=first.column,
+                         source_line=first.source_line)
+
+    def render(self) -> str:
+        return "\n".join(d.render() for d in self.diagnostics)
 
 
 @dataclass(frozen=True)
@@ -56,11 +71,11 @@ def load_program(path: str | os.PathLike, machine: Machine) -> LoadedProgram:
     """Assembly source, Intel HEX or a raw binary, told apart by their content."""
     path = str(path)
     if os.path.isdir(path):
-        raise ProgramError(f"{path}: error: is a folder, not a program file")
+        raise ProgramError("is a folder, not a program file", file=path)
     if not os.path.exists(path):
-        raise ProgramError(f"{path}: error: no such file")
+        raise ProgramError("no such file", file=path)
     if not os.access(path, os.R_OK):
-        raise ProgramError(f"{path}: error: cannot read the file (permission denied)")
+        raise ProgramError("cannot read the file (permission denied)", file=path)
     try:
         kind = asm.sniff(path)
         if kind == "source":
@@ -68,9 +83,12 @@ def load_program(path: str | os.PathLike, machine: Machine) -> LoadedProgram:
         else:
             loaded = _from_image(path, kind, machine)
     except asm.AsmError as exc:
-        raise ProgramError(_not_a_program(path, exc) or str(exc)) from None
+        plainly_not = _not_a_program(path, exc)
+        if plainly_not:
+            raise ProgramError(plainly_not, file=path) from None
+        raise ProgramError(exc.message, diagnostics=exc.diagnostics) from None
     if loaded.word_count == 0:
-        raise ProgramError(f"{path}: error: the program is empty (no instruction or data to load)")
+        raise ProgramError("the program is empty (no instruction or data to load)", file=path)
     return loaded
 
 
@@ -91,7 +109,7 @@ def _not_a_program(path: str, error: asm.AsmError) -> str | None:
     located = {d.line for d in error.diagnostics if d.file == path}
     if len(statements) < 2 or not statements <= located:
         return None
-    return (f"{path}: error: this is neither assembly source, Intel HEX nor a raw binary image "
+    return (f"this is neither assembly source, Intel HEX nor a raw binary image "
             f"(none of its {len(statements)} lines assembles)")
 
 
@@ -110,8 +128,8 @@ def _from_image(path: str, kind: str, machine: Machine) -> LoadedProgram:
         return LoadedProgram(path, kind, segments)
     info = asm.read_debug(debug_path, machine)
     if info.image_crc32 is not None and info.image_crc32 != asm.image_fingerprint(segments):
-        raise ProgramError(f"{debug_path}: error: this debug file was written for another image than "
-                           f"{path} (assemble again, or remove the debug file)")
+        raise ProgramError(f"this debug file was written for another image than {path} "
+                           f"(assemble again, or remove the debug file)", file=str(debug_path))
     return LoadedProgram(path, kind, segments, frozenset(info.pauses), tuple(info.expects),
                          dict(info.source_map), dict(info.symbols), str(debug_path),
                          labels=dict(info.labels), lines=tuple(info.lines))

@@ -15,7 +15,9 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..description import Machine
+import asm
+
+from ..description import Machine, Table, key_line, toml_syntax_error
 from ._loading import ProgramError
 
 __all__ = ["PANEL_SUFFIX", "PanelSettings", "panel_path_for", "read_panel_file"]
@@ -36,40 +38,39 @@ def panel_path_for(program_path: str) -> Path:
 
 
 def read_panel_file(path: Path, machine: Machine) -> PanelSettings:
-    """Read and check a panel file; problems raise ProgramError naming the key."""
-    def fail(message):
-        raise ProgramError(f"{path}: error: {message}")
+    """Read and check a panel file; problems raise ProgramError naming the key and its line."""
     try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
+        text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
-        fail(f"cannot read the panel file ({exc})")
+        raise ProgramError(f"cannot read the panel file ({exc})", file=str(path)) from None
+    try:
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        fail(f"not valid TOML: {exc}")
+        message, line, column, source = toml_syntax_error(exc, text)
+        raise ProgramError(message, diagnostics=[asm.Diagnostic(str(path), line, column,
+                                                                f"not valid TOML: {message}", source)]) from None
     except RecursionError:
-        fail("not a panel file (nested too deeply)")
-    known = ("switches", "input", "input_file", "max_cycles")
-    for key in data:
-        if key not in known:
-            fail(f"unknown key '{key}' (expected one of: {', '.join(known)})")
-    switches = data.get("switches", 0)
-    if not isinstance(switches, int) or isinstance(switches, bool) or not 0 <= switches <= machine.data_mask:
-        fail(f"'switches' must be an integer 0…{machine.data_mask} (the {machine.data_bits} toggles "
-             f"of {machine.name}), not {switches!r}")
-    if "input" in data and "input_file" in data:
-        fail("give 'input' or 'input_file', not both")
+        raise ProgramError("not a panel file (nested too deeply)", file=str(path)) from None
+
+    def fail(_where, key, message):
+        line = key_line(text, key)
+        raise ProgramError(message, diagnostics=[asm.Diagnostic(str(path), line, None, message)])
+
+    panel = Table(data, "panel file", fail)
+    panel.known_keys(("switches", "input", "input_file", "max_cycles"))
+    switches = panel.integer("switches", low=0, high=machine.data_mask, default=0,
+                             expected=f"an integer 0…{machine.data_mask} (the {machine.data_bits} toggles "
+                                      f"of {machine.name})")
+    if "input" in panel and "input_file" in panel:
+        panel.fail("give 'input' or 'input_file', not both", "input_file")
     stream = b""
-    if "input" in data:
-        if not isinstance(data["input"], str):
-            fail(f"'input' must be a string, not {data['input']!r}")
-        stream = data["input"].encode("utf-8")
-    if "input_file" in data:
-        if not isinstance(data["input_file"], str):
-            fail(f"'input_file' must be a file name, not {data['input_file']!r}")
+    if "input" in panel:
+        stream = panel.string("input", expected="a string").encode("utf-8")
+    if "input_file" in panel:
+        name = panel.string("input_file", expected="a file name")
         try:
-            stream = (path.parent / data["input_file"]).read_bytes()
+            stream = (path.parent / name).read_bytes()
         except OSError as exc:
-            fail(f"'input_file': cannot read '{data['input_file']}' ({exc.strerror})")
-    limit = data.get("max_cycles")
-    if limit is not None and (not isinstance(limit, int) or isinstance(limit, bool) or limit < 1):
-        fail(f"'max_cycles' must be a positive integer, not {limit!r}")
+            panel.fail(f"'input_file': cannot read '{name}' ({exc.strerror})", "input_file")
+    limit = panel.integer("max_cycles", low=1, default=None, expected="a positive integer")
     return PanelSettings(switches, stream, limit)

@@ -24,11 +24,7 @@ __all__ = ["VcdRecorder", "record_vcd", "control_lines", "signal_name"]
 
 def control_lines(machine: Machine) -> list[str]:
     """Every control line some micro-step of the machine drives, in first-use order."""
-    lines: list[str] = []
-    steps = list(machine.fetch) + [s for ins in machine.instructions for s in ins.steps]
-    for step in steps:
-        lines.extend(line for line in step.control_lines if line not in lines)
-    return lines
+    return machine.control_lines()
 
 
 def signal_name(text: str) -> str:

@@ -12,69 +12,22 @@ from __future__ import annotations
 
 import math
 from contextlib import contextmanager
-from dataclasses import dataclass
 
 from .. import Emulator, Observer
-from ..description import Machine
-from ..errors import MachineError
-from ._vcd import control_lines
+from ..description import Machine, WearRatings, stage_relay
 
 __all__ = ["WearCounter", "WearRatings", "count_wear", "wear_ratings", "format_wear",
            "relay_names"]
 
 
-def stage_relay(stage: int) -> str:
-    return f"stage {stage}"
-
-
 def relay_names(machine: Machine) -> list[str]:
     """The relays that wear can be counted for: ring stages, then control lines."""
-    return [stage_relay(s) for s in range(1, machine.ring_stages + 1)] + control_lines(machine)
-
-
-@dataclass(frozen=True)
-class WearRatings:
-    """Rated mechanical life in operations: one default, and the relays that differ."""
-    default: float | None
-    relays: dict[str, float]
-
-    def life(self, relay: str) -> float | None:
-        return self.relays.get(relay, self.default)
+    return machine.relay_names()
 
 
 def wear_ratings(machine: Machine) -> WearRatings:
-    """Check and read the machine's ``[wear]`` section (no section: life unknown)."""
-    spec = machine.extra.get("wear")
-    if spec is None:
-        return WearRatings(None, {})
-
-    def fail(where, message):
-        raise MachineError(message, path=machine.path, where=where)
-
-    def rating(value, where, key):
-        if not isinstance(value, (int, float)) or isinstance(value, bool) or not value > 0 \
-                or value == float("inf"):
-            fail(where, f"'{key}' must be a positive number of operations, not {value!r}")
-        return float(value)
-
-    if not isinstance(spec, dict):
-        fail("top level", "'wear' must be a table")
-    for key in spec:
-        if key not in ("rated_operations", "relays"):
-            fail("[wear]", f"unknown key '{key}' (expected one of: rated_operations, relays)")
-    default = spec.get("rated_operations")
-    if default is not None:
-        default = rating(default, "[wear]", "rated_operations")
-    relays = spec.get("relays", {})
-    if not isinstance(relays, dict):
-        fail("[wear]", "'relays' must be a table of relay name = rated operations")
-    known = relay_names(machine)
-    checked = {}
-    for name, value in relays.items():
-        if name not in known:
-            fail("[wear.relays]", f"no relay named '{name}' (relays: {', '.join(known)})")
-        checked[name] = rating(value, "[wear.relays]", name)
-    return WearRatings(default, checked)
+    """The machine's checked ``[wear]`` section (no section: life unknown)."""
+    return machine.wear
 
 
 class WearCounter(Observer):

@@ -43,12 +43,23 @@ def assemble_text(text: str, machine: Machine, filename: str = "<input>") -> Pro
 
 
 def _decode(data: bytes, path: str) -> str:
+    """UTF-8 source text; the first byte that is not UTF-8 is a located error.
+
+    The caret points at the character where the stray byte sits (the line
+    is shown with it replaced), so an editor can jump to it.
+    """
     try:
         return data.decode("utf-8")
     except UnicodeDecodeError as exc:
-        line = data.count(b"\n", 0, exc.start) + 1
-        column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
-        raise AsmError([Diagnostic(path, line, column, "the file is not UTF-8 text")]) from None
+        line_start = data.rfind(b"\n", 0, exc.start) + 1
+        line_end = data.find(b"\n", exc.start)
+        line_bytes = data[line_start:line_end if line_end >= 0 else len(data)]
+        number = data.count(b"\n", 0, exc.start) + 1
+        column = len(data[line_start:exc.start].decode("utf-8")) + 1
+        shown = line_bytes.decode("utf-8", errors="replace")
+        message = (f"byte 0x{data[exc.start]:02X} is not UTF-8 text "
+                   f"(save the file as UTF-8)")
+        raise AsmError([Diagnostic(path, number, column, message, shown)]) from None
 
 
 # ----- what pass one leaves for pass two ------------------------------------
@@ -394,9 +405,9 @@ class _Assembly:
                        f"cannot read include file '{arg.value}' ({exc.strerror or exc})")
             return
         try:
-            text = data.decode("utf-8")
-        except UnicodeDecodeError:
-            self.error(file, arg.line, arg.column, f"include file '{arg.value}' is not UTF-8 text")
+            text = _decode(data, path)
+        except AsmError as exc:
+            self.diagnostics.extend(exc.diagnostics)
             return
         if path in self.sources:
             path = os.path.join(folder, arg.value)

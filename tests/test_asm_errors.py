@@ -128,7 +128,7 @@ def test_unreadable_and_undecodable_sources(tmp_path):
     with pytest.raises(asm.AsmError) as caught:
         asm.assemble_file(bad, REF8)
     d = caught.value.diagnostics[0]
-    assert (d.line, d.column, d.message) == (2, 3, "the file is not UTF-8 text")
+    assert (d.line, d.column, d.message) == (2, 3, "byte 0xFF is not UTF-8 text (save the file as UTF-8)")
 
 
 def test_deep_nesting_is_an_error_not_a_crash():

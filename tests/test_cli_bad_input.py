@@ -257,12 +257,15 @@ def test_a_stale_debug_file_is_refused_with_the_key_named(tmp_path, capsys, dama
 
 
 def test_a_debug_file_left_from_another_assembly_is_refused(tmp_path, capsys):
-    """asm --no-debug leaves an old debug file beside the new image; trusting it would
-    take the new program's halt for the old one's pause."""
+    """A debug file that no longer fits its image (here: copied back after a new
+    assembly) is refused; trusting it would take the new program's halt for the
+    old one's pause."""
     source = write(tmp_path, "q.asm", "nop\nnop\npause\nhalt\n")
     assert cli(capsys, "asm", source)[0] == 0
+    old_debug = (tmp_path / "q.dbg.json").read_bytes()
     write(tmp_path, "q.asm", "nop\nnop\nhalt\nli r0, 0x55\nout 1, r0\nhalt\n")
-    assert cli(capsys, "asm", source, "--no-debug")[0] == 0
+    assert cli(capsys, "asm", source)[0] == 0
+    (tmp_path / "q.dbg.json").write_bytes(old_debug)
     for command in ("run", "dis"):
         code, _out, err = cli(capsys, command, tmp_path / "q.hex")
         assert code == 1
@@ -270,6 +273,16 @@ def test_a_debug_file_left_from_another_assembly_is_refused(tmp_path, capsys):
     assert cli(capsys, "asm", source, "-o", tmp_path / "q.bin")[0] == 0
     code, out, _err = cli(capsys, "run", tmp_path / "q.bin", "--json")
     assert code == 0 and json.loads(out)["pc"] == 3      # the same debug file fits the raw binary
+
+
+def test_asm_no_debug_removes_an_older_debug_file(tmp_path, capsys):
+    """Before the fix ``asm --no-debug`` left the old debug file, which then described another image."""
+    source = write(tmp_path, "q.asm", "nop\nnop\npause\nhalt\n")
+    assert cli(capsys, "asm", source)[0] == 0
+    write(tmp_path, "q.asm", "nop\nnop\nhalt\nli r0, 0x55\nout 1, r0\nhalt\n")
+    code, _out, err = cli(capsys, "asm", source, "--no-debug")
+    assert code == 0 and "q.dbg.json: removed" in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["q.asm", "q.hex"]
 
 
 @pytest.mark.parametrize("text, message", [

@@ -12,7 +12,7 @@ import asm
 import emu
 import emu.cli
 from emu.runs import load_program, report, run_loaded
-from emu.runs import format_duration, format_rate
+from emu.formatting import duration_text as format_duration, rate_text as format_rate
 
 from cli_support import ACC12, PROGRAMS, cli, write
 
@@ -62,7 +62,7 @@ def test_json_values_of_a_small_program(capsys, adder):
     assert data["output"] == "\x0cA"
     assert data["lamps"] == 7
     assert data["dumps"] == {"0:4": [0x18, 5, 0x19, 7], "0x1F:2": [0, 0]}
-    assert data["pauses"] == [{"pc": 9, "cycles": data["pauses"][0]["cycles"], "line": 5}]
+    assert data["pauses"] == [{"pc": 9, "cycles": data["pauses"][0]["cycles"], "file": str(adder), "line": 5}]
     # the pc at a halt points past it (spec §3): the halt is the last byte, at 0x12
     assert data["pc"] == 0x13
     # 5 cycles a second on ref8's nominal clock (spec §3)
@@ -130,7 +130,7 @@ def test_rate_text(hz, text):
 def test_duration_text_adds_back_up(seconds):
     """The parts of a long duration add back up to the seconds (rounded)."""
     sizes = {"d": 86_400, "h": 3_600, "min": 60, "s": 1}
-    words = format_duration(seconds).split()
+    words = format_duration(seconds).replace(",", "").split()
     assert sum(int(n) * sizes[u] for n, u in zip(words[::2], words[1::2])) == seconds
 
 

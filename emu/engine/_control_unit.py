@@ -27,6 +27,7 @@ from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
 from ..files import write_atomic
+from ..formatting import address_text
 from ._ports import Ports
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
@@ -202,8 +203,7 @@ class Emulator:
         notes = self.ports.warnings()
         for address, count in sorted(self._undefined.items()):
             times = f" ({count} times)" if count > 1 else ""
-            digits = (self.machine.address_bits + 3) // 4
-            notes.append(f"undefined opcode at 0x{address:0{digits}x} ran as a no-op{times}")
+            notes.append(f"undefined opcode at {address_text(address, self.machine)} ran as a no-op{times}")
         return notes
 
     @property

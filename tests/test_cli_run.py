@@ -76,6 +76,23 @@ def test_pause_resumes_by_itself_unless_stop_at_pause(capsys, adder):
     assert stopped["pc"] == 9 and stopped["output"] == "\x0c"
     assert len(stopped["pauses"]) == 1
     assert stopped["cycles"] == full["pauses"][0]["cycles"] < full["cycles"]
+    # a pause is reported as a pause, not a halt (before: status "halted", "halt at ...")
+    assert stopped["status"] == "paused" and full["status"] == "halted"
+    code, text, _ = cli(capsys, "run", adder, "--stop-at-pause")
+    assert code == 0
+    assert text.splitlines()[0] == f"{adder}: stopped at a pause (--stop-at-pause), pc 0x0009 (pause at {adder}:5)"
+
+
+def test_pauses_in_included_files_name_their_file(capsys, tmp_path):
+    """Before: only ``line 2`` was given, which is a line of neither file."""
+    write(tmp_path, "wait.inc", "wait:   nop\n        pause\n        ret\n")
+    main = write(tmp_path, "main.asm", "        li sp, 0x100\n        call wait\n        pause\n        halt\n"
+                                       '        .include "wait.inc"\n')
+    code, data, _ = run_json(capsys, main)
+    assert code == 0
+    assert [(p["file"], p["line"]) for p in data["pauses"]] == [(str(tmp_path / "wait.inc"), 2), (str(main), 3)]
+    code, text, _ = cli(capsys, "run", main)
+    assert f"  pauses     2 ({tmp_path / 'wait.inc'}:2, line 3)" in text.splitlines()
 
 
 def test_cycle_limit_exits_3(capsys, tmp_path):

@@ -279,3 +279,34 @@ def test_debug_takes_the_input_stream_from_the_command_line(tmp_path, monkeypatc
     assert emu.cli.main(["debug", str(program), "--input-text", "A", "--switches", "0x21"]) == 0
     emulator = seen["emu"]
     assert (emulator.switches, emulator.input_bytes) == (0x21, b"A")
+
+
+@pytest.mark.parametrize("done, total, unit, text", [
+    (1_234_567, None, "cycles", "1,234,567 cycles"),
+    (1, None, "cycles", "1 cycle"),
+    (3, 8, "programs", "3/8 programs"),
+])
+def test_progress_amount_text(done, total, unit, text):
+    from emu.commands._progress import amount_text
+    assert amount_text(done, total, unit) == text
+
+
+def test_progress_rate_text():
+    from emu.commands._progress import rate_text_per_second
+    assert rate_text_per_second(5_000_000, 2.0, "cycles") == "2,500,000 cycles/s"
+    assert rate_text_per_second(10, 0.0, "cycles") == ""
+
+
+def test_a_run_shows_progress_without_a_total(capsys, monkeypatch, adder):
+    """The end of a run is unknown: before the fix its line counted towards the cycle limit."""
+    from emu.commands import _progress, run
+    asked = []
+    real_line = _progress.Progress.line
+
+    def line(self, label, total=None, unit="cycles", remove_when_done=False):
+        asked.append((label, total, unit))
+        return real_line(self, label, total, unit, remove_when_done)
+
+    monkeypatch.setattr(run.Progress, "line", line)
+    assert cli(capsys, "run", adder)[0] == 0
+    assert asked == [(str(adder), None, "cycles")]

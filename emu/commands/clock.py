@@ -97,7 +97,7 @@ def _phase_rows(machine) -> list[dict]:
 def _run(model, count: int, seed: int, quiet: bool):
     """The Monte Carlo, with a progress bar on a terminal once it has taken a second."""
     with Progress(enabled=not quiet) as progress:
-        bar = progress.line("building clocks from random parts", count)
+        bar = progress.line("building clocks from random parts", count, unit="clocks")
         return monte_carlo(model, count, seed, progress=lambda done, _total: bar.update(done))
 
 

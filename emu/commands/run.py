@@ -69,7 +69,7 @@ def main(args) -> int:
                 except OSError as exc:
                     usage_error(args, f"argument --vcd: cannot write '{args.vcd}' ({exc.strerror or exc})")
             wear = observers.enter_context(count_wear(emulator)) if args.wear else None
-            bar = progress.line(args.program, args.max_cycles)
+            bar = progress.line(args.program)
             result = run_loaded(program, machine, max_cycles=args.max_cycles,
                                 stop_at_pause=args.stop_at_pause, emulator=emulator,
                                 chunk=lambda emu: bar.update(emu.cycles))

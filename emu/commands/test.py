@@ -13,7 +13,6 @@ import sys
 
 from ._progress import Progress, terminal_attached
 from ..formatting import count_text, duration_text, hex_value
-from ..runs import DEFAULT_MAX_CYCLES
 from ..runs import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
 from ._options import add_machine_option, cycle_count, keep_parser, machine_from
 
@@ -102,9 +101,9 @@ def main(args) -> int:
     verdicts = []
     try:
         with Progress(enabled=terminal_attached() and not args.json) as progress:
-            batch = progress.line("programs", len(programs))
+            batch = progress.line("programs", len(programs), unit="programs")
             for done, path in enumerate(programs):
-                bar = progress.line(path, args.max_cycles or DEFAULT_MAX_CYCLES, remove_when_done=True)
+                bar = progress.line(path, remove_when_done=True)
                 verdict = check_program(path, machine, max_cycles=args.max_cycles,
                                         chunk=lambda emu: bar.update(emu.cycles))
                 bar.finish()

@@ -11,7 +11,7 @@ JSON output keeps plain numbers; this module is for text only.
 from __future__ import annotations
 
 __all__ = ["hex_value", "address_text", "word_text", "count_text", "duration_text", "rate_text",
-           "hours_text"]
+           "hours_text", "size_text"]
 
 _UNITS = (("d", 86_400), ("h", 3_600), ("min", 60), ("s", 1))
 
@@ -74,3 +74,11 @@ def rate_text(hz: float) -> str:
         if hz >= size:
             return f"{hz / size:.3g} {prefix}Hz"
     return f"{hz:.3g} Hz"
+
+
+def size_text(count: int | float) -> str:
+    """A file size in decimal units, three digits: ``812 B``, ``20.5 kB``, ``252 MB``, ``1.68 GB``."""
+    for prefix, size in (("G", 1e9), ("M", 1e6), ("k", 1e3)):
+        if count >= size:
+            return f"{count / size:.3g} {prefix}B"
+    return f"{count:.0f} B"

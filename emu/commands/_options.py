@@ -104,6 +104,14 @@ def cycle_count(text: str) -> int:
     return value
 
 
+def cycle_start(text: str) -> int:
+    """A cycle number counted from power-on: 0 or more."""
+    value = number(text)
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"must be a cycle number, 0 or more, not {value}")
+    return value
+
+
 def memory_range(text: str) -> tuple[str, int, int]:
     """``START:LEN`` → (the text as given, start, length)."""
     start_text, colon, length_text = text.partition(":")

@@ -132,8 +132,8 @@ def test_missing_machine_file(capsys, tmp_path):
 @pytest.mark.parametrize("options, message", [
     (["--max-cycles", "-5"], "argument --max-cycles: must be a positive number of cycles, not -5"),
     (["--max-cycles", "lots"], "argument --max-cycles: 'lots' is not a number"),
-    (["--switches", "0x1FF"], "argument --switches: 0x1ff does not fit the 8-bit word of ref8"),
-    (["--switches", "-1"], "argument --switches: -0x1 does not fit the 8-bit word of ref8"),
+    (["--switches", "0x1FF"], "argument --switches: 0x1FF does not fit the 8-bit word of ref8"),
+    (["--switches", "-1"], "argument --switches: -1 does not fit the 8-bit word of ref8"),
     (["--dump", "10"], "argument --dump: '10' is not START:LEN (for example 0x100:16)"),
     (["--dump", "0x10:0"], "argument --dump: the length of '0x10:0' must be at least 1"),
     (["--dump", "0xFFF0:32"], "argument --dump: '0xFFF0:32' reaches past the end of memory"),

@@ -15,6 +15,7 @@ from pathlib import Path
 import asm
 
 from ..files import write_together
+from ..formatting import count_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
 SUMMARY = "assemble a program into Intel HEX or a raw binary, a listing and a debug file"
@@ -61,14 +62,18 @@ def main(args) -> int:
             print(f"{source}: error: the program is empty (no instruction or data to write)", file=sys.stderr)
             return 1
         if args.check:
-            print(f"{source}: {words} words in {len(program.segments)} segment(s), no errors")
+            print(f"{source}: {_size(words, program)}, no errors")
             return 0
         written = write_outputs(args, source, program)
     except asm.AsmError as exc:
         print(str(exc), file=sys.stderr)
         return 1
-    print(f"{source}: {words} words in {len(program.segments)} segment(s) -> {', '.join(written)}")
+    print(f"{source}: {_size(words, program)} -> {', '.join(written)}")
     return 0
+
+
+def _size(words: int, program) -> str:
+    return f"{count_text(words, 'word')} in {count_text(len(program.segments), 'segment')}"
 
 
 def write_outputs(args, source: Path, program) -> list[str]:

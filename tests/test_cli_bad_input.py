@@ -1,6 +1,7 @@
-"""Bad input gets one clear message and the exit status of spec §5, never a traceback.
+"""Bad input gets one clear message and the exit status of "Headless runs"
+(emu/machines/ref8.md), never a traceback.
 
-Exit statuses (spec §5): 1 for a bad program or machine file, 2 for a bad
+Exit statuses (ref8 reference, "Headless runs"): 1 for a bad program or machine file, 2 for a bad
 command line. Intel HEX records follow the Intel Hexadecimal Object File
 Format Specification (Rev. A, 1988): ``:LLAAAATT<data>CC`` with CC the
 two's complement of the sum of the other bytes.
@@ -69,7 +70,7 @@ def test_program_error_is_located_with_caret(capsys, tmp_path):
 
 
 @pytest.mark.parametrize("record, message", [
-    # :0300000018011A in the spec's layout; the correct checksum of 03 0000 00 18 01 01 is E3
+    # :0300000018011A in the Intel HEX layout; the correct checksum of 03 0000 00 18 01 01 is E3
     (":03000000180101E4", "bad checksum E4 (the record's bytes need E3)"),
     (":04000000180101E2", "the record length says 4 data bytes but the record holds 3"),
     (":03000000180G01E3", "'G' is not a hex digit"),

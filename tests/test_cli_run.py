@@ -1,4 +1,4 @@
-"""``relaybench run``: spec §5 options, summary, JSON keys and exit statuses."""
+"""``relaybench run`` ("Headless runs" in emu/machines/ref8.md): options, summary, JSON keys, exit statuses."""
 
 from __future__ import annotations
 
@@ -56,16 +56,16 @@ def test_json_has_exactly_the_keys_of_the_spec(capsys, adder):
 def test_json_values_of_a_small_program(capsys, adder):
     _code, data, _err = run_json(capsys, adder, "--dump", "0:4", "--dump", "0x1F:2")
     assert data["registers"]["r0"] == 12 and data["registers"]["r2"] == ord("A")
-    # x is the pair r6 (high) : r7 (low), spec §1
+    # x is the pair r6 (high) : r7 (low), ref8 reference, "Programmer's model"
     assert data["registers"]["x"] == 0x1234
     assert (data["registers"]["r6"], data["registers"]["r7"]) == (0x12, 0x34)
     assert data["output"] == "\x0cA"
     assert data["lamps"] == 7
     assert data["dumps"] == {"0:4": [0x18, 5, 0x19, 7], "0x1F:2": [0, 0]}
     assert data["pauses"] == [{"pc": 9, "cycles": data["pauses"][0]["cycles"], "file": str(adder), "line": 5}]
-    # the pc at a halt points past it (spec §3): the halt is the last byte, at 0x12
+    # the pc at a halt points past it (ref8 reference, "Clock, halts and the panel"): the halt is the last byte, at 0x12
     assert data["pc"] == 0x13
-    # 5 cycles a second on ref8's nominal clock (spec §3)
+    # 5 cycles a second on ref8's nominal clock (ref8 reference, "Clock, halts and the panel")
     assert data["sim_seconds"] == pytest.approx(data["cycles"] / 5)
 
 
@@ -127,7 +127,7 @@ def test_summary_lists_warnings_and_dumps(capsys, tmp_path):
 
 
 @pytest.mark.parametrize("seconds, text", [
-    # the spec §5 example: 41,370 cycles at 5 Hz = 8274 s
+    # the example of ref8 reference, "Headless runs": 41,370 cycles at 5 Hz = 8274 s
     (41_370 / 5, "2 h 17 min 54 s"),
     (0.2, "0.2 s"),
     (4.4, "4.4 s"),
@@ -181,7 +181,7 @@ def test_image_with_and_without_debug_file(capsys, adder, tmp_path):
     assert code == 0 and len(data["pauses"]) == 1 and data["pc"] == 0x13
     asm.debug_path_for(image).unlink()
     code, data, _ = run_json(capsys, image)
-    # without the debug file a pause is a halt and ends the run (spec §5)
+    # without the debug file a pause is a halt and ends the run (ref8 reference, "Headless runs")
     assert code == 0 and data["pauses"] == [] and data["pc"] == 9
 
 

@@ -145,7 +145,7 @@ def test_isa_json(capsys, name):
     for entry, spec in zip(data["instructions"], raw["instruction"]):
         assert entry["cycles"] == fetch_steps + len(spec.get("steps", []))
         assert [s["text"] for s in entry["steps"]] == [s.strip() for s in spec.get("steps", [])]
-    assert data["nominal_hz"] == {"ref8": 5.0, "acc12": 10.0}[name]   # ref8: spec §3; acc12: its table
+    assert data["nominal_hz"] == {"ref8": 5.0, "acc12": 10.0}[name]   # ref8: ref8 reference, "Clock, halts and the panel"; acc12: its table
     assert machine.name == name
 
 

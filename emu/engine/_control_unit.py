@@ -1,9 +1,9 @@
 """The control unit and the emulator API that the runner, debugger and tests share.
 
-The control unit is spec §3 made executable: the generator runs the phase
-table; the hold line is (switch at stop) OR (halt latch); the generator
-looks at the hold line only on *entering* a hold point, so it never cuts a
-pulse short; STEP gives one panel pulse only while the generator is frozen;
+The control unit is "Clock, halts and the panel" of emu/machines/ref8.md made
+executable: the generator runs the phase table; the hold line is (switch at
+stop) OR (halt latch); the generator looks at the hold line only on
+*entering* a hold point, so it never cuts a pulse short; STEP gives one panel pulse only while the generator is frozen;
 a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase

@@ -12,7 +12,7 @@ import asm
 import emu
 import emu.cli
 from emu.runs import load_program, report, run_loaded
-from emu.formatting import duration_text as format_duration, rate_text as format_rate
+from emu.formatting import duration_text, rate_text
 
 from cli_support import ACC12, PROGRAMS, cli, write
 
@@ -108,7 +108,7 @@ def test_text_summary(capsys, adder):
     lines = out.splitlines()
     assert lines[0] == f"{adder}: halted, pc 0x0013 (halt at {adder}:11)"
     cycles = json.loads(cli(capsys, "run", adder, "--json")[1])["cycles"]
-    assert f"{cycles:,} cycles ≈ {format_duration(cycles / 5)} at 5 Hz" in out
+    assert f"{cycles:,} cycles ≈ {duration_text(cycles / 5)} at 5 Hz" in out
     assert "pauses     1 (line 5)" in out
     assert "r0 0x0C" in out and "x 0x1234" in out
     assert "lamps      00000111 (0x07)" in out
@@ -135,19 +135,19 @@ def test_summary_lists_warnings_and_dumps(capsys, tmp_path):
     (86_400 + 3_600 + 61, "1 d 1 h 1 min 1 s"),
 ])
 def test_duration_text(seconds, text):
-    assert format_duration(seconds) == text
+    assert duration_text(seconds) == text
 
 
 @pytest.mark.parametrize("hz, text", [(5.0, "5 Hz"), (10.0, "10 Hz"), (2.5, "2.5 Hz"), (1200.0, "1.2 kHz")])
 def test_rate_text(hz, text):
-    assert format_rate(hz) == text
+    assert rate_text(hz) == text
 
 
 @given(st.integers(min_value=60, max_value=10**9))
 def test_duration_text_adds_back_up(seconds):
     """The parts of a long duration add back up to the seconds (rounded)."""
     sizes = {"d": 86_400, "h": 3_600, "min": 60, "s": 1}
-    words = format_duration(seconds).replace(",", "").split()
+    words = duration_text(seconds).replace(",", "").split()
     assert sum(int(n) * sizes[u] for n, u in zip(words[::2], words[1::2])) == seconds
 
 

@@ -23,7 +23,10 @@ from ._image import segments_of
 from ._program import Program
 from ._syntax import Assignment, Comparison, Directive, InstructionLine, Line, Operand, Text, parse_source
 
-__all__ = ["assemble_text", "assemble_file"]
+__all__ = ["assemble_text", "assemble_file", "MAX_INCLUDE_DEPTH"]
+
+MAX_INCLUDE_DEPTH = 64
+"""Far more than any program needs; it keeps a chain of includes inside Python's call stack."""
 
 
 def assemble_file(path, machine: Machine) -> Program:
@@ -43,12 +46,23 @@ def assemble_text(text: str, machine: Machine, filename: str = "<input>") -> Pro
 
 
 def _decode(data: bytes, path: str) -> str:
+    """UTF-8 source text; the first byte that is not UTF-8 is a located error.
+
+    The caret points at the character where the stray byte sits (the line
+    is shown with it replaced), so an editor can jump to it.
+    """
     try:
         return data.decode("utf-8")
     except UnicodeDecodeError as exc:
-        line = data.count(b"\n", 0, exc.start) + 1
-        column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
-        raise AsmError([Diagnostic(path, line, column, "the file is not UTF-8 text")]) from None
+        line_start = data.rfind(b"\n", 0, exc.start) + 1
+        line_end = data.find(b"\n", exc.start)
+        line_bytes = data[line_start:line_end if line_end >= 0 else len(data)]
+        number = data.count(b"\n", 0, exc.start) + 1
+        column = len(data[line_start:exc.start].decode("utf-8")) + 1
+        shown = line_bytes.decode("utf-8", errors="replace")
+        message = (f"byte 0x{data[exc.start]:02X} is not UTF-8 text "
+                   f"(save the file as UTF-8)")
+        raise AsmError([Diagnostic(path, number, column, message, shown)]) from None
 
 
 # ----- what pass one leaves for pass two ------------------------------------
@@ -102,6 +116,10 @@ class _Broken(EvalError):
 
     def __init__(self, node):
         super().__init__(None, node)
+
+
+class _TooDeep(EvalError):
+    """A chain of constants deeper than the call stack: reported once, where it broke."""
 
 
 @dataclass
@@ -382,6 +400,9 @@ class _Assembly:
         arg = args[0]
         folder = "" if file.startswith("<") else os.path.dirname(file)
         path = os.path.normpath(os.path.join(folder, arg.value))
+        if len(self.include_stack) >= MAX_INCLUDE_DEPTH:
+            self.error(file, arg.line, arg.column, f"includes nested more than {MAX_INCLUDE_DEPTH} deep")
+            return
         chain = [os.path.realpath(f) for f in self.include_stack]
         if os.path.realpath(path) in chain:
             loop = " → ".join([*self.include_stack[chain.index(os.path.realpath(path)):], path])
@@ -394,9 +415,9 @@ class _Assembly:
                        f"cannot read include file '{arg.value}' ({exc.strerror or exc})")
             return
         try:
-            text = data.decode("utf-8")
-        except UnicodeDecodeError:
-            self.error(file, arg.line, arg.column, f"include file '{arg.value}' is not UTF-8 text")
+            text = _decode(data, path)
+        except AsmError as exc:
+            self.diagnostics.extend(exc.diagnostics)
             return
         if path in self.sources:
             path = os.path.join(folder, arg.value)
@@ -445,9 +466,13 @@ class _Assembly:
         constant.state = "busy"
         saved, self.here = self.here, constant.here
         try:
-            constant.value = constant.expr.evaluate(self)
+            try:
+                constant.value = constant.expr.evaluate(self)
+            except RecursionError:
+                raise _TooDeep(f"'{name}' is defined through a chain of constants too long to follow "
+                                f"(each defined by the next); define them in order", node) from None
         except EvalError as exc:
-            constant.state = "new"
+            constant.state = "broken" if isinstance(exc, _TooDeep) else "new"
             exc.file = exc.file or constant.place.file
             raise
         finally:
@@ -456,12 +481,15 @@ class _Assembly:
         return constant.value
 
     def resolve_constants(self):
+        chain_reported = False
         for name, constant in self.constants.items():
             if constant.state == "new":
                 try:
                     self.constant_value(name, constant, Name(name, constant.place.line, constant.place.column))
                 except EvalError as exc:
-                    self.report(exc, constant.place.file)
+                    if not (isinstance(exc, _TooDeep) and chain_reported):   # one long chain, one message
+                        self.report(exc, constant.place.file)
+                    chain_reported = chain_reported or isinstance(exc, _TooDeep)
                     constant.state = "broken"
 
     def value(self, expr: Expr, here: int, file: str, low: int, high: int, what: str) -> int | None:

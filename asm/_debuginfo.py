@@ -49,7 +49,7 @@ from emu.description import Table, is_integer
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
-__all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "write_debug", "read_debug",
+__all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "debug_text", "write_debug", "read_debug",
            "debug_path_for", "source_map_of", "image_fingerprint", "FORMAT", "VERSION"]
 
 FORMAT = "relaybench-debug"
@@ -166,10 +166,14 @@ def _relative(name: str, folder: str | None) -> str:
         return os.path.abspath(name)
 
 
-def write_debug(program, path) -> None:
+def debug_text(program, path) -> str:
+    """The debug file's content for ``program``, its file names relative to ``path``'s folder."""
     folder = os.path.dirname(os.path.abspath(path))
-    text = json.dumps(debug_dict(program, relative_to=folder), indent=1) + "\n"
-    write_atomic(path, text.encode("utf-8"))
+    return json.dumps(debug_dict(program, relative_to=folder), indent=1) + "\n"
+
+
+def write_debug(program, path) -> None:
+    write_atomic(path, debug_text(program, path).encode("utf-8"))
 
 
 def read_debug(path, machine=None) -> DebugInfo:

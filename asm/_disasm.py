@@ -15,7 +15,7 @@ from emu.description import Instruction, Machine
 from emu.description.notation import Assign, Mem, Name, walk
 
 
-__all__ = ["disassemble", "disassemble_at"]
+__all__ = ["disassemble", "disassemble_at", "disassemble_image"]
 
 _DATA_PER_LINE = 8
 _TEXT_WIDTH = 28
@@ -24,9 +24,34 @@ _TEXT_WIDTH = 28
 def disassemble(machine: Machine, words, start: int = 0, debug=None) -> list[str]:
     """Assembly lines for ``words`` placed at ``start``; ``debug`` (a Program
     or a DebugInfo) adds labels, pauses and data regions."""
-    words = list(words)
+    return disassemble_image(machine, [(start, list(words))], debug)
+
+
+def disassemble_image(machine: Machine, segments, debug=None) -> list[str]:
+    """Assembly lines for a whole image, its segments ``(start, words)`` in order.
+
+    The segments are read together so that each label is written once: as
+    ``name:`` where it falls on a statement in any segment, otherwise as
+    ``name = address`` at the top (a label inside an instruction, or past
+    the image). Read one segment at a time, a label placed in one segment
+    and used in another came out both ways and did not assemble again.
+    """
     names = _Names(debug)
     decoder = _decoder_for(machine)
+    cut = [(start, _pieces(list(words), start, names, decoder)) for start, words in segments]
+    boundaries = {address for _start, pieces in cut for address, _ins, _w in pieces}
+    placed = {a for a in names.by_address if a in boundaries}
+    body, referenced = [], set()
+    for start, pieces in cut:
+        body.append(f"        .org {decoder.address_text(start)}")
+        body.extend(_segment_lines(pieces, names, decoder, placed, referenced))
+    header = [f"{name} = {decoder.address_text(value)}"
+              for name, value in sorted(names.labels.items()) if name in referenced and value not in placed]
+    return header + body
+
+
+def _pieces(words: list[int], start: int, names: "_Names", decoder: "_Decoder"):
+    """The segment cut into (address, instruction or None for data, words)."""
     pieces = []
     offset = 0
     while offset < len(words):
@@ -35,9 +60,11 @@ def disassemble(machine: Machine, words, start: int = 0, debug=None) -> list[str
         length = ins.word_count if ins else 1
         pieces.append((address, ins, words[offset:offset + length]))
         offset += length
-    boundaries = {address for address, _ins, _w in pieces}
-    placed = {a for a in names.by_address if a in boundaries}
-    body, referenced = [], set()
+    return pieces
+
+
+def _segment_lines(pieces, names: "_Names", decoder: "_Decoder", placed: set[int], referenced: set[str]):
+    body: list[str] = []
     data_run: list[tuple[int, int]] = []
 
     def flush():
@@ -59,9 +86,7 @@ def disassemble(machine: Machine, words, start: int = 0, debug=None) -> list[str
         text = decoder.text(ins, chunk, names, placed, referenced, pause=address in names.pauses)
         body.append(_line(text, address, chunk, decoder))
     flush()
-    header = [f"{name} = {decoder.address_text(value)}"
-              for name, value in sorted(names.labels.items()) if name in referenced and value not in placed]
-    return header + [f"        .org {decoder.address_text(start)}"] + body
+    return body
 
 
 def disassemble_at(machine: Machine, read_word, address: int, debug=None) -> tuple[str, int]:

@@ -40,14 +40,48 @@ class Context(Protocol):
 
 
 class Expr:
+    """A node; ``evaluate`` and ``text`` walk the tree with a stack of their own.
+
+    A flat sum of a thousand terms is a left-deep tree a thousand levels
+    deep, deeper than Python's call stack, so no walk here recurses: each
+    node only says what its children are and how their results combine.
+    """
     __slots__ = ("line", "column")
 
-    def evaluate(self, ctx: Context) -> int:
+    def children(self) -> tuple["Expr", ...]:
+        return ()
+
+    def combine(self, ctx: Context, values: list[int]) -> int:
+        """This node's value, given its children's values in order."""
         raise NotImplementedError
+
+    def compose(self, parts: list[str]) -> str:
+        """This node written out, given its children written out in order."""
+        raise NotImplementedError
+
+    def evaluate(self, ctx: Context) -> int:
+        return _post_order(self, lambda node, values: node.combine(ctx, values))
 
     def text(self) -> str:
         """The expression written back out, for messages and listings."""
-        raise NotImplementedError
+        return _post_order(self, lambda node, parts: node.compose(parts))
+
+
+def _post_order(root: Expr, visit):
+    """``visit(node, results of its children)`` for every node, children first, without recursion."""
+    results: list = []
+    stack: list[tuple[Expr, bool]] = [(root, False)]
+    while stack:
+        node, expanded = stack.pop()
+        kids = node.children()
+        if expanded or not kids:
+            values = results[len(results) - len(kids):]
+            del results[len(results) - len(kids):]
+            results.append(visit(node, values))
+        else:
+            stack.append((node, True))
+            stack.extend((kid, False) for kid in reversed(kids))
+    return results[0]
 
 
 class Number(Expr):
@@ -56,10 +90,10 @@ class Number(Expr):
     def __init__(self, value: int, line: int, column: int):
         self.value, self.line, self.column = value, line, column
 
-    def evaluate(self, ctx):
+    def combine(self, ctx, values):
         return self.value
 
-    def text(self):
+    def compose(self, parts):
         return str(self.value)
 
 
@@ -69,10 +103,10 @@ class Name(Expr):
     def __init__(self, name: str, line: int, column: int):
         self.name, self.line, self.column = name, line, column
 
-    def evaluate(self, ctx):
+    def combine(self, ctx, values):
         return ctx.lookup(self)
 
-    def text(self):
+    def compose(self, parts):
         return self.name
 
 
@@ -83,10 +117,10 @@ class Here(Expr):
     def __init__(self, line: int, column: int):
         self.line, self.column = line, column
 
-    def evaluate(self, ctx):
+    def combine(self, ctx, values):
         return ctx.here
 
-    def text(self):
+    def compose(self, parts):
         return "$"
 
 
@@ -99,11 +133,14 @@ class Unary(Expr):
     def __init__(self, op: str, operand: Expr, line: int, column: int):
         self.op, self.operand, self.line, self.column = op, operand, line, column
 
-    def evaluate(self, ctx):
-        return _UNARY[self.op](self.operand.evaluate(ctx))
+    def children(self):
+        return (self.operand,)
 
-    def text(self):
-        return self.op + self.operand.text()
+    def combine(self, ctx, values):
+        return _UNARY[self.op](values[0])
+
+    def compose(self, parts):
+        return self.op + parts[0]
 
 
 def _divide(a: int, b: int) -> int:
@@ -139,9 +176,11 @@ class Binary(Expr):
         self.op, self.left, self.right = op, left, right
         self.line, self.column = left.line, left.column
 
-    def evaluate(self, ctx):
-        a = self.left.evaluate(ctx)
-        b = self.right.evaluate(ctx)
+    def children(self):
+        return (self.left, self.right)
+
+    def combine(self, ctx, values):
+        a, b = values
         try:
             result = _BINARY[self.op](a, b)
         except ZeroDivisionError:
@@ -152,8 +191,8 @@ class Binary(Expr):
             raise EvalError("value too large", self)
         return result
 
-    def text(self):
-        return f"{self.left.text()} {self.op} {self.right.text()}"
+    def compose(self, parts):
+        return f"{parts[0]} {self.op} {parts[1]}"
 
 
 class Group(Expr):
@@ -163,11 +202,14 @@ class Group(Expr):
     def __init__(self, inner: Expr, line: int, column: int):
         self.inner, self.line, self.column = inner, line, column
 
-    def evaluate(self, ctx):
-        return self.inner.evaluate(ctx)
+    def children(self):
+        return (self.inner,)
 
-    def text(self):
-        return f"({self.inner.text()})"
+    def combine(self, ctx, values):
+        return values[0]
+
+    def compose(self, parts):
+        return f"({parts[0]})"
 
 
 def _low_word(value: int, bits: int) -> int:
@@ -188,15 +230,18 @@ class Call(Expr):
     def __init__(self, function: str, argument: Expr, line: int, column: int):
         self.function, self.argument, self.line, self.column = function, argument, line, column
 
-    def evaluate(self, ctx):
+    def children(self):
+        return (self.argument,)
+
+    def combine(self, ctx, values):
         function = FUNCTIONS.get(self.function.lower())
         if function is None:
             known = ", ".join(FUNCTIONS)
             raise EvalError(f"unknown function '{self.function}' (functions: {known})", self)
-        return function(self.argument.evaluate(ctx), ctx.data_bits)
+        return function(values[0], ctx.data_bits)
 
-    def text(self):
-        return f"{self.function}({self.argument.text()})"
+    def compose(self, parts):
+        return f"{self.function}({parts[0]})"
 
 
 class Invalid(Expr):
@@ -206,8 +251,8 @@ class Invalid(Expr):
     def __init__(self, message: str, line: int, column: int):
         self.message, self.line, self.column = message, line, column
 
-    def evaluate(self, ctx):
+    def combine(self, ctx, values):
         raise EvalError(self.message, self)
 
-    def text(self):
+    def compose(self, parts):
         return "?"

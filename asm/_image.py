@@ -24,7 +24,7 @@ from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
 __all__ = [
-    "bytes_per_word", "words_to_bytes", "bytes_to_words", "write_binary", "write_intel_hex",
+    "bytes_per_word", "image_bytes", "words_to_bytes", "bytes_to_words", "write_binary", "write_intel_hex",
     "intel_hex_text", "read_image", "parse_intel_hex", "sniff", "RECORD_BYTES",
 ]
 
@@ -54,15 +54,22 @@ def bytes_to_words(data: bytes, machine: Machine) -> list[int]:
 
 # ----- writing ---------------------------------------------------------------
 
+def image_bytes(program, kind: str) -> bytes:
+    """The content of an image file: ``kind`` is ``"hex"`` (Intel HEX) or ``"bin"``
+    (the words from address 0 to the last one set, gaps as zeros)."""
+    if kind == "bin":
+        return words_to_bytes(program.flat(), program.machine)
+    scale = bytes_per_word(program.machine)
+    segments = [(start * scale, words_to_bytes(words, program.machine)) for start, words in program.segments]
+    return intel_hex_text(segments).encode("ascii")
+
+
 def write_binary(program, path) -> None:
-    """The words from address 0 to the last one set, gaps as zeros."""
-    write_atomic(path, words_to_bytes(program.flat(), program.machine))
+    write_atomic(path, image_bytes(program, "bin"))
 
 
 def write_intel_hex(program, path) -> None:
-    scale = bytes_per_word(program.machine)
-    segments = [(start * scale, words_to_bytes(words, program.machine)) for start, words in program.segments]
-    write_atomic(path, intel_hex_text(segments).encode("ascii"))
+    write_atomic(path, image_bytes(program, "hex"))
 
 
 def _record(kind: int, address: int, data: bytes) -> str:
@@ -177,7 +184,7 @@ def read_image(path, machine: Machine) -> list[tuple[int, list[int]]]:
                                    f"holds {machine.memory_words}")
         _check_width(words, 0, machine, path, None)
         return [(0, words)] if words else []
-    text = data.decode("utf-8")
+    text = data.decode("latin-1")  # every byte a character: a stray one is "not a hex digit", located
     chunks = _hex_chunks(text, path)
     lines = text.split("\n")
     image: dict[int, int] = {}
@@ -225,25 +232,30 @@ def segments_of(image: dict[int, int]) -> list[tuple[int, list[int]]]:
 # ----- telling formats apart -------------------------------------------------
 
 _RECORD = re.compile(r"\s*:")
-_HEX_SUFFIXES = (".hex", ".ihx")
+_SUFFIX_KINDS = {".asm": "source", ".inc": "source", ".hex": "hex", ".ihx": "hex", ".bin": "binary"}
+"""File names that settle the kind: a stray byte must never turn a named file into another kind."""
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0e-\x1f\x7f]")
 
 
 def sniff(path) -> str:
-    """``"source"``, ``"hex"`` or ``"binary"``, from the content of the file.
+    """``"source"``, ``"hex"`` or ``"binary"``: by the name first, else by the content.
 
-    Text whose every non-blank line starts with ':' is Intel HEX (no
-    assembly line can start so, and a damaged record still gets a located
-    message from the HEX reader); bytes
-    that are not UTF-8 text, or text with control characters, are a raw
-    binary; other text is source. A ``.bin`` name settles the rare binary
-    that happens to read as text, and a ``.hex`` name a damaged HEX file.
+    A ``.asm``/``.inc`` name means source, ``.hex``/``.ihx`` Intel HEX and
+    ``.bin`` a raw binary, whatever the bytes: one damaged byte in a named
+    file must give a located error from the reader of that kind, not a run
+    of the file as something else. Other names are judged by content: text
+    whose every non-blank line starts with ':' is Intel HEX (no assembly
+    line can start so); bytes that are not UTF-8 text, or text with control
+    characters, are a raw binary; other text is source.
     """
     path = os.fspath(path)
     try:
         data = Path(path).read_bytes()
     except OSError as exc:
         raise file_error(path, f"cannot read ({exc.strerror or exc})") from None
+    named = _SUFFIX_KINDS.get(Path(path).suffix.lower())
+    if named is not None:
+        return named
     try:
         text = data.decode("utf-8")
     except UnicodeDecodeError:
@@ -251,9 +263,6 @@ def sniff(path) -> str:
     if _CONTROL.search(text):
         return "binary"
     lines = [line for line in text.split("\n") if line.strip()]
-    suffix = Path(path).suffix.lower()
-    if lines and all(_RECORD.match(line) for line in lines) or suffix in _HEX_SUFFIXES:
+    if lines and all(_RECORD.match(line) for line in lines):
         return "hex"
-    if suffix == ".bin":
-        return "binary"
     return "source"

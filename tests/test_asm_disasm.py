@@ -168,3 +168,56 @@ def test_a_register_field_naming_no_register_disassembles_as_data():
     lines = asm.disassemble(machine, [0b10, 3 << 2 | 1, 0b10, 1 << 2 | 2, 0])
     assert [line.split(";")[0].strip() for line in lines] == [
         ".org 0x00", ".byte 0x02, 0x0D", "copy b, c", "stop"]
+
+
+@st.composite
+def labelled_programs(draw, machine):
+    """Code in one segment, labelled data in another, operands naming the data labels."""
+    quarter = machine.memory_words // 4
+    code_at, data_at = draw(st.integers(0, quarter)), draw(st.integers(2 * quarter, 3 * quarter))
+    data_count = draw(st.integers(1, 6))
+    lines = [f".org {code_at}"]
+    for i in range(draw(st.integers(1, 20))):
+        if draw(st.integers(0, 9)) == 0:
+            lines.append(f"c{i}: pause")
+            continue
+        ins = draw(st.sampled_from(machine.instructions))
+        parts = []
+        for pattern in ins.operands:
+            if pattern.field is None:
+                parts.append(pattern.before)
+                continue
+            kind = ins.fields[pattern.field].kind
+            if kind.is_register:
+                shown = draw(st.sampled_from(kind.registers))
+            else:
+                fitting = [f"v{k}" for k in range(data_count) if kind.low <= data_at + k <= kind.high]
+                shown = draw(st.sampled_from(fitting)) if fitting and draw(st.booleans()) \
+                    else str(draw(st.integers(kind.low, kind.high)))
+            parts.append(f"{pattern.before}{shown}{pattern.after}")
+        lines.append(f"c{i}: {ins.mnemonic} {', '.join(parts)}".strip())
+    lines.append(f".org {data_at}")
+    lines.extend(f"v{k}: .byte {draw(st.integers(0, machine.data_mask))}" for k in range(data_count))
+    return "\n".join(lines) + "\n"
+
+
+@pytest.mark.parametrize("name", MACHINES)
+@settings(max_examples=80, deadline=None)
+@given(data=st.data())
+def test_round_trip_through_the_image_and_its_debug_file(name, data, tmp_path_factory):
+    """assemble → image + debug file → dis with the debug file → assemble: the same image.
+
+    Before the fix each segment was disassembled alone, so a data label used
+    from the code came out as ``v0 = 0x...`` and as ``v0:`` (a duplicate label)."""
+    machine = MACHINES[name]
+    folder = tmp_path_factory.mktemp("trip")
+    program = asm.assemble_text(data.draw(labelled_programs(machine)), machine)
+    asm.write_intel_hex(program, folder / "p.hex")
+    asm.write_debug(program, folder / "p.dbg.json")
+    segments = asm.read_image(folder / "p.hex", machine)
+    debug = asm.read_debug(folder / "p.dbg.json", machine)
+    text = "\n".join(asm.disassemble_image(machine, segments, debug))
+    again = asm.assemble_text(text, machine)
+    assert again.segments == program.segments
+    assert again.pauses == program.pauses
+    assert {n: program.labels[n] for n in again.labels} == again.labels   # no label moved or invented

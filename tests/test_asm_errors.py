@@ -128,12 +128,40 @@ def test_unreadable_and_undecodable_sources(tmp_path):
     with pytest.raises(asm.AsmError) as caught:
         asm.assemble_file(bad, REF8)
     d = caught.value.diagnostics[0]
-    assert (d.line, d.column, d.message) == (2, 3, "the file is not UTF-8 text")
+    assert (d.line, d.column, d.message) == (2, 3, "byte 0xFF is not UTF-8 text (save the file as UTF-8)")
 
 
-def test_deep_nesting_is_an_error_not_a_crash():
-    with pytest.raises(asm.AsmError):
-        asm.assemble_text("V = " + "(" * 5000 + "1" + ")" * 5000 + "\n  .byte V\n", REF8)
+def test_a_flat_sum_of_a_thousand_terms_assembles():
+    """Before the fix: "expressions or includes nested too deeply", with no line.
+    The expected value is Python's own sum of the same terms."""
+    terms = [(7 * i) % 13 for i in range(1000)]
+    program = asm.assemble_text("V = " + " + ".join(map(str, terms)) + "\n  .word V\n", REF8)
+    assert program.flat() == [sum(terms) & 0xFF, sum(terms) >> 8]
+
+
+def test_deep_parentheses_assemble():
+    """5,000 parentheses and 3,000 signs (an even count: the value is kept)."""
+    program = asm.assemble_text("V = " + "(" * 5000 + "1" + ")" * 5000 + "\n  .byte " + "-" * 3000 + "V\n", REF8)
+    assert program.flat() == [1]
+
+
+def test_a_chain_of_constants_too_long_to_follow_is_located():
+    text = "".join(f"N{i} = N{i + 1} + 1\n" for i in range(3000)) + "N3000 = 0\n  .byte N0\n"
+    [(line, column, message)] = diagnostics(text)
+    assert column == 8 and message.startswith(f"'N{line}' is defined through a chain of constants too long")
+
+
+def test_includes_nested_too_deep_are_located(tmp_path):
+    for i in range(80):
+        (tmp_path / f"i{i}.inc").write_text(f'.include "i{i + 1}.inc"\n')
+    (tmp_path / "i80.inc").write_text("  halt\n")
+    top = tmp_path / "top.asm"
+    top.write_text('.include "i0.inc"\n')
+    with pytest.raises(asm.AsmError) as caught:
+        asm.assemble_file(top, REF8)
+    [d] = caught.value.diagnostics
+    assert (Path(d.file).name, d.line, d.column) == (f"i{asm.MAX_INCLUDE_DEPTH - 2}.inc", 1, 10)
+    assert d.message == f"includes nested more than {asm.MAX_INCLUDE_DEPTH} deep"
 
 
 # ----- fuzzing ---------------------------------------------------------------

@@ -1,5 +1,5 @@
-"""The assembly language of spec §4 on both test machines: numbers,
-expressions, directives, forward references, operand forms, .expect."""
+"""The assembly language ("Assembly language in brief" in emu/machines/ref8.md) on
+both test machines: numbers, expressions, directives, forward references, operand forms, .expect."""
 
 from pathlib import Path
 

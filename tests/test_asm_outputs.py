@@ -125,3 +125,27 @@ def test_bad_debug_files(content, message, tmp_path):
     path.write_text(content)
     with pytest.raises(asm.AsmError, match=message):
         asm.read_debug(path)
+
+
+@pytest.mark.parametrize("bad", ["listing", "image"])
+def test_asm_writes_no_file_when_one_output_cannot_be_written(tmp_path, capsys, bad):
+    """Before the fix ``--listing /tmp`` exited 1 and left the image and the debug file."""
+    from cli_support import cli
+    source = tmp_path / "p.asm"
+    source.write_text("  nop\n  halt\n")
+    (tmp_path / "taken").mkdir()
+    options = {"listing": ["--listing", tmp_path / "taken"], "image": ["-o", tmp_path / "taken", "--listing"]}
+    code, _out, err = cli(capsys, "asm", source, *options[bad])
+    assert code == 1
+    assert "cannot write" in err and "no file was written" in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["p.asm", "taken"]
+    assert list((tmp_path / "taken").iterdir()) == []
+
+
+def test_asm_replaces_all_outputs_together(tmp_path, capsys):
+    from cli_support import cli
+    source = tmp_path / "p.asm"
+    source.write_text("  nop\n  halt\n")
+    assert cli(capsys, "asm", source, "--listing")[0] == 0
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["p.asm", "p.dbg.json", "p.hex", "p.lst"]
+    assert (tmp_path / "p.hex").read_text() == ":020000000001FD\n:00000001FF\n"   # Intel HEX checksum by hand

@@ -1,6 +1,7 @@
-"""Bad input gets one clear message and the exit status of spec §5, never a traceback.
+"""Bad input gets one clear message and the exit status of "Headless runs"
+(emu/machines/ref8.md), never a traceback.
 
-Exit statuses (spec §5): 1 for a bad program or machine file, 2 for a bad
+Exit statuses (ref8 reference, "Headless runs"): 1 for a bad program or machine file, 2 for a bad
 command line. Intel HEX records follow the Intel Hexadecimal Object File
 Format Specification (Rev. A, 1988): ``:LLAAAATT<data>CC`` with CC the
 two's complement of the sum of the other bytes.
@@ -69,7 +70,7 @@ def test_program_error_is_located_with_caret(capsys, tmp_path):
 
 
 @pytest.mark.parametrize("record, message", [
-    # :0300000018011A in the spec's layout; the correct checksum of 03 0000 00 18 01 01 is E3
+    # :0300000018011A in the Intel HEX layout; the correct checksum of 03 0000 00 18 01 01 is E3
     (":03000000180101E4", "bad checksum E4 (the record's bytes need E3)"),
     (":04000000180101E2", "the record length says 4 data bytes but the record holds 3"),
     (":03000000180G01E3", "'G' is not a hex digit"),
@@ -132,8 +133,8 @@ def test_missing_machine_file(capsys, tmp_path):
 @pytest.mark.parametrize("options, message", [
     (["--max-cycles", "-5"], "argument --max-cycles: must be a positive number of cycles, not -5"),
     (["--max-cycles", "lots"], "argument --max-cycles: 'lots' is not a number"),
-    (["--switches", "0x1FF"], "argument --switches: 0x1ff does not fit the 8-bit word of ref8"),
-    (["--switches", "-1"], "argument --switches: -0x1 does not fit the 8-bit word of ref8"),
+    (["--switches", "0x1FF"], "argument --switches: 0x1FF does not fit the 8-bit word of ref8"),
+    (["--switches", "-1"], "argument --switches: -1 does not fit the 8-bit word of ref8"),
     (["--dump", "10"], "argument --dump: '10' is not START:LEN (for example 0x100:16)"),
     (["--dump", "0x10:0"], "argument --dump: the length of '0x10:0' must be at least 1"),
     (["--dump", "0xFFF0:32"], "argument --dump: '0xFFF0:32' reaches past the end of memory"),
@@ -258,12 +259,15 @@ def test_a_stale_debug_file_is_refused_with_the_key_named(tmp_path, capsys, dama
 
 
 def test_a_debug_file_left_from_another_assembly_is_refused(tmp_path, capsys):
-    """asm --no-debug leaves an old debug file beside the new image; trusting it would
-    take the new program's halt for the old one's pause."""
+    """A debug file that no longer fits its image (here: copied back after a new
+    assembly) is refused; trusting it would take the new program's halt for the
+    old one's pause."""
     source = write(tmp_path, "q.asm", "nop\nnop\npause\nhalt\n")
     assert cli(capsys, "asm", source)[0] == 0
+    old_debug = (tmp_path / "q.dbg.json").read_bytes()
     write(tmp_path, "q.asm", "nop\nnop\nhalt\nli r0, 0x55\nout 1, r0\nhalt\n")
-    assert cli(capsys, "asm", source, "--no-debug")[0] == 0
+    assert cli(capsys, "asm", source)[0] == 0
+    (tmp_path / "q.dbg.json").write_bytes(old_debug)
     for command in ("run", "dis"):
         code, _out, err = cli(capsys, command, tmp_path / "q.hex")
         assert code == 1
@@ -271,6 +275,16 @@ def test_a_debug_file_left_from_another_assembly_is_refused(tmp_path, capsys):
     assert cli(capsys, "asm", source, "-o", tmp_path / "q.bin")[0] == 0
     code, out, _err = cli(capsys, "run", tmp_path / "q.bin", "--json")
     assert code == 0 and json.loads(out)["pc"] == 3      # the same debug file fits the raw binary
+
+
+def test_asm_no_debug_removes_an_older_debug_file(tmp_path, capsys):
+    """Before the fix ``asm --no-debug`` left the old debug file, which then described another image."""
+    source = write(tmp_path, "q.asm", "nop\nnop\npause\nhalt\n")
+    assert cli(capsys, "asm", source)[0] == 0
+    write(tmp_path, "q.asm", "nop\nnop\nhalt\nli r0, 0x55\nout 1, r0\nhalt\n")
+    code, _out, err = cli(capsys, "asm", source, "--no-debug")
+    assert code == 0 and "q.dbg.json: removed" in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["q.asm", "q.hex"]
 
 
 @pytest.mark.parametrize("text, message", [

@@ -1,4 +1,4 @@
-"""``relaybench run``: spec §5 options, summary, JSON keys and exit statuses."""
+"""``relaybench run`` ("Headless runs" in emu/machines/ref8.md): options, summary, JSON keys, exit statuses."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ import asm
 import emu
 import emu.cli
 from emu.runs import load_program, report, run_loaded
-from emu.runs import format_duration, format_rate
+from emu.formatting import duration_text, rate_text
 
 from cli_support import ACC12, PROGRAMS, cli, write
 
@@ -56,16 +56,16 @@ def test_json_has_exactly_the_keys_of_the_spec(capsys, adder):
 def test_json_values_of_a_small_program(capsys, adder):
     _code, data, _err = run_json(capsys, adder, "--dump", "0:4", "--dump", "0x1F:2")
     assert data["registers"]["r0"] == 12 and data["registers"]["r2"] == ord("A")
-    # x is the pair r6 (high) : r7 (low), spec §1
+    # x is the pair r6 (high) : r7 (low), ref8 reference, "Programmer's model"
     assert data["registers"]["x"] == 0x1234
     assert (data["registers"]["r6"], data["registers"]["r7"]) == (0x12, 0x34)
     assert data["output"] == "\x0cA"
     assert data["lamps"] == 7
     assert data["dumps"] == {"0:4": [0x18, 5, 0x19, 7], "0x1F:2": [0, 0]}
-    assert data["pauses"] == [{"pc": 9, "cycles": data["pauses"][0]["cycles"], "line": 5}]
-    # the pc at a halt points past it (spec §3): the halt is the last byte, at 0x12
+    assert data["pauses"] == [{"pc": 9, "cycles": data["pauses"][0]["cycles"], "file": str(adder), "line": 5}]
+    # the pc at a halt points past it (ref8 reference, "Clock, halts and the panel"): the halt is the last byte, at 0x12
     assert data["pc"] == 0x13
-    # 5 cycles a second on ref8's nominal clock (spec §3)
+    # 5 cycles a second on ref8's nominal clock (ref8 reference, "Clock, halts and the panel")
     assert data["sim_seconds"] == pytest.approx(data["cycles"] / 5)
 
 
@@ -76,6 +76,23 @@ def test_pause_resumes_by_itself_unless_stop_at_pause(capsys, adder):
     assert stopped["pc"] == 9 and stopped["output"] == "\x0c"
     assert len(stopped["pauses"]) == 1
     assert stopped["cycles"] == full["pauses"][0]["cycles"] < full["cycles"]
+    # a pause is reported as a pause, not a halt (before: status "halted", "halt at ...")
+    assert stopped["status"] == "paused" and full["status"] == "halted"
+    code, text, _ = cli(capsys, "run", adder, "--stop-at-pause")
+    assert code == 0
+    assert text.splitlines()[0] == f"{adder}: stopped at a pause (--stop-at-pause), pc 0x0009 (pause at {adder}:5)"
+
+
+def test_pauses_in_included_files_name_their_file(capsys, tmp_path):
+    """Before: only ``line 2`` was given, which is a line of neither file."""
+    write(tmp_path, "wait.inc", "wait:   nop\n        pause\n        ret\n")
+    main = write(tmp_path, "main.asm", "        li sp, 0x100\n        call wait\n        pause\n        halt\n"
+                                       '        .include "wait.inc"\n')
+    code, data, _ = run_json(capsys, main)
+    assert code == 0
+    assert [(p["file"], p["line"]) for p in data["pauses"]] == [(str(tmp_path / "wait.inc"), 2), (str(main), 3)]
+    code, text, _ = cli(capsys, "run", main)
+    assert f"  pauses     2 ({tmp_path / 'wait.inc'}:2, line 3)" in text.splitlines()
 
 
 def test_cycle_limit_exits_3(capsys, tmp_path):
@@ -91,7 +108,7 @@ def test_text_summary(capsys, adder):
     lines = out.splitlines()
     assert lines[0] == f"{adder}: halted, pc 0x0013 (halt at {adder}:11)"
     cycles = json.loads(cli(capsys, "run", adder, "--json")[1])["cycles"]
-    assert f"{cycles:,} cycles ≈ {format_duration(cycles / 5)} at 5 Hz" in out
+    assert f"{cycles:,} cycles ≈ {duration_text(cycles / 5)} at 5 Hz" in out
     assert "pauses     1 (line 5)" in out
     assert "r0 0x0C" in out and "x 0x1234" in out
     assert "lamps      00000111 (0x07)" in out
@@ -110,7 +127,7 @@ def test_summary_lists_warnings_and_dumps(capsys, tmp_path):
 
 
 @pytest.mark.parametrize("seconds, text", [
-    # the spec §5 example: 41,370 cycles at 5 Hz = 8274 s
+    # the example of ref8 reference, "Headless runs": 41,370 cycles at 5 Hz = 8274 s
     (41_370 / 5, "2 h 17 min 54 s"),
     (0.2, "0.2 s"),
     (4.4, "4.4 s"),
@@ -118,19 +135,19 @@ def test_summary_lists_warnings_and_dumps(capsys, tmp_path):
     (86_400 + 3_600 + 61, "1 d 1 h 1 min 1 s"),
 ])
 def test_duration_text(seconds, text):
-    assert format_duration(seconds) == text
+    assert duration_text(seconds) == text
 
 
 @pytest.mark.parametrize("hz, text", [(5.0, "5 Hz"), (10.0, "10 Hz"), (2.5, "2.5 Hz"), (1200.0, "1.2 kHz")])
 def test_rate_text(hz, text):
-    assert format_rate(hz) == text
+    assert rate_text(hz) == text
 
 
 @given(st.integers(min_value=60, max_value=10**9))
 def test_duration_text_adds_back_up(seconds):
     """The parts of a long duration add back up to the seconds (rounded)."""
     sizes = {"d": 86_400, "h": 3_600, "min": 60, "s": 1}
-    words = format_duration(seconds).split()
+    words = duration_text(seconds).replace(",", "").split()
     assert sum(int(n) * sizes[u] for n, u in zip(words[::2], words[1::2])) == seconds
 
 
@@ -164,7 +181,7 @@ def test_image_with_and_without_debug_file(capsys, adder, tmp_path):
     assert code == 0 and len(data["pauses"]) == 1 and data["pc"] == 0x13
     asm.debug_path_for(image).unlink()
     code, data, _ = run_json(capsys, image)
-    # without the debug file a pause is a halt and ends the run (spec §5)
+    # without the debug file a pause is a halt and ends the run (ref8 reference, "Headless runs")
     assert code == 0 and data["pauses"] == [] and data["pc"] == 9
 
 
@@ -262,3 +279,34 @@ def test_debug_takes_the_input_stream_from_the_command_line(tmp_path, monkeypatc
     assert emu.cli.main(["debug", str(program), "--input-text", "A", "--switches", "0x21"]) == 0
     emulator = seen["emu"]
     assert (emulator.switches, emulator.input_bytes) == (0x21, b"A")
+
+
+@pytest.mark.parametrize("done, total, unit, text", [
+    (1_234_567, None, "cycles", "1,234,567 cycles"),
+    (1, None, "cycles", "1 cycle"),
+    (3, 8, "programs", "3/8 programs"),
+])
+def test_progress_amount_text(done, total, unit, text):
+    from emu.commands._progress import amount_text
+    assert amount_text(done, total, unit) == text
+
+
+def test_progress_rate_text():
+    from emu.commands._progress import rate_text_per_second
+    assert rate_text_per_second(5_000_000, 2.0, "cycles") == "2,500,000 cycles/s"
+    assert rate_text_per_second(10, 0.0, "cycles") == ""
+
+
+def test_a_run_shows_progress_without_a_total(capsys, monkeypatch, adder):
+    """The end of a run is unknown: before the fix its line counted towards the cycle limit."""
+    from emu.commands import _progress, run
+    asked = []
+    real_line = _progress.Progress.line
+
+    def line(self, label, total=None, unit="cycles", remove_when_done=False):
+        asked.append((label, total, unit))
+        return real_line(self, label, total, unit, remove_when_done)
+
+    monkeypatch.setattr(run.Progress, "line", line)
+    assert cli(capsys, "run", adder)[0] == 0
+    assert asked == [(str(adder), None, "cycles")]

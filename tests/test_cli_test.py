@@ -49,7 +49,7 @@ loop:   dec r0
         f"      {prog}:4: r0 == 1: expected 1, got 2",
         f"      {prog}:7: r1 != 0: expected anything but 0, got 0",
         f'      {prog}:7: out == "done\\n": expected "done\\n", got ""',
-        f"      {prog}:9: r2 == 9: never checked, the run did not halt at address 0x8",
+        f"      {prog}:9: r2 == 9: never checked, the run did not halt at address 0x0008",
         "1 program: 0 passed, 1 failed",
     ]
     assert out.startswith(f"FAIL  {prog}")
@@ -88,7 +88,7 @@ def test_directory_search_finds_programs_at_any_depth_but_not_includes(capsys, t
     (tmp_path / "deeper").mkdir()
     write(tmp_path, "shared.inc", "helper: ret\n")
     write(tmp_path / "deeper", "one.asm", 'call helper\nhalt\n.expect sp == 0\n.include "../shared.inc"\n')
-    write(tmp_path, "two.asm", "halt\n")
+    write(tmp_path, "two.asm", "halt\n.expect pc == 1\n")
     code, out, _ = cli(capsys, "test", tmp_path)
     assert code == 0
     assert [line.split()[1] for line in out.splitlines()[:-1]] == \

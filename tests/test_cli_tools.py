@@ -39,7 +39,7 @@ def test_asm_default_outputs(capsys, source):
     code, out, err = cli(capsys, "asm", source)
     assert code == 0 and err == ""
     image, debug = source.with_suffix(".hex"), source.with_name("blink.dbg.json")
-    assert out.strip() == f"{source}: 17 words in 1 segment(s) -> {image}, {debug}"
+    assert out.strip() == f"{source}: 17 words in 1 segment -> {image}, {debug}"
     program = asm.assemble_file(source, emu.load_machine("ref8"))
     # the Intel HEX file, read by the intelhex package from PyPI, holds the program's bytes
     hexfile = IntelHex(str(image))
@@ -65,7 +65,7 @@ def test_asm_binary_and_listing(capsys, source, tmp_path):
 
 def test_asm_listing_to_stdout_and_check_only(capsys, source):
     code, out, _ = cli(capsys, "asm", source, "--check")
-    assert code == 0 and out.strip() == f"{source}: 17 words in 1 segment(s), no errors"
+    assert code == 0 and out.strip() == f"{source}: 17 words in 1 segment, no errors"
     assert sorted(p.name for p in source.parent.iterdir()) == ["blink.asm"]
     code, out, _ = cli(capsys, "asm", source, "--listing", "-", "--no-debug")
     assert code == 0 and out.startswith(f"; listing of {source} for ref8")
@@ -145,7 +145,7 @@ def test_isa_json(capsys, name):
     for entry, spec in zip(data["instructions"], raw["instruction"]):
         assert entry["cycles"] == fetch_steps + len(spec.get("steps", []))
         assert [s["text"] for s in entry["steps"]] == [s.strip() for s in spec.get("steps", [])]
-    assert data["nominal_hz"] == {"ref8": 5.0, "acc12": 10.0}[name]   # ref8: spec §3; acc12: its table
+    assert data["nominal_hz"] == {"ref8": 5.0, "acc12": 10.0}[name]   # ref8: ref8 reference, "Clock, halts and the panel"; acc12: its table
     assert machine.name == name
 
 

@@ -121,7 +121,7 @@ def test_ref8_clock_is_5_hz_with_a_50_percent_duty_cycle():
     assert machine.nominal_hz == pytest.approx(5.0)
     high = sum(p.duration_ns for p in machine.phases if p.level == 1)
     assert high / machine.cycle_ns == pytest.approx(0.5)
-    # spec §3: a hold point in every low interval
+    # ref8 reference, "Clock, halts and the panel": a hold point in every low interval
     assert machine.pulses_per_turn == 1 and any(p.hold for p in machine.phases if p.level == 0)
     edges = measured_edges(machine, 10)
     assert [f - r for r, f in zip(edges.rising, edges.falling)] == [100_000_000] * 10

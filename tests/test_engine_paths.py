@@ -1,5 +1,6 @@
 """The two execution paths agree (P6), snapshots continue exactly (P7), and the
-halt, reset and freeze behaviour of each machine's phase table is as spec §3 says."""
+halt, reset and freeze behaviour of each machine's phase table is as "Clock, halts
+and the panel" in emu/machines/ref8.md says."""
 
 from __future__ import annotations
 

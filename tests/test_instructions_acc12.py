@@ -8,7 +8,7 @@ Programs are built with the machine's own encoder and run to a trailing
 
 References: Python integers and numpy ``uint16`` arithmetic masked to 12
 bits; the link after a subtraction is a borrow (unsigned minuend smaller
-than the subtrahend), the convention ref8's spec §2 fixes and acc12 shares
+than the subtrahend), the convention the ref8 reference ("Flags") fixes and acc12 shares
 through its description; rotate through the link as a 13-bit rotate of
 ``lk:acc`` (common practice, no source).
 

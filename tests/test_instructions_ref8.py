@@ -20,7 +20,7 @@ References used below:
     outside −128…127 (e.g. Patterson & Hennessy, *Computer Organization and
     Design*, the section on addition and subtraction — from memory).
 * Rotates through carry as a 9-bit rotate of ``c:value`` (common practice,
-  no source; spec §2 says "9-bit rotate").
+  no source; the ref8 reference, "Flags", says nine bits in all).
 """
 
 from __future__ import annotations
@@ -194,10 +194,10 @@ def pc_after(words) -> int:
     return len(words)
 
 
-# ----- the spec's port map ----------------------------------------------------
+# ----- the port map of the ref8 reference ----------------------------------------------------
 
 def test_port_map_is_the_spec_table():
-    # spec §1, the I/O port table
+    # ref8 reference, "Ports"
     assert REF8.ports_out == {0: "console", 1: "lamps"}
     assert REF8.ports_in == {0: "switches", 1: "input", 2: "input_ready"}
 
@@ -228,7 +228,7 @@ def test_li_register_stores_immediate_mod_256(path, regs, flags, rd, imm):
 def test_li_x_writes_r6_high_r7_low(path, regs, flags, value, sp):
     words = halt_after(program(("li x, addr", {"addr": value})))
     run = execute(words, path, registers=regs, flags=flags, sp=sp)
-    # spec §1: x is the pair r6 (high byte) : r7 (low byte)
+    # ref8 reference, "Programmer's model": x is the pair r6 (high byte) : r7 (low byte)
     check(run, {"r6": value >> 8, "r7": value & 0xFF, "pc": pc_after(words)})
     assert run.emu.get("x") == value
 
@@ -348,7 +348,7 @@ def test_unary(path, op, regs, flags, rd):
     words = halt_after(program((f"{op} rd", {"rd": rd})))
     run = execute(words, path, registers=regs, flags=flags)
     expected = reference_unary(op, regs[GENERAL[rd]], flags["c"])
-    # inc/dec: spec §2 says z n only, c and v unchanged (expected.c/v are None)
+    # inc/dec: ref8 reference, "Flags" says z n only, c and v unchanged (expected.c/v are None)
     check(run, {GENERAL[rd]: expected.result, **expected.flags(), "pc": pc_after(words)})
 
 
@@ -387,7 +387,7 @@ def test_inc_dec_x_sets_only_z_from_the_16_bit_result(path, op, regs, flags, poi
         delta = np.uint16(1)
         result = int(np.uint16(pointer) + delta if op == "inc" else np.uint16(pointer) - delta)
     assert result == (pointer + (1 if op == "inc" else -1)) % 65536
-    # spec §2: z <- (x == 0), others unchanged: n c v keep their values even
+    # ref8 reference, "Flags": z <- (x == 0), others unchanged: n c v keep their values even
     # when the high byte's bit 7 or a carry out of bit 15 would say otherwise
     check(run, {"r6": result >> 8, "r7": result & 0xFF, "z": int(result == 0), "pc": pc_after(words)})
 
@@ -450,7 +450,7 @@ def test_call_pushes_high_byte_first(path, regs, flags, target, sp):
     words = program(("call addr", {"addr": target}))
     run = execute(words, path, registers=regs, flags=flags, sp=sp, memory={target: HALT.encode({})[0]})
     back = len(words)
-    # spec §1: high byte pushed first (pre-decrement), so the low byte ends lower
+    # ref8 reference, "Programmer's model": high byte pushed first (pre-decrement), so the low byte ends lower
     check(run, {"pc": target + 1, "sp": (sp - 2) % 65536}, {
         (sp - 1) % 65536: back >> 8,
         (sp - 2) % 65536: back & 0xFF,

@@ -53,7 +53,8 @@ def test_clock_spread_changes_time_but_not_results(capsys):
     assert even["sim_seconds"] == even["cycles"] / 5
     assert spread["sim_seconds"] != even["sim_seconds"]
     code, text, _ = cli(capsys, "run", FARES, "--clock-spread", "11")
-    assert "irregular (seed 11)" in text
+    assert "on the spread clock (seed 11)" in text.splitlines()[1]
+    assert "the time above is for the spread clock" in text
 
 
 def test_timing_options_refuse_bad_values(tmp_path, capsys):

@@ -186,3 +186,77 @@ def test_a_dump_appears_whole_or_not_at_all(tmp_path):
         with record_vcd(emu, tmp_path / "no-such-folder" / "x.vcd"):
             emu.run(max_cycles=5)
     assert sorted(os.listdir(tmp_path)) == ["stopped.vcd"]
+
+
+def _endless_loop(emu):
+    """ref8 words of ``top: jmp top`` (encoding from `relaybench isa`): it never halts."""
+    import asm
+    program = asm.assemble_text("top: jmp top\n", emu.machine)
+    emu.load(program.segments)
+    emu.set_switch_run(True)
+
+
+def test_a_window_records_exactly_its_cycles(tmp_path):
+    emu = Emulator(MACHINES["ref8"])
+    _endless_loop(emu)
+    path = tmp_path / "window.vcd"
+    with record_vcd(emu, path, start=100, cycles=40):
+        emu.run(max_cycles=500)
+    rises = [t for t, v in from_vcd(VCDVCD(str(path)), "ref8.clock") if v == 1]
+    cycle = emu.machine.cycle_ns
+    assert len(rises) == 40
+    assert rises[0] // cycle == 100 and rises[-1] // cycle == 139   # one rise per cycle, cycles 100…139
+
+
+def test_a_large_window_is_announced_with_an_estimate(tmp_path, monkeypatch):
+    """Before: no word before writing gigabytes (a full dump of a long program is 1.68 GB)."""
+    from emu.timing import _vcd
+    monkeypatch.setattr(_vcd, "LARGE_BYTES", 50_000)
+    emu = Emulator(MACHINES["ref8"])
+    _endless_loop(emu)
+    said = []
+    path = tmp_path / "big.vcd"
+    with record_vcd(emu, path, cycles=3_000, warn=said.append):
+        emu.run(max_cycles=3_000)
+    [message] = said
+    estimate_kb = float(message.split("about ")[1].split(" kB")[0])
+    assert message.startswith("the waveform will be about ")
+    assert estimate_kb == pytest.approx(path.stat().st_size / 1e3, rel=0.2)   # a loop: every cycle alike
+
+
+def test_a_recording_without_a_window_warns_when_it_passes_the_size(tmp_path, monkeypatch):
+    from emu.timing import _vcd
+    monkeypatch.setattr(_vcd, "LARGE_BYTES", 20_000)
+    emu = Emulator(MACHINES["ref8"])
+    _endless_loop(emu)
+    said = []
+    with record_vcd(emu, tmp_path / "long.vcd", warn=said.append) as window:
+        emu.run(max_cycles=2_000)
+    assert len(said) == 1
+    assert said[0].startswith("the waveform has passed 20 kB after ") and "--vcd-from and --vcd-cycles" in said[0]
+    assert window.written > 20_000
+
+
+def test_run_says_the_partial_waveform_was_kept_after_ctrl_c(tmp_path, capsys, monkeypatch):
+    from cli_support import cli, write
+    from emu.commands import run
+    real = run.run_loaded
+
+    def interrupted(program, machine, **kwargs):
+        kwargs["emulator"].run(max_cycles=50)
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(run, "run_loaded", interrupted)
+    prog = write(tmp_path, "loop.asm", "top: jmp top\n")
+    code, _out, err = cli(capsys, "run", prog, "--vcd", tmp_path / "cut.vcd")
+    assert code == 130
+    assert err.splitlines()[-1] == f"relaybench: the waveform up to the interruption was kept in {tmp_path / 'cut.vcd'}"
+    assert VCDVCD(str(tmp_path / "cut.vcd")).endtime > 0
+    assert real is not interrupted
+
+
+def test_vcd_window_options_need_vcd(capsys, tmp_path):
+    from cli_support import cli, write
+    prog = write(tmp_path, "p.asm", "halt\n")
+    code, _out, err = cli(capsys, "run", prog, "--vcd-cycles", "10")
+    assert code == 2 and "only with --vcd FILE" in err

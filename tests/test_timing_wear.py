@@ -85,7 +85,7 @@ def test_report_text_names_the_relays_that_wear_first():
     _emu, wear = counted(REF8)
     text = format_wear(wear.report())
     assert "wears first: " in text and "read" in text.splitlines()[-1]
-    assert "556 h" in text
+    assert "23 d 4 h" in text      # 556 h, written as every duration is (emu.formatting)
 
 
 def test_report_without_rated_life():

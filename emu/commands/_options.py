@@ -13,6 +13,7 @@ import sys
 
 from ..description import Machine, load_machine
 from ..description.notation import NUMBER_FORMS, decode_escapes, parse_number
+from ..formatting import hex_value
 from ..runs import ProgramError
 from ..runs import panel_path_for, read_panel_file
 
@@ -104,6 +105,14 @@ def cycle_count(text: str) -> int:
     return value
 
 
+def cycle_start(text: str) -> int:
+    """A cycle number counted from power-on: 0 or more."""
+    value = number(text)
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"must be a cycle number, 0 or more, not {value}")
+    return value
+
+
 def memory_range(text: str) -> tuple[str, int, int]:
     """``START:LEN`` → (the text as given, start, length)."""
     start_text, colon, length_text = text.partition(":")
@@ -119,7 +128,8 @@ def memory_range(text: str) -> tuple[str, int, int]:
 
 def check_word(args, option: str, value: int, machine: Machine) -> None:
     if not 0 <= value <= machine.data_mask:
-        usage_error(args, f"argument {option}: {value:#x} does not fit the {machine.data_bits}-bit "
+        shown = hex_value(value, value.bit_length()) if value >= 0 else str(value)
+        usage_error(args, f"argument {option}: {shown} does not fit the {machine.data_bits}-bit "
                           f"word of {machine.name} (0…{machine.data_mask}, written as {NUMBER_FORMS})")
 
 

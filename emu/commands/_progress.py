@@ -5,6 +5,10 @@ nothing is drawn until the work has taken about a second. Nothing at all is
 drawn when the output is not a terminal: scripts and CI read clean text.
 The bar goes to stderr; while it is up, lines printed to stdout appear
 above it instead of tearing it.
+
+A run's end is not known in advance (the cycle limit is a guard, not a
+goal), so a line without a total shows the cycles done and the rate, never
+a percentage of the limit; a batch of programs has a total and a bar.
 """
 
 from __future__ import annotations
@@ -15,7 +19,9 @@ import threading
 import time
 from contextlib import contextmanager
 
-__all__ = ["Progress", "terminal_attached"]
+from ..formatting import count_text
+
+__all__ = ["Progress", "amount_text", "rate_text_per_second", "terminal_attached"]
 
 
 def terminal_attached() -> bool:
@@ -23,25 +29,41 @@ def terminal_attached() -> bool:
     return sys.stdout.isatty() and sys.stderr.isatty()
 
 
-class _Line:
-    """One bar: a label and a count towards a total."""
+def amount_text(done: int, total: int | None, unit: str) -> str:
+    """``3/8 programs`` with a known total, ``1,234,567 cycles`` without one."""
+    if total is None:
+        return count_text(done, unit.rstrip("s"))
+    return f"{count_text(done)}/{count_text(total)} {unit}"
 
-    def __init__(self, owner: "Progress", label: str, total: int, remove_when_done: bool):
-        self.owner, self.label, self.total = owner, label, total
+
+def rate_text_per_second(done: int, seconds: float, unit: str) -> str:
+    """``12,345 cycles/s``; nothing until some time has passed."""
+    if seconds <= 0:
+        return ""
+    return f"{count_text(round(done / seconds))} {unit}/s"
+
+
+class _Line:
+    """One line: a label and a count, towards a total if there is one."""
+
+    def __init__(self, owner: "Progress", label: str, total: int | None, unit: str, remove_when_done: bool):
+        self.owner, self.label, self.total, self.unit = owner, label, total, unit
         self.remove_when_done = remove_when_done
         self.done = 0
         self.finished = False
         self.counter = None
+        self.started = time.perf_counter()
+        """The rate counts from here, not from when the line is first drawn a second later."""
 
     def update(self, done: int) -> None:
         self.done = done
         if self.counter is not None:
-            self.counter.items_completed = min(done, self.total)
+            self.counter.items_completed = done if self.total is None else min(done, self.total)
         self.owner.tick()
 
     def finish(self) -> None:
         self.finished = True
-        self.update(self.total)
+        self.update(self.done if self.total is None else self.total)
         if self.counter is not None:
             self.counter.done = True
 
@@ -49,9 +71,9 @@ class _Line:
 class Progress:
     """A set of bars drawn with prompt_toolkit once ``delay`` seconds have passed.
 
-    Use as a context manager; ``line(label, total)`` adds a bar and returns
-    it, ``bar.update(n)`` moves it. The engine's ``chunk`` callback is where
-    a run calls ``update``.
+    Use as a context manager; ``line(label, total, unit)`` adds a line and
+    returns it (``total=None`` when the end is not known), ``line.update(n)``
+    moves it. The engine's ``chunk`` callback is where a run calls ``update``.
     """
 
     def __init__(self, enabled: bool, delay: float = 1.0):
@@ -67,8 +89,9 @@ class Progress:
     def __exit__(self, *exc) -> None:
         self.close()
 
-    def line(self, label: str, total: int, remove_when_done: bool = False) -> _Line:
-        line = _Line(self, label, total, remove_when_done)
+    def line(self, label: str, total: int | None = None, unit: str = "cycles",
+             remove_when_done: bool = False) -> _Line:
+        line = _Line(self, label, total, unit, remove_when_done)
         self.lines.append(line)
         if self.bar is not None:
             self._attach(line)
@@ -85,7 +108,7 @@ class Progress:
         from prompt_toolkit.output import create_output
         from prompt_toolkit.patch_stdout import patch_stdout
         from prompt_toolkit.shortcuts import ProgressBar
-        self.bar = ProgressBar(output=create_output(stdout=sys.stderr))
+        self.bar = ProgressBar(output=create_output(stdout=sys.stderr), formatters=_formatters(self))
         self.bar.__enter__()
         self.printing = patch_stdout(raw=True)
         self.printing.__enter__()
@@ -96,7 +119,7 @@ class Progress:
     def _attach(self, line: _Line) -> None:
         line.counter = self.bar(label=line.label, total=line.total,
                                 remove_when_done=line.remove_when_done)
-        line.counter.items_completed = min(line.done, line.total)
+        line.counter.items_completed = line.done if line.total is None else min(line.done, line.total)
 
     def close(self) -> None:
         """Take the bar down; a Ctrl-C in these few milliseconds must not tear it half down."""
@@ -105,6 +128,33 @@ class Progress:
             with _sigint_held():
                 self.printing.__exit__(None, None, None)
                 bar.__exit__(None, None, None)
+
+
+def _formatters(progress: Progress):
+    """Label, amount, bar (or rate for an open-ended line), time taken."""
+    from prompt_toolkit.shortcuts.progress_bar import formatters
+
+    def line_of(counter) -> _Line:
+        return next(line for line in progress.lines if line.counter is counter)
+
+    class Amount(formatters.Formatter):
+        def format(self, progress_bar, counter, width):
+            line = line_of(counter)
+            return amount_text(line.done, line.total, line.unit)
+
+        def get_width(self, progress_bar):
+            return max((len(amount_text(line.done, line.total, line.unit)) for line in progress.lines), default=1)
+
+    class BarOrRate(formatters.Bar):
+        def format(self, progress_bar, counter, width):
+            line = line_of(counter)
+            if line.total is not None:
+                return super().format(progress_bar, counter, width)
+            seconds = time.perf_counter() - line.started
+            return rate_text_per_second(line.done, seconds, line.unit).rjust(width)
+
+    return [formatters.Label(), formatters.Text("  "), Amount(), formatters.Text("  "), BarOrRate(),
+            formatters.Text("  "), formatters.TimeElapsed()]
 
 
 @contextmanager

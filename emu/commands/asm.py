@@ -2,8 +2,8 @@
 
 By default ``prog.asm`` gives ``prog.hex`` (Intel HEX) and ``prog.dbg.json``
 beside it, the debug file that lets ``run``, ``test`` and ``debug`` tell a
-pause from a halt in the image. Every file is written atomically by the
-assembler's writers, so a failed run never leaves half a file behind.
+pause from a halt in the image. The files are written together: if any one
+cannot be written, none is, and no old file is touched.
 Exit 0 when assembled, 1 for errors in the program or the machine file.
 """
 
@@ -14,12 +14,14 @@ from pathlib import Path
 
 import asm
 
+from ..files import write_together
+from ..formatting import count_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
 SUMMARY = "assemble a program into Intel HEX or a raw binary, a listing and a debug file"
 
 _IMAGE_SUFFIX = {"hex": ".hex", "bin": ".bin"}
-_WRITERS = {"hex": asm.write_intel_hex, "bin": asm.write_binary}
+_FORMATS = ("bin", "hex")
 
 
 def add_arguments(parser) -> None:
@@ -27,7 +29,7 @@ def add_arguments(parser) -> None:
     add_machine_option(parser)
     parser.add_argument("-o", "--out", metavar="FILE",
                         help="the image file (default: SOURCE with .hex, or .bin with --format bin)")
-    parser.add_argument("--format", choices=sorted(_WRITERS),
+    parser.add_argument("--format", choices=_FORMATS,
                         help="image format: hex (Intel HEX) or bin (raw words from address 0); "
                              "default from the --out suffix, else hex")
     parser.add_argument("--listing", metavar="FILE", nargs="?", const="",
@@ -60,29 +62,43 @@ def main(args) -> int:
             print(f"{source}: error: the program is empty (no instruction or data to write)", file=sys.stderr)
             return 1
         if args.check:
-            print(f"{source}: {words} words in {len(program.segments)} segment(s), no errors")
+            print(f"{source}: {_size(words, program)}, no errors")
             return 0
         written = write_outputs(args, source, program)
     except asm.AsmError as exc:
         print(str(exc), file=sys.stderr)
         return 1
-    print(f"{source}: {words} words in {len(program.segments)} segment(s) -> {', '.join(written)}")
+    print(f"{source}: {_size(words, program)} -> {', '.join(written)}")
     return 0
 
 
+def _size(words: int, program) -> str:
+    return f"{count_text(words, 'word')} in {count_text(len(program.segments), 'segment')}"
+
+
 def write_outputs(args, source: Path, program) -> list[str]:
+    """Write every requested file, or none: all are staged first and renamed together.
+
+    With ``--no-debug`` an older debug file beside the image is removed, since
+    it describes another image and would be read with this one.
+    """
     kind = image_format(args)
     image = Path(args.out) if args.out else source.with_suffix(_IMAGE_SUFFIX[kind])
-    _WRITERS[kind](program, image)
-    written = [str(image)]
+    outputs = {image: asm.image_bytes(program, kind)}
+    debug = asm.debug_path_for(image)
     if not args.no_debug:
-        debug = asm.debug_path_for(image)
-        asm.write_debug(program, debug)
-        written.append(str(debug))
+        outputs[debug] = asm.debug_text(program, debug).encode("utf-8")
+    if args.listing is not None and args.listing != "-":
+        listing = Path(args.listing) if args.listing else source.with_suffix(".lst")
+        outputs[listing] = program.listing_text().encode("utf-8")
+    try:
+        write_together(outputs)
+        if args.no_debug and debug.exists():
+            debug.unlink()
+            print(f"{debug}: removed: it described an older image", file=sys.stderr)
+    except OSError as exc:
+        raise asm.AsmError([asm.Diagnostic(str(exc.filename or image), None, None,
+                                           f"cannot write ({exc.strerror or exc}); no file was written")]) from None
     if args.listing == "-":
         sys.stdout.write(program.listing_text())
-    elif args.listing is not None:
-        listing = Path(args.listing) if args.listing else source.with_suffix(".lst")
-        asm.write_listing(program, listing)
-        written.append(str(listing))
-    return written
+    return [str(path) for path in outputs]

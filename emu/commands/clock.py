@@ -18,6 +18,7 @@ import numpy as np
 
 from .. import MachineError
 from ..files import write_atomic
+from ..formatting import rate_text
 from ._progress import Progress, terminal_attached
 from ..timing import METRICS, PERCENTILES, has_timing, monte_carlo, timing_model
 from ._options import add_machine_option, keep_parser, machine_from, number, seed, usage_error
@@ -97,7 +98,7 @@ def _phase_rows(machine) -> list[dict]:
 def _run(model, count: int, seed: int, quiet: bool):
     """The Monte Carlo, with a progress bar on a terminal once it has taken a second."""
     with Progress(enabled=not quiet) as progress:
-        bar = progress.line("building clocks from random parts", count)
+        bar = progress.line("building clocks from random parts", count, unit="clocks")
         return monte_carlo(model, count, seed, progress=lambda done, _total: bar.update(done))
 
 
@@ -134,7 +135,7 @@ def _write_csv(samples, target: str) -> None:
 def _text(report: dict, samples) -> str:
     nominal = report["nominal"]
     out = [f"{report['title']} ({report['machine']})",
-           f"nominal, from the phase table: {nominal['rate_hz']:.4g} Hz, period "
+           f"nominal, from the phase table: {rate_text(nominal['rate_hz'])}, period "
            f"{nominal['period_ms']:.4g} ms, duty cycle {nominal['duty']:.1%}", ""]
     timed = samples is not None
     out.append(f"  {'phase':<8}{'level':<7}{'table':>10}" + (f"{'parts':>11}  timed by" if timed else ""))

@@ -44,8 +44,7 @@ def disassembly(args, machine) -> str:
                                            f"this debug file was written for another image than {image} "
                                            f"(assemble again, or pass --no-debug)")])
     lines = [f"; {image} ({'Intel HEX' if kind == 'hex' else 'raw binary'}) for {machine.name}"]
-    for start, words in segments:
-        lines.extend(asm.disassemble(machine, words, start, debug))
+    lines.extend(asm.disassemble_image(machine, segments, debug))
     return "\n".join(lines) + "\n"
 
 

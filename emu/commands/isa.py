@@ -13,7 +13,7 @@ import sys
 
 from ..engine import compile_machine
 from ..description import Instruction, Machine
-from ..runs import format_rate
+from ..formatting import rate_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
 SUMMARY = "print the instruction table (encoding, micro-steps, cycles, flags) of a machine"
@@ -78,7 +78,7 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
     lines = [
         f"{machine.name} — {machine.title}",
         f"{machine.data_bits}-bit words, {machine.address_bits}-bit addresses, {machine.memory_words:,} "
-        f"words of memory; {format_rate(machine.nominal_hz)} nominal clock, {len(machine.phases)} phases "
+        f"words of memory; {rate_text(machine.nominal_hz)} nominal clock, {len(machine.phases)} phases "
         f"(hold at {holds}); one micro-step per cycle",
         f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
     ]

@@ -1,22 +1,24 @@
-"""``relaybench run``: run a program headless (spec §5 is the contract).
+"""``relaybench run``: run a program headless ("Headless runs" in emu/machines/ref8.md).
 
 The work is in ``emu.runs``; this module only turns options into a call
 and the result into the summary or the JSON object and the exit status:
-0 at a halt, 3 at the cycle limit, 1 for a bad program or machine file,
+0 at a halt (or at a pause with ``--stop-at-pause``), 3 at the cycle limit, 1 for a bad program or machine file,
 2 for a bad command line, 130 when interrupted.
 """
 
 from __future__ import annotations
 
 import json
+import os
 import sys
 from contextlib import ExitStack
 
 from ._progress import Progress, terminal_attached
 from ..runs import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
-from ..runs import format_duration, format_summary
+from ..runs import format_summary
+from ..formatting import address_text, count_text, duration_text, rate_text
 from ..timing import count_wear, format_wear, record_vcd, spread_source
-from ._options import (add_machine_option, add_panel_options, check_range, cycle_count, keep_parser,
+from ._options import (add_machine_option, add_panel_options, check_range, cycle_count, cycle_start, keep_parser,
                        machine_from, memory_range, panel_settings, print_program_error, seed,
                        usage_error)
 
@@ -42,14 +44,24 @@ def add_arguments(parser) -> None:
                         help="an irregular clock: phase durations drawn from the machine's [timing] "
                              "parts for one built clock (SEED picks it); results are unchanged")
     timing.add_argument("--vcd", metavar="FILE", help="write a value change dump (IEEE 1364) of the run")
+    timing.add_argument("--vcd-from", metavar="CYCLE", type=cycle_start, default=0,
+                        help="with --vcd: start the dump at this cycle (default 0)")
+    timing.add_argument("--vcd-cycles", metavar="N", type=cycle_count,
+                        help="with --vcd: dump this many cycles (default: to the end of the run)")
     timing.add_argument("--wear", action="store_true",
                         help="count relay operations and estimate how long each relay lasts")
     keep_parser(parser)
 
 
 
+def _warn(message: str) -> None:
+    print(f"relaybench: warning: {message}", file=sys.stderr, flush=True)
+
+
 def main(args) -> int:
     machine = machine_from(args)
+    if args.vcd is None and (args.vcd_from or args.vcd_cycles is not None):
+        usage_error(args, "argument --vcd-from/--vcd-cycles: only with --vcd FILE")
     for dump in args.dump:
         check_range(args, "--dump", dump, machine)
     try:
@@ -64,17 +76,20 @@ def main(args) -> int:
         with ExitStack() as observers, Progress(enabled=terminal_attached() and not args.json) as progress:
             if args.vcd is not None:
                 try:
-                    observers.enter_context(record_vcd(emulator, args.vcd))
+                    observers.enter_context(record_vcd(emulator, args.vcd, start=args.vcd_from,
+                                                       cycles=args.vcd_cycles, warn=_warn))
                 except OSError as exc:
                     usage_error(args, f"argument --vcd: cannot write '{args.vcd}' ({exc.strerror or exc})")
             wear = observers.enter_context(count_wear(emulator)) if args.wear else None
-            bar = progress.line(args.program, args.max_cycles)
+            bar = progress.line(args.program)
             result = run_loaded(program, machine, max_cycles=args.max_cycles,
                                 stop_at_pause=args.stop_at_pause, emulator=emulator,
                                 chunk=lambda emu: bar.update(emu.cycles))
     except KeyboardInterrupt:
-        print(f"relaybench: run interrupted after {emulator.cycles:,} cycles "
-              f"(pc {emulator.pc:#x}); no report", file=sys.stderr)
+        print(f"relaybench: run interrupted after {count_text(emulator.cycles, 'cycle')} "
+              f"(pc {address_text(emulator.pc, machine)}); no report", file=sys.stderr)
+        if args.vcd is not None and os.path.exists(args.vcd):
+            print(f"relaybench: the waveform up to the interruption was kept in {args.vcd}", file=sys.stderr)
         return EXIT_INTERRUPTED
     facts = report(result, args.dump)
     wear_report = wear.report() if wear is not None else None
@@ -84,14 +99,18 @@ def main(args) -> int:
         print(json.dumps(facts))
     else:
         place = program.source_map.get(result.halt_address) if result.halt_address is not None else None
+        spread = None if args.clock_spread is None else f"on the spread clock (seed {args.clock_spread})"
         print(format_summary(args.program, facts, machine, max_cycles=args.max_cycles, dumps=args.dump,
-                             halt_place=f"{place[0]}:{place[1]}" if place else None))
+                             halt_place=f"{place[0]}:{place[1]}" if place else None, clock=spread))
         if args.clock_spread is not None:
             nominal = emulator.cycles / machine.nominal_hz
-            print(f"  clock      irregular (seed {args.clock_spread}): {format_duration(emulator.sim_seconds)} "
-                  f"against {format_duration(nominal)} on the nominal clock")
+            print(f"  clock      the time above is for the spread clock; on the nominal clock "
+                  f"({rate_text(machine.nominal_hz)}) the run takes {duration_text(nominal)}")
         if args.vcd is not None:
-            print(f"  waveform   {args.vcd}")
+            window = "" if not (args.vcd_from or args.vcd_cycles) else \
+                f" (cycles from {count_text(args.vcd_from)}" + \
+                (f", {count_text(args.vcd_cycles, 'cycle')})" if args.vcd_cycles else " to the end)")
+            print(f"  waveform   {args.vcd}{window}")
         if wear_report is not None:
             print(format_wear(wear_report))
-    return EXIT_HALTED if result.status == "halted" else EXIT_CYCLE_LIMIT
+    return EXIT_CYCLE_LIMIT if result.status == "cycle_limit" else EXIT_HALTED

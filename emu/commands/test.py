@@ -12,8 +12,7 @@ import json
 import sys
 
 from ._progress import Progress, terminal_attached
-from ..runs import format_duration
-from ..runs import DEFAULT_MAX_CYCLES
+from ..formatting import count_text, duration_text, hex_value
 from ..runs import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
 from ._options import add_machine_option, cycle_count, keep_parser, machine_from
 
@@ -30,10 +29,10 @@ def add_arguments(parser) -> None:
     keep_parser(parser)
 
 
-def _shown(value) -> str:
+def _shown(value, bits: int) -> str:
     if isinstance(value, str):
         return json.dumps(value, ensure_ascii=False)
-    return f"{value} ({value:#x})" if value > 9 else str(value)
+    return f"{value} ({hex_value(value, bits)})" if value > 9 else str(value)
 
 
 def _one_line(text: str) -> str:
@@ -41,25 +40,40 @@ def _one_line(text: str) -> str:
     return text.replace("\\", "\\\\").replace("\n", "\\n").replace("\r", "\\r").replace("\t", "\\t")
 
 
-def verdict_lines(verdict: Verdict) -> list[str]:
+def verdict_lines(verdict: Verdict, machine) -> list[str]:
     if verdict.error is not None:
         return [f"FAIL  {verdict.path}: cannot run it", *("      " + row for row in verdict.error.splitlines())]
-    time = f"{verdict.cycles:,} cycles ≈ {format_duration(verdict.sim_seconds)}"
-    checks = f"{verdict.checks_run} check{'s' if verdict.checks_run != 1 else ''} at {verdict.halts} halt" \
-             f"{'s' if verdict.halts != 1 else ''}"
+    time = f"{count_text(verdict.cycles, 'cycle')} ≈ {duration_text(verdict.sim_seconds)}"
+    checks = f"{count_text(verdict.checks_run, 'check')} at {count_text(verdict.halts, 'halt')}"
     lines = [f"{'pass' if verdict.passed else 'FAIL'}  {verdict.path}  ({checks}, {time})"]
     if verdict.status == "cycle_limit":
-        lines.append(f"      ended at the cycle limit of {verdict.max_cycles:,} without reaching a halt")
+        lines.append(f"      ended at the cycle limit of {count_text(verdict.max_cycles)} without reaching a halt")
+    if verdict.checks_defined == 0:
+        lines.append("      the program has no .expect checks, so nothing was tested")
+    lines.extend(f"      warning: {warning}" for warning in verdict.warnings)
     for failure in verdict.failures:
         expect = failure.expect
-        wanted = _shown(expect.value) if expect.op == "==" else f"anything but {_shown(expect.value)}"
+        bits = _item_bits(expect, machine)
+        wanted = _shown(expect.value, bits) if expect.op == "==" else f"anything but {_shown(expect.value, bits)}"
         visit = f" (at halt {failure.visit} there)" if failure.visit > 1 else ""
         lines.append(f"      {expect.file}:{expect.line}: {_one_line(expect.text)}: expected {wanted}, "
-                     f"got {_shown(failure.actual)}{visit}")
+                     f"got {_shown(failure.actual, bits)}{visit}")
     for expect in verdict.unreached:
         lines.append(f"      {expect.file}:{expect.line}: {_one_line(expect.text)}: never checked, the run did not "
-                     f"halt at address {expect.address:#x}")
+                     f"halt at address {hex_value(expect.address, machine.address_bits)}")
     return lines
+
+
+def _item_bits(expect, machine) -> int:
+    """How wide the checked item is, so its hex has the machine's digit count."""
+    if expect.item in ("mem", "lamps", "out"):
+        return machine.data_bits
+    if expect.item in machine.flags:
+        return 1
+    try:
+        return machine.register_width(expect.item)
+    except KeyError:
+        return machine.data_bits
 
 
 def verdict_json(verdict: Verdict) -> dict:
@@ -72,6 +86,8 @@ def verdict_json(verdict: Verdict) -> dict:
         "failures": [{**place(f.expect), "op": f.expect.op, "expected": f.expect.value,
                       "actual": f.actual, "visit": f.visit} for f in verdict.failures],
         "unreached": [place(e) for e in verdict.unreached],
+        "checks_defined": verdict.checks_defined,
+        "warnings": list(verdict.warnings),
         "error": verdict.error,
     }
 
@@ -85,16 +101,16 @@ def main(args) -> int:
     verdicts = []
     try:
         with Progress(enabled=terminal_attached() and not args.json) as progress:
-            batch = progress.line("programs", len(programs))
+            batch = progress.line("programs", len(programs), unit="programs")
             for done, path in enumerate(programs):
-                bar = progress.line(path, args.max_cycles or DEFAULT_MAX_CYCLES, remove_when_done=True)
+                bar = progress.line(path, remove_when_done=True)
                 verdict = check_program(path, machine, max_cycles=args.max_cycles,
                                         chunk=lambda emu: bar.update(emu.cycles))
                 bar.finish()
                 batch.update(done + 1)
                 verdicts.append(verdict)
                 if not args.json:
-                    print("\n".join(verdict_lines(verdict)), flush=True)
+                    print("\n".join(verdict_lines(verdict, machine)), flush=True)
     except KeyboardInterrupt:
         if len(verdicts) < len(programs):
             print(f"relaybench: interrupted after {len(verdicts)} of {len(programs)} programs", file=sys.stderr)

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import asm
 
+from .. import formatting
+
 from ._trace import Column
 
 __all__ = ["registers_text", "dump_text", "code_lines", "panel_text", "scope_text",
@@ -32,14 +34,7 @@ def _hex(value: int, bits: int) -> str:
 
 
 def duration_text(ns: int) -> str:
-    seconds = ns / 1e9
-    if seconds < 60:
-        return f"{seconds:.3f} s"
-    minutes, sec = divmod(seconds, 60)
-    hours, minutes = divmod(int(minutes), 60)
-    if hours:
-        return f"{hours} h {minutes} min {sec:.1f} s"
-    return f"{minutes} min {sec:.1f} s"
+    return formatting.duration_text(ns / 1e9)
 
 
 def lamp_row(value: int, bits: int) -> str:

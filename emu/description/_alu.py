@@ -7,7 +7,8 @@ so adding an operation is one row here and one word in a machine file.
 
 Template names: ``{a}``/``{b}`` operands, ``{r}`` the raw result, ``{cin}``
 the carry flag before the step, ``{w}`` the width, ``{top}`` width − 1.
-Flags: ``c`` by the carry-out/borrow convention of spec §2 (borrow = 1),
+Flags: ``c`` by the carry-out/borrow convention of the machine reference
+("Flags" in emu/machines/ref8.md: borrow = 1),
 ``v`` two's-complement overflow.
 """
 

@@ -18,8 +18,8 @@ __all__ = ["StepChecker"]
 class StepChecker:
     """Checks one micro-step against the design rule and the machine's names.
 
-    Rule (spec §2): at most one memory access and one ALU operation per step,
-    and no register or flag written twice (a pair counts as its halves).
+    Rule ("Clock, halts and the panel" in emu/machines/ref8.md): at most one
+    memory access and one ALU operation per step, and no register or flag written twice (a pair counts as its halves).
     """
 
     def __init__(self, names, where: str, fields: dict[str, Field], available: dict[str, Field], fail):

@@ -1,9 +1,9 @@
 """The control unit and the emulator API that the runner, debugger and tests share.
 
-The control unit is spec §3 made executable: the generator runs the phase
-table; the hold line is (switch at stop) OR (halt latch); the generator
-looks at the hold line only on *entering* a hold point, so it never cuts a
-pulse short; STEP gives one panel pulse only while the generator is frozen;
+The control unit is "Clock, halts and the panel" of emu/machines/ref8.md made
+executable: the generator runs the phase table; the hold line is (switch at
+stop) OR (halt latch); the generator looks at the hold line only on
+*entering* a hold point, so it never cuts a pulse short; STEP gives one panel pulse only while the generator is frozen;
 a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase
@@ -27,6 +27,7 @@ from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
 from ..files import write_atomic
+from ..formatting import address_text
 from ._ports import Ports
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
@@ -202,8 +203,7 @@ class Emulator:
         notes = self.ports.warnings()
         for address, count in sorted(self._undefined.items()):
             times = f" ({count} times)" if count > 1 else ""
-            digits = (self.machine.address_bits + 3) // 4
-            notes.append(f"undefined opcode at 0x{address:0{digits}x} ran as a no-op{times}")
+            notes.append(f"undefined opcode at {address_text(address, self.machine)} ran as a no-op{times}")
         return notes
 
     @property

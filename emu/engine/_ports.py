@@ -2,7 +2,10 @@
 
 Which device answers at which port number is the machine file's business
 (``[ports]``); this module only knows what each kind of device does. A
-transfer to a port with no device is ignored and counted, as spec §1 asks.
+transfer to a port with no device is ignored and counted, and so is a read
+past the end of the input stream: it gives 0, as the machine's reference
+says ("I/O ports"), but a program that reads more input than it was given
+has usually gone wrong, so the run says how often it happened.
 """
 
 from __future__ import annotations
@@ -23,6 +26,7 @@ class Ports:
         self.input_bytes = b""
         self.input_position = 0
         self.unmapped = Counter()
+        self.reads_past_end = 0
         self._out = dict(machine.ports_out)
         self._in = dict(machine.ports_in)
         self._mask = machine.data_mask
@@ -35,6 +39,7 @@ class Ports:
             if self.input_position < len(self.input_bytes):
                 self.input_position += 1
                 return self.input_bytes[self.input_position - 1]
+            self.reads_past_end += 1
             return 0
         if device == "input_ready":
             return 1 if self.input_position < len(self.input_bytes) else 0
@@ -56,6 +61,10 @@ class Ports:
             noun, preposition = ("read", "from") if direction == "in" else ("write", "to")
             plural = "s" if count != 1 else ""
             notes.append(f"{count} {noun}{plural} {preposition} port {port}, which has no device")
+        if self.reads_past_end:
+            times = f"{self.reads_past_end} reads" if self.reads_past_end != 1 else "1 read"
+            size = f"{len(self.input_bytes)} byte{'s' if len(self.input_bytes) != 1 else ''}"
+            notes.append(f"{times} past the end of the input stream ({size}), answered with 0")
         return notes
 
     def state(self) -> dict:
@@ -63,11 +72,13 @@ class Ports:
             "output": self.output.hex(), "lamps": self.lamps, "switches": self.switches,
             "input": bytes(self.input_bytes).hex(), "input_position": self.input_position,
             "unmapped": [[d, p, n] for (d, p), n in sorted(self.unmapped.items())],
+            "reads_past_end": self.reads_past_end,
         }
 
     def checked_state(self, state: Table) -> dict:
         """The ports part of a snapshot, every value checked; ``state`` fails with the reader's error."""
-        for key, top in (("lamps", self._mask), ("switches", self._mask), ("input_position", 1 << 63)):
+        for key, top in (("lamps", self._mask), ("switches", self._mask), ("input_position", 1 << 63),
+                         ("reads_past_end", 1 << 63)):
             state.integer(key, low=0, high=top, expected="a word or count of this machine")
         for key in ("output", "input"):
             text = state.string(key)
@@ -88,6 +99,7 @@ class Ports:
         self.switches = state["switches"]
         self.input_bytes = bytes.fromhex(state["input"])
         self.input_position = state["input_position"]
+        self.reads_past_end = state["reads_past_end"]
         self.unmapped = Counter({(d, p): n for d, p, n in state["unmapped"]})
 
 

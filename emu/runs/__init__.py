@@ -6,16 +6,16 @@ toggles and input kept beside a program; ``_headless`` runs it as
 ``.expect`` checks as ``relaybench test`` does; ``_summary`` words a report.
 """
 
-from ._headless import DEFAULT_MAX_CYCLES, RunResult, report, run_loaded, start_emulator
+from ._headless import DEFAULT_MAX_CYCLES, RunResult, program_warnings, report, run_loaded, start_emulator
 from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program
 from ._panel_files import PANEL_SUFFIX, PanelSettings, panel_path_for, read_panel_file
-from ._summary import format_duration, format_rate, format_summary
+from ._summary import format_summary, pause_place
 from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, check_program, collect_programs
 
 __all__ = [
-    "DEFAULT_MAX_CYCLES", "RunResult", "report", "run_loaded", "start_emulator",
+    "DEFAULT_MAX_CYCLES", "RunResult", "program_warnings", "report", "run_loaded", "start_emulator",
     "SOURCE_SUFFIXES", "LoadedProgram", "ProgramError", "load_program",
     "PANEL_SUFFIX", "PanelSettings", "panel_path_for", "read_panel_file",
-    "format_duration", "format_rate", "format_summary",
+    "format_summary", "pause_place",
     "PROGRAM_SUFFIX", "CheckFailure", "Verdict", "actual_value", "check_program", "collect_programs",
 ]

@@ -1,6 +1,7 @@
 """Headless runs: run a loaded program, describe the result.
 
-``relaybench run`` is the contract of spec §5, and ``relaybench test``, the
+``relaybench run`` is the contract of the machine reference ("Headless
+runs" in emu/machines/ref8.md), and ``relaybench test``, the
 debugger and the benchmarks must mean exactly the same thing by "run this
 program", so the whole of it lives here, free of argparse: how a ``pause``
 is told from a ``halt`` and resumed, and the report scripts read.
@@ -10,12 +11,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import asm
+
 from ..description import Machine
 from ..engine import Emulator
 from ..errors import MachineError
 from ._loading import LoadedProgram, ProgramError
 
-__all__ = ["DEFAULT_MAX_CYCLES", "RunResult", "start_emulator", "run_loaded", "report"]
+__all__ = ["DEFAULT_MAX_CYCLES", "RunResult", "program_warnings", "start_emulator", "run_loaded", "report"]
 
 DEFAULT_MAX_CYCLES = 50_000_000
 
@@ -25,9 +28,9 @@ class RunResult:
     program: LoadedProgram
     emulator: Emulator
     status: str
-    """``"halted"`` or ``"cycle_limit"``."""
+    """``"halted"``, ``"cycle_limit"``, or ``"paused"`` (``stop_at_pause`` only)."""
     pauses: list[dict]
-    """One ``{pc, cycles, line}`` per pause the run resumed from (or stopped at)."""
+    """One ``{pc, cycles, file, line}`` per pause the run resumed from (or stopped at)."""
     halt_address: int | None
     """Address of the halt or pause the run ended at; None at the cycle limit."""
 
@@ -68,15 +71,27 @@ def run_loaded(program: LoadedProgram, machine: Machine, *, max_cycles: int = DE
             on_halt(emu, stop.address)
         if stop.address not in program.pauses:
             return RunResult(program, emu, "halted", pauses, stop.address)
-        place = program.source_map.get(stop.address)
-        pauses.append({"pc": emu.pc, "cycles": emu.cycles, "line": place[1] if place else None})
+        file, line = program.source_map.get(stop.address, (None, None))
+        pauses.append({"pc": emu.pc, "cycles": emu.cycles, "file": file, "line": line})
         if stop_at_pause:
-            return RunResult(program, emu, "halted", pauses, stop.address)
+            return RunResult(program, emu, "paused", pauses, stop.address)
         emu.press_resume()
 
 
+def program_warnings(result: RunResult) -> list[str]:
+    """What the run could not know about the program: an image without its debug file."""
+    program = result.program
+    if program.kind == "source" or program.debug_path is not None:
+        return []
+    missing = f"no debug file beside the image (looked for {asm.debug_path_for(program.path)})"
+    if result.status == "halted":
+        return [f"{missing}: a pause cannot be told from a halt, so this halt may be a pause"]
+    return [f"{missing}: pauses could not be told from halts"]
+
+
 def report(result: RunResult, dumps: list[tuple[str, int, int]] = ()) -> dict:
-    """The JSON object of spec §5; ``dumps`` are (text as given, start, length)."""
+    """The JSON object of ``run --json`` ("Headless runs" in emu/machines/ref8.md);
+    ``dumps`` are (text as given, start, length)."""
     emu = result.emulator
     machine = emu.machine
     registers = {reg.name: emu.get(reg.name) for reg in machine.visible_registers
@@ -93,7 +108,7 @@ def report(result: RunResult, dumps: list[tuple[str, int, int]] = ()) -> dict:
         "lamps": emu.lamps,
         "output": emu.output.decode("latin-1"),
         "pauses": list(result.pauses),
-        "warnings": list(emu.warnings),
+        "warnings": program_warnings(result) + list(emu.warnings),
         "dumps": {text: list(emu.memory[start:start + length]) for text, start, length in dumps},
     }
 

@@ -44,7 +44,7 @@ class LoadedProgram:
     """The words of a program and what is known about them.
 
     An image read without its debug file knows no pauses, checks or lines,
-    so every halt in it ends a run (spec §5).
+    so every halt in it ends a run ("Headless runs" in emu/machines/ref8.md).
     """
     path: str
     kind: str

@@ -8,35 +8,9 @@ the program would take on the real machine at its nominal clock.
 from __future__ import annotations
 
 from ..description import Machine
+from ..formatting import address_text, count_text, duration_text, hex_value, rate_text, word_text
 
-__all__ = ["format_duration", "format_rate", "format_summary"]
-
-_UNITS = (("d", 86_400), ("h", 3_600), ("min", 60), ("s", 1))
-
-
-def format_duration(seconds: float) -> str:
-    """``8274`` → ``2 h 17 min 54 s``; under a minute keeps a decimal: ``12.4 s``."""
-    if seconds < 60:
-        text = f"{seconds:.1f}".rstrip("0").rstrip(".")
-        return f"{text} s"
-    remaining = round(seconds)
-    parts = []
-    for unit, size in _UNITS:
-        count, remaining = divmod(remaining, size)
-        if count or parts:
-            parts.append(f"{count} {unit}")
-    return " ".join(parts)
-
-
-def format_rate(hz: float) -> str:
-    """A clock rate without noise digits: ``5 Hz``, ``2.5 Hz``, ``1.2 kHz``."""
-    if hz >= 1000:
-        return f"{hz / 1000:.3g} kHz"
-    return f"{hz:.3g} Hz"
-
-
-def _hex(value: int, bits: int) -> str:
-    return f"0x{value:0{(bits + 3) // 4}X}"
+__all__ = ["format_summary", "pause_place"]
 
 
 def _printable(text: str) -> str:
@@ -44,36 +18,47 @@ def _printable(text: str) -> str:
     return "".join(ch if ch == "\n" or " " <= ch <= "~" else f"\\x{ord(ch):02x}" for ch in text)
 
 
+def pause_place(pause: dict, program_path: str, machine: Machine) -> str:
+    """Where a pause of the report stands: ``line 22`` in the program itself,
+    ``lib/io.inc:12`` in an included file, the address when no line is known."""
+    if pause.get("line") is None:
+        return address_text(pause["pc"], machine)
+    if pause.get("file") in (None, program_path):
+        return f"line {pause['line']}"
+    return f"{pause['file']}:{pause['line']}"
+
+
 def format_summary(name: str, report: dict, machine: Machine, *, halt_place: str | None,
-                   max_cycles: int, dumps: list[tuple[str, int, int]] = ()) -> str:
-    """The summary of one run; ``halt_place`` is ``file:line`` of the final halt if known,
-    ``dumps`` the (text, start, length) of each ``--dump``."""
-    addr_bits, data_bits = machine.address_bits, machine.data_bits
-    pc = _hex(report["pc"], addr_bits)
+                   max_cycles: int, dumps: list[tuple[str, int, int]] = (), clock: str | None = None) -> str:
+    """The summary of one run; ``halt_place`` is ``file:line`` of the final halt or
+    pause if known, ``dumps`` the (text, start, length) of each ``--dump``, ``clock``
+    the clock the time was taken on when it is not the nominal one."""
+    pc = address_text(report["pc"], machine)
+    where = f" ({{}} at {halt_place})" if halt_place else ""
     if report["status"] == "halted":
-        where = f" (halt at {halt_place})" if halt_place else ""
-        head = f"{name}: halted, pc {pc}{where}"
+        head = f"{name}: halted, pc {pc}{where.format('halt')}"
+    elif report["status"] == "paused":
+        head = f"{name}: stopped at a pause (--stop-at-pause), pc {pc}{where.format('pause')}"
     else:
-        head = f"{name}: stopped at the cycle limit of {max_cycles:,}, pc {pc} (no halt reached)"
+        head = f"{name}: stopped at the cycle limit of {count_text(max_cycles)}, pc {pc} (no halt reached)"
     lines = [
         head,
-        f"  time       {report['cycles']:,} cycles ≈ {format_duration(report['sim_seconds'])} "
-        f"at {format_rate(machine.nominal_hz)}, {report['instructions']:,} instructions",
+        f"  time       {count_text(report['cycles'], 'cycle')} ≈ {duration_text(report['sim_seconds'])} "
+        f"{clock or 'at ' + rate_text(machine.nominal_hz)}, {count_text(report['instructions'], 'instruction')}",
     ]
     pauses = report["pauses"]
-    places = ", ".join(f"line {p['line']}" if p["line"] is not None else _hex(p["pc"], addr_bits)
-                       for p in pauses[:8])
+    places = ", ".join(pause_place(p, name, machine) for p in pauses[:8])
     more = ", …" if len(pauses) > 8 else ""
     lines.append(f"  pauses     {len(pauses)}" + (f" ({places}{more})" if pauses else ""))
-    registers = "  ".join(f"{reg} {_hex(value, machine.register_width(reg))}"
+    registers = "  ".join(f"{reg} {hex_value(value, machine.register_width(reg))}"
                           for reg, value in report["registers"].items())
     lines.append(f"  registers  {registers}")
     lines.append("  flags      " + "  ".join(f"{flag} {value}" for flag, value in report["flags"].items()))
     lamps = report["lamps"]
-    lines.append(f"  lamps      {lamps:0{data_bits}b} ({_hex(lamps, data_bits)})")
+    lines.append(f"  lamps      {lamps:0{machine.data_bits}b} ({word_text(lamps, machine)})")
     output = report["output"]
     if output:
-        lines.append(f"  console    {len(output):,} byte{'s' if len(output) != 1 else ''}:")
+        lines.append(f"  console    {count_text(len(output), 'byte')}:")
         body = _printable(output)
         lines.extend(f"    | {row}" for row in body.split("\n")[: -1 if body.endswith("\n") else None])
     else:
@@ -94,7 +79,7 @@ def _dump_rows(start: int, values: list[int], machine: Machine) -> list[str]:
     for offset in range(0, len(values), per_row):
         chunk = values[offset:offset + per_row]
         words = " ".join(f"{v:0{digits}X}" for v in chunk)
-        row = f"    {_hex(start + offset, machine.address_bits)}  {words}"
+        row = f"    {address_text(start + offset, machine)}  {words}"
         if machine.data_bits <= 8:
             pad = " " * ((per_row - len(chunk)) * 3)
             row += pad + "  " + "".join(chr(v) if 32 <= v < 127 else "." for v in chunk)

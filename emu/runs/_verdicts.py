@@ -1,10 +1,14 @@
 """Programs as tests: run each as ``relaybench run`` does and judge its checks.
 
-A program passes when every ``.expect`` check passed each time the machine
-halted at the instruction it is attached to, every instruction with checks
-was reached at least once, and the run ended at a halt rather than at the
-cycle limit. A check that fails is reported once, at its first failing
-visit, with the value the machine actually held.
+A program passes when it has checks, every ``.expect`` check passed each
+time the machine halted at the instruction it is attached to, every
+instruction with checks was reached at least once, the run ended at a halt
+rather than at the cycle limit, and the run gave no warning (an undefined
+opcode, a port with no device, a read past the end of the input): a program
+that went astray must not pass because its checks happened to hold. A check
+that fails is reported once, at its first failing visit, with the value the
+machine actually held. An image without its debug file is not run at all:
+it has no checks, and its pauses cannot be told from halts.
 """
 
 from __future__ import annotations
@@ -52,6 +56,10 @@ class Verdict:
     """The first check of each checked instruction that the run never reached."""
     error: str | None = None
     max_cycles: int = DEFAULT_MAX_CYCLES
+    checks_defined: int = 0
+    """How many ``.expect`` checks the program has; none means nothing was tested."""
+    warnings: list[str] = field(default_factory=list)
+    """What the run warned about; any warning fails the program."""
 
 
 def collect_programs(paths: list[str]) -> list[str]:
@@ -90,6 +98,12 @@ def check_program(path: str, machine: Machine, *, max_cycles: int | None = None,
     except ProgramError as exc:
         verdict.error = str(exc)
         return verdict
+    if program.kind != "source" and program.debug_path is None:
+        verdict.error = (f"{path}: error: no debug file beside the image (looked for "
+                         f"{asm.debug_path_for(path)}), so it has no checks and its pauses cannot be "
+                         f"told from halts; test the source file, or assemble it again with its debug file")
+        return verdict
+    verdict.checks_defined = len(program.expects)
     verdict.max_cycles = max_cycles or panel.max_cycles or DEFAULT_MAX_CYCLES
     checks = _checks_by_address(program)
     visits: dict[int, int] = {}
@@ -113,7 +127,9 @@ def check_program(path: str, machine: Machine, *, max_cycles: int | None = None,
     verdict.sim_seconds = result.emulator.sim_seconds
     verdict.failures = [failed[i] for i in sorted(failed)]
     verdict.unreached = [group[0][1] for address, group in checks.items() if address not in visits]
-    verdict.passed = result.status == "halted" and not verdict.failures and not verdict.unreached
+    verdict.warnings = result.emulator.warnings
+    verdict.passed = (result.status == "halted" and verdict.checks_defined > 0 and not verdict.failures
+                      and not verdict.unreached and not verdict.warnings)
     return verdict
 
 

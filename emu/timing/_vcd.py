@@ -6,6 +6,10 @@ halt latch, the RUN/STOP switch, the sequencer step, every control line of
 the machine (high while the pulse that drives it lasts) and every register
 and flag. The file is written beside its final name and renamed into place
 when the recording ends, so a failure never leaves half of one.
+
+A full dump of a long program runs to gigabytes, so a recording can be a
+window (from a cycle, for a number of cycles), and it warns, with an
+estimate, before it grows past ``LARGE_BYTES``.
 """
 
 from __future__ import annotations
@@ -18,8 +22,14 @@ from vcd import VCDWriter
 from .. import Emulator, Observer
 from ..description import Machine
 from ..files import atomic_output
+from ..formatting import size_text
 
-__all__ = ["VcdRecorder", "record_vcd", "control_lines", "signal_name"]
+__all__ = ["LARGE_BYTES", "VcdRecorder", "VcdWindow", "record_vcd", "control_lines", "signal_name"]
+
+LARGE_BYTES = 100_000_000
+"""Past about this size a waveform is more than a viewer opens comfortably: say so."""
+_SAMPLE_CYCLES = 1_000
+"""Cycles recorded before the size of a whole window is estimated from them."""
 
 
 def control_lines(machine: Machine) -> list[str]:
@@ -118,18 +128,113 @@ class VcdRecorder(Observer):
         self._datapath(emu)
 
 
+class _CountingStream:
+    """A text stream that counts what is written through it."""
+
+    def __init__(self, stream):
+        self.stream, self.written = stream, 0
+
+    def write(self, text: str) -> int:
+        self.written += len(text)
+        return self.stream.write(text)
+
+    def __getattr__(self, name):
+        return getattr(self.stream, name)
+
+
+class VcdWindow(Observer):
+    """Records cycles ``start`` … ``start + cycles - 1`` of a run (``cycles=None``: to the end).
+
+    The dump begins with the machine's state as the window opens; before
+    that, events are passed over. ``warn(message)`` is told once when the
+    file will pass ``LARGE_BYTES``: with a window, as soon as its first
+    cycles give an estimate of the whole; without one, when it gets there.
+    """
+
+    def __init__(self, emu: Emulator, stream, *, start: int = 0, cycles: int | None = None, warn=None):
+        self.stream = _CountingStream(stream)
+        self.start = emu.cycles + start
+        self.end = None if cycles is None else self.start + cycles
+        self.warn = warn
+        self.recorder: VcdRecorder | None = None
+        self.warned = False
+        self._open_if_due(emu)
+
+    @property
+    def written(self) -> int:
+        return self.stream.written
+
+    def _open_if_due(self, emu) -> bool:
+        """True while the window is open (opening it when its first cycle comes)."""
+        cycle = emu.cycles
+        if cycle < self.start or (self.end is not None and cycle >= self.end):
+            return False
+        if self.recorder is None:
+            self.recorder = VcdRecorder(emu, self.stream)
+        return True
+
+    def _watch_size(self, emu) -> None:
+        if self.warned or self.warn is None:
+            return
+        done = emu.cycles - self.start
+        if self.end is not None and done >= _SAMPLE_CYCLES:
+            estimate = self.written / done * (self.end - self.start)
+            if estimate > LARGE_BYTES:
+                self.warned = True
+                self.warn(f"the waveform will be about {size_text(estimate)} "
+                          f"({self.end - self.start:,} cycles at about {self.written / done:,.0f} bytes each)")
+        elif self.end is None and self.written > LARGE_BYTES:
+            self.warned = True
+            self.warn(f"the waveform has passed {size_text(LARGE_BYTES)} after {done:,} cycles "
+                      f"(about {self.written / max(done, 1):,.0f} bytes a cycle) and grows while the run "
+                      f"goes on; --vcd-from and --vcd-cycles record a window")
+
+    def close(self, emu: Emulator) -> None:
+        if self.recorder is None:
+            self.recorder = VcdRecorder(emu, self.stream)   # a window the run never reached: an empty dump
+        self.recorder.close(emu)
+
+    def phase(self, emu, index):
+        if self._open_if_due(emu):
+            self.recorder.phase(emu, index)
+
+    def edge(self, emu, level):
+        if self._open_if_due(emu):
+            self.recorder.edge(emu, level)
+            if level:
+                self._watch_size(emu)
+
+    def microstep(self, emu, step, lines):
+        if self._open_if_due(emu):
+            self.recorder.microstep(emu, step, lines)
+
+    def hold(self, emu, frozen):
+        if self._open_if_due(emu):
+            self.recorder.hold(emu, frozen)
+
+    def latch(self, emu, is_set):
+        if self._open_if_due(emu):
+            self.recorder.latch(emu, is_set)
+
+    def panel(self, emu, action):
+        if self._open_if_due(emu):
+            self.recorder.panel(emu, action)
+
+
 @contextmanager
-def record_vcd(emu: Emulator, path):
+def record_vcd(emu: Emulator, path, *, start: int = 0, cycles: int | None = None, warn=None):
     """Record a waveform of whatever the emulator does inside the ``with`` block.
 
-    The file appears at ``path`` when the block ends, also when it ends by
-    an exception such as Ctrl-C: the waveform up to there is sound.
+    ``start`` and ``cycles`` choose a window, counted from now (see
+    ``VcdWindow``). The file appears at ``path`` when the block ends, also
+    when it ends by an exception such as Ctrl-C: the waveform up to there
+    is sound.
     """
     with atomic_output(path, text=True, keep_on_error=True) as stream:
-        recorder = VcdRecorder(emu, stream)
-        emu.observe(recorder)
+        window = VcdWindow(emu, stream, start=start, cycles=cycles, warn=warn)
+        emu.observe(window)
         try:
-            yield recorder
+            yield window
         finally:
-            emu.unobserve(recorder)
-            recorder.close(emu)
+            emu.unobserve(window)
+            window.close(emu)

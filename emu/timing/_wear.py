@@ -15,6 +15,7 @@ from contextlib import contextmanager
 
 from .. import Emulator, Observer
 from ..description import Machine, WearRatings, stage_relay
+from ..formatting import hours_text
 
 __all__ = ["WearCounter", "WearRatings", "count_wear", "wear_ratings", "format_wear",
            "relay_names"]
@@ -104,7 +105,7 @@ def format_wear(report: dict, top: int = 10) -> str:
              f"  {'relay':<14}{'operations':>12}{'per hour':>12}{'rated life':>14}{'lasts':>14}"]
     for r in report["relays"][:top]:
         life = "unknown" if r["rated_operations"] is None else f"{r['rated_operations']:,.0f}"
-        lasts = "?" if r["life_hours"] is None else _hours(r["life_hours"])
+        lasts = "?" if r["life_hours"] is None else hours_text(r["life_hours"])
         lines.append(f"  {r['relay']:<14}{r['operations']:>12,}{r['per_hour']:>12,.0f}{life:>14}{lasts:>14}")
     hidden = len(report["relays"]) - top
     if hidden > 0:
@@ -112,11 +113,8 @@ def format_wear(report: dict, top: int = 10) -> str:
     if report["wears_first"]:
         worst = report["relays"][0]
         lines.append(f"wears first: {', '.join(report['wears_first'])} "
-                     f"(rated life reached after {_hours(worst['life_hours'])} of use)")
+                     f"(rated life reached after {hours_text(worst['life_hours'])} of use)")
     else:
         lines.append("no rated life in the machine file ([wear] rated_operations), so no life estimate")
     return "\n".join(lines)
 
-
-def _hours(hours: float) -> str:
-    return f"{hours:,.0f} h" if hours >= 10 else f"{hours:.2g} h"

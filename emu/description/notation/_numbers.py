@@ -1,4 +1,5 @@
-"""The number and character notation of spec §4, in one place.
+"""The number and character notation of the assembly language, in one place
+("Assembly language in brief" in emu/machines/ref8.md).
 
 The assembler, the micro-step notation of machine files, command-line
 options and debugger commands all read numbers this way, so a value copied

@@ -9,12 +9,13 @@ assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
 """
 
 from ._alu import ALU_OPS, WORD_SELECTORS
+from ._design_rules import StepChecker
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 
 __all__ = [
-    "ALU_OPS", "WORD_SELECTORS",
+    "ALU_OPS", "WORD_SELECTORS", "StepChecker",
     "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
     "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step",

@@ -17,7 +17,7 @@ import lark
 from lark import v_args
 
 from ._errors import Diagnostic
-from emu.description.notation import decode_escapes, literal_value
+from emu.description.notation import GRAMMAR_IMPORTS, char_value, decode_escapes, literal_value
 
 from ._expr import Binary, Call, Expr, Group, Here, Invalid, Name, Number, Unary
 
@@ -160,10 +160,10 @@ class _Build(lark.Transformer):
             return Invalid(str(exc), token.line, token.column)
 
     def char(self, token):
-        value, problem = decode_escapes(str(token)[1:-1])
-        if problem:
-            return Invalid(problem, token.line, token.column)
-        return Number(ord(value), token.line, token.column)
+        try:
+            return Number(char_value(str(token)), token.line, token.column)
+        except ValueError as exc:
+            return Invalid(str(exc), token.line, token.column)
 
     def name(self, token):
         return Name(str(token), token.line, token.column)
@@ -182,7 +182,7 @@ class _Build(lark.Transformer):
 def _parser() -> lark.Lark:
     grammar = resources.files("asm").joinpath("grammar/assembly.lark").read_text(encoding="utf-8")
     return lark.Lark(grammar, parser="lalr", transformer=_Build(), maybe_placeholders=True,
-                     cache=False)
+                     cache=False, import_paths=[GRAMMAR_IMPORTS])
 
 
 _TOKEN_WORDS = {

@@ -19,14 +19,12 @@ COMMANDS = ("run", "test", "asm", "dis", "isa", "debug", "clock")
 
 
 def _load_commands():
-    found = {}
-    for name in COMMANDS:
-        try:
-            found[name] = importlib.import_module(f"emu.commands.{name}")
-        except ModuleNotFoundError as exc:
-            if exc.name != f"emu.commands.{name}":
-                raise
-    return found
+    """Every command of the table, imported; one that cannot be imported stops the program.
+
+    A broken install must not look like a smaller tool: a command that went
+    missing is an ImportError naming it, never a shorter ``--help``.
+    """
+    return {name: importlib.import_module(f"emu.commands.{name}") for name in COMMANDS}
 
 
 def _version() -> str:

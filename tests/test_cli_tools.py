@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import sys
 import tomllib
 
 import pytest
@@ -10,6 +11,7 @@ from intelhex import IntelHex
 
 import asm
 import emu
+from emu.cli import build_parser
 from emu.commands.isa import encoding_words
 
 from cli_support import ACC12, PROGRAMS, ROOT, cli, write
@@ -184,3 +186,10 @@ def test_shipped_programs_assemble(capsys, tmp_path):
     for program in sorted(PROGRAMS.glob("*.asm")):
         code, _out, err = cli(capsys, "asm", program, "--check")
         assert code == 0, err
+
+
+def test_a_command_whose_module_cannot_be_imported_stops_the_program(monkeypatch):
+    """A broken install must not show a shorter command list: the import error surfaces."""
+    monkeypatch.setitem(sys.modules, "emu.commands.clock", None)  # import of it now fails
+    with pytest.raises(ImportError, match="emu.commands.clock"):
+        build_parser()

@@ -255,3 +255,24 @@ steps = ["halt"]
         emu.machine_from_text(twice, "twice.toml")
     assert str(caught.value) == ("twice.toml:47: error: instruction 'stop': the same assembly form as "
                                  "instruction 1: forms must differ")
+
+
+def assigned_names(function: ast.FunctionDef) -> set[str]:
+    return {target.id for node in ast.walk(function) if isinstance(node, ast.Assign)
+            for target in node.targets if isinstance(target, ast.Name)}
+
+
+@pytest.mark.parametrize(("display", "word_values", "function", "computed"), [
+    ("inc rd", {"rd": 0}, "run_inc_rd_r0", set()),             # sets z n
+    ("shl rd", {"rd": 0}, "run_shl_rd_r0", {"c"}),              # sets z n c
+    ("add rd, rs", {"rd": 0, "rs": 1}, "run_add_rd_rs", {"c", "o"}),  # sets z n c v
+    ("inc x", {}, "run_inc_x", set()),                          # sets z
+])
+def test_carry_and_overflow_are_computed_only_for_flags_the_step_sets(display, word_values, function, computed):
+    """``c_N``/``o_N`` are the compiler's fresh names for carry-out and overflow."""
+    machine = MACHINES["ref8"]
+    ins = next(i for i in machine.instructions if i.display == display)
+    _fetch, _steps, fused, _run, _watching = built(machine)
+    assert fused[ins.encode(word_values)[0]].__name__ == function
+    names = assigned_names(function_defs(compile_machine(machine).source)[function])
+    assert {name.split("_")[0] for name in names if name[:2] in ("c_", "o_")} == computed

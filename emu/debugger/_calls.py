@@ -21,7 +21,6 @@ __all__ = ["CallShape", "call_shape"]
 @dataclass(frozen=True)
 class CallShape:
     """The call and return instructions of a machine, by instruction index."""
-    stack_register: str | None
     calls: frozenset[int]
     returns: frozenset[int]
 
@@ -36,10 +35,9 @@ class CallShape:
 
 
 def _registers_in(expr, machine: Machine) -> set[str]:
-    names = {node.name for node in walk(expr) if isinstance(node, Name)}
-    if isinstance(expr, Name):
-        names.add(expr.name)
-    return {n for n in names if n in machine.registers or n in machine.pairs}
+    """Registers and pairs an expression reads (walk yields the expression itself too)."""
+    return {node.name for node in walk(expr)
+            if isinstance(node, Name) and (node.name in machine.registers or node.name in machine.pairs)}
 
 
 def _assignments(instruction):
@@ -93,4 +91,4 @@ def call_shape(machine: Machine) -> CallShape:
     returns = set()
     if stack is not None:
         returns = {ins.index for ins in machine.instructions if _pc_from_stack(ins, machine, stack)}
-    return CallShape(stack, frozenset(calls), frozenset(returns))
+    return CallShape(frozenset(calls), frozenset(returns))

@@ -11,6 +11,7 @@ assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
 """
 
 from ._alu import ALU_OPS, WORD_SELECTORS
+from ._design_rules import StepChecker
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair,
@@ -22,7 +23,7 @@ from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREA
 from ._toml_lines import key_line, toml_syntax_error
 
 __all__ = [
-    "ALU_OPS", "WORD_SELECTORS",
+    "ALU_OPS", "WORD_SELECTORS", "StepChecker",
     "MachineNames", "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
     "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step",

@@ -10,7 +10,7 @@ from __future__ import annotations
 from ._alu import ALU_OPS, WORD_SELECTORS
 from ._model import Field
 from .notation import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset,
-                       Output, name_width, value_width)
+                       Output, name_width, unknown_node, value_width)
 
 __all__ = ["StepChecker"]
 
@@ -72,6 +72,8 @@ class StepChecker:
                     self.fail("drives halt twice")
                 self.halts = True
                 self.line("halt")
+            case _:
+                unknown_node(st)
 
     def target(self, name, value_width):
         names = self.names
@@ -126,7 +128,7 @@ class StepChecker:
         return value_width(node, names.registers, names.pairs, self.fields, names.data_bits)
 
     def expr(self, node) -> None:
-        """Check an expression: names known, fields fetched, the design rule kept."""
+        """Check an expression: names known, fields fetched, the design rule kept; then its parts."""
         names = self.names
         match node:
             case Name(name):
@@ -139,30 +141,28 @@ class StepChecker:
             case Const(value):
                 if value >= 1 << 32:
                     self.fail(f"constant {value} out of range")
-            case Mem(address):
+            case Mem():
                 self.memory += 1
                 if self.memory > 1:
                     self.fail("two memory accesses in one micro-step (the design rule allows one)")
                 self.line("read")
-                self.expr(address)
-            case Join(high, low):
-                self.expr(high)
-                self.expr(low)
-            case Offset(base, _):
-                self.expr(base)
-            case Choose(flag, _, a, b):
+            case Join() | Offset():
+                pass
+            case Choose(flag, _, _, _):
                 if flag not in names.flags:
                     self.fail(f"'{flag}' in a condition is not a flag (flags: {', '.join(names.flags)})")
-                self.expr(a)
-                self.expr(b)
-            case Input(port):
-                self.expr(port)
+            case Input():
                 self.io += 1
                 self.line("in")
             case Call(op, args):
                 self.call(op, args)
+            case _:
+                unknown_node(node)
+        for part in node.children():
+            self.expr(part)
 
     def call(self, op, args) -> None:
+        """Check an operation's name and arity and count it; expr() checks its arguments."""
         names = self.names
         if op in WORD_SELECTORS:
             if len(args) != 1:
@@ -179,8 +179,6 @@ class StepChecker:
             if self.alu > 1:
                 self.fail("two ALU operations in one micro-step (the design rule allows one)")
             self.line(f"alu {op}")
-        for arg in args:
-            self.expr(arg)
 
     def finish(self):
         if self.memory > 1:

@@ -70,9 +70,9 @@ class Emulator:
         self._s = [0] * machine.slot_count
         self.memory = bytearray(machine.memory_words) if machine.data_bits <= 8 else [0] * machine.memory_words
         self.ports = Ports(machine)
-        (self._fetch_steps, self._instruction_steps, self._fused,
-         self._run_free, self._run_free_watching) = compiled.build(
-            self._s, self.memory, self.ports.read, self.ports.write)
+        bound = compiled.build(self._s, self.memory, self.ports.read, self.ports.write)
+        self._fetch_steps, self._instruction_steps = bound.fetch_steps, bound.instruction_steps
+        self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
         self._max_fused = compiled.max_fused_cycles
         self._phases = machine.phases
         self._decode = machine.decode_table
@@ -417,9 +417,6 @@ class Emulator:
 
     def _watch_reason(self, points) -> StopReason:
         return StopReason("breakpoint" if self.pc in points else "condition", self.pc)
-
-    def advance_cycles(self, count: int) -> StopReason:
-        return self.run(max_cycles=count)
 
     def advance_instruction(self) -> StopReason:
         """Run the generator to the next instruction boundary (or until it freezes)."""

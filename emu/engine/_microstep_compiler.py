@@ -27,18 +27,29 @@ import os
 import weakref
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Callable, NamedTuple
 
 from ..description import ALU_OPS, Instruction, Machine, Step
 from ._emitter import Emitter
 from ..files import write_atomic
-from ..description.notation import (name_width, value_width, Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem,
-                   Name, Offset, Output, walk)
+from ..description.notation import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset,
+                                    Output, name_width, unknown_node, value_width, walk)
 
 __all__ = ["CompiledMachine", "compile_machine", "Fallback"]
 
 
 class Fallback(Exception):
     """Raised by a fused entry that must be stepped instead (halt, undefined opcode)."""
+
+
+class BoundFunctions(NamedTuple):
+    """The generated functions, bound to one emulator's state."""
+    fetch_steps: tuple[Callable[[], None], ...]
+    instruction_steps: tuple[tuple[Callable[[], bool | None], ...], ...]
+    fused: list[Callable[[], int]]
+    """First word → its fused function; the free runners index it themselves."""
+    run_free: Callable
+    run_free_watching: Callable
 
 
 @dataclass
@@ -48,10 +59,10 @@ class CompiledMachine:
     code: object
     max_fused_cycles: int
 
-    def build(self, s: list, m, in_, out_):
+    def build(self, s: list, m, in_, out_) -> BoundFunctions:
         namespace: dict = {}
         exec(self.code, namespace)
-        return namespace["build"](s, m, in_, out_, Fallback)
+        return BoundFunctions(*namespace["build"](s, m, in_, out_, Fallback))
 
 
 _cache: dict[int, CompiledMachine] = {}
@@ -236,7 +247,8 @@ class _StepTranslator:
                 return f"({self.expr(arg)} & {machine.data_mask:#x})"
             case Call():
                 raise AssertionError("ALU operations are translated by alu()")
-        raise AssertionError(node)
+            case _:
+                unknown_node(node)
 
     def address(self, node) -> str:
         text = self.expr(node)
@@ -251,9 +263,14 @@ class _StepTranslator:
             return result, self.width(node)
         return self.expr(node), self.width(node)
 
-    def alu(self, call: Call) -> tuple[str, dict[str, str]]:
-        """Emit the ALU operation; return its masked result and the value of each flag role."""
+    def alu(self, call: Call, flags: tuple[str, ...] = ()) -> tuple[str, dict[str, str]]:
+        """Emit the ALU operation; return its masked result and the value of each role ``flags`` take.
+
+        Carry and overflow cost a line each, so only the ones a named flag
+        takes are computed: ``inc(rd) sets z n`` computes neither.
+        """
         op = ALU_OPS[call.op]
+        wanted = {self.machine.flags[name].role for name in flags}
         width = self.width(call.args[0])
         names = {}
         for key, arg in zip("ab", call.args):
@@ -271,7 +288,7 @@ class _StepTranslator:
         names["r"] = result
         roles = {}
         for role, template in (("carry", op.carry), ("overflow", op.overflow)):
-            if template is not None:
+            if role in wanted and template is not None:
                 flag_value = self.out.fresh(role[0])
                 self.out.line(f"{flag_value} = {template.format(**names)}")
                 roles[role] = flag_value
@@ -295,19 +312,21 @@ class _StepTranslator:
         match st:
             case Assign(target, value, flags):
                 if flags:
-                    result, roles = self.alu(value)
+                    result, roles = self.alu(value, flags)
                     self.assign(target, result, self.width(value))
                     self.write_flags(flags, roles)
                 else:
                     text, width = self.value(value)
                     self.assign(target, text, width)
             case FlagsOnly(call, flags):
-                _result, roles = self.alu(call)
+                _result, roles = self.alu(call, flags)
                 self.write_flags(flags, roles)
             case Output(port, value):
                 self.out.line(f"out_({self.expr(port)}, {self.expr(value)})")
             case Halt():
                 self.out.line("halted = True")
+            case _:
+                unknown_node(st)
 
     def write_flags(self, flags, roles) -> None:
         for name in flags:
@@ -362,7 +381,7 @@ class _StepTranslator:
                 pending.append((st.target, temp, width))
             elif isinstance(st, (Assign, FlagsOnly)):
                 call = st.value if isinstance(st, Assign) else st.call
-                result, roles = self.alu(call)
+                result, roles = self.alu(call, st.flags)
                 temps = {}
                 for name in st.flags:
                     role = self.machine.flags[name].role
@@ -408,6 +427,10 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
                 found |= set(flags)
             case Assign(Mem(), _, flags) | FlagsOnly(_, flags):
                 found |= set(flags)
+            case Output() | Halt():
+                pass
+            case _:
+                unknown_node(node)
         return found
     for sub in walk(node):
         match sub:
@@ -417,6 +440,10 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
                 found.add(flag)
             case Call(op, _) if op in ALU_OPS and ALU_OPS[op].uses_carry_in:
                 found |= {f.name for f in machine.flags.values() if f.role == "carry"}
+            case Const() | Mem() | Join() | Offset() | Input() | Call():
+                pass  # no state of their own; their parts come next in the walk
+            case _:
+                unknown_node(sub)
     if isinstance(node, Assign) and isinstance(node.target, Name) and node.target.name in fields:
         fld = fields[node.target.name]
         found |= {translator.ins.holders[p.word] for p in fld.pieces}
@@ -594,22 +621,10 @@ class _MachineCompiler:
 
 
 def _substitute(node, env):
-    match node:
-        case Name(name) if name in env:
-            return env[name]
-        case Mem(address):
-            return Mem(_substitute(address, env))
-        case Join(high, low):
-            return Join(_substitute(high, env), _substitute(low, env))
-        case Offset(base, delta):
-            return Offset(_substitute(base, env), delta)
-        case Call(op, args):
-            return Call(op, tuple(_substitute(a, env) for a in args))
-        case Choose(flag, negate, a, b):
-            return Choose(flag, negate, _substitute(a, env), _substitute(b, env))
-        case Input(port):
-            return Input(_substitute(port, env))
-    return node
+    """The expression with each name bound in ``env`` replaced by its value there."""
+    if isinstance(node, Name):
+        return env.get(node.name, node)
+    return node.with_children(*(_substitute(part, env) for part in node.children()))
 
 
 def _ident(ins: Instruction) -> str:

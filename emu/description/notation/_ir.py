@@ -1,11 +1,17 @@
-"""The micro-step notation: parsing into a small intermediate form.
+"""The intermediate form (IR) of a micro-step, and the one traversal over it.
 
-The intermediate form (IR) is the single thing every back end reads: the
-stepping compiler, the fused compiler, the validator, the `isa` table and the
-debugger's panel. It is deliberately tiny — register transfers, one memory
+The IR is the single thing every back end reads: the stepping compiler, the
+fused compiler, the design-rule checker, the `isa` table, the disassembler
+and the debugger. It is deliberately tiny — register transfers, one memory
 port, one ALU, flags, I/O and the halt line — so a later back end (whole
 straight-line blocks, numpy lock-step machines) can be written from it
 without going back to the text.
+
+Every node says which nodes it is made of (``children()``) and can be
+rebuilt from new ones (``with_children(...)``); ``walk`` and every rewrite
+are written once on top of that, so adding a kind of node means adding it
+here and teaching the matches that must know it — each of them ends in
+``unknown_node``, so a forgotten one fails loudly instead of doing nothing.
 
 Names in the IR are still names (``rd``, ``pc``, ``x``); binding them to
 state slots or encoding fields is the description loader's job, because the
@@ -15,73 +21,135 @@ same name means different things in different instructions.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import cache
-from importlib import resources
-
-import lark
-
-from ...errors import MachineError
-from ._numbers import literal_value
+from typing import NoReturn
 
 __all__ = [
+    "Node", "Expression", "StatementNode",
     "Name", "Const", "Mem", "Join", "Offset", "Choose", "Input", "Call",
     "Assign", "FlagsOnly", "Output", "Halt", "Expr", "Statement",
-    "parse_step", "walk",
+    "walk", "unknown_node",
 ]
+
+
+class Node:
+    """What every IR node can do: list its sub-nodes and be rebuilt from new ones."""
+
+    __slots__ = ()
+
+    def children(self) -> tuple["Node", ...]:
+        return ()
+
+    def with_children(self, *children: "Node") -> "Node":
+        if children:
+            raise TypeError(f"{type(self).__name__} has no sub-nodes")
+        return self
+
+
+class Expression(Node):
+    """A node that yields a value."""
+
+    __slots__ = ()
+
+
+class StatementNode(Node):
+    """A node that does something in a micro-step (writes, drives a line)."""
+
+    __slots__ = ()
+
+
+def unknown_node(node) -> NoReturn:
+    """The last case of every match over IR nodes: a kind nobody taught this code."""
+    raise TypeError(f"{type(node).__name__} is not a kind of micro-step node this code knows")
 
 
 # ----- expressions ---------------------------------------------------------
 
 @dataclass(frozen=True)
-class Name:
+class Name(Expression):
     """A register, a register pair, an operand field or a flag, by name."""
     name: str
 
 
 @dataclass(frozen=True)
-class Const:
+class Const(Expression):
     value: int
 
 
 @dataclass(frozen=True)
-class Mem:
+class Mem(Expression):
     """A read of memory: the step's one memory access."""
     address: "Expr"
 
+    def children(self):
+        return (self.address,)
+
+    def with_children(self, address):
+        return Mem(address)
+
 
 @dataclass(frozen=True)
-class Join:
+class Join(Expression):
     """Two words side by side, ``{high, low}``: an address built on the bus."""
     high: "Expr"
     low: "Expr"
 
+    def children(self):
+        return (self.high, self.low)
+
+    def with_children(self, high, low):
+        return Join(high, low)
+
 
 @dataclass(frozen=True)
-class Offset:
+class Offset(Expression):
     """``e + k`` / ``e - k`` on the incrementer, not the ALU (flags untouched)."""
     base: "Expr"
     delta: int
 
+    def children(self):
+        return (self.base,)
+
+    def with_children(self, base):
+        return Offset(base, self.delta)
+
 
 @dataclass(frozen=True)
-class Choose:
+class Choose(Expression):
     """``flag ? a : b``, the gate a conditional jump puts on the pc input."""
     flag: str
     negate: bool
     if_true: "Expr"
     if_false: "Expr"
 
+    def children(self):
+        return (self.if_true, self.if_false)
+
+    def with_children(self, if_true, if_false):
+        return Choose(self.flag, self.negate, if_true, if_false)
+
 
 @dataclass(frozen=True)
-class Input:
+class Input(Expression):
     port: "Expr"
 
+    def children(self):
+        return (self.port,)
+
+    def with_children(self, port):
+        return Input(port)
+
 
 @dataclass(frozen=True)
-class Call:
+class Call(Expression):
     """An ALU operation (``add``, ``shl`` …) or a word selector (``hi``, ``lo``)."""
     op: str
     args: tuple["Expr", ...]
+
+    def children(self):
+        return self.args
+
+    def with_children(self, *args):
+        return Call(self.op, args)
 
 
 Expr = Name | Const | Mem | Join | Offset | Choose | Input | Call
@@ -90,171 +158,66 @@ Expr = Name | Const | Mem | Join | Offset | Choose | Input | Call
 # ----- statements ----------------------------------------------------------
 
 @dataclass(frozen=True)
-class Assign:
+class Assign(StatementNode):
     """``target <- value [sets flags]``; target is a Name or a Mem."""
     target: Name | Mem
     value: Expr
     flags: tuple[str, ...] = ()
 
+    def children(self):
+        return (self.target, self.value)
+
+    def with_children(self, target, value):
+        return Assign(target, value, self.flags)
+
 
 @dataclass(frozen=True)
-class FlagsOnly:
+class FlagsOnly(StatementNode):
     """An ALU operation whose result is dropped, kept for its flags (``cmp``)."""
     call: Call
     flags: tuple[str, ...]
 
+    def children(self):
+        return (self.call,)
+
+    def with_children(self, call):
+        return FlagsOnly(call, self.flags)
+
 
 @dataclass(frozen=True)
-class Output:
+class Output(StatementNode):
     port: Expr
     value: Expr
 
+    def children(self):
+        return (self.port, self.value)
+
+    def with_children(self, port, value):
+        return Output(port, value)
+
 
 @dataclass(frozen=True)
-class Halt:
+class Halt(StatementNode):
     """Drives the halt line; the control unit sets its latch on the falling edge."""
 
 
 Statement = Assign | FlagsOnly | Output | Halt
 
 
-class _ToIR(lark.Transformer):
-    """One method per grammar rule, each turning a parse node into IR."""
+def walk(node: Node):
+    """Yield every expression a statement reads, or an expression is made of, outermost first.
 
-    def step(self, statements):
-        return tuple(statements)
-
-    def assign(self, items):
-        target, value, *rest = items
-        return Assign(target, value, rest[0] if rest else ())
-
-    def flags_only(self, items):
-        call, flags = items
-        return FlagsOnly(call, flags)
-
-    def output(self, items):
-        return Output(items[0], items[1])
-
-    def halt(self, _items):
-        return Halt()
-
-    def target_name(self, items):
-        return Name(str(items[0]))
-
-    def target_mem(self, items):
-        return Mem(items[0])
-
-    def flag_list(self, items):
-        return tuple(str(t) for t in items)
-
-    def choose(self, items):
-        (negate, flag), if_true, if_false = items
-        return Choose(flag, negate, if_true, if_false)
-
-    def condition(self, items):
-        if len(items) == 2:
-            return True, str(items[1])
-        return False, str(items[0])
-
-    def plus(self, items):
-        return Offset(items[0], _number(items[1]))
-
-    def minus(self, items):
-        return Offset(items[0], -_number(items[1]))
-
-    def name(self, items):
-        return Name(str(items[0]))
-
-    def number(self, items):
-        return Const(_number(items[0]))
-
-    def mem(self, items):
-        return Mem(items[0])
-
-    def join(self, items):
-        return Join(items[0], items[1])
-
-    def input(self, items):
-        return Input(items[0])
-
-    def call(self, items):
-        return Call(str(items[0]), tuple(items[1:]))
-
-
-def _number(token) -> int:
-    return literal_value(str(token))
-
-
-def _token_word(name: str) -> str:
-    """A grammar token as a builder reads it in 'expected …': ``'<-'``, ``a name``."""
-    if name in ("NAME", "NUMBER"):
-        return f"a {name.lower()}"
-    if name == "$END":
-        return "the end of the step"
-    try:
-        return repr(_parser().get_terminal(name).pattern.value)
-    except KeyError:
-        return name
-
-
-@cache
-def _parser() -> lark.Lark:
-    text = resources.files("emu.description.notation").joinpath("microstep.lark").read_text()
-    return lark.Lark(text, start="step", parser="lalr", maybe_placeholders=False)
-
-
-@cache
-def parse_step(text: str) -> tuple[Statement, ...]:
-    """Parse one micro-step; raise MachineError saying where it went wrong."""
-    if not text.strip():
-        raise MachineError("a micro-step must hold at least one statement")
-    try:
-        tree = _parser().parse(text)
-    except lark.UnexpectedInput as exc:
-        column = getattr(exc, "column", 0) or 0
-        caret = " " * max(column - 1, 0) + "^"
-        expected = sorted(getattr(exc, "expected", None) or getattr(exc, "allowed", None) or ())
-        wanted = f" (expected {', '.join(_token_word(t) for t in expected)})" if expected else ""
-        raise MachineError(
-            f"cannot read micro-step at column {column}{wanted}\n    {text}\n    {caret}"
-        ) from None
-    try:
-        return _ToIR().transform(tree)
-    except lark.exceptions.VisitError as exc:
-        raise MachineError(f"cannot read micro-step: {exc.orig_exc}\n    {text}") from None
-
-
-def walk(node):
-    """Yield every expression node under an IR statement or expression."""
-    match node:
-        case Assign(target, value, _):
-            if isinstance(target, Mem):
-                yield from walk(target.address)
-            yield from walk(value)
-        case FlagsOnly(call, _):
-            yield from walk(call)
-        case Output(port, value):
-            yield from walk(port)
-            yield from walk(value)
-        case Halt():
-            return
-        case Mem(address) | Input(address):
-            yield node
-            yield from walk(address)
-        case Join(high, low):
-            yield node
-            yield from walk(high)
-            yield from walk(low)
-        case Offset(base, _):
-            yield node
-            yield from walk(base)
-        case Choose(_, _, a, b):
-            yield node
-            yield from walk(a)
-            yield from walk(b)
-        case Call(_, args):
-            yield node
-            for arg in args:
-                yield from walk(arg)
-        case _:
-            yield node
+    The target of an assignment is written, not read: a register target is
+    left out, and of a memory target only its address (which is read).
+    """
+    if isinstance(node, Assign):
+        target, value = node.children()
+        yield from walk(target.address) if isinstance(target, Mem) else ()
+        yield from walk(value)
+        return
+    if isinstance(node, Expression):
+        yield node
+    elif not isinstance(node, StatementNode):
+        unknown_node(node)
+    for child in node.children():
+        yield from walk(child)

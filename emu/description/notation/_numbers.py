@@ -5,17 +5,24 @@ The assembler, the micro-step notation of machine files, command-line
 options and debugger commands all read numbers this way, so a value copied
 from a listing means the same thing everywhere: ``42``, ``0x2A``,
 ``0b101010`` and ``'A'`` (with the escapes ``\\n \\t \\r \\0 \\\\ \\' \\"``).
+What a number looks like is said once, by the terminals of ``numbers.lark``;
+what it is worth, by the functions here.
 """
 
 from __future__ import annotations
 
-import re
+from functools import cache
 
-__all__ = ["ESCAPES", "NUMBER_FORMS", "decode_escapes", "literal_value", "parse_number"]
+import lark
+from lark.load_grammar import FromPackageLoader
+
+__all__ = ["ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
+           "parse_number"]
 
 NUMBER_FORMS = "42, 0x2A, 0b101010 or 'A'"
 ESCAPES = {"n": "\n", "t": "\t", "r": "\r", "0": "\0", "\\": "\\", "'": "'", '"': '"'}
-_INTEGER = re.compile(r"[+-]?(0[xX][0-9A-Fa-f]+|0[bB][01]+|[0-9]+)")
+GRAMMAR_IMPORTS = FromPackageLoader("emu.description.notation")
+"""Where a grammar finds ``%import numbers (NUMBER, CHAR)`` (pass it in ``import_paths``)."""
 
 
 def literal_value(text: str) -> int:
@@ -52,17 +59,26 @@ def decode_escapes(raw: str) -> tuple[str, str | None]:
     return "".join(out), None
 
 
+def char_value(token: str) -> int:
+    """A CHAR token (``'A'``, ``'\\n'``) → its character code; ValueError for an unknown escape."""
+    value, problem = decode_escapes(token[1:-1])
+    if problem:
+        raise ValueError(problem)
+    return ord(value)
+
+
+@cache
+def _signed_number() -> lark.Lark:
+    return lark.Lark.open_from_package("emu.description.notation", "numbers.lark", start="signed",
+                                       parser="lalr")
+
+
 def parse_number(text: str) -> int:
-    """An integer typed by a person; ValueError naming the forms it accepts."""
-    stripped = text.strip()
-    if _INTEGER.fullmatch(stripped):
-        sign = -1 if stripped.startswith("-") else 1
-        try:
-            return sign * literal_value(stripped.lstrip("+-"))
-        except ValueError:
-            pass
-    elif len(stripped) >= 3 and stripped[0] == stripped[-1] == "'":
-        value, problem = decode_escapes(stripped[1:-1])
-        if problem is None and len(value) == 1:
-            return ord(value)
-    raise ValueError(f"'{text}' is not a number (write it as {NUMBER_FORMS})")
+    """An integer typed by a person, optionally signed; ValueError naming the forms it accepts."""
+    try:
+        tokens = _signed_number().parse(text.strip()).children
+        sign = -1 if tokens[0] == "-" else 1
+        token = tokens[-1]
+        return sign * (char_value(token) if token.type == "CHAR" else literal_value(token))
+    except (lark.LarkError, ValueError):
+        raise ValueError(f"'{text}' is not a number (write it as {NUMBER_FORMS})") from None

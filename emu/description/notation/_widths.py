@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from .._alu import WORD_SELECTORS
-from ._ir import Call, Choose, Const, Input, Join, Mem, Name, Offset
+from ._ir import Call, Choose, Const, Input, Join, Mem, Name, Offset, unknown_node
 
 __all__ = ["name_width", "value_width"]
 
@@ -38,5 +38,6 @@ def value_width(node, registers: dict, pairs: dict, fields: dict, data_bits: int
                 return max(width(a), width(b))
             case Call(op, args):
                 return data_bits if op in WORD_SELECTORS else width(args[0])
-        raise AssertionError(n)
+            case _:
+                unknown_node(n)
     return width(node)

@@ -1,0 +1,125 @@
+"""Micro-step text → IR: the lark grammar (``microstep.lark``) and one transformer over it."""
+
+from __future__ import annotations
+
+from functools import cache
+
+import lark
+
+from ...errors import MachineError
+from ._ir import Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset, Output, Statement
+from ._numbers import GRAMMAR_IMPORTS, char_value, literal_value
+
+__all__ = ["parse_step"]
+
+
+class _ToIR(lark.Transformer):
+    """One method per grammar rule, each turning a parse node into IR."""
+
+    def step(self, statements):
+        return tuple(statements)
+
+    def assign(self, items):
+        target, value, *rest = items
+        return Assign(target, value, rest[0] if rest else ())
+
+    def flags_only(self, items):
+        call, flags = items
+        return FlagsOnly(call, flags)
+
+    def output(self, items):
+        return Output(items[0], items[1])
+
+    def halt(self, _items):
+        return Halt()
+
+    def target_name(self, items):
+        return Name(str(items[0]))
+
+    def target_mem(self, items):
+        return Mem(items[0])
+
+    def flag_list(self, items):
+        return tuple(str(t) for t in items)
+
+    def choose(self, items):
+        (negate, flag), if_true, if_false = items
+        return Choose(flag, negate, if_true, if_false)
+
+    def condition(self, items):
+        if len(items) == 2:
+            return True, str(items[1])
+        return False, str(items[0])
+
+    def plus(self, items):
+        return Offset(items[0], items[1].value)
+
+    def minus(self, items):
+        return Offset(items[0], -items[1].value)
+
+    def name(self, items):
+        return Name(str(items[0]))
+
+    def number(self, items):
+        return Const(_number(items[0]))
+
+    def char(self, items):
+        return Const(char_value(str(items[0])))
+
+    def mem(self, items):
+        return Mem(items[0])
+
+    def join(self, items):
+        return Join(items[0], items[1])
+
+    def input(self, items):
+        return Input(items[0])
+
+    def call(self, items):
+        return Call(str(items[0]), tuple(items[1:]))
+
+
+def _number(token) -> int:
+    return literal_value(str(token))
+
+
+def _token_word(name: str) -> str:
+    """A grammar token as a builder reads it in 'expected …': ``'<-'``, ``a name``."""
+    if name in ("NAME", "NUMBER"):
+        return f"a {name.lower()}"
+    if name == "CHAR":
+        return "a character literal"
+    if name == "$END":
+        return "the end of the step"
+    try:
+        return repr(_parser().get_terminal(name).pattern.value)
+    except KeyError:
+        return name
+
+
+@cache
+def _parser() -> lark.Lark:
+    return lark.Lark.open_from_package("emu.description.notation", "microstep.lark", start="step",
+                                       parser="lalr", maybe_placeholders=False,
+                                       import_paths=[GRAMMAR_IMPORTS])
+
+
+@cache
+def parse_step(text: str) -> tuple[Statement, ...]:
+    """Parse one micro-step; raise MachineError saying where it went wrong."""
+    if not text.strip():
+        raise MachineError("a micro-step must hold at least one statement")
+    try:
+        tree = _parser().parse(text)
+    except lark.UnexpectedInput as exc:
+        column = getattr(exc, "column", 0) or 0
+        caret = " " * max(column - 1, 0) + "^"
+        expected = sorted(getattr(exc, "expected", None) or getattr(exc, "allowed", None) or ())
+        wanted = f" (expected {', '.join(_token_word(t) for t in expected)})" if expected else ""
+        raise MachineError(
+            f"cannot read micro-step at column {column}{wanted}\n    {text}\n    {caret}"
+        ) from None
+    try:
+        return _ToIR().transform(tree)
+    except lark.exceptions.VisitError as exc:
+        raise MachineError(f"cannot read micro-step: {exc.orig_exc}\n    {text}") from None

@@ -74,9 +74,12 @@ def test_an_empty_line_repeats_the_last_step_like_command_only(kiln):
 def test_pulse_lists_each_micro_step_with_its_control_lines(kiln):
     text = kiln.execute("pulse 3")
     rows = text.splitlines()
-    assert rows[0] == "pulse 1: fetch step 1: ir <- mem[pc]; pc <- pc + 1   [read, load ir, load pc]"
-    assert rows[1].startswith("pulse 2: li step 2: rd <- mem[pc]; pc <- pc + 1")
-    assert rows[2].startswith("pulse 3: fetch step 1")
+    # KILN's first word is 18 (li r0, 3), its second the 3 (ref8.toml's li rd, imm)
+    assert rows[0] == ("pulse 1: fetch step 1: ir <- mem[pc]; pc <- pc + 1   [read, load ir, load pc]"
+                       "   bus 18 into ir")
+    assert rows[1] == ("pulse 2: li step 2: rd <- mem[pc]; pc <- pc + 1   [read, load rd, load pc]"
+                       "   bus 03 into r0")
+    assert rows[2].startswith("pulse 3: fetch step 1") and rows[2].endswith("bus 07 into ir")
     assert "inside: li sp, 0x0100" in rows[3] and "micro-step 2 of 3 next" in rows[3]
 
 
@@ -116,7 +119,7 @@ def test_leave_returns_from_the_innermost_routine(kiln):
     kiln.execute("go")
     assert kiln.emu.pc == 0x17
     # the stack holds the two return addresses, low byte at the lower address (spec §1)
-    assert kiln.execute("dump 0xfc 4").startswith("00f0")
+    assert kiln.execute("dump 0xfc 4").startswith("  00fc   16 0001 0110")
     assert list(kiln.emu.memory[0xfc:0x100]) == [0x16, 0x00, 0x08, 0x00]
     text = kiln.execute("leave")
     assert "returned to the caller" in text and kiln.emu.pc == 0x16
@@ -188,21 +191,54 @@ def test_registers_show_every_visible_register_pair_and_flag(kiln):
     assert "ir" not in text.split()
 
 
-def test_dump_matches_the_standard_library_hex_of_memory(kiln):
-    rows = kiln.execute("dump 0 32").splitlines()
-    image = bytes(kiln.emu.memory[0:32])
-    # reference: bytes.hex() from the Python standard library
-    assert rows[0].split("|")[0].replace(" ", "")[4:] == image[:16].hex()
-    assert rows[1].startswith("0010")
-    assert kiln.execute("dump").startswith("0020")
+def test_dump_shows_hex_bits_and_characters_of_narrow_words_four_to_a_row(kiln):
+    rows = kiln.execute("dump 8 8").splitlines()
+    words = bytes(kiln.emu.memory[8:16])
+    # reference: bytes.hex() and format(word, "08b") from the Python standard library
+    assert [row.split()[0] for row in rows if not row.endswith(":")] == ["0008", "000c"]
+    cells = [c for row in rows if not row.endswith(":") for c in row.split("   ")[1:]]
+    assert [c.split()[0] for c in cells] == [words[i:i + 1].hex() for i in range(8)]
+    assert ["".join(c.split()[1:3]) for c in cells] == [format(w, "08b") for w in words]
+    assert kiln.execute("dump").startswith("  0010")
 
 
-def test_dump_shows_printable_characters(kiln):
+def test_dump_shows_printable_characters_and_puts_labels_at_their_row(kiln):
     kiln.execute("put [0x300] 'h'")
     kiln.execute("put [0x301] 'i'")
-    row = kiln.execute("dump 0x300 4")
-    assert row.startswith("0300  68 69 00 00 ") and row.endswith("  |hi..            |")
-    assert len(row) == len(kiln.execute("dump 0x300 16"))
+    assert kiln.execute("dump 0x300 2") == "  0300   68 0110 1000 h   69 0110 1001 i"
+    assert kiln.execute("dump 0x12 3").splitlines() == [
+        "log:", "  0012   69 0110 1001 i   09 0000 1001 ·", "  0014   17 0001 0111 ·"]
+
+
+def test_dump_starts_at_the_address_a_register_or_pair_holds(kiln):
+    kiln.execute("put x 0x0301")
+    kiln.execute("put [0x301] 'k'")
+    kiln.execute("put r2 0x12")
+    assert kiln.execute("dump [x] 1") == "  0301   6b 0110 1011 k"
+    assert kiln.execute("dump [r2] 1").splitlines() == ["log:", "  0012   69 0110 1001 i"]
+    assert kiln.execute("dump [0x301] 1") == kiln.execute("dump [x] 1")
+    assert kiln.execute("dump [nothing]") == "error: no label 'nothing' in the program"
+
+
+def test_panel_shows_every_register_the_flags_and_the_bus_as_lamp_rows(kiln):
+    kiln.execute("pulse 2")
+    rows = kiln.execute("panel").splitlines()
+    # after li r0, 3: the bus carried the 3 into r0; sp is ref8's 16-bit register
+    assert "  r0            ○○○○ ○○●●   03    r1            ○○○○ ○○○○   00" in rows
+    assert "  sp  ○○○○ ○○○○ ○○○○ ○○○○ 0000    pc  ○○○○ ○○○○ ○○○○ ○○●○ 0002" in rows
+    assert "  ir            ○○○● ●○○○   18    t             ○○○○ ○○○○   00" in rows
+    assert "  bus           ○○○○ ○○●●   03   03 into r0" in rows
+    assert rows[-1] == "  flags z ○  n ○  c ○  v ○"
+    kiln.execute("pulse 3")
+    assert "  bus           ○○○○ ○○○○   00   00 into sp" not in kiln.execute("panel")
+    assert "  bus   ○○○○ ○○○○ ○○○○ ○○○○ 0100" not in kiln.execute("panel")
+
+
+def test_the_bus_is_dark_after_a_step_with_no_transfer(tmp_path):
+    session = session_for(tmp_path, "halt\n")
+    session.execute("pulse 2")
+    assert "  bus           ···· ····   --   dark" in session.execute("panel")
+    assert session.execute("pulse").splitlines()[0].endswith("bus 00 into ir")
 
 
 def test_code_marks_pc_and_breakpoints_and_shows_labels_and_source(kiln):
@@ -222,7 +258,7 @@ def test_panel_shows_the_sequencer_mid_instruction_and_the_program_lamps(tmp_pat
     session = session_for(tmp_path, "li r0, 0x81\nout 1, r0\nhalt\n")
     session.execute("go")
     text = session.execute("panel")
-    assert "lamps       ●○○○○○○●  81" in text
+    assert "lamps       ●○○○ ○○○●  81" in text
     assert "ring        ○ ○ ● ○    phase C, clock low, frozen at a hold point" in text
     session.execute("throw stop")
     session.execute("reset")
@@ -443,7 +479,7 @@ def test_acc12_runs_to_its_pause_and_stop(gauge):
     assert gauge.emu.get("acc") == 0
     assert "halt at 07 done+3 gauge.asm:9" in gauge.execute("resume")
     assert gauge.emu.lamps == 5
-    assert "lamps       ○○○○○○○○○●○●  005" in gauge.execute("panel")
+    assert "lamps       ○○○○ ○○○○ ○●○●  005" in gauge.execute("panel")
 
 
 def test_acc12_has_no_call_so_over_is_one_instruction_and_leave_is_refused(gauge):
@@ -457,7 +493,9 @@ def test_acc12_has_no_call_so_over_is_one_instruction_and_leave_is_refused(gauge
 def test_acc12_views_use_its_own_widths_and_names(gauge):
     text = gauge.execute("registers")
     assert text.splitlines() == ["acc  000      0   pc    00      0", "flags  zf 0  lk 0"]
-    assert gauge.execute("dump 0 8") == "00  903 408 704 601  f00 905 a01 f00  |........|"
+    # acc12's 12-bit words: hex only, eight to a row, each label heading its own row
+    assert gauge.execute("dump 0 8").splitlines() == [
+        "start:", "  00   903", "tick:", "  01   408   704   601", "done:", "  04   f00   905   a01   f00"]
     assert "ring        ○ ● ○ ○ ○" in gauge.execute("panel")
     assert gauge.execute("put acc 4095") == "acc = 0xfff (4095)"
     assert gauge.execute("put acc 4096").startswith("error: 4096 does not fit acc")

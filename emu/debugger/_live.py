@@ -84,5 +84,5 @@ class LiveClock:
         rate = self.factor * m.nominal_hz
         keys = "s/Ctrl-C stop  r run  space resume  p step  q back to the prompt"
         state = s.state_text() if s.emu.frozen else "clock running in real time"
-        return (f"{panel_text(s.emu, state, s.view)}\n"
+        return (f"{panel_text(s.emu, state, s.view, s.recorder.last_bus)}\n"
                 f"  live        {rate:g} Hz ({self.factor:g} × nominal)   {keys}\n")

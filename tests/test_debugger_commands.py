@@ -272,12 +272,29 @@ def test_scope_shows_the_latch_setting_and_the_freeze_after_a_halt(kiln):
     rows = kiln.execute("scope 3").splitlines()
     named = {row[:10].strip(): row[10:] for row in rows[1:] if row[:10].strip()}
     assert named["clock"] == "‾‾__‾‾__‾‾_"
+    # ref8.toml's ring: one stage lit per phase A, B, C, D; the last column is the freeze in C
+    assert named["stage 1"] == "█   █   █"
+    assert named["stage 2"] == " █   █   █"
+    assert named["stage 3"] == "  █   █   █"
+    assert named["stage 4"] == "   █   █"
     assert named["halt"] == "        ██"
     # the latch is set at the falling edge of the halt step, then the clock freezes at the hold point
     assert named["latch"] == "__________‾"
     assert named["generator"] == "          F"
     assert named["panel"] == "          L"
     assert rows[0] == "cycles 92 to 94"
+
+
+@pytest.mark.parametrize("width", [40, 70, 120])
+def test_scope_fits_the_width_it_is_given(kiln, width):
+    kiln.execute("go")
+    kiln.width = width
+    rows = kiln.execute("scope 30").splitlines()
+    assert max(len(row) for row in rows) <= width
+    clock = [row for row in rows if row.startswith("clock ")]
+    # 30 cycles of ref8's four phases, less those before the first rising edge, in blocks
+    assert len(clock) > 1 and len(clock[0]) == width
+    assert "".join(row[10:] for row in clock).startswith("‾‾__‾‾__")
 
 
 def test_scope_after_a_long_run_is_replayed_from_a_checkpoint(tmp_path):

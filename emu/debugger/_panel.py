@@ -7,6 +7,8 @@ widths come from the machine description.
 
 from __future__ import annotations
 
+import textwrap
+
 import asm
 
 from ._trace import Column
@@ -215,8 +217,13 @@ _LEGEND = ("clock: ‾ high, _ low; █ a lit ring stage or a control line drive
            "panel: s stop, r run, R resume, Z reset, t toggles, L latch set, l latch cleared")
 
 
-def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = False) -> str:
-    """A logic-analyser picture of the recorded columns, in blocks of ``width``."""
+SCOPE_LABEL_ROOM = 10
+"""Least room for the row names at the left of the scope."""
+
+
+def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = False) -> str:
+    """A logic-analyser picture of the recorded columns, every line at most ``width``
+    characters (the terminal's): the columns are cut into blocks that fit beside the names."""
     if not columns:
         return "nothing recorded yet: the clock has not run since the debugger started or a snapshot was loaded"
     lines_seen: list[str] = []
@@ -224,10 +231,11 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         for line in sorted(column.lines):
             if line not in lines_seen:
                 lines_seen.append(line)
-    label = max([10] + [len(n) + 1 for n in lines_seen])
+    label = max([SCOPE_LABEL_ROOM] + [len(n) + 1 for n in lines_seen])
+    per_block = max(width - label, 8)
     blocks = []
-    for begin in range(0, len(columns), width):
-        part = columns[begin:begin + width]
+    for begin in range(0, len(columns), per_block):
+        part = columns[begin:begin + per_block]
         rows = {
             "cycle": _cycle_row(part),
             "clock": "".join(HIGH if c.level else LOW for c in part),
@@ -243,7 +251,9 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         blocks.append("\n".join(f"{name:<{label}}{row.rstrip() or ''}" for name, row in rows.items()))
     first, last = columns[0].cycle, columns[-1].cycle
     head = f"cycles {first:,} to {last:,}" + (" (the run before them was not traced)" if gap else "")
-    return head + "\n" + "\n\n".join(blocks) + "\n" + _LEGEND
+    legend = "\n".join(textwrap.fill(line, max(width, 40), subsequent_indent="  ")
+                       for line in _LEGEND.splitlines())
+    return head + "\n" + "\n\n".join(blocks) + "\n" + legend
 
 
 def _cycle_row(part: list[Column]) -> str:

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import asyncio
 import os
+import shutil
 import signal
 import threading
 from contextlib import contextmanager
@@ -29,6 +30,8 @@ __all__ = ["HISTORY_VARIABLE", "history_path", "run_repl", "run_live", "run_scri
 
 HISTORY_VARIABLE = "RELAYBENCH_DEBUG_HISTORY"
 FRAME_SECONDS = 0.04
+PIPED_WIDTH = 80
+"""Line width of the views when commands come from a file or a pipe."""
 
 
 def history_path() -> Path:
@@ -87,6 +90,7 @@ def run_script(session, lines, write=print) -> int:
     after the prompt so the transcript reads like a session; returns the exit status."""
     write(_banner(session))
     session.announce = None
+    session.width = PIPED_WIDTH
     for line in lines:
         command = line.rstrip("\n")
         write(f"{session.machine.name}> {command}")
@@ -116,6 +120,7 @@ def run_repl(session, *, input=None, output=None, write=print) -> int:
             continue
         except EOFError:
             break
+        session.width = shutil.get_terminal_size().columns
         with ctrl_c_is_the_stop_switch(session):
             text = session.execute(line)
         if text:

@@ -87,7 +87,8 @@ def do_panel(session, args):
 @command("scope [CYCLES]", "Timing diagram of the last CYCLES clock cycles (default 16).")
 def do_scope(session, args):
     """Rows: clock, ring stages, hold line, halt latch, each control line
-    driven, and panel events; one column per phase, STEP pulse or freeze."""
+    driven, and panel events; one column per phase, STEP pulse or freeze.
+    The diagram is cut into blocks as wide as the terminal (80 when piped)."""
     cycles = count(args, 16, "cycle count")
     recorder = session.recorder
     return scope_text(recorder.last_cycles(cycles), session.machine, session.width, recorder.gap)

@@ -36,6 +36,23 @@ def drive(session, keys: str) -> list[str]:
     return shown
 
 
+def drive_slowly(session, *parts: str) -> list[str]:
+    """Like ``drive``, but each part is typed once the prompt has dealt with the one
+    before (completion after Tab runs on prompt_toolkit's event loop)."""
+    shown: list[str] = []
+    with create_pipe_input() as pipe:
+        def type_parts():
+            for part in parts:
+                time.sleep(0.3)
+                pipe.send_text(part)
+            pipe.close()
+        typist = threading.Thread(target=type_parts)
+        typist.start()
+        run_repl(session, input=pipe, output=DummyOutput(), write=shown.append)
+        typist.join()
+    return shown
+
+
 def test_commands_typed_at_the_prompt_are_answered(tmp_path):
     session = session_for(tmp_path)
     shown = drive(session, "instr\r\r\rregisters\rquit\r")
@@ -64,10 +81,18 @@ def test_history_defaults_to_the_xdg_state_folder(monkeypatch, tmp_path):
     assert history_path() == tmp_path / "state" / "relaybench" / "debug-history"
 
 
-def test_tab_completes_a_command_name(tmp_path):
+def test_tab_completes_a_command_name_and_adds_its_space(tmp_path):
     session = session_for(tmp_path)
-    shown = drive(session, "regi\t\rquit\r")
-    assert shown[1].startswith("r0    00      0")
+    # without completion "breamark" is no command; without the space "breakmark" neither
+    shown = drive_slowly(session, "brea\t", "mark\rquit\r")
+    assert shown[1] == "breakpoint 1 at 0017 mark kiln.asm:14"
+
+
+def test_tab_completes_a_label_argument(tmp_path):
+    session = session_for(tmp_path)
+    # "ma" is no label of KILN: only the completer makes it "mark"
+    shown = drive_slowly(session, "break ma\t", "\rquit\r")
+    assert shown[1] == "breakpoint 1 at 0017 mark kiln.asm:14"
 
 
 def test_a_real_sigint_during_a_run_throws_the_stop_switch(tmp_path):

@@ -54,14 +54,19 @@ def _history():
 
 
 class _SessionCompleter(Completer):
+    """Tab completion from the session's candidates; a completed command name
+    gets its space, so the argument can be typed straight after it."""
+
     def __init__(self, session):
         self.session = session
 
     def get_completions(self, document, complete_event):
         before = document.text_before_cursor
         typed = before.split()[-1] if before and not before[-1].isspace() else ""
+        naming_the_command = not before[:len(before) - len(typed)].strip()
+        after = " " if naming_the_command else ""
         for candidate in self.session.complete(before):
-            yield Completion(candidate, start_position=-len(typed))
+            yield Completion(candidate + after, start_position=-len(typed), display=candidate)
 
 
 @contextmanager

@@ -162,6 +162,27 @@ def test_live_application_leaves_on_q(tmp_path):
     assert session.live_factor is None
 
 
+def test_ctrl_c_in_live_mode_throws_stop_and_gives_the_prompt_back(tmp_path):
+    session = session_for(tmp_path, SOAK)
+    session.execute("live 100")
+    said = []
+    with create_pipe_input() as pipe:
+        # r starts the clock; after Ctrl-C the p must not reach the live view as STEP
+        pipe.send_text("r")
+        live = threading.Thread(target=lambda: said.append(run_live(session, input=pipe, output=DummyOutput())))
+        live.start()
+        while session.emu.cycles < 20:
+            time.sleep(0.01)
+        pipe.send_text("\x03p")
+        live.join(timeout=10)
+        if live.is_alive():
+            pipe.send_text("q")
+            live.join()
+    assert said[0].startswith("stopped by the stop switch (Ctrl-C): left live mode. frozen: the switch is at STOP")
+    assert session.emu.frozen and not session.emu.switch_run
+    assert session.last_stop == "stopped by the stop switch (Ctrl-C): left live mode"
+
+
 def test_the_debug_command_reports_a_bad_program_without_a_traceback(tmp_path, capsys):
     write(tmp_path, "li r9, 1\n", "broken.asm")
     assert cli.main(["debug", "broken.asm"]) == 1

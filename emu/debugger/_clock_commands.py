@@ -151,9 +151,9 @@ def do_leave(session, args):
 
 @command("live [FACTOR]", "Run in real time, FACTOR times the nominal clock, panel updating.")
 def do_live(session, args):
-    """Keys in the live view: s or Ctrl-C throw the switch to stop, r to
-    run, space presses RESUME, p presses STEP, q or Enter return to
-    the prompt (the clock is then held between commands)."""
+    """Keys in the live view: s throws the switch to stop, r to run, space
+    presses RESUME, p presses STEP, q or Enter return to the prompt (the
+    clock is then held between commands); Ctrl-C throws stop and returns."""
     if len(args) > 1:
         raise DebugError("usage: live [FACTOR]")
     factor = 1.0

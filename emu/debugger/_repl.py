@@ -141,14 +141,22 @@ def run_live(session, *, input=None, output=None, now=None) -> str:
     factor, session.live_factor = session.live_factor, None
     clock = LiveClock(session, factor) if now is None else LiveClock(session, factor, now)
     keys = KeyBindings()
-    actions = {"s": "stop", "c-c": "stop", "r": "run", "space": "resume", "p": "step"}
+    actions = {"s": "stop", "r": "run", "space": "resume", "p": "step"}
     for key, action in actions.items():
         keys.add(key)(lambda _event, action=action: clock.press(action))
+    interrupted = []
 
     @keys.add("q")
     @keys.add("enter")
     @keys.add("escape")
     def _leave(event):
+        event.app.exit()
+
+    @keys.add("c-c")
+    def _stop_and_leave(event):
+        """As during any run: Ctrl-C throws the stop switch and gives the prompt back."""
+        clock.press("stop")
+        interrupted.append(True)
         event.app.exit()
 
     app = Application(layout=Layout(Window(FormattedTextControl(clock.screen))), key_bindings=keys,
@@ -165,5 +173,9 @@ def run_live(session, *, input=None, output=None, now=None) -> str:
 
     app.run(pre_run=lambda: app.create_background_task(pace()))
     reason = clock.finished or "left live mode"
+    if interrupted and not session.emu.frozen:
+        session.settle()
+    if interrupted and not clock.finished:
+        reason = "stopped by the stop switch (Ctrl-C): left live mode"
     session.last_stop = reason
     return f"{reason}. {session.state_text()}. {session.here_text()}"

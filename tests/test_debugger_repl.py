@@ -66,7 +66,18 @@ def test_commands_typed_at_the_prompt_are_answered(tmp_path):
 
 def test_end_of_input_leaves_the_debugger(tmp_path):
     session = session_for(tmp_path)
-    assert drive(session, "go\r")[1].startswith("switch at RUN")
+    shown, ended = [], []
+    with create_pipe_input() as pipe:
+        pipe.send_text("waves kiln.vcd\rinstr\r")
+        pipe.close()
+        prompt = threading.Thread(target=lambda: ended.append(
+            run_repl(session, input=pipe, output=DummyOutput(), write=shown.append)))
+        prompt.start()
+        prompt.join(timeout=20)
+    assert not prompt.is_alive(), "the prompt went on reading after the end of its input"
+    assert ended == [0] and len(shown) == 3
+    # leaving writes what is open: a VCD file opens with a '$' keyword (IEEE 1364-2005 clause 18, from memory)
+    assert session.waves is None and (tmp_path / "kiln.vcd").read_text().startswith("$")
 
 
 def test_history_is_kept_in_the_file_named_by_the_environment(tmp_path):

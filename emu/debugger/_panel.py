@@ -44,21 +44,21 @@ def duration_text(ns: int) -> str:
     return f"{minutes} min {sec:.1f} s"
 
 
-def lamp_row(value: int, bits: int) -> str:
-    """``bits`` lamps, most significant first, in groups of four from the right
-    (a person reads ○○●○ ●○○● faster than eight lamps in a row)."""
-    lamps = "".join(LIT if value >> b & 1 else DARK for b in reversed(range(bits)))
-    head = bits % 4
-    groups = ([lamps[:head]] if head else []) + [lamps[i:i + 4] for i in range(head, bits, 4)]
+def _in_fours(symbols: str) -> str:
+    """Groups of four from the right: a person reads ○○●○ ●○○● faster than eight in a row."""
+    head = len(symbols) % 4
+    groups = ([symbols[:head]] if head else []) + [symbols[i:i + 4] for i in range(head, len(symbols), 4)]
     return " ".join(groups)
+
+
+def lamp_row(value: int, bits: int) -> str:
+    """``bits`` lamps, most significant first, in groups of four."""
+    return _in_fours("".join(LIT if value >> b & 1 else DARK for b in reversed(range(bits))))
 
 
 def _bits(value: int, bits: int) -> str:
     """Binary digits grouped as ``lamp_row`` groups its lamps."""
-    digits = f"{value:0{bits}b}"
-    head = bits % 4
-    groups = ([digits[:head]] if head else []) + [digits[i:i + 4] for i in range(head, bits, 4)]
-    return " ".join(groups)
+    return _in_fours(f"{value:0{bits}b}")
 
 
 def bus_text(machine, bus) -> str:

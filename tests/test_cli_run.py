@@ -251,13 +251,25 @@ def test_progress_stays_silent_when_disabled_or_early():
         assert early.bar is None
 
 
-def test_no_progress_bar_when_piped(capsys, tmp_path):
-    """Under capture stdout is no terminal, so only the summary is printed."""
-    from emu.commands import terminal_attached
+@pytest.mark.parametrize("attached", [False, True])
+def test_no_progress_bar_when_piped(capsys, tmp_path, monkeypatch, attached):
+    """Under capture stdout is no terminal, so the bar is switched off and only the
+    summary is printed; the same run at a terminal switches it on."""
+    from emu.commands import Progress, terminal_attached
     assert not terminal_attached()
+    asked = []
+
+    def recording_progress(enabled, **options):
+        asked.append(enabled)
+        return Progress(False, **options)
+    monkeypatch.setattr("emu.commands.run.Progress", recording_progress)
+    if attached:
+        monkeypatch.setattr("sys.stdout.isatty", lambda: True, raising=False)
+        monkeypatch.setattr("sys.stderr.isatty", lambda: True, raising=False)
     loop = write(tmp_path, "loop.asm", "top: jmp top\n")
     code, out, err = cli(capsys, "run", loop, "--max-cycles", "3000000")
     assert code == 3 and err == "" and out.startswith(f"{loop}: stopped at the cycle limit")
+    assert asked == [attached]
 
 
 def test_run_takes_the_panel_file_and_options_win_over_it(capsys):

@@ -29,6 +29,18 @@ def kiln(tmp_path):
     return session_for(tmp_path)
 
 
+def refused(session, line: str) -> str:
+    """The reply to a command that must be refused; the machine, the points and
+    what the session remembers are checked to be left as they were."""
+    def state():
+        return (session.emu.snapshot_state(), dict(session.breakpoints), dict(session.watches),
+                session.dump_next, session.last_stop, session.live_factor, session.finished)
+    before = state()
+    reply = session.execute(line)
+    assert state() == before, f"'{line}' was refused but changed the session"
+    return reply
+
+
 def test_power_on_the_switch_is_at_stop_and_the_clock_frozen(kiln):
     text = kiln.execute("panel")
     assert "frozen: the switch is at STOP" in text
@@ -74,9 +86,12 @@ def test_an_empty_line_repeats_the_last_step_like_command_only(kiln):
 def test_pulse_lists_each_micro_step_with_its_control_lines(kiln):
     text = kiln.execute("pulse 3")
     rows = text.splitlines()
-    assert rows[0] == "pulse 1: fetch step 1: ir <- mem[pc]; pc <- pc + 1   [read, load ir, load pc]"
-    assert rows[1].startswith("pulse 2: li step 2: rd <- mem[pc]; pc <- pc + 1")
-    assert rows[2].startswith("pulse 3: fetch step 1")
+    # KILN's first word is 18 (li r0, 3), its second the 3 (ref8.toml's li rd, imm)
+    assert rows[0] == ("pulse 1: fetch step 1: ir <- mem[pc]; pc <- pc + 1   [read, load ir, load pc]"
+                       "   bus 18 into ir")
+    assert rows[1] == ("pulse 2: li step 2: rd <- mem[pc]; pc <- pc + 1   [read, load rd, load pc]"
+                       "   bus 03 into r0")
+    assert rows[2].startswith("pulse 3: fetch step 1") and rows[2].endswith("bus 07 into ir")
     assert "inside: li sp, 0x0100" in rows[3] and "micro-step 2 of 3 next" in rows[3]
 
 
@@ -89,9 +104,14 @@ def test_pulse_while_the_clock_runs_is_refused_with_a_reason(kiln):
     assert kiln.emu.snapshot_state() == before
 
 
-@pytest.mark.parametrize("args", ["0", "-2", "many", "1 2"])
-def test_pulse_rejects_bad_counts(kiln, args):
-    assert kiln.execute(f"pulse {args}").startswith("error: ")
+@pytest.mark.parametrize("args, message", [
+    ("0", "error: pulse count must be at least 1, not 0"),
+    ("-2", "error: pulse count must be at least 1, not -2"),
+    ("many", "error: pulse count 'many' is not a number (write it as 42, 0x2A, 0b101010 or 'A')"),
+    ("1 2", "error: one pulse count expected, not 2 words"),
+])
+def test_pulse_rejects_bad_counts(kiln, args, message):
+    assert refused(kiln, f"pulse {args}") == message
 
 
 @pytest.mark.parametrize("frozen", [True, False])
@@ -116,7 +136,7 @@ def test_leave_returns_from_the_innermost_routine(kiln):
     kiln.execute("go")
     assert kiln.emu.pc == 0x17
     # the stack holds the two return addresses, low byte at the lower address (spec §1)
-    assert kiln.execute("dump 0xfc 4").startswith("00f0")
+    assert kiln.execute("dump 0xfc 4").startswith("  00fc   16 0001 0110")
     assert list(kiln.emu.memory[0xfc:0x100]) == [0x16, 0x00, 0x08, 0x00]
     text = kiln.execute("leave")
     assert "returned to the caller" in text and kiln.emu.pc == 0x16
@@ -157,7 +177,8 @@ def test_a_line_without_code_takes_the_next_line_that_has_some(kiln):
     ("watch [nowhere]", "error: no label 'nowhere' in the program"),
 ])
 def test_point_commands_reject_bad_arguments(kiln, line, message):
-    assert kiln.execute(line).startswith(message)
+    kiln.execute("break log")
+    assert refused(kiln, line).startswith(message)
 
 
 def test_watchpoints_on_a_register_and_a_memory_word(kiln):
@@ -188,21 +209,54 @@ def test_registers_show_every_visible_register_pair_and_flag(kiln):
     assert "ir" not in text.split()
 
 
-def test_dump_matches_the_standard_library_hex_of_memory(kiln):
-    rows = kiln.execute("dump 0 32").splitlines()
-    image = bytes(kiln.emu.memory[0:32])
-    # reference: bytes.hex() from the Python standard library
-    assert rows[0].split("|")[0].replace(" ", "")[4:] == image[:16].hex()
-    assert rows[1].startswith("0010")
-    assert kiln.execute("dump").startswith("0020")
+def test_dump_shows_hex_bits_and_characters_of_narrow_words_four_to_a_row(kiln):
+    rows = kiln.execute("dump 8 8").splitlines()
+    words = bytes(kiln.emu.memory[8:16])
+    # reference: bytes.hex() and format(word, "08b") from the Python standard library
+    assert [row.split()[0] for row in rows if not row.endswith(":")] == ["0008", "000c"]
+    cells = [c for row in rows if not row.endswith(":") for c in row.split("   ")[1:]]
+    assert [c.split()[0] for c in cells] == [words[i:i + 1].hex() for i in range(8)]
+    assert ["".join(c.split()[1:3]) for c in cells] == [format(w, "08b") for w in words]
+    assert kiln.execute("dump").startswith("  0010")
 
 
-def test_dump_shows_printable_characters(kiln):
+def test_dump_shows_printable_characters_and_puts_labels_at_their_row(kiln):
     kiln.execute("put [0x300] 'h'")
     kiln.execute("put [0x301] 'i'")
-    row = kiln.execute("dump 0x300 4")
-    assert row.startswith("0300  68 69 00 00 ") and row.endswith("  |hi..            |")
-    assert len(row) == len(kiln.execute("dump 0x300 16"))
+    assert kiln.execute("dump 0x300 2") == "  0300   68 0110 1000 h   69 0110 1001 i"
+    assert kiln.execute("dump 0x12 3").splitlines() == [
+        "log:", "  0012   69 0110 1001 i   09 0000 1001 ·", "  0014   17 0001 0111 ·"]
+
+
+def test_dump_starts_at_the_address_a_register_or_pair_holds(kiln):
+    kiln.execute("put x 0x0301")
+    kiln.execute("put [0x301] 'k'")
+    kiln.execute("put r2 0x12")
+    assert kiln.execute("dump [x] 1") == "  0301   6b 0110 1011 k"
+    assert kiln.execute("dump [r2] 1").splitlines() == ["log:", "  0012   69 0110 1001 i"]
+    assert kiln.execute("dump [0x301] 1") == kiln.execute("dump [x] 1")
+    assert kiln.execute("dump [nothing]") == "error: no label 'nothing' in the program"
+
+
+def test_panel_shows_every_register_the_flags_and_the_bus_as_lamp_rows(kiln):
+    kiln.execute("pulse 2")
+    rows = kiln.execute("panel").splitlines()
+    # after li r0, 3: the bus carried the 3 into r0; sp is ref8's 16-bit register
+    assert "  r0            ○○○○ ○○●●   03    r1            ○○○○ ○○○○   00" in rows
+    assert "  sp  ○○○○ ○○○○ ○○○○ ○○○○ 0000    pc  ○○○○ ○○○○ ○○○○ ○○●○ 0002" in rows
+    assert "  ir            ○○○● ●○○○   18    t             ○○○○ ○○○○   00" in rows
+    assert "  bus           ○○○○ ○○●●   03   03 into r0" in rows
+    assert rows[-1] == "  flags z ○  n ○  c ○  v ○"
+    kiln.execute("pulse 3")
+    assert "  bus           ○○○○ ○○○○   00   00 into sp" not in kiln.execute("panel")
+    assert "  bus   ○○○○ ○○○○ ○○○○ ○○○○ 0100" not in kiln.execute("panel")
+
+
+def test_the_bus_is_dark_after_a_step_with_no_transfer(tmp_path):
+    session = session_for(tmp_path, "halt\n")
+    session.execute("pulse 2")
+    assert "  bus           ···· ····   --   dark" in session.execute("panel")
+    assert session.execute("pulse").splitlines()[0].endswith("bus 00 into ir")
 
 
 def test_code_marks_pc_and_breakpoints_and_shows_labels_and_source(kiln):
@@ -222,7 +276,7 @@ def test_panel_shows_the_sequencer_mid_instruction_and_the_program_lamps(tmp_pat
     session = session_for(tmp_path, "li r0, 0x81\nout 1, r0\nhalt\n")
     session.execute("go")
     text = session.execute("panel")
-    assert "lamps       ●○○○○○○●  81" in text
+    assert "lamps       ●○○○ ○○○●  81" in text
     assert "ring        ○ ○ ● ○    phase C, clock low, frozen at a hold point" in text
     session.execute("throw stop")
     session.execute("reset")
@@ -236,12 +290,29 @@ def test_scope_shows_the_latch_setting_and_the_freeze_after_a_halt(kiln):
     rows = kiln.execute("scope 3").splitlines()
     named = {row[:10].strip(): row[10:] for row in rows[1:] if row[:10].strip()}
     assert named["clock"] == "‾‾__‾‾__‾‾_"
+    # ref8.toml's ring: one stage lit per phase A, B, C, D; the last column is the freeze in C
+    assert named["stage 1"] == "█   █   █"
+    assert named["stage 2"] == " █   █   █"
+    assert named["stage 3"] == "  █   █   █"
+    assert named["stage 4"] == "   █   █"
     assert named["halt"] == "        ██"
     # the latch is set at the falling edge of the halt step, then the clock freezes at the hold point
     assert named["latch"] == "__________‾"
     assert named["generator"] == "          F"
     assert named["panel"] == "          L"
     assert rows[0] == "cycles 92 to 94"
+
+
+@pytest.mark.parametrize("width", [40, 70, 120])
+def test_scope_fits_the_width_it_is_given(kiln, width):
+    kiln.execute("go")
+    kiln.width = width
+    rows = kiln.execute("scope 30").splitlines()
+    assert max(len(row) for row in rows) <= width
+    clock = [row for row in rows if row.startswith("clock ")]
+    # 30 cycles of ref8's four phases, less those before the first rising edge, in blocks
+    assert len(clock) > 1 and len(clock[0]) == width
+    assert "".join(row[10:] for row in clock).startswith("‾‾__‾‾__")
 
 
 def test_scope_after_a_long_run_is_replayed_from_a_checkpoint(tmp_path):
@@ -269,7 +340,7 @@ def test_put_sets_registers_pairs_flags_and_memory(kiln):
     ("put r0 0x", "error: value '0x' is not a number (write it as 42, 0x2A, 0b101010 or 'A')"),
 ])
 def test_put_rejects_bad_arguments(kiln, line, message):
-    assert kiln.execute(line).startswith(message)
+    assert refused(kiln, line).startswith(message)
 
 
 def test_snapshots_save_and_load_the_whole_machine(kiln, tmp_path):
@@ -286,18 +357,20 @@ def test_snapshots_save_and_load_the_whole_machine(kiln, tmp_path):
 @pytest.mark.parametrize("line, message", [
     ("save", "error: usage: save FILE"),
     ("load", "error: usage: load FILE"),
-    ("load /nonexistent/kiln.snap", "/nonexistent/kiln.snap: error: cannot read snapshot"),
+    ("load /nonexistent/kiln.snap", "/nonexistent/kiln.snap: error: cannot read snapshot (No such file or directory)"),
     ("save /nonexistent/folder/kiln.snap", "error: cannot write /nonexistent/folder/kiln.snap"),
 ])
 def test_snapshot_commands_reject_bad_arguments(kiln, line, message):
-    assert kiln.execute(line).startswith(message)
+    kiln.execute("instr 2")
+    assert refused(kiln, line).startswith(message)
 
 
 def test_a_snapshot_of_another_machine_is_refused(kiln, tmp_path):
     other = Emulator(ACC12)
     path = tmp_path / "acc12.snap"
     other.snapshot(path)
-    assert "acc12" in kiln.execute(f"load {path}")
+    kiln.execute("instr 2")
+    assert refused(kiln, f"load {path}") == f"{path}: error: the snapshot is of machine 'acc12', not 'ref8'"
 
 
 def test_toggles_are_read_by_the_program(tmp_path):
@@ -352,13 +425,25 @@ def test_reset_at_run_restarts_a_frozen_clock(kiln):
 @pytest.mark.parametrize("name", ["resume", "reset", "over", "leave", "points", "registers",
                                   "panel", "why", "console", "quit"])
 def test_commands_without_arguments_refuse_them(kiln, name):
-    assert kiln.execute(f"{name} 1") == f"error: '{name}' takes no arguments"
+    assert refused(kiln, f"{name} 1") == f"error: '{name}' takes no arguments"
 
 
-@pytest.mark.parametrize("line", ["go 0", "go x", "instr 0", "scope 0", "code 0 0", "dump 0 0",
-                                  "dump 1 2 3", "code a b c", "live 0", "live fast", "live 1 2"])
-def test_counts_and_factors_are_checked(kiln, line):
-    assert kiln.execute(line).startswith("error: ")
+@pytest.mark.parametrize("line, message", [
+    ("go 0", "error: cycle limit must be at least 1, not 0"),
+    ("go x", "error: cycle limit 'x' is not a number (write it as 42, 0x2A, 0b101010 or 'A')"),
+    ("instr 0", "error: instruction count must be at least 1, not 0"),
+    ("scope 0", "error: cycle count must be at least 1, not 0"),
+    ("code 0 0", "error: instruction count must be at least 1, not 0"),
+    ("dump 0 0", "error: word count must be at least 1, not 0"),
+    ("dump 1 2 3", "error: usage: dump [ADDRESS|[REGISTER]] [COUNT]"),
+    ("code a b c", "error: usage: code [WHERE] [COUNT]"),
+    ("live 0", "error: factor must be above 0 and at most 10000, not 0"),
+    ("live fast", "error: factor 'fast' is not a number"),
+    ("live 1 2", "error: usage: live [FACTOR]"),
+])
+def test_counts_and_factors_are_checked(kiln, line, message):
+    kiln.execute("instr")
+    assert refused(kiln, line) == message
 
 
 def test_go_with_a_cycle_limit_holds_the_clock_between_commands(kiln):
@@ -443,7 +528,7 @@ def test_acc12_runs_to_its_pause_and_stop(gauge):
     assert gauge.emu.get("acc") == 0
     assert "halt at 07 done+3 gauge.asm:9" in gauge.execute("resume")
     assert gauge.emu.lamps == 5
-    assert "lamps       ○○○○○○○○○●○●  005" in gauge.execute("panel")
+    assert "lamps       ○○○○ ○○○○ ○●○●  005" in gauge.execute("panel")
 
 
 def test_acc12_has_no_call_so_over_is_one_instruction_and_leave_is_refused(gauge):
@@ -457,7 +542,9 @@ def test_acc12_has_no_call_so_over_is_one_instruction_and_leave_is_refused(gauge
 def test_acc12_views_use_its_own_widths_and_names(gauge):
     text = gauge.execute("registers")
     assert text.splitlines() == ["acc  000      0   pc    00      0", "flags  zf 0  lk 0"]
-    assert gauge.execute("dump 0 8") == "00  903 408 704 601  f00 905 a01 f00  |........|"
+    # acc12's 12-bit words: hex only, eight to a row, each label heading its own row
+    assert gauge.execute("dump 0 8").splitlines() == [
+        "start:", "  00   903", "tick:", "  01   408   704   601", "done:", "  04   f00   905   a01   f00"]
     assert "ring        ○ ● ○ ○ ○" in gauge.execute("panel")
     assert gauge.execute("put acc 4095") == "acc = 0xfff (4095)"
     assert gauge.execute("put acc 4096").startswith("error: 4096 does not fit acc")

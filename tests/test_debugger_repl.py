@@ -36,6 +36,23 @@ def drive(session, keys: str) -> list[str]:
     return shown
 
 
+def drive_slowly(session, *parts: str) -> list[str]:
+    """Like ``drive``, but each part is typed once the prompt has dealt with the one
+    before (completion after Tab runs on prompt_toolkit's event loop)."""
+    shown: list[str] = []
+    with create_pipe_input() as pipe:
+        def type_parts():
+            for part in parts:
+                time.sleep(0.3)
+                pipe.send_text(part)
+            pipe.close()
+        typist = threading.Thread(target=type_parts)
+        typist.start()
+        run_repl(session, input=pipe, output=DummyOutput(), write=shown.append)
+        typist.join()
+    return shown
+
+
 def test_commands_typed_at_the_prompt_are_answered(tmp_path):
     session = session_for(tmp_path)
     shown = drive(session, "instr\r\r\rregisters\rquit\r")
@@ -49,7 +66,18 @@ def test_commands_typed_at_the_prompt_are_answered(tmp_path):
 
 def test_end_of_input_leaves_the_debugger(tmp_path):
     session = session_for(tmp_path)
-    assert drive(session, "go\r")[1].startswith("switch at RUN")
+    shown, ended = [], []
+    with create_pipe_input() as pipe:
+        pipe.send_text("waves kiln.vcd\rinstr\r")
+        pipe.close()
+        prompt = threading.Thread(target=lambda: ended.append(
+            run_repl(session, input=pipe, output=DummyOutput(), write=shown.append)))
+        prompt.start()
+        prompt.join(timeout=20)
+    assert not prompt.is_alive(), "the prompt went on reading after the end of its input"
+    assert ended == [0] and len(shown) == 3
+    # leaving writes what is open: a VCD file opens with a '$' keyword (IEEE 1364-2005 clause 18, from memory)
+    assert session.waves is None and (tmp_path / "kiln.vcd").read_text().startswith("$")
 
 
 def test_history_is_kept_in_the_file_named_by_the_environment(tmp_path):
@@ -64,10 +92,18 @@ def test_history_defaults_to_the_xdg_state_folder(monkeypatch, tmp_path):
     assert history_path() == tmp_path / "state" / "relaybench" / "debug-history"
 
 
-def test_tab_completes_a_command_name(tmp_path):
+def test_tab_completes_a_command_name_and_adds_its_space(tmp_path):
     session = session_for(tmp_path)
-    shown = drive(session, "regi\t\rquit\r")
-    assert shown[1].startswith("r0    00      0")
+    # without completion "breamark" is no command; without the space "breakmark" neither
+    shown = drive_slowly(session, "brea\t", "mark\rquit\r")
+    assert shown[1] == "breakpoint 1 at 0017 mark kiln.asm:14"
+
+
+def test_tab_completes_a_label_argument(tmp_path):
+    session = session_for(tmp_path)
+    # "ma" is no label of KILN: only the completer makes it "mark"
+    shown = drive_slowly(session, "break ma\t", "\rquit\r")
+    assert shown[1] == "breakpoint 1 at 0017 mark kiln.asm:14"
 
 
 def test_a_real_sigint_during_a_run_throws_the_stop_switch(tmp_path):
@@ -135,6 +171,27 @@ def test_live_application_leaves_on_q(tmp_path):
         text = run_live(session, input=pipe, output=DummyOutput())
     assert text.startswith("left live mode. frozen: the switch is at STOP")
     assert session.live_factor is None
+
+
+def test_ctrl_c_in_live_mode_throws_stop_and_gives_the_prompt_back(tmp_path):
+    session = session_for(tmp_path, SOAK)
+    session.execute("live 100")
+    said = []
+    with create_pipe_input() as pipe:
+        # r starts the clock; after Ctrl-C the p must not reach the live view as STEP
+        pipe.send_text("r")
+        live = threading.Thread(target=lambda: said.append(run_live(session, input=pipe, output=DummyOutput())))
+        live.start()
+        while session.emu.cycles < 20:
+            time.sleep(0.01)
+        pipe.send_text("\x03p")
+        live.join(timeout=10)
+        if live.is_alive():
+            pipe.send_text("q")
+            live.join()
+    assert said[0].startswith("stopped by the stop switch (Ctrl-C): left live mode. frozen: the switch is at STOP")
+    assert session.emu.frozen and not session.emu.switch_run
+    assert session.last_stop == "stopped by the stop switch (Ctrl-C): left live mode"
 
 
 def test_the_debug_command_reports_a_bad_program_without_a_traceback(tmp_path, capsys):

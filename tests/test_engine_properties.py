@@ -260,8 +260,14 @@ class PanelMachine(RuleBasedStateMachine):
         emu, watch = self.emu, self.watch
         if watch is None or not (emu.frozen and emu.halt_latch) or watch.pulses_since_latch is None:
             return
-        assert watch.pulses_since_latch <= _cycles_after_latch_bound(self.machine)
-        assert emu.pc != emu.halt_address, "pc already points past the halt"
+        bound = _cycles_after_latch_bound(self.machine)
+        assert watch.pulses_since_latch <= bound
+        # The halt is the last step of its instruction, so each later pulse is a step of
+        # the next fetch; in both machine files that step is "ir <- mem[pc]; pc <- pc + 1".
+        assert bound <= len(self.machine.fetch)
+        halt = self.machine.instructions[self.machine.decode_table[emu.memory[emu.halt_address]]]
+        past = emu.halt_address + halt.word_count + watch.pulses_since_latch
+        assert emu.pc == past % self.machine.memory_words, "pc is not just past the halt (and the fetches after it)"
 
 
 class Ref8Stepping(PanelMachine):

@@ -13,7 +13,7 @@ from emu.timing import spread_source
 
 from ._arguments import count, no_arguments, number
 from ._conditions import CallDepth, Count
-from ._panel import word_hex
+from ._panel import bus_text, word_hex
 from ._table import DebugError, command
 
 __all__ = []
@@ -57,7 +57,8 @@ def do_throw(session, args):
 @command("pulse [N]", "Press STEP N times: N clock pulses, one micro-step each.", repeats=True)
 def do_pulse(session, args):
     """Works only while the generator is frozen at a hold point, as on the
-    panel; the ring does not move. Breakpoints are not checked."""
+    panel; the ring does not move. Breakpoints are not checked. Each line
+    shows the control lines driven and the bus (as 'help panel' defines it)."""
     n = count(args, 1, "pulse count")
     e = session.emu
     if not e.frozen:
@@ -69,7 +70,8 @@ def do_pulse(session, args):
         if k < PULSE_REPORT:
             doing = "fetch" if instruction is None else instruction.mnemonic
             lines = ", ".join(step.control_lines) or "no lines"
-            rows.append(f"pulse {k + 1}: {doing} step {index + 1}: {step.text}   [{lines}]")
+            rows.append(f"pulse {k + 1}: {doing} step {index + 1}: {step.text}   [{lines}]   "
+                        f"bus {bus_text(session.machine, session.recorder.last_bus)}")
     if n > PULSE_REPORT:
         rows.append(f"… {n - PULSE_REPORT:,} more pulses")
     latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch else ""
@@ -149,9 +151,9 @@ def do_leave(session, args):
 
 @command("live [FACTOR]", "Run in real time, FACTOR times the nominal clock, panel updating.")
 def do_live(session, args):
-    """Keys in the live view: s or Ctrl-C throw the switch to stop, r to
-    run, space presses RESUME, p presses STEP, q or Enter return to
-    the prompt (the clock is then held between commands)."""
+    """Keys in the live view: s throws the switch to stop, r to run, space
+    presses RESUME, p presses STEP, q or Enter return to the prompt (the
+    clock is then held between commands); Ctrl-C throws stop and returns."""
     if len(args) > 1:
         raise DebugError("usage: live [FACTOR]")
     factor = 1.0

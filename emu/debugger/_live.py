@@ -82,7 +82,7 @@ class LiveClock:
         s = self.session
         m = s.machine
         rate = self.factor * m.nominal_hz
-        keys = "s/Ctrl-C stop  r run  space resume  p step  q back to the prompt"
+        keys = "s stop  r run  space resume  p step  q back to the prompt  Ctrl-C stop and back"
         state = s.state_text() if s.emu.frozen else "clock running in real time"
-        return (f"{panel_text(s.emu, state, s.view)}\n"
+        return (f"{panel_text(s.emu, state, s.view, s.recorder.last_bus)}\n"
                 f"  live        {rate:g} Hz ({self.factor:g} × nominal)   {keys}\n")

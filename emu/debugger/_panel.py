@@ -7,14 +7,16 @@ widths come from the machine description.
 
 from __future__ import annotations
 
+import textwrap
+
 import asm
 
 from .. import formatting
 
 from ._trace import Column
 
-__all__ = ["registers_text", "dump_text", "code_lines", "panel_text", "scope_text",
-           "duration_text", "word_hex", "address_hex", "lamp_row"]
+__all__ = ["registers_text", "dump_text", "code_lines", "panel_text", "scope_text", "bus_text",
+           "duration_text", "word_hex", "address_hex", "lamp_row", "SCOPE_LABEL_ROOM"]
 
 LIT, DARK = "●", "○"
 HIGH, LOW = "‾", "_"
@@ -37,8 +39,34 @@ def duration_text(ns: int) -> str:
     return formatting.duration_text(ns / 1e9)
 
 
+def _in_fours(symbols: str) -> str:
+    """Groups of four from the right: a person reads ○○●○ ●○○● faster than eight in a row."""
+    head = len(symbols) % 4
+    groups = ([symbols[:head]] if head else []) + [symbols[i:i + 4] for i in range(head, len(symbols), 4)]
+    return " ".join(groups)
+
+
 def lamp_row(value: int, bits: int) -> str:
-    return "".join(LIT if value >> b & 1 else DARK for b in reversed(range(bits)))
+    """``bits`` lamps, most significant first, in groups of four."""
+    return _in_fours("".join(LIT if value >> b & 1 else DARK for b in reversed(range(bits))))
+
+
+def _bits(value: int, bits: int) -> str:
+    """Binary digits grouped as ``lamp_row`` groups its lamps."""
+    return _in_fours(f"{value:0{bits}b}")
+
+
+def bus_text(machine, bus) -> str:
+    """``bus`` (a ``Bus`` of ``_trace``) in words: its value in hex and where it went."""
+    if bus is None:
+        return "dark"
+    if bus.register is not None:
+        into = f"into {bus.register}"
+    elif bus.address is not None:
+        into = f"into [{address_hex(machine, bus.address)}]"
+    else:
+        into = f"out to port {bus.port}"
+    return f"{_hex(bus.value, bus.bits)} {into}"
 
 
 def registers_text(emu) -> str:
@@ -56,23 +84,41 @@ def registers_text(emu) -> str:
     return "\n".join(rows)
 
 
-def dump_text(emu, start: int, count: int) -> str:
+def dump_words_per_row(machine) -> int:
+    """Narrow words (8 bits or fewer) are shown in binary too, four to a row;
+    wider ones in hex only, eight to a row, so a row stays within 80 columns."""
+    return 4 if machine.data_bits <= 8 else 8
+
+
+def dump_text(emu, start: int, count: int, view=None) -> str:
+    """Memory as the builder reads it: rows of words at their addresses.
+
+    A word of 8 bits or fewer shows its hex, its bits as the lamps of the
+    memory would (in groups of four) and the character it codes, if any.
+    A label of the program starts a row of its own, headed ``label:``, so
+    data reads by name. Rows keep to multiples of the words per row.
+    """
     m = emu.machine
-    per_row = 16 if m.data_bits <= 8 else 8
-    rows = []
+    per_row = dump_words_per_row(m)
+    narrow = m.data_bits <= 8
     end = min(start + count, m.memory_words)
-    for row in range(start - start % per_row, end, per_row):
-        words, chars = [], []
-        for a in range(row, row + per_row):
-            if start <= a < end:
-                w = emu.memory[a]
-                words.append(word_hex(m, w))
-                chars.append(chr(w) if 32 <= w < 127 else ".")
-            else:
-                words.append(" " * len(word_hex(m, 0)))
-                chars.append(" ")
-        half = per_row // 2
-        rows.append(f"{address_hex(m, row)}  {' '.join(words[:half])}  {' '.join(words[half:])}  |{''.join(chars)}|")
+    labels = {} if view is None else {a: view.labels_at(a) for a in range(start, end) if view.labels_at(a)}
+
+    def cell(word: int) -> str:
+        if not narrow:
+            return word_hex(m, word)
+        char = chr(word) if 32 < word < 127 else "·"
+        return f"{word_hex(m, word)} {_bits(word, m.data_bits)} {char}"
+
+    rows, at = [], start
+    while at < end:
+        for label in labels.get(at, []):
+            rows.append(f"{label}:")
+        row_end = min(at - at % per_row + per_row, end)
+        row_end = next((a for a in range(at + 1, row_end) if a in labels), row_end)
+        cells = [cell(emu.memory[a]) for a in range(at, row_end)]
+        rows.append(f"  {address_hex(m, at)}   " + "   ".join(cells))
+        at = row_end
     return "\n".join(rows)
 
 
@@ -96,10 +142,36 @@ def code_lines(emu, view, addresses, breakpoints) -> list[str]:
     return rows
 
 
-def panel_text(emu, state: str, view=None) -> str:
+def _register_lamps(emu, bus) -> list[str]:
+    """A lamp row per register (visible ones first, then the internal latches),
+    and the bus: two to a line when they fit in 80 columns."""
+    m = emu.machine
+    registers = m.visible_registers + [r for r in m.registers.values() if r.internal]
+    widest = max([r.width for r in registers] + [bus.bits if bus else 0])
+    name_room = max([len("bus")] + [len(r.name) for r in registers])
+    lamp_room = len(lamp_row(0, widest))
+    hex_room = (widest + 3) // 4
+
+    def cell(name: str, value: int | None, bits: int) -> str:
+        lamps = lamp_row(value, bits) if value is not None else lamp_row(0, bits).replace(DARK, "·")
+        digits = _hex(value, bits) if value is not None else "-" * ((bits + 3) // 4)
+        return f"{name:<{name_room}} {lamps:>{lamp_room}} {digits:>{hex_room}}"
+
+    cells = [cell(r.name, emu.get(r.name), r.width) for r in registers]
+    width = len(cells[0])
+    per_line = 2 if 2 + 2 * width + 4 <= 80 else 1
+    rows = ["  " + "    ".join(cells[i:i + per_line]) for i in range(0, len(cells), per_line)]
+    carried = cell("bus", bus.value if bus else None, bus.bits if bus else m.data_bits)
+    rows.append(f"  {carried}   {bus_text(m, bus)}")
+    rows.append("  flags " + "  ".join(f"{name} {LIT if emu.get(name) else DARK}" for name in m.flags))
+    return rows
+
+
+def panel_text(emu, state: str, view=None, bus=None) -> str:
     """The panel as a person would see it, plus what the control unit is doing.
 
-    ``view`` (what is known of the program) puts labels into the instruction shown.
+    ``view`` (what is known of the program) puts labels into the instruction shown;
+    ``bus`` is what the bus carried in the last micro-step (a ``Bus``, or None: dark).
     """
     m = emu.machine
     phase = m.phases[emu.phase_index]
@@ -128,6 +200,7 @@ def panel_text(emu, state: str, view=None) -> str:
         f"  toggles     {lamp_row(emu.switches, data_bits)}  {word_hex(m, emu.switches)}",
         f"  pc {address_hex(m, emu.pc)}   cycles {emu.cycles:,}   instructions {emu.instructions:,}"
         f"   time {duration_text(emu.time_ns)}",
+        *_register_lamps(emu, bus),
     ]
     return "\n".join(rows)
 
@@ -139,8 +212,13 @@ _LEGEND = ("clock: ‾ high, _ low; █ a lit ring stage or a control line drive
            "panel: s stop, r run, R resume, Z reset, t toggles, L latch set, l latch cleared")
 
 
-def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = False) -> str:
-    """A logic-analyser picture of the recorded columns, in blocks of ``width``."""
+SCOPE_LABEL_ROOM = 10
+"""Least room for the row names at the left of the scope."""
+
+
+def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = False) -> str:
+    """A logic-analyser picture of the recorded columns, every line at most ``width``
+    characters (the terminal's): the columns are cut into blocks that fit beside the names."""
     if not columns:
         return "nothing recorded yet: the clock has not run since the debugger started or a snapshot was loaded"
     lines_seen: list[str] = []
@@ -148,10 +226,11 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         for line in sorted(column.lines):
             if line not in lines_seen:
                 lines_seen.append(line)
-    label = max([10] + [len(n) + 1 for n in lines_seen])
+    label = max([SCOPE_LABEL_ROOM] + [len(n) + 1 for n in lines_seen])
+    per_block = max(width - label, 8)
     blocks = []
-    for begin in range(0, len(columns), width):
-        part = columns[begin:begin + width]
+    for begin in range(0, len(columns), per_block):
+        part = columns[begin:begin + per_block]
         rows = {
             "cycle": _cycle_row(part),
             "clock": "".join(HIGH if c.level else LOW for c in part),
@@ -167,7 +246,9 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         blocks.append("\n".join(f"{name:<{label}}{row.rstrip() or ''}" for name, row in rows.items()))
     first, last = columns[0].cycle, columns[-1].cycle
     head = f"cycles {first:,} to {last:,}" + (" (the run before them was not traced)" if gap else "")
-    return head + "\n" + "\n\n".join(blocks) + "\n" + _LEGEND
+    legend = "\n".join(textwrap.fill(line, max(width, 40), subsequent_indent="  ")
+                       for line in _LEGEND.splitlines())
+    return head + "\n" + "\n\n".join(blocks) + "\n" + legend
 
 
 def _cycle_row(part: list[Column]) -> str:

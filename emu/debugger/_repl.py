@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import asyncio
 import os
+import shutil
 import signal
 import threading
 from contextlib import contextmanager
@@ -29,6 +30,8 @@ __all__ = ["HISTORY_VARIABLE", "history_path", "run_repl", "run_live", "run_scri
 
 HISTORY_VARIABLE = "RELAYBENCH_DEBUG_HISTORY"
 FRAME_SECONDS = 0.04
+PIPED_WIDTH = 80
+"""Line width of the views when commands come from a file or a pipe."""
 
 
 def history_path() -> Path:
@@ -51,14 +54,19 @@ def _history():
 
 
 class _SessionCompleter(Completer):
+    """Tab completion from the session's candidates; a completed command name
+    gets its space, so the argument can be typed straight after it."""
+
     def __init__(self, session):
         self.session = session
 
     def get_completions(self, document, complete_event):
         before = document.text_before_cursor
         typed = before.split()[-1] if before and not before[-1].isspace() else ""
+        naming_the_command = not before[:len(before) - len(typed)].strip()
+        after = " " if naming_the_command else ""
         for candidate in self.session.complete(before):
-            yield Completion(candidate, start_position=-len(typed))
+            yield Completion(candidate + after, start_position=-len(typed), display=candidate)
 
 
 @contextmanager
@@ -87,6 +95,7 @@ def run_script(session, lines, write=print) -> int:
     after the prompt so the transcript reads like a session; returns the exit status."""
     write(_banner(session))
     session.announce = None
+    session.width = PIPED_WIDTH
     for line in lines:
         command = line.rstrip("\n")
         write(f"{session.machine.name}> {command}")
@@ -116,6 +125,7 @@ def run_repl(session, *, input=None, output=None, write=print) -> int:
             continue
         except EOFError:
             break
+        session.width = shutil.get_terminal_size().columns
         with ctrl_c_is_the_stop_switch(session):
             text = session.execute(line)
         if text:
@@ -131,14 +141,22 @@ def run_live(session, *, input=None, output=None, now=None) -> str:
     factor, session.live_factor = session.live_factor, None
     clock = LiveClock(session, factor) if now is None else LiveClock(session, factor, now)
     keys = KeyBindings()
-    actions = {"s": "stop", "c-c": "stop", "r": "run", "space": "resume", "p": "step"}
+    actions = {"s": "stop", "r": "run", "space": "resume", "p": "step"}
     for key, action in actions.items():
         keys.add(key)(lambda _event, action=action: clock.press(action))
+    interrupted = []
 
     @keys.add("q")
     @keys.add("enter")
     @keys.add("escape")
     def _leave(event):
+        event.app.exit()
+
+    @keys.add("c-c")
+    def _stop_and_leave(event):
+        """As during any run: Ctrl-C throws the stop switch and gives the prompt back."""
+        clock.press("stop")
+        interrupted.append(True)
         event.app.exit()
 
     app = Application(layout=Layout(Window(FormattedTextControl(clock.screen))), key_bindings=keys,
@@ -155,5 +173,9 @@ def run_live(session, *, input=None, output=None, now=None) -> str:
 
     app.run(pre_run=lambda: app.create_background_task(pace()))
     reason = clock.finished or "left live mode"
+    if interrupted and not session.emu.frozen:
+        session.settle()
+    if interrupted and not clock.finished:
+        reason = "stopped by the stop switch (Ctrl-C): left live mode"
     session.last_stop = reason
     return f"{reason}. {session.state_text()}. {session.here_text()}"

@@ -8,12 +8,13 @@ from ._assembler import assemble_file, assemble_text
 from ._debuginfo import DebugInfo, Expect, LineEntry, debug_path_for, image_fingerprint, read_debug, write_debug
 from ._disasm import disassemble, disassemble_at
 from ._errors import AsmError, Diagnostic
+from ._planting import Moved, Planting, plant_halts
 from ._image import intel_hex_text, parse_intel_hex, read_image, sniff, write_binary, write_intel_hex
 from ._program import Program, write_listing
 
 __all__ = [
-    "AsmError", "DebugInfo", "Diagnostic", "Expect", "LineEntry", "Program",
+    "AsmError", "DebugInfo", "Diagnostic", "Expect", "LineEntry", "Moved", "Planting", "Program",
     "assemble_file", "assemble_text", "debug_path_for", "disassemble", "disassemble_at",
-    "image_fingerprint", "intel_hex_text", "parse_intel_hex", "read_debug", "read_image", "sniff", "write_binary", "write_debug", "write_intel_hex",
+    "image_fingerprint", "intel_hex_text", "parse_intel_hex", "plant_halts", "read_debug", "read_image", "sniff", "write_binary", "write_debug", "write_intel_hex",
     "write_listing",
 ]

@@ -70,6 +70,18 @@ class Planting:
                 return self.program.labels[name]
         return address
 
+    def original_address(self, address: int) -> int | None:
+        """Where the word now at ``address`` was in the original program; None for a planted halt."""
+        if address in self.halt_places:
+            return None
+        for old, new in self._pairs:
+            if new.address <= address < new.address + new.length:
+                return old.address + (address - new.address)
+        for name, value in self.program.labels.items():
+            if value == address:
+                return self.original.labels[name]
+        return address
+
     @cached_property
     def _pairs(self) -> list:
         """(entry in the original, entry of the same statement now), by original address."""

@@ -118,3 +118,24 @@ def test_planted_halt_on_acc12_stops_and_resumes_to_the_same_lamps(tmp_path):
     finish(gauge)
     assert gauge.emu.lamps == plain.emu.lamps == 5
     assert gauge.emu.get("acc") == plain.emu.get("acc")
+
+
+ECHO = """\
+; echo: two bytes of the input stream (port 1) copied to the console
+start:  in r0, 1
+        out 0, r0
+        in r0, 1
+        out 0, r0
+        halt
+"""
+
+
+def test_planting_rewinds_the_input_stream_and_keeps_the_toggles(tmp_path):
+    echo = session_for(tmp_path, ECHO, name="echo.asm")
+    echo.emu.input_bytes, echo.emu.switches = b"ok", 0x5A
+    echo.execute("instr 2")
+    assert echo.execute("console") == "1 byte(s):\no"
+    echo.execute("break echo.asm:4 planted")
+    assert echo.emu.switches == 0x5A and echo.execute("console") == "no console output yet"
+    finish(echo)
+    assert echo.execute("console") == "2 byte(s):\nok"

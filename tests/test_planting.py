@@ -176,3 +176,28 @@ def test_an_included_file_changed_since_assembly_is_refused(tmp_path):
     (tmp_path / "lib.inc").write_text("mark: inc r3\n      inc r3\n      ret\n")
     with pytest.raises(asm.AsmError, match="changed since the program was assembled"):
         asm.plant_halts(original, [(str(main), 1)])
+
+
+def test_a_jump_to_a_written_address_ends_at_another_halt_and_that_is_reported():
+    """jmp 0x0004 means the second halt as written; behind a planted halt it is the first."""
+    text = "start:  jmp 0x0004\n        halt\n        halt\n"
+    original = assembled(REF8, text, "jump.asm")
+    _planting, divergence = check_planting(original, REF8, [("jump.asm", 1)], path="jump.asm")
+    assert (divergence.what, divergence.plain, divergence.planted) == (
+        "stop", ("jump.asm", 3), ("jump.asm", 2))
+    assert divergence.text == "it stopped at jump.asm:3 without the halt, at jump.asm:2 with it"
+
+
+def test_an_address_shown_on_the_console_is_reported():
+    text = "start:  li r0, table\n        out 0, r0\n        li r0, 0\n        halt\ntable:  .byte 0\n"
+    original = assembled(REF8, text, "show.asm")
+    _planting, divergence = check_planting(original, REF8, [("show.asm", 1)], path="show.asm")
+    # li two words, out two, li two, halt one: table at 0x07, behind the halt 0x08.
+    assert (divergence.what, divergence.plain, divergence.planted) == ("output", b"\x07", b"\x08")
+
+
+def test_an_address_shown_on_the_acc12_lamps_is_reported():
+    text = "start:  set table\n        put 1\n        set 0\n        stop\ntable:  .byte 0\n"
+    original = assembled(ACC12, text, "lamp.asm")
+    _planting, divergence = check_planting(original, ACC12, [("lamp.asm", 2)], path="lamp.asm")
+    assert (divergence.what, divergence.plain, divergence.planted) == ("lamps", 4, 5)

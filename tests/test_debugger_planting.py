@@ -43,7 +43,9 @@ def test_planting_restarts_the_program_and_names_what_moved(tmp_path):
     assert "  log              0012 → 0013  (+1, code label)" in text
     assert "  mark             0017 → 0018  (+1, code label)" in text
     assert kiln.emu.cycles == 0 and kiln.emu.pc == 0 and kiln.emu.memory[8] == HALT
-    assert kiln.execute("points") == "  1  break  planted  0008 ramp+3 kiln.asm:5"
+    assert kiln.execute("points").splitlines() == [
+        "  1  break  planted  0008 ramp+3 kiln.asm:5", "moved from where the program as written puts them:",
+        "  log              0012 → 0013  (+1, code label)", "  mark             0017 → 0018  (+1, code label)"]
 
 
 def test_a_planted_halt_stops_at_its_line_and_resume_goes_on_to_the_same_results(tmp_path):
@@ -70,7 +72,7 @@ def test_other_points_follow_their_statements_and_drop_takes_the_halt_out(tmp_pa
     assert kiln.execute("break mark") == "breakpoint 1 at 0017 mark kiln.asm:14"
     assert kiln.execute("watch [mark]").startswith("watchpoint 2 on [0017]")
     kiln.execute("break ramp planted")
-    assert kiln.execute("points").splitlines() == [
+    assert kiln.execute("points").splitlines()[:3] == [
         "  1  break  watched  0018 mark kiln.asm:14", "  2  watch  [0018] (now 0x29)",
         "  3  break  planted  0005 ramp kiln.asm:4"]
     text = kiln.execute("drop 3")
@@ -80,6 +82,16 @@ def test_other_points_follow_their_statements_and_drop_takes_the_halt_out(tmp_pa
         "  1  break  watched  0017 mark kiln.asm:14", "  2  watch  [0017] (now 0x29)"]
     assert kiln.view.planting is not None and not kiln.view.planting.halts
     assert kiln.emu.memory[5] == asm.assemble_text("call 0x12\n", kiln.machine).flat()[0]
+
+
+def test_a_long_list_of_moves_is_cut_short_when_planting_and_listed_whole_by_points(tmp_path):
+    text = "start:  inc r0\n" + "".join(f"step{k}:  inc r0\n" for k in range(12)) + "        halt\n"
+    counter = session_for(tmp_path, text, name="count.asm")
+    told = counter.execute("break start planted")
+    assert told.splitlines()[-1] == "  … and 4 more ('points' lists them all)"
+    assert "  step0            0001 → 0002  (+1, code label)" in told
+    listed = counter.execute("points").splitlines()
+    assert len(listed) == 1 + 1 + 12 and listed[-1] == "  step11           000c → 000d  (+1, code label)"
 
 
 def test_drop_all_takes_every_planted_halt_out(tmp_path):

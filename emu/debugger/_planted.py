@@ -21,7 +21,7 @@ from ._program import Places, ProgramView
 from ._stopping import Breakpoint
 from ._table import DebugError
 
-__all__ = ["replant", "statement_at"]
+__all__ = ["moved_text", "replant", "statement_at"]
 
 
 def original_program(session) -> asm.Program:
@@ -73,6 +73,7 @@ def replant(session, breakpoints: dict[int, Breakpoint]) -> str:
     view = ProgramView(old_view.path, loaded, dict(loaded.labels), dict(loaded.symbols), list(loaded.lines),
                        loaded.pauses, dict(loaded.source_map), dict(loaded.sources), planting=planting)
     places_now = Places(session.machine, view)
+    emulator = _burnt(session, view)
 
     def follow(address: int) -> int:
         before = old_view.planting.original_address(address) if old_view.planting else address
@@ -90,24 +91,31 @@ def replant(session, breakpoints: dict[int, Breakpoint]) -> str:
             session.watches[number] = Watch(number, address=follow(w.address),
                                             label=f"[{places_now.hex(follow(w.address))}]")
     waves = session.waves[0] if session.waves else None
-    _power_on(session, view, places_now)
+    _power_on(session, emulator, view, places_now)
     kept = f"; the waveform recording was written to {waves}" if waves else ""
-    return (f"the program was assembled again with {_halts(len(planting.halt_places))} and burnt into memory: "
-            f"the machine starts again from the beginning (registers, flags, counters and console cleared, "
-            f"input rewound, toggles kept, switch at STOP){kept}.\n{moved_text(session, planting)}")
+    return (f"the program was assembled again with {_halts(len(planting.halt_places))} and burnt into memory; "
+            f"it starts again from the beginning: registers, flags, counters and console cleared, "
+            f"input rewound, toggles kept, switch at STOP{kept}.\n{moved_text(session, planting, SHOWN_MOVES)}")
 
 
-def moved_text(session, planting: asm.Planting) -> str:
+SHOWN_MOVES = 8
+"""Moves listed when planting; 'points' lists them all."""
+
+
+def moved_text(session, planting: asm.Planting, limit: int | None = None) -> str:
     """Which labels and data stand elsewhere than the program as written puts them."""
     if not planting.moved:
         return "no label or data moved" if planting.halts else \
             "every label and data word is back where the program as written puts it"
     hex_of = session.places.hex
     rows = []
-    for m in planting.moved:
+    for m in planting.moved[:limit]:
         kind = {"code": "code label", "data": "data", "constant": "constant"}[m.kind]
         old, new = (hex_of(m.old), hex_of(m.new)) if m.kind != "constant" else (str(m.old), str(m.new))
         rows.append(f"  {m.name:<16} {old} → {new}  ({m.shift:+d}, {kind})")
+    more = len(planting.moved) - len(rows)
+    if more:
+        rows.append(f"  … and {more} more ('points' lists them all)")
     return "moved from where the program as written puts them:\n" + "\n".join(rows)
 
 
@@ -115,16 +123,20 @@ def _halts(count: int) -> str:
     return "no planted halt" if count == 0 else f"{count} planted halt{'s' if count != 1 else ''}"
 
 
-def _power_on(session, view: ProgramView, places: Places) -> None:
+def _burnt(session, view: ProgramView) -> Emulator:
     """A new machine with the new image; the toggles and the input stream carried over."""
-    old = session.emu
     emulator = Emulator(session.machine)
     try:
         emulator.load(view.loaded.segments)
     except MachineError as exc:
         raise DebugError(f"the planted program does not fit: {exc.message}") from None
-    emulator.switches = old.switches
-    emulator.input_bytes = old.input_bytes
+    emulator.switches = session.emu.switches
+    emulator.input_bytes = session.emu.input_bytes
+    return emulator
+
+
+def _power_on(session, emulator: Emulator, view: ProgramView, places: Places) -> None:
+    """The session works on the new machine, switch at STOP, as after 'relaybench debug'."""
     session.view, session.places = view, places
     session.attach(emulator)
     emulator.set_switch_run(False)

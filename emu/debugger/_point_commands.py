@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from ._arguments import no_arguments, number, target, where
 from ._conditions import Watch
-from ._planted import replant, statement_at
+from ._planted import moved_text, replant, statement_at
 from ._stopping import Breakpoint
 from ._table import DebugError, command
 
@@ -72,14 +72,18 @@ def do_watch(session, args):
     return f"watchpoint {watch.number} on {watch.label} (now {watch.read(session.emu):#x})"
 
 
-@command("points", "List the breakpoints and watchpoints.")
+@command("points", "List the breakpoints and watchpoints (and what planted halts moved).")
 def do_points(session, args):
     no_arguments(args, "points")
+    planting = session.view.planting
     rows = [f"{b.number:>3}  break  {'planted' if b.planted else 'watched'}  {b.label}"
             for b in session.breakpoints.values()]
     rows += [f"{w.number:>3}  watch  {w.label} (now {w.read(session.emu):#x})"
              for w in session.watches.values()]
-    return "\n".join(sorted(rows, key=lambda r: int(r.split()[0]))) or "no breakpoints or watchpoints"
+    text = "\n".join(sorted(rows, key=lambda r: int(r.split()[0]))) or "no breakpoints or watchpoints"
+    if planting is not None and planting.halts:
+        text += "\n" + moved_text(session, planting)
+    return text
 
 
 @command("drop N|all", "Delete breakpoint or watchpoint N, or all of them.", complete=("point",))

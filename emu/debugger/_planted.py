@@ -109,10 +109,11 @@ def moved_text(session, planting: asm.Planting, limit: int | None = None) -> str
             "every label and data word is back where the program as written puts it"
     hex_of = session.places.hex
     rows = []
+    width = max(16, *(len(m.name) for m in planting.moved[:limit]))
     for m in planting.moved[:limit]:
         kind = {"code": "code label", "data": "data", "constant": "constant"}[m.kind]
         old, new = (hex_of(m.old), hex_of(m.new)) if m.kind != "constant" else (str(m.old), str(m.new))
-        rows.append(f"  {m.name:<16} {old} → {new}  ({m.shift:+d}, {kind})")
+        rows.append(f"  {m.name:<{width}} {old} → {new}  ({m.shift:+d}, {kind})")
     more = len(planting.moved) - len(rows)
     if more:
         rows.append(f"  … and {more} more ('points' lists them all)")

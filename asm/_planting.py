@@ -6,7 +6,8 @@ does exactly that, through the assembler itself (so every label, every
 ``.org`` and every expression comes out as the real machine would have it),
 and says what moved. The source lines stay those of the original files: a
 planted halt maps to the statement it stands in front of. A label on that
-statement names the halt, so a jump to the label stops there too.
+statement (or alone on a line just above it) names the halt, so a jump to
+the label stops there too.
 """
 
 from __future__ import annotations

@@ -201,3 +201,11 @@ def test_an_address_shown_on_the_acc12_lamps_is_reported():
     original = assembled(ACC12, text, "lamp.asm")
     _planting, divergence = check_planting(original, ACC12, [("lamp.asm", 2)], path="lamp.asm")
     assert (divergence.what, divergence.plain, divergence.planted) == ("lamps", 4, 5)
+
+
+def test_a_label_alone_on_the_line_above_names_the_planted_halt():
+    text = "start:  li r0, 2\nagain:\n        dec r0\n        jnz again\n        halt\n"
+    planting = asm.plant_halts(assembled(REF8, text, "loop.asm"), [("loop.asm", 3)])
+    by_hand = assembled(REF8, text.replace("again:\n", "again:\n        pause\n"), "loop.asm")
+    assert planting.program.labels["again"] == planting.halts[("loop.asm", 3)][0] == 2
+    assert planting.program.image() == by_hand.image()

@@ -5,15 +5,19 @@ word width) comes from an ``emu.Machine``; this package knows none of it.
 """
 
 from ._assembler import MAX_INCLUDE_DEPTH, assemble_file, assemble_text
-from ._debuginfo import DebugInfo, Expect, LineEntry, debug_path_for, debug_text, image_fingerprint, read_debug, write_debug
+from ._debuginfo import (DebugInfo, Expect, LineEntry, debug_path_for, debug_text, image_fingerprint, read_debug,
+                         write_debug)
 from ._disasm import disassemble, disassemble_at, disassemble_image
 from ._errors import AsmError, Diagnostic
 from ._image import image_bytes, intel_hex_text, parse_intel_hex, read_image, sniff, write_binary, write_intel_hex
+from ._planting import Moved, Planting, plant_halts
 from ._program import Program, write_listing
 
 __all__ = [
-    "MAX_INCLUDE_DEPTH", "AsmError", "DebugInfo", "Diagnostic", "Expect", "LineEntry", "Program",
-    "assemble_file", "assemble_text", "debug_path_for", "debug_text", "disassemble", "disassemble_at", "disassemble_image",
-    "image_bytes", "image_fingerprint", "intel_hex_text", "parse_intel_hex", "read_debug", "read_image", "sniff", "write_binary", "write_debug", "write_intel_hex",
+    "MAX_INCLUDE_DEPTH", "AsmError", "DebugInfo", "Diagnostic", "Expect", "LineEntry", "Moved", "Planting",
+    "Program", "assemble_file", "assemble_text", "debug_path_for", "debug_text", "disassemble",
+    "disassemble_at", "disassemble_image", "image_bytes", "image_fingerprint", "intel_hex_text",
+    "parse_intel_hex", "plant_halts", "read_debug", "read_image", "sniff", "write_binary", "write_debug",
+    "write_intel_hex",
     "write_listing",
 ]

@@ -144,6 +144,10 @@ class _Assembly:
     last_halt: int | None = None
     pending_origin: _Place | None = None
     current_run: _Run | None = None
+    plant_before: frozenset = frozenset()
+    """(file, line) of instructions to get a planted pause in front (see ``_planting``)."""
+    planted: dict = field(default_factory=dict)
+    """(file, line) → the addresses of the pauses planted there (twice if its file is included twice)."""
 
     def __post_init__(self):
         self.syntax = MachineSyntax(self.machine)
@@ -217,6 +221,12 @@ class _Assembly:
             self.define(label.name, _Place(file, label.line, label.column), start)
         body = line.body
         if isinstance(body, InstructionLine):
+            if (file, line.number) in self.plant_before:
+                pause, place = self.syntax.pause_instruction, _Place(file, body.line, body.column)
+                self.planted.setdefault((file, line.number), []).append(self.address)
+                self.pauses.append(self.address)
+                self.emit(_Item(self.address, pause.word_count, place, chosen=Chosen(pause, {}, {})),
+                          "code", pause.cycles(self.machine))
             return self.instruction(body, file)
         if isinstance(body, Assignment):
             self.define_constant(body.name, body.expr, _Place(file, body.line, body.column))

@@ -150,8 +150,8 @@ def test_breakpoints_by_label_file_line_and_address(kiln):
     assert kiln.execute("break 0x1a") == "breakpoint 3 at 001a mark+3 kiln.asm:15"
     assert kiln.execute("break log").startswith("breakpoint 1 is already at")
     assert kiln.execute("points").splitlines() == [
-        "  1  break  0012 log kiln.asm:11", "  2  break  0016 log+4 kiln.asm:13",
-        "  3  break  001a mark+3 kiln.asm:15"]
+        "  1  break  watched  0012 log kiln.asm:11", "  2  break  watched  0016 log+4 kiln.asm:13",
+        "  3  break  watched  001a mark+3 kiln.asm:15"]
     assert "\nbreakpoint 1 at 0012 log" in kiln.execute("go")
     assert kiln.emu.cycles == 10 and not kiln.emu.frozen
     assert kiln.execute("go").startswith("breakpoint 3 at 001a")

@@ -12,8 +12,8 @@ from ._live import LiveClock
 from ._program import Places, ProgramView, empty_view, load_view
 from ._running import ClockRun, ReplayMismatch, run_clock
 from ._session import Session
-from ._stopping import (AtBreakpoint, Breakpoint, CycleLimit, GoalReached, HaltedByProgram, RunPolicy, Stop,
-                        SteppingInterrupted, StoppedBySwitch, WatchFired)
+from ._stopping import (AtBreakpoint, Breakpoint, CycleLimit, GoalReached, HaltedByProgram, PlantedHalt, RunPolicy,
+                        Stop, SteppingInterrupted, StoppedBySwitch, WatchFired)
 from ._table import COMMANDS, Command, DebugError
 from ._repl import (FRAME_SECONDS, HISTORY_VARIABLE, ctrl_c_is_the_stop_switch, history_path, run_live,
                     run_repl, run_script)
@@ -21,7 +21,7 @@ from ._trace import Recorder
 
 __all__ = ["AtBreakpoint", "Breakpoint", "COMMANDS", "CallShape", "ClockRun", "Command",
            "CycleLimit", "DebugError", "FRAME_SECONDS", "GoalReached", "HISTORY_VARIABLE", "HaltedByProgram",
-           "LiveClock", "Places", "ProgramView", "Recorder", "ReplayMismatch", "RunPolicy", "Session",
+           "LiveClock", "Places", "PlantedHalt", "ProgramView", "Recorder", "ReplayMismatch", "RunPolicy", "Session",
            "SteppingInterrupted", "Stop", "StoppedBySwitch", "WatchFired", "call_shape",
            "ctrl_c_is_the_stop_switch", "empty_view", "history_path", "load_view", "run_clock", "run_live",
            "run_repl", "run_script"]

@@ -33,6 +33,8 @@ class ProgramView:
     pauses: frozenset[int]
     source_map: dict[int, tuple[str, int]]
     sources: dict[str, list[str]] = field(default_factory=dict)
+    planting: object = None
+    """The ``asm.Planting`` this image was assembled with when halts are planted in it."""
 
     def __post_init__(self):
         self._by_address: dict[int, list[str]] = {}
@@ -122,7 +124,9 @@ class Places:
         return " ".join(parts)
 
     def halt_kind(self, address: int) -> str:
-        """``"pause"`` or ``"halt"``: what the instruction at ``address`` was written as."""
+        """``"pause"``, ``"halt"`` or ``"planted halt"``: how the instruction at ``address`` got there."""
+        if self.view.planting is not None and address in self.view.planting.halt_places:
+            return "planted halt"
         return "pause" if address in self.view.pauses else "halt"
 
 

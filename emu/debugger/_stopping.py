@@ -5,7 +5,7 @@ path, traced by replay in ``run_clock``), STEP pulses given one instruction
 at a time while the generator is frozen, and the live view's phases paced
 against the wall clock. The rules for stopping are the same for all three
 and are written here once, as a ``RunPolicy``: at each instruction boundary
-reached, a breakpoint at pc first (the engine's order), then a watchpoint
+reached, a (watched) breakpoint at pc first (the engine's order), then a watchpoint
 or the command's goal (an instruction count, a call depth); besides that
 the cycle limit and Ctrl-C. Every drive returns a ``Stop`` that puts the
 reason in words, so ``go``, ``pulse``, ``instr``, ``over``, ``leave`` and
@@ -23,15 +23,20 @@ from ._conditions import AnyOf, Watch, Watches
 from ._program import Places
 from ._running import run_clock
 
-__all__ = ["AtBreakpoint", "Breakpoint", "CycleLimit", "GoalReached", "HaltedByProgram", "RunPolicy",
+__all__ = ["AtBreakpoint", "Breakpoint", "CycleLimit", "GoalReached", "HaltedByProgram", "PlantedHalt", "RunPolicy",
            "Stop", "SteppingInterrupted", "StoppedBySwitch", "WatchFired"]
 
 
 @dataclass(frozen=True)
 class Breakpoint:
+    """A place to stop at. A *watched* one is the debugger holding the clock
+    when pc reaches ``address``, memory untouched; a *planted* one is a halt
+    assembled into the program at ``address``, in front of the statement at
+    ``planted`` (file, line), that stops the machine by itself."""
     number: int
     address: int
     label: str
+    planted: tuple[str, int] | None = None
 
 
 class Stop:
@@ -50,6 +55,17 @@ class HaltedByProgram(Stop):
     def describe(self, places: Places) -> str:
         return (f"halted by the program: {places.halt_kind(self.address)} at {places.name(self.address)}; "
                 f"the clock froze with pc at {places.hex(self.pc)}")
+
+
+@dataclass(frozen=True)
+class PlantedHalt(Stop):
+    numbers: tuple[int, ...]
+    address: int
+    """The planted halt that set the latch; pc is past it, at its statement."""
+
+    def describe(self, places: Places) -> str:
+        return (f"breakpoint {', '.join(map(str, self.numbers))}: the planted halt at {places.name(self.address)} "
+                f"set the halt latch; RESUME goes on with the statement there")
 
 
 @dataclass(frozen=True)
@@ -123,7 +139,7 @@ class RunPolicy:
                  interrupted: Callable[[], bool] = lambda: False):
         self.emu = emu
         self.breakpoints = list(breakpoints)
-        self.addresses = frozenset(b.address for b in self.breakpoints)
+        self.addresses = frozenset(b.address for b in self.breakpoints if b.planted is None)
         watches = list(watches)
         parts = [c for c in (Watches(watches, emu) if watches else None, goal) if c is not None]
         self.condition = AnyOf(parts) if parts else None
@@ -185,7 +201,8 @@ class RunPolicy:
 
     def _from_engine(self, stop: StopReason, ctrl_c: bool) -> Stop:
         if stop.kind == "halted":
-            return HaltedByProgram(stop.address, stop.pc)
+            planted = tuple(b.number for b in self.breakpoints if b.planted and b.address == stop.address)
+            return PlantedHalt(planted, stop.address) if planted else HaltedByProgram(stop.address, stop.pc)
         if stop.kind == "stopped":
             return StoppedBySwitch(ctrl_c)
         if stop.kind == "cycle_limit":

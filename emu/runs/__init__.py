@@ -3,11 +3,13 @@
 ``_loading`` decides what a program file is; ``_panel_files`` reads the
 toggles and input kept beside a program; ``_headless`` runs it as
 ``relaybench run`` does and builds the report; ``_verdicts`` judges its
-``.expect`` checks as ``relaybench test`` does; ``_summary`` words a report.
+``.expect`` checks as ``relaybench test`` does; ``_summary`` words a report; ``_planting`` compares a run with
+halts planted against the plain one.
 """
 
 from ._headless import DEFAULT_MAX_CYCLES, RunResult, program_warnings, report, run_loaded, start_emulator
 from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program
+from ._planting import Divergence, check_planting, compare_runs, loaded_from_program
 from ._panel_files import PANEL_SUFFIX, PanelSettings, panel_path_for, read_panel_file
 from ._summary import format_summary, pause_place
 from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, check_program, collect_programs
@@ -15,6 +17,7 @@ from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, chec
 __all__ = [
     "DEFAULT_MAX_CYCLES", "RunResult", "program_warnings", "report", "run_loaded", "start_emulator",
     "SOURCE_SUFFIXES", "LoadedProgram", "ProgramError", "load_program",
+    "Divergence", "check_planting", "compare_runs", "loaded_from_program",
     "PANEL_SUFFIX", "PanelSettings", "panel_path_for", "read_panel_file",
     "format_summary", "pause_place",
     "PROGRAM_SUFFIX", "CheckFailure", "Verdict", "actual_value", "check_program", "collect_programs",

@@ -3,8 +3,9 @@ actions applied through the emulator API do (spec §3 semantics), on ref8
 and acc12.
 
 The model below restates each command in engine calls: what the panel
-would do, plus the debugger's one rule that a clock released from a hold
-point runs until something stops it.
+would do, plus the debugger's rules: a clock released from a hold point
+runs until something stops it; a stop of the debugger's own throws the
+switch to STOP there; STEP pulses stop right after one that drives halt.
 """
 
 from __future__ import annotations
@@ -26,8 +27,25 @@ def _settle(e):
 
 def _let_run(e, limit=LIMIT, until=None):
     e.run(max_cycles=limit, until=until)
-    if e.halt_latch and not e.frozen:
+    if not e.frozen and not e.halt_latch:
+        e.set_switch_run(False)
+    if not e.frozen:
         _settle(e)
+
+
+def _pulses(e, n=None, instructions=None):
+    """STEP pulses: n of them, or until ``instructions`` have ended; a halt stops them."""
+    given = done = 0
+    while (n is None or given < n) and given < LIMIT:
+        halting = e.current_step.drives_halt
+        e.press_step()
+        given += 1
+        if halting:
+            return
+        if e.at_instruction_boundary and n is None:
+            done += 1
+            if done == instructions:
+                return
 
 
 def _after_release(e, was_frozen):
@@ -48,8 +66,7 @@ def _counting(n):
 def apply(e: Emulator, command: str) -> None:
     name, *args = command.split()
     if name == "pulse" and e.frozen:
-        for _ in range(int(args[0])):
-            e.press_step()
+        _pulses(e, n=int(args[0]))
     elif name == "throw" and args == ["stop"] and e.switch_run:
         e.set_switch_run(False)
         if not e.frozen:
@@ -79,8 +96,7 @@ def apply(e: Emulator, command: str) -> None:
         _let_run(e, int(args[0]))
     elif name == "instr":
         if e.frozen:
-            for _ in range(int(args[0])):
-                e.step_instruction()
+            _pulses(e, instructions=int(args[0]))
         else:
             _let_run(e, until=_counting(int(args[0])))
 

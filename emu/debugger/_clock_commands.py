@@ -65,13 +65,13 @@ def do_pulse(session, args):
     rows, given, stop = [], 0, None
     while stop is None and given < min(n, PULSE_REPORT):
         step, (instruction, index) = e.current_step, e.sequencer
-        stop, _one = session.pulses(count=1)
+        stop, _one = session.pulses(count=1, spent=given)
         given += 1
         doing = "fetch" if instruction is None else instruction.mnemonic
         rows.append(f"pulse {given}: {doing} step {index + 1}: {step.text}   "
                     f"[{', '.join(step.control_lines) or 'no lines'}]")
     if stop is None and n > given:
-        stop, more = session.pulses(count=n - given)
+        stop, more = session.pulses(count=n - given, spent=given)
         given += more
     if given > PULSE_REPORT:
         rows.append(f"… {given - PULSE_REPORT:,} more pulses")
@@ -97,6 +97,24 @@ def do_reset(session, args):
     was_frozen = session.emu.frozen
     session.emu.press_reset()
     return session.released(was_frozen, "reset: pc 0")
+
+
+@command("restart", "Power off and on and load the program again: start it afresh (breakpoints stay).")
+def do_restart(session, args):
+    """Unlike RESET, memory is loaded again from the program image, the
+    input stream rewinds, console, lamps, warnings and counters clear, and
+    time starts at 0; the toggles stay as they are set and the beat
+    ('beat SEED') draws its turns again from the start. The switch comes
+    up at STOP, so the program starts with 'go'. A waveform being recorded
+    is written first (its time cannot go back)."""
+    no_arguments(args, "restart")
+    written = ""
+    if session.waves is not None:
+        written = f"waveform written to {session.waves[0]}; "
+        session.close()
+    session.restart()
+    session.last_stop = "restarted: powered on with the program loaded again"
+    return f"{written}restarted with the program loaded again; {session.state_text()}. {session.here_text()}"
 
 
 @command("toggles [VALUE]", "Show or set the panel's toggle switches (an input port of the machine).")

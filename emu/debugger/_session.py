@@ -37,7 +37,7 @@ from ._conditions import Watch
 from ._panel import address_hex
 from ._program import Places, ProgramView, empty_view
 from ._running import ReplayMismatch
-from ._stopping import STATE_TABLE, Breakpoint, RunPolicy, Stop, stop_state
+from ._stopping import STATE_TABLE, Breakpoint, CycleLimit, RunPolicy, Stop, stop_state
 from ._table import COMMANDS, DebugError, command, find_command, words_of
 from ._trace import Recorder
 
@@ -112,15 +112,14 @@ class Session:
     def restart(self) -> None:
         """Power-cycle and reload: the state of a fresh machine, the program loaded again,
         input rewound, ports and counters cleared, the beat drawn again from its seed.
-        The emulator object stays, so the timing recorder stays attached."""
+        The emulator object stays, so the timing recorder stays attached. The beat is
+        chosen after the clock settles, as 'beat' typed at power-on would be."""
         fresh = self.powered_on(like=self.emu)
-        if self.beat_seed is not None:
-            fresh.clock_source = spread_source(self.machine, self.beat_seed)
+        self.emu.clock_source = None
         self.emu.restore_state(fresh.snapshot_state(), "<power-on>")
-        self.emu.clock_source = fresh.clock_source
-        self.emu.ring.restore(fresh.ring.state())
         self.recorder.clear()
         self.settle()
+        self.set_beat(self.beat_seed)
 
     def attach(self, emulator: Emulator) -> None:
         """Work on ``emulator`` from now on (power-on, or a snapshot loaded)."""
@@ -276,10 +275,14 @@ class Session:
         stop, pulses = self.pulses(goal)
         return f"{stop.describe(self.places)} ({pulses:,} STEP pulse{'s' if pulses != 1 else ''}). {self.here_text()}"
 
-    def pulses(self, goal=None, count: int | None = None) -> tuple[Stop | None, int]:
-        """STEP pulses under this session's rules (see ``RunPolicy.pulse``); a stop becomes 'why'."""
+    def pulses(self, goal=None, count: int | None = None, spent: int = 0) -> tuple[Stop | None, int]:
+        """STEP pulses under this session's rules (see ``RunPolicy.pulse``), ``spent`` of the
+        cycle limit already given by the same command; a stop becomes 'why'."""
         self._interrupted = False
-        stop, pulses = self.policy(goal, self.max_cycles, self._watch_for_ctrl_c()).pulse(count)
+        limit = max(self.max_cycles - spent, 1)
+        stop, pulses = self.policy(goal, limit, self._watch_for_ctrl_c()).pulse(count)
+        if isinstance(stop, CycleLimit):
+            stop = CycleLimit(self.max_cycles, stepping=True)
         if stop is not None:
             self.last_stop = stop.describe(self.places)
         return stop, pulses

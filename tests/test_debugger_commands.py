@@ -413,12 +413,12 @@ def test_help_lists_every_command_and_explains_one(kiln):
 
 def test_unknown_commands_get_a_hint_and_prefixes_work(kiln):
     assert kiln.execute("registr").startswith("error: unknown command 'registr' (did you mean 'registers'")
-    assert kiln.execute("re") == "error: 're' could be registers, reset, resume"
+    assert kiln.execute("re") == "error: 're' could be registers, reset, restart, resume"
     assert kiln.execute("reg").startswith("r0")
 
 
 def test_completion_of_commands_registers_labels_and_points(kiln):
-    assert kiln.complete("re") == ["registers", "reset", "resume"]
+    assert kiln.complete("re") == ["registers", "reset", "restart", "resume"]
     assert kiln.complete("put r") == ["r0", "r1", "r2", "r3", "r4", "r5", "r6", "r7"]
     assert kiln.complete("break ma") == ["mark"]
     assert kiln.complete("watch [r") == ["[ramp]"]

@@ -128,7 +128,7 @@ class _BeforeTheStep:
 def bus_probe(emu):
     """Called just before a micro-step latches: a function that, called after it,
     gives what the bus carried (a ``Bus``), or None when nothing is known."""
-    step, (instruction, _index) = emu.current_step, emu.sequencer
+    step, (instruction, _) = emu.current_step, emu.sequencer
     transfer = _transfer(step)
     if transfer is None:
         return lambda: None

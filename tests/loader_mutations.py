@@ -19,7 +19,7 @@ from emu.description import machine_from_text
 
 from engine_support import trivial_program
 
-ODD_NUMBERS = ("0", "-1", "1" + "0" * 40, "inf", "-inf", "nan", "1e-300", '"a string"', "0.5", "65536")
+ODD_NUMBERS = ("0", "-1", "1" + "0" * 40, "9" * 5000, "inf", "-inf", "nan", "1e-300", '"a string"', "0.5", "65536")
 STEP_TOKENS = ("<-", ";", "mem[pc]", "pc", "+ 1", "- 1", "?", ":", "!", "{", "}", "(", ")", ",", "sets",
                "halt", "in(0)", "out(0, t)", "add(", "z", "x", "t", "ir", "hi(", "lo(", "0", "255", "")
 _NUMBER = re.compile(r"(?<![\w.\"])-?\d[\d_]*(?:\.\d+)?(?:e-?\d+)?(?![\w\"])")
@@ -54,14 +54,14 @@ def _odd_number(rng, lines):
     i = rng.choice(candidates)
     matches = list(_NUMBER.finditer(lines[i].split("#")[0]))
     m = rng.choice(matches)
-    lines[i] = lines[i][:m.start()] + rng.choice(ODD_NUMBERS) + lines[i][m.end():]
+    lines[i] = lines[i][:m.start()] + rng.choice([n for n in ODD_NUMBERS if n != m[0]]) + lines[i][m.end():]
 
 
 def _rename_key(rng, lines):
     candidates = [i for i, line in enumerate(lines) if _KEY.match(line)]
     i = rng.choice(candidates)
     m = _KEY.match(lines[i])
-    new = rng.choice(_OTHER_KEYS + (m[2] + "x", m[2][:-1] or "k"))
+    new = rng.choice([k for k in _OTHER_KEYS + (m[2] + "x", m[2][:-1] or "k") if k != m[2]])
     lines[i] = m[1] + new + m[3] + lines[i][m.end():]
 
 
@@ -70,7 +70,7 @@ def _step_token(rng, lines):
     i = rng.choice(candidates)
     pieces = list(_STEP_PIECE.finditer(lines[i]))
     m = rng.choice(pieces)
-    lines[i] = lines[i][:m.start()] + rng.choice(STEP_TOKENS) + lines[i][m.end():]
+    lines[i] = lines[i][:m.start()] + rng.choice([t for t in STEP_TOKENS if t != m[0]]) + lines[i][m.end():]
 
 
 MUTATIONS = {"delete a line": _delete, "duplicate a line": _duplicate, "swap two lines": _swap,

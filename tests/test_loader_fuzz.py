@@ -53,5 +53,5 @@ def test_every_kind_of_mutation_is_drawn_and_each_changes_the_file():
     for seed in range(200):
         mutated, what = mutate(text, seed)
         drawn[what] += 1
-        assert mutated != text or what in ("duplicate a line", "swap two lines", "truncate"), (seed, what)
+        assert mutated != text or what == "swap two lines", (seed, what)   # a line swapped with itself
     assert set(drawn) == set(MUTATIONS)

@@ -109,3 +109,16 @@ def test_a_part_example_that_breaks_the_format_would_be_caught():
     """The checker is not vacuous: a misspelt key in an added part is refused."""
     with pytest.raises(MachineError, match="unknown key"):
         machine_from_text(COMPLETE + "\n[wear]\nrated_operation = 5\n", "count8-broken.toml")
+
+
+def _slug(heading: str) -> str:
+    """A heading's anchor as Markdown renderers on code hosts make it (common practice)."""
+    kept = re.sub(r"[^\w\- ]", "", heading.strip().lower())
+    return kept.replace(" ", "-")
+
+
+def test_every_link_inside_the_reference_reaches_a_heading():
+    anchors = {_slug(h) for h in re.findall(r"^#+ (.+)$", TEXT, re.M)}
+    links = re.findall(r"\]\(#([^)]+)\)", TEXT)
+    assert len(links) > 10
+    assert [link for link in links if link not in anchors] == []

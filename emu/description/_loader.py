@@ -11,6 +11,7 @@ expected.
 from __future__ import annotations
 
 import re
+import sys
 import tomllib
 from importlib import resources
 from pathlib import Path
@@ -56,6 +57,8 @@ def machine_from_text(text: str, path: str = "<machine>") -> Machine:
         raise _toml_error(exc, text, path) from None
     except RecursionError:
         raise MachineError("not a machine description (nested too deeply)", path=path) from None
+    except ValueError:      # tomllib reads integers with Python's limit on their digits
+        raise _too_long_number(text, path) from None
     return _Loader(data, path, text).machine()
 
 
@@ -64,10 +67,18 @@ def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineEr
     return MachineError(f"not valid TOML: {message}", path=path, line=line, column=column, source_line=source)
 
 
+def _too_long_number(text: str, path: str) -> MachineError:
+    digits = sys.get_int_max_str_digits()
+    run = re.search(r"[0-9_]{%d,}" % (digits + 1), text)
+    line = text.count("\n", 0, run.start()) + 1 if run else None
+    return MachineError(f"not valid TOML for relaybench: a number with more than {digits} digits",
+                        path=path, line=line)
+
+
 _SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",
              "clock", "fetch", "instruction", "assembler", "timing", "wear")
 _SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
-_ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d+):(?P<lo>\d+)\])?)$")
+_ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d{1,9}):(?P<lo>\d{1,9})\])?)$")
 _IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 _LONGEST_PHASE_MS = 86_400_000
 """A day: far beyond any relay clock, and well inside the engine's nanosecond counters."""
@@ -424,7 +435,10 @@ class _Loader:
                 continue
             fetch_reads += 1
             for st in statements:
-                if isinstance(st, Assign) and st.value == pc_word and isinstance(st.target, Name):
+                # Only a plain register holds a word for its fields: a pair or a register
+                # field is not one place the fields can be read back from.
+                if (isinstance(st, Assign) and st.value == pc_word and isinstance(st.target, Name)
+                        and st.target.name in names.registers):
                     holders[fetch_reads] = (i, st.target.name)
         if fetch_reads != word_count - 1:
             plural = "s" if word_count != 1 else ""

@@ -48,17 +48,17 @@ def test_over_onto_the_pause_tells_it_and_why_and_the_panel_name_the_halt_state(
     kiln.execute("break 0x0c")
     kiln.execute("go")
     text = kiln.execute("over")
-    assert text.startswith("passed the pause at 000c ramp+7 kiln.asm:7: the halt latch is set")
-    state = "frozen: the halt latch is set (set by the pause at 000c ramp+7 kiln.asm:7), switch at STOP (state HALT)"
+    assert text.startswith("passed the pause at 000C ramp+7 kiln.asm:7: the halt latch is set")
+    state = "frozen: the halt latch is set (set by the pause at 000C ramp+7 kiln.asm:7), switch at STOP (state HALT)"
     assert kiln.execute("why").splitlines() == [
-        "passed the pause at 000c ramp+7 kiln.asm:7: the halt latch is set; stepping stopped there",
-        f"{state}. next: li r2, 75   at 000d ramp+8 kiln.asm:8"]
+        "passed the pause at 000C ramp+7 kiln.asm:7: the halt latch is set; stepping stopped there",
+        f"{state}. next: li r2, 75   at 000D ramp+8 kiln.asm:8"]
     assert kiln.execute("panel").splitlines()[0] == f"ref8 panel — {state}"
     assert kiln.execute("go").startswith("error: the halt latch holds the clock")
 
 
 def test_instr_many_stops_at_each_halt_instead_of_running_past_it(kiln):
-    assert kiln.execute("instr 50").startswith("passed the pause at 000c ramp+7 kiln.asm:7")
+    assert kiln.execute("instr 50").startswith("passed the pause at 000C ramp+7 kiln.asm:7")
     assert kiln.emu.pc == 0x0d
     # with the latch still set, the steps go on to the final halt and stop there, not inside 'log'
     assert kiln.execute("instr 50").startswith("passed the halt at 0011 ramp+12 kiln.asm:10")

@@ -12,6 +12,7 @@ import textwrap
 import asm
 
 from .. import formatting
+from ..formatting import hex_digits
 
 from ._trace import Column
 
@@ -24,15 +25,15 @@ BAR = "█"
 
 
 def word_hex(machine, value: int) -> str:
-    return f"{value:0{(machine.data_bits + 3) // 4}x}"
+    return hex_digits(value, machine.data_bits)
 
 
 def address_hex(machine, value: int) -> str:
-    return f"{value:0{(machine.address_bits + 3) // 4}x}"
+    return hex_digits(value, machine.address_bits)
 
 
 def _hex(value: int, bits: int) -> str:
-    return f"{value:0{(bits + 3) // 4}x}"
+    return hex_digits(value, bits)
 
 
 def duration_text(ns: int) -> str:

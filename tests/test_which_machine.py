@@ -21,12 +21,15 @@ ON_BOTH = "        halt\n        .expect lamps == 0\n"      # halt is 00000001 o
 
 @pytest.fixture
 def bench(tmp_path, monkeypatch):
-    """A machine file in machines/, programs in progs/, and the working folder elsewhere."""
+    """A machine file in machines/, programs in progs/, working in the folder above both.
+
+    So ``../machines/link8.toml`` is found only relative to a program, and
+    ``machines/link8.toml`` only relative to the working folder.
+    """
     (tmp_path / "machines").mkdir()
     shutil.copy(LINK8, tmp_path / "machines" / "link8.toml")
     (tmp_path / "progs").mkdir()
-    (tmp_path / "elsewhere").mkdir()
-    monkeypatch.chdir(tmp_path / "elsewhere")
+    monkeypatch.chdir(tmp_path)
     return tmp_path
 
 

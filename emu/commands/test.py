@@ -45,7 +45,8 @@ def verdict_lines(verdict: Verdict, machine, *, name_machine: bool = False) -> l
     """The verdict's lines; ``name_machine`` adds the machine (when a batch runs on more than one)."""
     on = f" on {machine.name}" if name_machine and machine is not None else ""
     if verdict.error is not None:
-        return [f"FAIL  {verdict.path}{on}: cannot run it", *("      " + row for row in verdict.error.splitlines())]
+        return [f"FAIL  {verdict.path}{on}: cannot run it",
+                *("      " + row for row in verdict.error.splitlines())]
     time = f"{count_text(verdict.cycles, 'cycle')} ≈ {duration_text(verdict.sim_seconds)}"
     checks = f"{count_text(verdict.checks_run, 'check')} at {count_text(verdict.halts, 'halt')}"
     lines = [f"{'pass' if verdict.passed else 'FAIL'}  {verdict.path}{on}  ({checks}, {time})"]

@@ -540,7 +540,7 @@ def test_acc12_has_no_call_so_over_is_one_instruction_and_leave_is_refused(gauge
     assert gauge.execute("over").startswith("stepped over one instruction")
     assert gauge.emu.pc == 1
     assert gauge.execute("leave") == ("error: acc12 has no return instruction "
-                                      "(none loads pc from memory at a stack register)")
+                                      "(none is marked 'returns = true', and none loads pc from memory at a stack register)")
 
 
 def test_acc12_views_use_its_own_widths_and_names(gauge):

@@ -12,7 +12,7 @@ import json
 import sys
 
 from ..engine import compile_machine
-from ..description import Instruction, Machine
+from ..description import PORT_DEVICES, Instruction, Machine
 from ..formatting import rate_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
@@ -56,6 +56,18 @@ def encoding_words(ins: Instruction, machine: Machine) -> list[str]:
     return words
 
 
+def port_lines(machine: Machine) -> list[str]:
+    """One line per wired port: its number, its device and what the device promises."""
+    lines = []
+    for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out)):
+        for number, name in sorted(wired.items()):
+            device = PORT_DEVICES[name]
+            ending = f"; past the end of input it {device.at_end_of_input}" if device.at_end_of_input else ""
+            wide = device.wide_values.format(bits=machine.data_bits)
+            lines.append(f"  {direction:<3} {number:>3}  {name:<12} {device.does}{ending}; wider: {wide}")
+    return lines
+
+
 def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     def steps(seq):
         return [{"text": s.text, "control_lines": list(s.control_lines)} for s in seq]
@@ -63,6 +75,9 @@ def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
         "machine": machine.name, "title": machine.title, "data_bits": machine.data_bits,
         "address_bits": machine.address_bits, "memory_words": machine.memory_words,
         "nominal_hz": machine.nominal_hz, "pause": machine.pause, "fetch": steps(machine.fetch),
+        "ports": [{"direction": direction, "port": number, "device": name}
+                  for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out))
+                  for number, name in sorted(wired.items())],
         "instructions": [{
             "syntax": ins.display, "mnemonic": ins.mnemonic, "encoding": encoding_words(ins, machine),
             "words": ins.word_count, "cycles": ins.cycles(machine),
@@ -83,6 +98,9 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
     ]
     lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(machine.fetch, 1)]
+    ports = port_lines(machine)
+    if ports:
+        lines += ["ports:"] + ports
     lines.append("")
     syntax_width = max([len(i.display) for i in instructions] + [11])
     encodings = {ins.index: " | ".join(encoding_words(ins, machine)) for ins in instructions}

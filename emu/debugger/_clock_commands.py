@@ -167,7 +167,7 @@ def do_leave(session, args):
     no_arguments(args, "leave")
     if not session.shape.returns:
         raise DebugError(f"{session.machine.name} has no return instruction "
-                         f"(none loads pc from memory at a stack register)")
+                         f"(none is marked 'returns = true', and none loads pc from memory at a stack register)")
     return session.step(CallDepth(session.machine, session.shape, session.emu.instruction_address, 0,
                                   "returned to the caller"))
 

@@ -18,6 +18,7 @@ from pathlib import Path
 
 from ..errors import MachineError
 from ._design_rules import StepChecker
+from ._call_marks import CALL_KEYS, read_call_marks
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import Table, is_integer
@@ -329,7 +330,7 @@ class _Loader:
         if not isinstance(raw, dict):
             self.fail_at(f"[[instruction]] {index + 1}", key, "an instruction must be a table")
         spec = Table(raw, f"[[instruction]] {index + 1}", self.fail_at, key)
-        spec.known_keys(("syntax", "encoding", "steps"))
+        spec.known_keys(("syntax", "encoding", "steps") + CALL_KEYS)
         syntax = spec.string("syntax").strip()
         spec.where = f"instruction '{_strip_kinds(syntax)}'"
         mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
@@ -339,6 +340,7 @@ class _Loader:
         if encoding is None:
             spec.fail(f"'encoding' must be {words}", "encoding")
         fixed, fields = self.encoding(spec, encoding, field_kinds, names.data_bits)
+        call, returns = read_call_marks(spec, names.registers, names.pairs, names.pc)
         texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
             spec.fail("'steps' must be a list of micro-step strings (steps = [] for one "
@@ -355,7 +357,7 @@ class _Loader:
         return Instruction(
             index=index, syntax=syntax, mnemonic=mnemonic, operands=operands, fields=fields,
             word_count=len(encoding), fixed=fixed, steps=tuple(steps),
-            holders={w: reg for w, (_s, reg) in holders.items()},
+            holders={w: reg for w, (_s, reg) in holders.items()}, call=call, returns=returns,
         )
 
     def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):

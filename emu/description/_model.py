@@ -14,6 +14,8 @@ import re
 from dataclasses import dataclass, field
 from functools import cached_property
 
+from ._call_marks import CallMark
+from ._port_devices import devices_for
 from ._sections import TimingSection, WearRatings
 from .notation import Assign, FlagsOnly, Statement
 
@@ -24,8 +26,8 @@ __all__ = [
 ]
 
 FLAG_ROLES = ("zero", "negative", "carry", "overflow")
-OUTPUT_DEVICES = ("console", "lamps")
-INPUT_DEVICES = ("switches", "input", "input_ready")
+OUTPUT_DEVICES = devices_for("out")
+INPUT_DEVICES = devices_for("in")
 
 
 # ----- the parts of a machine ----------------------------------------------
@@ -140,6 +142,10 @@ class Instruction:
     steps: tuple[Step, ...]
     holders: dict[int, str]
     """word index → the register holding that word after it was fetched."""
+    call: CallMark | None = None
+    """How it calls a routine, as the machine file marks it (None: no call, or unmarked)."""
+    returns: bool = False
+    """Marked as the return from a routine (``returns = true``)."""
 
     @property
     def display(self) -> str:

@@ -95,7 +95,7 @@ def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
 
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",
                 max_cycles=200) -> Run:
-    """Load, set ``values`` (registers, pairs, flags by name), run on the ``path`` asked for."""
+    """Load, set ``values`` (registers, groups, flags by name), run on the ``path`` asked for."""
     emulator = Emulator(machine)
     if path == "stepped":
         emulator.observe(Observer())
@@ -106,6 +106,6 @@ def run_program(machine, words, path: str, *, values=None, memory=None, switches
         emulator.set(name, value)
     emulator.switches = switches
     emulator.input_bytes = input_bytes
-    names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
+    names = [r.name for r in machine.visible_registers] + list(machine.groups) + list(machine.flags)
     before = {name: emulator.get(name) for name in names}
     return Run(emulator, before, list(emulator.memory), emulator.run(max_cycles=max_cycles))

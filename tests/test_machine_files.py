@@ -65,7 +65,7 @@ CASES = {
     ),
     "unknown section": (
         ref8_with("[fetch]", "[fecth]"),
-        "top level: unknown key 'fecth' (expected one of: machine, registers, internal, pairs, flags, "
+        "top level: unknown key 'fecth' (expected one of: machine, registers, internal, groups, flags, "
         "operands, ports, clock, fetch, instruction, assembler, timing, wear)",
     ),
     "overlapping encodings": (
@@ -203,13 +203,13 @@ CASES = {
     "unreadable fetch step": (
         ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', 'steps = ["ir <- mem[pc] pc <- pc + 1"]'),
         "[fetch] step 1: cannot read micro-step at column 15 "
-        "(expected ':', ',', '-', '+', '}', ')', ']', ';', 'sets')\n"
+        "(expected '&', '^', ':', ',', '[', '-', '+', '?', '}', ')', ']', ';', 'sets', '|')\n"
         "    ir <- mem[pc] pc <- pc + 1\n"
         "                  ^",
     ),
-    "an empty micro-step": (
-        ref8_with('steps = ["rd <- mem[x]"]', 'steps = [" "]'),
-        "instruction 'ld rd, [x]' step 2: a micro-step must hold at least one statement",
+    "idle beside a transfer": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["idle; rd <- mem[x]"]'),
+        "instruction 'ld rd, [x]' step 2: 'idle' cannot stand with statements that transfer or drive something",
     ),
     "halt driven twice": (
         ref8_with('steps = ["halt"]', 'steps = ["halt; halt"]'),
@@ -273,7 +273,7 @@ LINES = {
     "more fetches than encoding words": 274,
     "unreadable micro-step": 275,
     "unreadable fetch step": 102,
-    "an empty micro-step": 275,
+    "idle beside a transfer": 275,
     "halt driven twice": 115,
     "pause naming a non-halting instruction": 67,
     "bad output device": 61,
@@ -402,8 +402,8 @@ def test_a_tiny_hand_written_machine_loads_and_runs():
 @pytest.mark.parametrize(("old", "new", "message"), [
     ('pc = 4\n', '', "2: error: [machine]: 'program_counter' names 'pc', which is not a register"),
     ('ir = 4', 'ir = 3', "12: error: [machine]: the instruction register 'ir' must be 4 bits wide (data_bits)"),
-    ('z = "zero"', 'z = "sign"', "15: error: [flags] z: a flag's role must be one of zero, negative, carry, overflow, "
-                                 "not 'sign'"),
+    ('z = "zero"', 'z = "sign"', "15: error: [flags] z: a flag's role must be one of zero, negative, carry, overflow "
+                                 "(set by the ALU) or 'plain' (a 1-bit register transfers write), not 'sign'"),
     ('ms = 10\nhold', 'ms = -1\nhold', "32: error: [[clock.phase]] 2 ('phase2'): 'ms' must be a positive number of "
                                        "milliseconds, not -1"),
     ('level = 1\nms = 10', 'level = 0\nms = 10', "23: error: [clock]: the phase table needs at least one high "
@@ -413,11 +413,14 @@ def test_a_tiny_hand_written_machine_loads_and_runs():
                                                    "alone must tell instructions apart"),
     ('steps = ["a <- n"]', 'steps = ["a <- n; out(n, a); out(n, a)"]',
      "46: error: instruction 'put n' step 2: two port transfers in one micro-step (there is one I/O bus)"),
-    ('steps = ["a <- n"]', 'steps = ["a <- z"]',
-     "46: error: instruction 'put n' step 2: flag 'z' can only be read as a condition (flag ? a : b)"),
+    ('steps = ["a <- n"]', 'steps = ["a <- n + 0xF0"]',
+     "46: error: instruction 'put n' step 2: the constant 240 does not fit the 2 bits of the value it is "
+     "added to or taken from"),
+    ('steps = ["a <- n"]', 'steps = ["a <- 0x1F"]',
+     "46: error: instruction 'put n' step 2: 'a' holds 4 bits but the value written to it has 5"),
     ('steps = ["a <- n"]', 'steps = ["a <- add(a, n) sets z"]\n\n[[instruction]]\nsyntax = "put n:n"\n'
                            'encoding = ["10 n"]\nsteps = ["a <- adc(a, n) sets z"]',
-     "51: error: instruction 'put n' step 2: adc needs a carry flag, and the machine has none"),
+     "51: error: instruction 'put n' step 2: adc reads the carry flag, and the machine has none"),
     ('syntax = "stop"', 'syntax = "stop n:m"',
      "39: error: instruction 'stop n': unknown operand kind 'm' (kinds: n)"),
 ])

@@ -47,9 +47,9 @@ def registers_text(emu) -> str:
     for reg in m.visible_registers:
         value = emu.get(reg.name)
         cells.append(f"{reg.name:<3} {_hex(value, reg.width):>4} {value:>6}")
-    for pair in m.pairs.values():
-        value = emu.get(pair.name)
-        cells.append(f"{pair.name:<3} {_hex(value, pair.width):>4} {value:>6}")
+    for group in m.groups.values():
+        value = emu.get(group.name)
+        cells.append(f"{group.name:<3} {_hex(value, group.width):>4} {value:>6}")
     rows = ["   ".join(cells[i:i + 4]) for i in range(0, len(cells), 4)]
     flags = "  ".join(f"{name} {emu.get(name)}" for name in m.flags)
     rows.append(f"flags  {flags}")

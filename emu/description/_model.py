@@ -18,12 +18,15 @@ from ._sections import TimingSection, WearRatings
 from .notation import Assign, FlagsOnly, Statement
 
 __all__ = [
-    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterPair", "Flag",
+    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterGroup", "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
-    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
+    "FLAG_ROLES", "PLAIN_FLAG", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
 ]
 
 FLAG_ROLES = ("zero", "negative", "carry", "overflow")
+"""What an ALU operation may produce into a flag; a flag may instead be ``PLAIN_FLAG``."""
+PLAIN_FLAG = "plain"
+"""A 1-bit register that transfers write (``rdy <- in(2)[0]``), with no ALU meaning."""
 OUTPUT_DEVICES = ("console", "lamps")
 INPUT_DEVICES = ("switches", "input", "input_ready")
 
@@ -39,11 +42,10 @@ class Register:
 
 
 @dataclass(frozen=True)
-class RegisterPair:
-    """Two registers read and written as one wider value (high word first)."""
+class RegisterGroup:
+    """Two or more registers read and written as one wider value, most significant first."""
     name: str
-    high: str
-    low: str
+    parts: tuple[str, ...]
     width: int
 
 
@@ -222,14 +224,14 @@ class MachineNames:
     """
     data_bits: int
     registers: dict[str, Register]
-    pairs: dict[str, RegisterPair]
+    groups: dict[str, RegisterGroup]
     flags: dict[str, Flag]
     pc: str
     ir: str
 
     @property
     def kinds_of_name(self) -> dict[str, str]:
-        return {**{n: "register" for n in self.registers}, **{n: "register pair" for n in self.pairs},
+        return {**{n: "register" for n in self.registers}, **{n: "register group" for n in self.groups},
                 **{n: "flag" for n in self.flags}}
 
 
@@ -242,7 +244,7 @@ class Machine:
     address_bits: int
     memory_words: int
     registers: dict[str, Register]
-    pairs: dict[str, RegisterPair]
+    groups: dict[str, RegisterGroup]
     flags: dict[str, Flag]
     operand_kinds: dict[str, OperandKind]
     ports_out: dict[int, str]
@@ -322,6 +324,6 @@ class Machine:
         return ins if ins.matches(words) else None
 
     def register_width(self, name: str) -> int:
-        if name in self.pairs:
-            return self.pairs[name].width
+        if name in self.groups:
+            return self.groups[name].width
         return self.registers[name].width

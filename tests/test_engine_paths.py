@@ -12,7 +12,7 @@ from emu import Emulator, MachineError, Observer
 
 from engine_support import MACHINES, boot, datapath_state, encode, programs
 
-BOTH = pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
+BOTH = pytest.mark.parametrize("machine_name", ["ref8", "acc12", "cond4"])
 
 
 def _full_state(emu: Emulator) -> tuple:
@@ -106,7 +106,7 @@ def test_acc12_halt_on_the_first_pulse_freezes_at_the_boundary():
     assert emu.at_instruction_boundary and emu.cycles == 2 and emu.pc == 1
 
 
-@BOTH
+@pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
 def test_steps_work_while_halted_and_the_latch_stays_set(machine_name):
     machine = MACHINES[machine_name]
     halt = machine.pause

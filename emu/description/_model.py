@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from functools import cached_property
 
 from ._sections import TimingSection, WearRatings
-from .notation import Assign, FlagsOnly, Statement
+from .notation import Assign, FlagsOnly, Name, Statement
 
 __all__ = [
     "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterGroup", "Flag",
@@ -206,6 +206,8 @@ class Instruction:
             for st in step.statements:
                 if isinstance(st, (Assign, FlagsOnly)):
                     written.extend(f for f in st.flags if f not in written)
+                if isinstance(st, Assign) and isinstance(st.target, Name) and st.target.name in machine.flags:
+                    written.append(st.target.name)
         return tuple(f for f in machine.flags if f in written)
 
 

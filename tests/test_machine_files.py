@@ -134,11 +134,11 @@ CASES = {
         ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd <- mem[x]; rd <- t"]'),
         "instruction 'ld rd, [x]' step 2: writes rd twice in one micro-step",
     ),
-    "a register written twice through its pair": (
+    "a register written twice through its group": (
         ref8_with('steps = ["pc <- x"]', 'steps = ["x <- {u, t}; r6 <- t"]'),
         "instruction 'jmp x' step 2: writes r6 twice in one micro-step; also written as x",
     ),
-    "a pair written after its half": (
+    "a group written after one of its parts": (
         ref8_with('steps = ["pc <- x"]', 'steps = ["r7 <- t; x <- {u, t}"]'),
         "instruction 'jmp x' step 2: writes r7 twice in one micro-step (x includes r7)",
     ),
@@ -257,8 +257,8 @@ LINES = {
     "a flag the operation does not produce": 326,
     "sets without an ALU operation": 129,
     "a register written twice": 275,
-    "a register written twice through its pair": 129,
-    "a pair written after its half": 129,
+    "a register written twice through its group": 129,
+    "a group written after one of its parts": 129,
     "a flag written twice": 316,
     "a value too wide for its register": 129,
     "an encoding word too short": 274,
@@ -434,7 +434,8 @@ def test_tiny_machine_errors(old, new, message):
 # ----- no edit of a valid file gives a traceback ----------------------------------------------
 
 WRONG_VALUES = ['"zz"', "[1, 2]", "-3", "{ a = 1 }", "true", "2.5"]
-TEXTS = {"ref8": REF8_TEXT, "acc12": ACC12_PATH.read_text(encoding="utf-8")}
+TEXTS = {"ref8": REF8_TEXT, "acc12": ACC12_PATH.read_text(encoding="utf-8"),
+         "cond4": (ACC12_PATH.parent / "cond4.toml").read_text(encoding="utf-8")}
 
 
 @pytest.mark.parametrize("name", list(TEXTS))

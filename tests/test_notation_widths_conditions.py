@@ -211,3 +211,15 @@ def test_a_machine_without_flags_loads():
                      ("(z & cz) | (c & cc)", "(a[0] & cz) | (a[1] & cc)")):
         text = text.replace(old, new)
     assert emu.machine_from_text(text, "noflags.toml").flags == {}
+
+
+@PATHS
+@pytest.mark.parametrize("selector, expected", [("hi", lambda v: v >> 8), ("lo", lambda v: v & 0xF)])
+def test_hi_and_lo_of_a_three_word_value_are_its_top_and_bottom_words(path, selector, expected):
+    """On 4-bit words a 12-bit value is three words: hi() is bits 11:8 (the top word), lo() bits 3:0."""
+    text = COND4_TEXT.replace('"a <- hml[11:8]"', f'"a <- {selector}(hml)"')
+    machine = emu.machine_from_text(text, "cond4.toml")
+    for value in (0x000, 0x123, 0xABC, 0xFFF):
+        words = encode(machine, "top a") + encode(machine, "stop")
+        result = run_program(machine, words, path, values={"hml": value}).emu
+        assert result.get("a") == expected(value)

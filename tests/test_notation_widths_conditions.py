@@ -223,3 +223,18 @@ def test_hi_and_lo_of_a_three_word_value_are_its_top_and_bottom_words(path, sele
         words = encode(machine, "top a") + encode(machine, "stop")
         result = run_program(machine, words, path, values={"hml": value}).emu
         assert result.get("a") == expected(value)
+
+
+def test_scope_marks_idle_cycles_and_draws_no_line_for_them(tmp_path, monkeypatch):
+    from debugger_programs import session_for
+    monkeypatch.chdir(tmp_path)
+    session = session_for(tmp_path, "        wait\n        stop\n", machine=COND4, name="idle.asm")
+    session.execute("go")
+    rows = session.execute("scope 5").splitlines()
+    named = {row[:10].strip(): row[10:] for row in rows[1:] if row[:10].strip()}
+    # power-on at the hold point (two low columns), then cycles 1-5, a high and a low column each:
+    # wait's fetch, its two idle steps, stop's fetch, its halt step
+    assert named["clock"] == "__‾_‾_‾_‾_‾_"
+    assert named["idle"] == "    · ·"
+    assert named["read"] == "  █     █"        # only the two fetches touch memory
+    assert rows[-1] == "idle: · a cycle whose micro-step drives no control line"

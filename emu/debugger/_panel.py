@@ -19,6 +19,7 @@ __all__ = ["registers_text", "dump_text", "code_lines", "panel_text", "scope_tex
 LIT, DARK = "●", "○"
 HIGH, LOW = "‾", "_"
 BAR = "█"
+IDLE = "·"
 
 
 def word_hex(machine, value: int) -> str:
@@ -148,6 +149,7 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         for line in sorted(column.lines):
             if line not in lines_seen:
                 lines_seen.append(line)
+    any_idle = any(c.idle for c in columns)
     label = max([10] + [len(n) + 1 for n in lines_seen])
     blocks = []
     for begin in range(0, len(columns), width):
@@ -162,12 +164,15 @@ def scope_text(columns: list[Column], machine, width: int = 96, gap: bool = Fals
         rows["latch"] = "".join(HIGH if c.latch else LOW for c in part)
         for line in lines_seen:
             rows[line] = "".join(BAR if line in c.lines else " " for c in part)
+        if any_idle:
+            rows["idle"] = "".join(IDLE if c.idle else " " for c in part)
         rows["generator"] = "".join({"frozen": "F", "pulse": "P"}.get(c.kind, " ") for c in part)
         rows["panel"] = "".join(_event_mark(c) for c in part)
         blocks.append("\n".join(f"{name:<{label}}{row.rstrip() or ''}" for name, row in rows.items()))
     first, last = columns[0].cycle, columns[-1].cycle
     head = f"cycles {first:,} to {last:,}" + (" (the run before them was not traced)" if gap else "")
-    return head + "\n" + "\n\n".join(blocks) + "\n" + _LEGEND
+    legend = _LEGEND + ("\nidle: · a cycle whose micro-step drives no control line" if any_idle else "")
+    return head + "\n" + "\n\n".join(blocks) + "\n" + legend
 
 
 def _cycle_row(part: list[Column]) -> str:

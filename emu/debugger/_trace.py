@@ -34,6 +34,8 @@ class Column:
     lines: set[str] = field(default_factory=set)
     actions: list[str] = field(default_factory=list)
     """Panel actions taken just before this column, and the latch being set."""
+    idle: bool = False
+    """True for the high columns of an idle cycle: its micro-step drives no control line."""
 
 
 class Recorder(Observer):
@@ -75,6 +77,7 @@ class Recorder(Observer):
     def microstep(self, emu, step, lines) -> None:
         for column in self._high:
             column.lines.update(lines)
+            column.idle = not lines
         self._high = []
         if emu.frozen:
             self._add(emu, "frozen", 0, self.machine.phases[emu.phase_index].ring)

@@ -238,3 +238,20 @@ def test_scope_marks_idle_cycles_and_draws_no_line_for_them(tmp_path, monkeypatc
     assert named["idle"] == "    · ·"
     assert named["read"] == "  █     █"        # only the two fetches touch memory
     assert rows[-1] == "idle: · a cycle whose micro-step drives no control line"
+
+
+def test_idle_cycles_drive_no_line_in_the_waveform_and_wear_nothing(tmp_path):
+    from vcdvcd import VCDVCD
+    from emu.timing import count_wear, record_vcd
+    machine = emu.Emulator(COND4)
+    machine.load([(0, encode(COND4, "wait") + STOP)])
+    path = tmp_path / "idle.vcd"
+    with record_vcd(machine, path), count_wear(machine) as wear:
+        assert machine.run(max_cycles=20).kind == "halted"
+    # the steps run: two fetches (read, load ir, load pc each), two idle steps, halt
+    expected = {"read": 2, "load ir": 2, "load pc": 2, "halt": 1}
+    assert {line: n for line, n in wear.counts.items() if not line.startswith("stage") and n} == expected
+    vcd = VCDVCD(str(path))
+    rises = {name.rsplit(".", 1)[1]: sum(1 for t, v in vcd[name].tv if t > 0 and v == "1")
+             for name in vcd.signals if ".lines." in name}
+    assert sum(rises.values()) == sum(expected.values())

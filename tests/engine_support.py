@@ -18,6 +18,7 @@ from emu import Emulator, Observer, load_machine
 ROOT = Path(__file__).resolve().parent.parent
 MACHINE_FOLDERS = (ROOT / "emu" / "machines", ROOT / "tests" / "machines")
 ACC12_PATH = ROOT / "tests" / "machines" / "acc12.toml"
+COND4_PATH = ROOT / "tests" / "machines" / "cond4.toml"
 
 
 def machine_files() -> dict[str, Path]:
@@ -159,7 +160,7 @@ def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
 
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",
                 max_cycles=200) -> Run:
-    """Load, set ``values`` (registers, pairs, flags by name), run on the ``path`` asked for."""
+    """Load, set ``values`` (registers, groups, flags by name), run on the ``path`` asked for."""
     emulator = Emulator(machine)
     if path == "stepped":
         emulator.observe(Observer())
@@ -170,6 +171,6 @@ def run_program(machine, words, path: str, *, values=None, memory=None, switches
         emulator.set(name, value)
     emulator.switches = switches
     emulator.input_bytes = input_bytes
-    names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
+    names = [r.name for r in machine.visible_registers] + list(machine.groups) + list(machine.flags)
     before = {name: emulator.get(name) for name in names}
     return Run(emulator, before, list(emulator.memory), emulator.run(max_cycles=max_cycles))

@@ -204,7 +204,7 @@ def test_a_breakpoint_right_after_a_halt_still_reports_the_halt(kiln):
     assert "also: breakpoint 1" in text and kiln.emu.frozen
 
 
-def test_registers_show_every_visible_register_pair_and_flag(kiln):
+def test_registers_show_every_visible_register_group_and_flag(kiln):
     kiln.execute("go")
     text = kiln.execute("registers")
     assert "r1    03      3" in text and "sp  0100    256" in text and "pc  000D     13" in text
@@ -325,7 +325,7 @@ def test_scope_after_a_long_run_is_replayed_from_a_checkpoint(tmp_path):
     assert text.startswith("cycles 299,999 to 300,000 (the run before them was not traced)")
 
 
-def test_put_sets_registers_pairs_flags_and_memory(kiln):
+def test_put_sets_registers_groups_flags_and_memory(kiln):
     assert kiln.execute("put r0 0x7f") == "r0 = 0x7f (127)"
     assert kiln.execute("put x 0x1234") == "x = 0x1234 (4660)"
     assert (kiln.emu.get("r6"), kiln.emu.get("r7")) == (0x12, 0x34)

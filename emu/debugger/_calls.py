@@ -40,9 +40,9 @@ class CallShape:
 
 
 def _registers_in(expr, machine: Machine) -> set[str]:
-    """Registers and pairs an expression reads (walk yields the expression itself too)."""
+    """Registers and groups an expression reads (walk yields the expression itself too)."""
     return {node.name for node in walk(expr)
-            if isinstance(node, Name) and (node.name in machine.registers or node.name in machine.pairs)}
+            if isinstance(node, Name) and (node.name in machine.registers or node.name in machine.groups)}
 
 
 def _assignments(instruction):

@@ -20,7 +20,7 @@ from ..errors import MachineError
 from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
+                     Machine, MachineNames, OperandKind, OperandPattern, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
 from ._schema import Table, is_integer
 from ._sections import read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
@@ -76,7 +76,7 @@ def _too_long_number(text: str, path: str) -> MachineError:
                         path=path, line=line)
 
 
-_SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",
+_SECTIONS = ("machine", "registers", "internal", "groups", "flags", "operands", "ports",
              "clock", "fetch", "instruction", "assembler", "timing", "wear")
 _SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
 _ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d{1,9}):(?P<lo>\d{1,9})\])?)$")
@@ -111,7 +111,7 @@ class _Loader:
         if memory_words & (memory_words - 1):
             head.fail(f"'memory_words' must be a power of two, not {memory_words}", "memory_words")
 
-        registers, pairs = self.registers()
+        registers, groups = self.registers()
         flags = self.flags(len(registers))
         pc = head.string("program_counter", default="pc")
         ir = head.string("instruction_register", default="ir")
@@ -121,7 +121,7 @@ class _Loader:
         if registers[ir].width != data_bits:
             self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
                          f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
-        names = MachineNames(data_bits, registers, pairs, flags, pc, ir)
+        names = MachineNames(data_bits, registers, groups, flags, pc, ir)
 
         kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
@@ -140,7 +140,7 @@ class _Loader:
         machine = Machine(
             name=name, title=head.string("title", default=name), path=self.path,
             data_bits=data_bits, address_bits=address_bits, memory_words=memory_words,
-            registers=registers, pairs=pairs, flags=flags, operand_kinds=kinds,
+            registers=registers, groups=groups, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
             instruction_register=ir, pause=pause.lower(),
@@ -166,29 +166,32 @@ class _Loader:
                 if not is_integer(width) or not 1 <= width <= 32:
                     table.fail(f"a register width must be an integer 1…32 (bits), not {width!r}", reg_name)
                 registers[reg_name] = Register(reg_name, width, len(registers), internal)
-        pairs = {}
-        table = top.table("pairs", required=False)
-        for pair_name, parts in table.items():
-            table.where = f"[pairs] {pair_name}"
-            if (not isinstance(parts, list) or len(parts) != 2
+        groups = {}
+        table = top.table("groups", required=False)
+        for group_name, parts in table.items():
+            table.where = f"[groups] {group_name}"
+            if (not isinstance(parts, list) or len(parts) < 2
                     or not all(isinstance(p, str) and p in registers for p in parts)):
-                table.fail("a pair must be a list of two registers, high first, e.g. [\"r6\", \"r7\"]", pair_name)
-            if pair_name in registers:
-                table.fail("a pair must not have the name of a register", pair_name)
-            high, low = parts
-            pairs[pair_name] = RegisterPair(pair_name, high, low, registers[high].width + registers[low].width)
-        return registers, pairs
+                table.fail("a group must be a list of two or more registers, most significant first, "
+                           "e.g. [\"r6\", \"r7\"]", group_name)
+            if len(set(parts)) != len(parts):
+                table.fail("a group must not name a register twice", group_name)
+            if group_name in registers:
+                table.fail("a group must not have the name of a register", group_name)
+            groups[group_name] = RegisterGroup(group_name, tuple(parts), sum(registers[p].width for p in parts))
+        return registers, groups
 
     def flags(self, first_slot: int) -> dict[str, Flag]:
         flags = {}
-        table = self.top.table("flags")
-        declared = {**self.top.get("registers", {}), **self.top.get("internal", {})}
+        table = self.top.table("flags", required=False)
+        declared = {**self.top.get("registers", {}), **self.top.get("internal", {}), **self.top.get("groups", {})}
         for flag_name, role in table.items():
             table.where = f"[flags] {flag_name}"
-            if role not in FLAG_ROLES:
-                table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)}, not {role!r}", flag_name)
-            if any(f.role == role for f in flags.values()):
-                table.fail(f"two flags have the role '{role}'", flag_name)
+            if not _IDENTIFIER.match(flag_name):
+                table.fail("a flag name must be an identifier", flag_name)
+            if role not in FLAG_ROLES and role != PLAIN_FLAG:
+                table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)} (set by the ALU) or "
+                           f"'{PLAIN_FLAG}' (a 1-bit register transfers write), not {role!r}", flag_name)
             if flag_name in declared:
                 table.fail("a flag must not have the name of a register", flag_name)
             flags[flag_name] = Flag(flag_name, role, first_slot + len(flags))
@@ -340,7 +343,7 @@ class _Loader:
         if encoding is None:
             spec.fail(f"'encoding' must be {words}", "encoding")
         fixed, fields = self.encoding(spec, encoding, field_kinds, names.data_bits)
-        call, returns = read_call_marks(spec, names.registers, names.pairs, names.pc)
+        call, returns = read_call_marks(spec, names.registers, names.groups, names.pc)
         texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
             spec.fail("'steps' must be a list of micro-step strings (steps = [] for one "
@@ -461,7 +464,7 @@ class _Loader:
         for st in statements:
             checker.statement(st)
         checker.finish()
-        return Step(text.strip(), statements, tuple(checker.lines), checker.halts)
+        return Step(text.strip() or "idle", statements, tuple(checker.lines), checker.halts)
 
     def check_overlaps(self, instructions: list[Instruction], data_bits: int):
         owner = [-1] * (1 << data_bits)

@@ -9,17 +9,19 @@ are the number and escape notation shared by machine files, the assembler,
 command options and the debugger.
 """
 
-from ._ir import (Assign, Call, Choose, Const, Expr, Expression, FlagsOnly, Halt, Input, Join, Mem, Name, Node,
-                  Offset, Output, Statement, StatementNode, unknown_node, walk)
+from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, Expr, Expression, Extend, FlagsOnly, Halt,
+                  Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Slice, Statement, StatementNode,
+                  unknown_node, walk)
 from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parser import parse_step
-from ._widths import name_width, value_width
+from ._widths import name_width, top_word_shift, value_width
 
 __all__ = [
-    "Assign", "Call", "Choose", "Const", "Expr", "Expression", "FlagsOnly", "Halt", "Input", "Join", "Mem",
-    "Name", "Node", "Offset", "Output", "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
+    "Assign", "Call", "Choose", "Condition", "Const", "Expr", "Expression", "Extend", "FlagsOnly", "Halt", "Idle",
+    "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
+    "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
     "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number",
-    "name_width", "value_width",
+    "name_width", "top_word_shift", "value_width",
 ]

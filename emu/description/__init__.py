@@ -15,7 +15,7 @@ from ._design_rules import StepChecker
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair,
-                     Step, stage_relay)
+                     Step, Jump, Cycles, DecodeGroup, stage_relay)
 from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
 from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
                         TimingSection, WearRatings, read_timing, read_wear, timing_section,
@@ -26,7 +26,7 @@ __all__ = [
     "ALU_OPS", "WORD_SELECTORS", "StepChecker",
     "MachineNames", "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
-    "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step",
+    "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step", "Jump", "Cycles", "DecodeGroup",
     "stage_relay",
     "REQUIRED", "Table", "is_integer", "is_number", "kind_of",
     "MAX_TOLERANCE", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",

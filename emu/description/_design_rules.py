@@ -9,8 +9,8 @@ from __future__ import annotations
 
 from ._alu import ALU_OPS, WORD_SELECTORS
 from ._model import Field
-from .notation import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset,
-                       Output, name_width, unknown_node, value_width)
+from .notation import (Assign, Call, Choose, Const, End, FlagsOnly, Goto, Halt, Input, Join, Mem, Name, Offset,
+                       Output, WaitUntil, name_width, unknown_node, value_width)
 
 __all__ = ["StepChecker"]
 
@@ -31,6 +31,8 @@ class StepChecker:
         self.written: dict[str, str] = {}
         self.lines: list[str] = []
         self.halts = False
+        self.sequencing = None
+        """The step's one sequencing statement (end, goto, wait until), if any."""
 
     def fail(self, message):
         self._fail(self.where, message)
@@ -72,8 +74,26 @@ class StepChecker:
                     self.fail("drives halt twice")
                 self.halts = True
                 self.line("halt")
+            case End(condition) | Goto(_, condition) | WaitUntil(condition):
+                if self.sequencing is not None:
+                    self.fail("a step has at most one sequencing statement (end, goto, wait until)")
+                self.sequencing = st
+                if condition is not None:
+                    self.sequencing_condition(condition)
             case _:
                 unknown_node(st)
+
+    def sequencing_condition(self, condition) -> None:
+        """The condition of end if / goto … if / wait until: a flag or a 1-bit register."""
+        name = condition.flag
+        registers = self.names.registers
+        if name in self.names.flags or (name in registers and registers[name].width == 1):
+            return
+        if name in registers:
+            self.fail(f"'{name}' in a condition is {registers[name].width} bits wide; a condition "
+                      f"needs one bit (a flag or a 1-bit register)")
+        self.fail(f"'{name}' in a condition is not a flag or a 1-bit register "
+                  f"(flags: {', '.join(self.names.flags) or 'none'})")
 
     def target(self, name, value_width):
         names = self.names

@@ -17,12 +17,13 @@ from pathlib import Path
 
 from ..errors import MachineError
 from ._design_rules import StepChecker
-from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
+from ._decoding import decode_groups
+from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction, Jump,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import Table, is_integer
 from ._sections import read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
-from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
+from .notation import Assign, Call, Choose, End, Goto, Halt, Input, Mem, Name, Output, WaitUntil, parse_step, walk
 
 __all__ = ["load_machine", "machine_from_text", "shipped_machines"]
 
@@ -124,14 +125,15 @@ class _Loader:
             choices = ", ".join(i.mnemonic for i in halting) or "none"
             assembler.fail(f"'pause' must name an instruction without operands that drives halt "
                            f"(candidates: {choices}), not '{pause}'", "pause")
-        self.check_overlaps(instructions, data_bits)
+        groups = decode_groups(instructions, data_bits, lambda ins, message: self.fail_at(
+            f"instruction '{ins.display}'", ("instruction", ins.index, "encoding"), message))
         machine = Machine(
             name=name, title=head.string("title", default=name), path=self.path,
             data_bits=data_bits, address_bits=address_bits, memory_words=memory_words,
             registers=registers, pairs=pairs, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
-            instruction_register=ir, pause=pause.lower(),
+            instruction_register=ir, pause=pause.lower(), decode_groups=groups,
         )
         if "timing" in top:
             machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
@@ -294,6 +296,10 @@ class _Loader:
                 if isinstance(st, Assign) and isinstance(st.target, Mem) or isinstance(st, (Output, Halt)):
                     self.fail_at(f"[fetch] step {i}", ("fetch", "steps", i - 1),
                                  "fetch steps may only read: no memory writes, output or halt")
+                if isinstance(st, (End, Goto, WaitUntil)):
+                    self.fail_at(f"[fetch] step {i}", ("fetch", "steps", i - 1),
+                                 "fetch steps run in order: no end, goto or wait until (they belong "
+                                 "to an instruction's own steps)")
         if _computed(steps, names.ir):
             spec.fail("the fetch steps must load the instruction register by plain register transfers "
                       "(no ALU, input or choice)", "steps")
@@ -318,7 +324,7 @@ class _Loader:
         if not isinstance(raw, dict):
             self.fail_at(f"[[instruction]] {index + 1}", key, "an instruction must be a table")
         spec = Table(raw, f"[[instruction]] {index + 1}", self.fail_at, key)
-        spec.known_keys(("syntax", "encoding", "steps"))
+        spec.known_keys(("syntax", "encoding", "steps", "decode_words"))
         syntax = spec.string("syntax").strip()
         spec.where = f"instruction '{_strip_kinds(syntax)}'"
         mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
@@ -335,16 +341,24 @@ class _Loader:
         places = [(f"{spec.where} step {fetch_count + i}", key + ("steps", i - 1)) for i in range(1, len(texts) + 1)]
         parsed = [self.parse(text, where, at) for text, (where, at) in zip(texts, places)]
         holders = self.word_holders(spec, names, parsed, len(encoding))
+        decode_words = spec.integer("decode_words", low=1, high=len(encoding), default=1,
+                                    expected=f"a number of leading encoding words, 1…{len(encoding)}")
+        if decode_words - 1 not in holders:
+            spec.fail(f"word {decode_words} decodes the instruction (decode_words = {decode_words}), so a "
+                      f"step must load it whole into a register (t <- mem[{names.pc}])", "decode_words")
+        decode_step = holders[decode_words - 1][0] - 1
         steps = []
         for i, (text, statements, (where, at)) in enumerate(zip(texts, parsed, places), 1):
             fetched_words = {w for w, (step_no, _reg) in holders.items() if step_no < i}
             available = {name: f for name, f in fields.items()
                          if all(p.word in fetched_words for p in f.pieces)}
-            steps.append(self.step(names, statements, text, where, at, fields, available))
+            steps.append(self.step(names, statements, text, where, at, fields, available,
+                                   (i - 1, fetch_count, len(texts), decode_step)))
         return Instruction(
             index=index, syntax=syntax, mnemonic=mnemonic, operands=operands, fields=fields,
             word_count=len(encoding), fixed=fixed, steps=tuple(steps),
             holders={w: reg for w, (_s, reg) in holders.items()},
+            decode_words=decode_words, decode_step=decode_step,
         )
 
     def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):
@@ -439,25 +453,46 @@ class _Loader:
             self.fail_at(where, key, exc.message)
 
     def step(self, names: MachineNames, statements, text: str, where: str, key: tuple,
-             fields, available) -> Step:
+             fields, available, position=None) -> Step:
+        """One checked step; ``position`` is (own index, fetch steps, own steps, decode step)
+        for an instruction's step, None for a fetch step."""
         checker = StepChecker(names, where, fields, available,
                               lambda at, message: self.fail_at(at, key, message))
         for st in statements:
             checker.statement(st)
         checker.finish()
-        return Step(text.strip(), statements, tuple(checker.lines), checker.halts)
+        jump = None if checker.sequencing is None else _jump(checker.sequencing, position, checker.fail)
+        return Step(text.strip(), statements, tuple(checker.lines), checker.halts, jump)
 
-    def check_overlaps(self, instructions: list[Instruction], data_bits: int):
-        owner = [-1] * (1 << data_bits)
-        for ins in instructions:
-            for word in ins.first_words(data_bits):
-                if owner[word] >= 0:
-                    other = instructions[owner[word]]
-                    width = (data_bits + 3) // 4
-                    self.fail_at(f"instruction '{ins.display}'", ("instruction", ins.index, "encoding"),
-                                 f"its encoding overlaps instruction '{other.display}' at first word "
-                                 f"0x{word:0{width}X}; the first word alone must tell instructions apart")
-                owner[word] = ins.index
+
+def _jump(statement, position, fail) -> Jump:
+    """A sequencing statement resolved to step indices, checked against the instruction's steps.
+
+    Steps are numbered as ``isa`` numbers them (fetch steps first, from 1).
+    In an instruction decoded by later words, the steps up to its decoding
+    step are shared with its decode group: no jump leaves them or enters
+    them from after, so the members part only at the decoding step.
+    """
+    own, fetch_count, count, decode_step = position
+    match statement:
+        case End(condition):
+            if own <= decode_step:
+                fail(f"'end' cannot come before the instruction is decoded (after step "
+                     f"{fetch_count + decode_step + 1})")
+            return Jump(count, condition)
+        case WaitUntil(condition):
+            return Jump(own, condition, when=False)
+        case Goto(number, condition):
+            first, last = fetch_count + 1, fetch_count + count
+            if not first <= number <= last:
+                fail(f"goto {number}: the instruction's own steps are numbered {first}…{last} "
+                     f"(the fetch steps {'1…' + str(fetch_count) if fetch_count > 1 else '1'} come first)")
+            target = number - fetch_count - 1
+            if (own <= decode_step) != (target <= decode_step):
+                fail(f"goto {number} crosses the decoding step (step {fetch_count + decode_step + 1}): "
+                     f"the steps up to it are shared by the instructions decoded there")
+            return Jump(target, condition)
+    raise AssertionError(statement)
 
 
 def _computed(steps: tuple[Step, ...], register: str) -> bool:

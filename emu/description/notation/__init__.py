@@ -9,8 +9,9 @@ are the number and escape notation shared by machine files, the assembler,
 command options and the debugger.
 """
 
-from ._ir import (Assign, Call, Choose, Const, Expr, Expression, FlagsOnly, Halt, Input, Join, Mem, Name, Node,
-                  Offset, Output, Statement, StatementNode, unknown_node, walk)
+from ._ir import (Assign, Call, Choose, Const, End, Expr, Expression, FlagCondition, FlagsOnly, Goto, Halt, Input,
+                  Join, Mem, Name, Node, Offset, Output, Sequencing, Statement, StatementNode, WaitUntil,
+                  unknown_node, walk)
 from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parser import parse_step
@@ -19,6 +20,7 @@ from ._widths import name_width, value_width
 __all__ = [
     "Assign", "Call", "Choose", "Const", "Expr", "Expression", "FlagsOnly", "Halt", "Input", "Join", "Mem",
     "Name", "Node", "Offset", "Output", "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
+    "End", "FlagCondition", "Goto", "Sequencing", "WaitUntil",
     "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number",
     "name_width", "value_width",

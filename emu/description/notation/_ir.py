@@ -27,6 +27,7 @@ __all__ = [
     "Node", "Expression", "StatementNode",
     "Name", "Const", "Mem", "Join", "Offset", "Choose", "Input", "Call",
     "Assign", "FlagsOnly", "Output", "Halt", "Expr", "Statement",
+    "FlagCondition", "End", "Goto", "WaitUntil", "Sequencing",
     "walk", "unknown_node",
 ]
 
@@ -201,7 +202,42 @@ class Halt(StatementNode):
     """Drives the halt line; the control unit sets its latch on the falling edge."""
 
 
-Statement = Assign | FlagsOnly | Output | Halt
+# ----- sequencing: what the control unit does after the step ------------------
+
+@dataclass(frozen=True)
+class FlagCondition(Node):
+    """The condition of a sequencing statement: one flag, or its negation.
+
+    Deliberately not a sub-node (``walk`` does not reach it): it is read by
+    the sequencer, not by the datapath, and the one place that builds it is
+    the grammar rule ``sequencing_condition``.
+    """
+    flag: str
+    negate: bool
+
+
+@dataclass(frozen=True)
+class End(StatementNode):
+    """``end`` / ``end if COND``: the instruction is finished after this step."""
+    condition: FlagCondition | None = None
+
+
+@dataclass(frozen=True)
+class Goto(StatementNode):
+    """``goto N`` / ``goto N if COND``: the next step is the instruction's step N (``isa`` numbering)."""
+    step: int
+    condition: FlagCondition | None = None
+
+
+@dataclass(frozen=True)
+class WaitUntil(StatementNode):
+    """``wait until COND``: the step repeats until COND holds (a stall); sugar for a goto to itself."""
+    condition: FlagCondition
+
+
+Sequencing = End | Goto | WaitUntil
+
+Statement = Assign | FlagsOnly | Output | Halt | End | Goto | WaitUntil
 
 
 def walk(node: Node):

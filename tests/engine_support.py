@@ -15,7 +15,8 @@ from hypothesis import strategies as st
 from emu import Emulator, Observer, load_machine
 
 ACC12_PATH = Path(__file__).parent / "machines" / "acc12.toml"
-MACHINES = {"ref8": load_machine("ref8"), "acc12": load_machine(ACC12_PATH)}
+NIB4_PATH = Path(__file__).parent / "machines" / "nib4.toml"
+MACHINES = {"ref8": load_machine("ref8"), "acc12": load_machine(ACC12_PATH), "nib4": load_machine(NIB4_PATH)}
 
 
 def machine_named(name: str):

@@ -13,6 +13,7 @@ from emu import Emulator, MachineError, Observer
 from engine_support import MACHINES, boot, datapath_state, encode, programs
 
 BOTH = pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
+EVERY = pytest.mark.parametrize("machine_name", ["ref8", "acc12", "nib4"])
 
 
 def _full_state(emu: Emulator) -> tuple:
@@ -31,7 +32,7 @@ def _run_resuming(emu: Emulator, cycles: int) -> list[str]:
     return reasons
 
 
-@BOTH
+@EVERY
 @settings(max_examples=60, deadline=None)
 @given(data=st.data(), cycles=st.integers(1, 3000))
 def test_fused_and_stepping_agree_on_state_cycles_and_time(machine_name, data, cycles):
@@ -44,7 +45,7 @@ def test_fused_and_stepping_agree_on_state_cycles_and_time(machine_name, data, c
     assert _full_state(fast) == _full_state(stepped)
 
 
-@BOTH
+@EVERY
 @settings(max_examples=40, deadline=None)
 @given(data=st.data(), before=st.integers(0, 1500), after=st.integers(1, 1500), stop=st.booleans())
 def test_snapshot_restore_continues_like_an_uninterrupted_run(machine_name, data, before, after, stop,

@@ -173,9 +173,12 @@ class PanelMachine(RuleBasedStateMachine):
             assert emu.halt_latch, "the latch stays set through steps"
 
     def _single_step_instruction(self, seq) -> bool:
+        """Whether a STEP may leave the sequencer where it was: a one-step fetch with no
+        instruction steps, or a step that repeats itself (``wait until``, ``goto`` to itself)."""
         index, step = seq
         if index >= 0:
-            return False
+            jump = self.machine.instructions[index].steps[step].jump
+            return jump is not None and jump.target == step
         return len(self.machine.fetch) == 1 and step == 0
 
     @rule()
@@ -280,8 +283,17 @@ class Acc12Fast(PanelMachine):
     machine_name, observed = "acc12", False
 
 
-@pytest.mark.parametrize("panel_machine", [Ref8Stepping, Ref8Fast, Acc12Stepping, Acc12Fast],
-                         ids=["ref8-stepping", "ref8-fast", "acc12-stepping", "acc12-fast"])
+class Nib4Stepping(PanelMachine):
+    machine_name, observed = "nib4", True
+
+
+class Nib4Fast(PanelMachine):
+    machine_name, observed = "nib4", False
+
+
+@pytest.mark.parametrize("panel_machine", [Ref8Stepping, Ref8Fast, Acc12Stepping, Acc12Fast, Nib4Stepping, Nib4Fast],
+                         ids=["ref8-stepping", "ref8-fast", "acc12-stepping", "acc12-fast", "nib4-stepping",
+                              "nib4-fast"])
 def test_panel_actions_keep_the_program_semantics(panel_machine):
     case = panel_machine.TestCase
     case.settings = SETTINGS

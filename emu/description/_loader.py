@@ -296,10 +296,7 @@ class _Loader:
                 if isinstance(st, Assign) and isinstance(st.target, Mem) or isinstance(st, (Output, Halt)):
                     self.fail_at(f"[fetch] step {i}", ("fetch", "steps", i - 1),
                                  "fetch steps may only read: no memory writes, output or halt")
-                if isinstance(st, (End, Goto, WaitUntil)):
-                    self.fail_at(f"[fetch] step {i}", ("fetch", "steps", i - 1),
-                                 "fetch steps run in order: no end, goto or wait until (they belong "
-                                 "to an instruction's own steps)")
+
         if _computed(steps, names.ir):
             spec.fail("the fetch steps must load the instruction register by plain register transfers "
                       "(no ALU, input or choice)", "steps")
@@ -461,6 +458,9 @@ class _Loader:
         for st in statements:
             checker.statement(st)
         checker.finish()
+        if checker.sequencing is not None and position is None:
+            checker.fail("fetch steps run in order: no end, goto or wait until (they belong to an "
+                         "instruction's own steps)")
         jump = None if checker.sequencing is None else _jump(checker.sequencing, position, checker.fail)
         return Step(text.strip(), statements, tuple(checker.lines), checker.halts, jump)
 

@@ -1,8 +1,9 @@
 """Properties of the clock, the control unit and the two execution paths (P1–P7).
 
-Each runs on both machines: ref8 (a hold point after every pulse) and acc12
-(a hold point after every other pulse), so nothing here holds by accident of
-one phase table.
+Each runs on ref8 (a hold point after every pulse), acc12 (a hold point
+after every other pulse), so nothing here holds by accident of one phase
+table, and nib4 (decode groups, early ends, branches, loops and stalls), so
+nothing holds by accident of straight-line instructions.
 
 The reference for "what the program does" is a second emulator running free
 on the fast path, resuming by itself at every halt and recording the state

@@ -117,10 +117,14 @@ def test_a_snapshot_inside_a_stall_continues_exactly(tmp_path):
 
 
 def test_the_fast_path_starts_an_instruction_only_when_its_longest_path_fits():
-    """jnz takes 4 when taken: a budget of 3 must leave it to the stepping path, stopping mid-way."""
-    fused = run_program(NIB4, words(("jnz addr", {"addr": 5})) + [0, 0] + words("stop"), "fused", max_cycles=3)
-    stepped = run_program(NIB4, words(("jnz addr", {"addr": 5})) + [0, 0] + words("stop"), "stepped",
-                          max_cycles=3)
+    """Without ldb (4 cycles) the longest fused path is jnz taken (4), the shortest paths all 3: a
+    budget of 3 must leave jnz to the stepping path, which stops inside it, as the stepped run does."""
+    ldb = NIB4_TEXT[NIB4_TEXT.index('[[instruction]]\nsyntax = "ldb k:k"'):NIB4_TEXT.index("# a prefixed skip")]
+    machine = machine_from_text(NIB4_TEXT.replace(ldb, ""), "nib4-without-ldb.toml")
+    assert compile_machine(machine).max_fused_cycles == 4
+    program = encode(machine, "jnz addr", addr=5) + [0, 0] + encode(machine, "stop")
+    fused = run_program(machine, program, "fused", max_cycles=3)
+    stepped = run_program(machine, program, "stepped", max_cycles=3)
     assert fused.stop.kind == stepped.stop.kind == "cycle_limit"
     assert fused.emu._seq == stepped.emu._seq == (4, 2)
     assert fused.emu.cycles == stepped.emu.cycles == 3

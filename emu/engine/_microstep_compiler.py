@@ -661,12 +661,11 @@ class _MachineCompiler:
                 out.line(f"{branch} member == {ins.index}:")
                 branch = "elif"
                 with out.indent():
-                    out.line(f"# {ins.display}")
+                    out.line(f"# {ins.display}: its own steps after the shared ones")
                     self.fused_steps(ins, _first_word_fixed(ins, word), access, group.decode_step + 1,
                                      counting=True)
                     access.write_back()
                     access.loaded.clear()
-                    out.line("pass")
             out.line("else:")
             with out.indent():
                 out.line("undefined_(start)")

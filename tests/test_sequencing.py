@@ -217,8 +217,8 @@ CLR = 'encoding = ["1111", "0010"]\ndecode_words = 2\nsteps = ["t <- mem[pc]; pc
      "fetching the last decoding word must be the same text; they differ"),
     ('steps = ["end if !z", "pc <- pc + 1"]', 'steps = ["goto 5 if !z", "pc <- pc + 1"]',
      'steps = ["end if !z", "pc <- pc + 1"]',
-     "instruction 'skz' step 2: goto 5: the instruction's own steps are numbered 2…3 (the fetch steps 1 "
-     "come first)"),
+     "instruction 'skz' step 2: goto 5: the instruction's own steps are numbered 2…3 (step 1 is "
+     "the fetch)"),
     ('steps = ["end if !z", "pc <- pc + 1"]', 'steps = ["end if !z; goto 3", "pc <- pc + 1"]',
      'steps = ["end if !z", "pc <- pc + 1"]',
      "instruction 'skz' step 2: a step has at most one sequencing statement (end, goto, wait until)"),

@@ -18,12 +18,13 @@ from pathlib import Path
 from ..errors import MachineError
 from ._design_rules import StepChecker
 from ._decoding import decode_groups
-from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction, Jump,
+from ._sequencing import resolve_jump
+from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import Table, is_integer
 from ._sections import read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
-from .notation import Assign, Call, Choose, End, Goto, Halt, Input, Mem, Name, Output, WaitUntil, parse_step, walk
+from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
 
 __all__ = ["load_machine", "machine_from_text", "shipped_machines"]
 
@@ -461,38 +462,8 @@ class _Loader:
         if checker.sequencing is not None and position is None:
             checker.fail("fetch steps run in order: no end, goto or wait until (they belong to an "
                          "instruction's own steps)")
-        jump = None if checker.sequencing is None else _jump(checker.sequencing, position, checker.fail)
+        jump = None if checker.sequencing is None else resolve_jump(checker.sequencing, position, checker.fail)
         return Step(text.strip(), statements, tuple(checker.lines), checker.halts, jump)
-
-
-def _jump(statement, position, fail) -> Jump:
-    """A sequencing statement resolved to step indices, checked against the instruction's steps.
-
-    Steps are numbered as ``isa`` numbers them (fetch steps first, from 1).
-    In an instruction decoded by later words, the steps up to its decoding
-    step are shared with its decode group: no jump leaves them or enters
-    them from after, so the members part only at the decoding step.
-    """
-    own, fetch_count, count, decode_step = position
-    match statement:
-        case End(condition):
-            if own <= decode_step:
-                fail(f"'end' cannot come before the instruction is decoded (after step "
-                     f"{fetch_count + decode_step + 1})")
-            return Jump(count, condition)
-        case WaitUntil(condition):
-            return Jump(own, condition, when=False)
-        case Goto(number, condition):
-            first, last = fetch_count + 1, fetch_count + count
-            if not first <= number <= last:
-                fail(f"goto {number}: the instruction's own steps are numbered {first}…{last} "
-                     f"(the fetch steps {'1…' + str(fetch_count) if fetch_count > 1 else '1'} come first)")
-            target = number - fetch_count - 1
-            if (own <= decode_step) != (target <= decode_step):
-                fail(f"goto {number} crosses the decoding step (step {fetch_count + decode_step + 1}): "
-                     f"the steps up to it are shared by the instructions decoded there")
-            return Jump(target, condition)
-    raise AssertionError(statement)
 
 
 def _computed(steps: tuple[Step, ...], register: str) -> bool:

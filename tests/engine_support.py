@@ -19,6 +19,7 @@ ROOT = Path(__file__).resolve().parent.parent
 MACHINE_FOLDERS = (ROOT / "emu" / "machines", ROOT / "tests" / "machines")
 ACC12_PATH = ROOT / "tests" / "machines" / "acc12.toml"
 COND4_PATH = ROOT / "tests" / "machines" / "cond4.toml"
+NIB4_PATH = ROOT / "tests" / "machines" / "nib4.toml"
 
 
 def machine_files() -> dict[str, Path]:

@@ -1,0 +1,210 @@
+"""Block translation for the fast path: hot straight-line code run as one function a block.
+
+The fast path of the control unit runs whole instructions, one fused
+function each. Here, a pc that the fast path has reached ``threshold``
+times becomes the start of a *block*: the instructions from there up to a
+branch, a halting or undefined instruction, a breakpoint or a length cap,
+translated into one function (``_block_translator``). The dispatch loop
+runs a block only when its full cycle count fits the budget, so cycle
+limits, breakpoints and every panel event land where stepping puts them.
+
+Compiled blocks are cached per machine, keyed by their start and their
+words, so the same image loaded again (in this emulator or another) binds
+the compiled code instead of translating it again. Blocks are bound to one
+emulator's state and kept valid three ways: stores made by blocks and by the
+fast path's instructions check a per-word map of translated words and drop
+the blocks they hit; each entry into the loop compares every block's words
+with memory, which catches what the stepping path, the debugger or a new
+image wrote; and a change of breakpoints drops blocks, to be split anew.
+"""
+
+from __future__ import annotations
+
+import weakref
+from collections import Counter, OrderedDict
+
+from ..description import Machine
+from ._block_translator import (BlockPlan, checked_fused_source, dispatcher_source, falls_through,
+                                translate_block)
+from ._microstep_compiler import Fallback, compile_machine
+
+__all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS"]
+
+HOT_THRESHOLD = 2000
+"""Visits of a pc before its block is translated: translating and compiling a
+block costs about as much as running a few thousand fused instructions."""
+
+MAX_BLOCK_INSTRUCTIONS = 64
+"""Longest block; it bounds compile time and how much budget a block needs."""
+
+MAX_INVALIDATIONS = 8
+"""Times one start's block may be dropped by stores before it stays untranslated."""
+
+CACHE_BLOCKS = 4096
+"""Compiled blocks kept per machine."""
+
+_RETRY_AFTER = 10_000
+"""A pc where no block can start (a halt, an undefined word) is tried again after this many visits."""
+
+_NEVER = -(1 << 62)
+
+
+class _MachineBlocks:
+    """What every emulator of one machine shares: the loop, checked instructions, compiled blocks."""
+
+    def __init__(self, machine: Machine):
+        compiled = compile_machine(machine)
+        self.max_fused = compiled.max_fused_cycles
+        name = machine.name
+        self.dispatcher = compile(dispatcher_source(machine, self.max_fused), f"<relaybench:{name} blocks>", "exec")
+        self.checked = compile(checked_fused_source(machine), f"<relaybench:{name} checked>", "exec")
+        self.falls_through = [falls_through(machine, ins) for ins in machine.instructions]
+        self.code: OrderedDict[tuple, tuple] = OrderedDict()
+
+    def compiled_block(self, machine: Machine, plan: BlockPlan):
+        key = (plan.start, plan.words)
+        code = self.code.get(key)
+        if code is None:
+            _source, code = translate_block(machine, plan, f"<relaybench:{machine.name} block {plan.start:#x}>")
+            self.code[key] = code
+            if len(self.code) > CACHE_BLOCKS:
+                self.code.popitem(last=False)
+        return code
+
+
+_shared: dict[int, _MachineBlocks] = {}
+
+
+def _machine_blocks(machine: Machine) -> _MachineBlocks:
+    key = id(machine)
+    shared = _shared.get(key)
+    if shared is None:
+        shared = _shared[key] = _MachineBlocks(machine)
+        weakref.finalize(machine, _shared.pop, key, None)
+    return shared
+
+
+def _build(code, *arguments):
+    namespace: dict = {}
+    exec(code, namespace)
+    return namespace["build"](*arguments)
+
+
+class BlockRunner:
+    """Block translation for one emulator; ``run`` is the control unit's fast path when enabled.
+
+    ``enabled`` switches translation off (the fused path runs as before);
+    ``threshold`` is how many visits make a pc hot; ``built`` counts the
+    blocks put in place so far, and ``dropped`` those taken out again.
+    """
+
+    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list):
+        self.machine = machine
+        self.enabled = True
+        self.threshold = HOT_THRESHOLD
+        self.built = 0
+        self.dropped = 0
+        self._state = (s, memory, read_port, write_port)
+        self._plain = fused
+        self._loop = None
+
+    def _start(self) -> None:
+        """Tables the size of memory, made at the first run so an emulator that never runs pays nothing."""
+        machine = self.machine
+        s, memory, read_port, write_port = self._state
+        self._shared = _machine_blocks(machine)
+        size = machine.memory_words
+        self._table: list = [None] * size
+        self._hits = [0] * size
+        self._cmap = [0] * size
+        self._active: dict[int, tuple[int, object]] = {}
+        self._invalidations: Counter[int] = Counter()
+        self._points = frozenset()
+        checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
+        self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
+        self._loop = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._checked,
+                            self._translate, Fallback)
+
+    def run(self, budget: int, points: frozenset) -> tuple[int, int, bool]:
+        """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, breakpoint hit)."""
+        if self._loop is None:
+            self._start()
+        self._check_blocks(points)
+        fused = self._checked if self._active else self._plain
+        return self._loop(budget, points, fused, self.threshold)
+
+    # ----- keeping blocks valid
+
+    def _check_blocks(self, points: frozenset) -> None:
+        """Drop blocks whose words memory no longer holds, and all of them when breakpoints changed."""
+        memory = self._state[1]
+        if points != self._points:
+            self._points = points
+            for start in list(self._active):
+                self._drop(start, soon=True)
+            return
+        for start, (end, words) in list(self._active.items()):
+            if memory[start:end] != words:
+                self._drop(start, soon=False)
+
+    def _invalidate(self, addresses, low: int, high: int) -> bool:
+        """Called by a store that hit translated words: drop the blocks covering them.
+
+        True when one of the words lies in ``[low, high)``, the rest of the running block.
+        """
+        for address in addresses:
+            if self._cmap[address]:
+                for start in [b for b, (end, _w) in self._active.items() if b <= address < end]:
+                    self._invalidations[start] += 1
+                    self._drop(start, soon=False)
+        return any(low <= address < high for address in addresses)
+
+    def _drop(self, start: int, soon: bool) -> None:
+        end, _words = self._active.pop(start)
+        self._table[start] = None
+        cmap = self._cmap
+        for address in range(start, end):
+            cmap[address] -= 1
+        if self._invalidations[start] > MAX_INVALIDATIONS:
+            self._hits[start] = _NEVER
+        else:
+            self._hits[start] = self.threshold - 1 if soon else 0
+        self.dropped += 1
+
+    # ----- translating
+
+    def _plan(self, start: int) -> BlockPlan | None:
+        machine, memory = self.machine, self._state[1]
+        decode, size = machine.decode_table, machine.memory_words
+        address, instructions = start, []
+        while len(instructions) < MAX_BLOCK_INSTRUCTIONS:
+            if address != start and address in self._points:
+                break
+            index = decode[memory[address]]
+            if index < 0:
+                break
+            ins = machine.instructions[index]
+            if ins.drives_halt or address + ins.word_count > size:
+                break
+            instructions.append((address, ins))
+            address += ins.word_count
+            if not self._shared.falls_through[index]:
+                break
+        if not instructions:
+            return None
+        return BlockPlan(start, tuple(memory[start:address]), tuple(instructions))
+
+    def _translate(self, start: int) -> None:
+        """Put a block in place at ``start``, compiling it unless this machine has compiled it before."""
+        plan = self._plan(start)
+        if plan is None:
+            self._hits[start] = self.threshold - _RETRY_AFTER
+            return
+        s, memory, read_port, write_port = self._state
+        code = self._shared.compiled_block(self.machine, plan)
+        block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
+        self._table[start] = (block, plan.cycles(self.machine))
+        self._active[start] = (plan.end, memory[start:plan.end])
+        for address in range(start, plan.end):
+            self._cmap[address] += 1
+        self.built += 1

@@ -24,14 +24,16 @@ from __future__ import annotations
 
 import ast
 import re
+from contextlib import nullcontext
 from dataclasses import dataclass, field
 
 from ..description import Instruction, Machine
-from ..description.notation import Assign, Mem, walk
+from ..description.notation import Assign, Choose, Mem, Name, Offset, walk
 from ._emitter import Emitter
 from ._microstep_compiler import _ident, _LocalAccess, _MachineCompiler, _StepTranslator
 
-__all__ = ["BlockPlan", "checked_fused_source", "dispatcher_source", "falls_through", "translate_block"]
+__all__ = ["BlockPlan", "block_source", "JUMP", "MAYBE", "NEXT", "checked_fused_source", "dispatcher_source", "successor",
+           "translate_block"]
 
 _NUMBER = re.compile(r"\b0[xXbBoO][0-9a-fA-F_]+\b|\b\d+\b")
 _NAME_START = re.compile(r"[A-Za-z_]")
@@ -56,13 +58,20 @@ class _KnownAccess(_LocalAccess):
         super().__init__(out, machine)
         self.known: dict[int, int] = dict(known or {})
         self.known_dirty: set[int] = set()
+        self.texts: dict[int, str] = {}
+        self.read_from_state: set[int] = set()
+        self.written: set[int] = set()
+        self.dynamic = False
 
     def read(self, slot: int, name: str) -> str:
         if slot in self.known:
             return str(self.known[slot])
+        if slot not in self.loaded:
+            self.read_from_state.add(slot)
         return super().read(slot, name)
 
     def write(self, slot: int, name: str, value: str) -> None:
+        self.written.add(slot)
         constant = _constant(value)
         if constant is not None:
             self.known[slot] = constant
@@ -72,9 +81,11 @@ class _KnownAccess(_LocalAccess):
             return
         self.known.pop(slot, None)
         self.known_dirty.discard(slot)
+        self.texts[slot] = value
         super().write(slot, name, value)
 
     def flush(self, slots) -> None:
+        self.dynamic = True
         super().flush(slots)
         for slot in sorted(slots):
             if slot in self.known_dirty:
@@ -82,10 +93,19 @@ class _KnownAccess(_LocalAccess):
                 self.known_dirty.discard(slot)
 
     def forget(self, slots) -> None:
+        self.dynamic = True
         super().forget(slots)
         for slot in slots:
             self.known.pop(slot, None)
             self.known_dirty.discard(slot)
+
+    def snapshot(self) -> tuple:
+        return dict(self.known), set(self.known_dirty), dict(self.loaded), dict(self.dirty), dict(self.texts)
+
+    def restore(self, saved: tuple) -> None:
+        known, known_dirty, loaded, dirty, texts = saved
+        self.known, self.known_dirty, self.loaded, self.dirty, self.texts = (
+            dict(known), set(known_dirty), dict(loaded), dict(dirty), dict(texts))
 
     def emit_write_back(self) -> None:
         """Put every changed slot back, leaving the bookkeeping as it is (side exits use it too)."""
@@ -182,19 +202,39 @@ def _store_check(out: Emitter, context: _Context, exit_lines=None) -> None:
     context.bake = True
 
 
-# ----- which instruction forms end a block --------------------------------
+# ----- how an instruction form leaves pc ---------------------------------
 
-def falls_through(machine: Machine, ins: Instruction) -> bool:
-    """Whether the form leaves pc at the next instruction whatever its operands and flags say.
+NEXT, MAYBE, JUMP = "next", "maybe", "jump"
 
-    Translated once per form with pc known and nothing else: a pc that is
-    still a constant, one form's length on, is the fetch's increment alone.
-    """
-    pc_slot = machine.registers[machine.program_counter].slot
-    start = 0x10 % machine.memory_words
-    access = _KnownAccess(Emitter(), machine, {pc_slot: start})
-    _translate_instruction(machine, access.out, access, ins, _Context())
-    return access.known.get(pc_slot) == start + ins.word_count
+
+def successor(machine: Machine, ins: Instruction) -> str:
+    """``NEXT`` when the form only ever increments pc, ``MAYBE`` when it chooses by a flag
+    between a jump and pc as incremented (a block goes on past it, leaving when
+    the jump is taken), ``JUMP`` for every other write of pc."""
+    pc = machine.program_counter
+    kind = NEXT
+    for step in ins.steps:
+        for st in step.statements:
+            if not isinstance(st, Assign) or not isinstance(st.target, Name):
+                continue
+            name = st.target.name
+            if name in machine.pairs and pc in (machine.pairs[name].high, machine.pairs[name].low):
+                return JUMP
+            fld = ins.fields.get(name)
+            if fld is not None and fld.kind.is_register and pc in fld.kind.registers:
+                return JUMP
+            if name != pc or _only_pc(st.value, pc):
+                continue
+            if isinstance(st.value, Choose) and (_only_pc(st.value.if_true, pc) or _only_pc(st.value.if_false, pc)):
+                kind = MAYBE
+            else:
+                return JUMP
+    return kind
+
+
+def _only_pc(node, pc: str) -> bool:
+    """pc itself or pc counted on: the sequential successor."""
+    return node == Name(pc) or (isinstance(node, Offset) and node.base == Name(pc) and node.delta > 0)
 
 
 # ----- one block --------------------------------------------------------------
@@ -215,61 +255,310 @@ class BlockPlan:
 
 
 def translate_block(machine: Machine, plan: BlockPlan, filename: str):
-    """Compile the block: a code object defining ``build(s, m, in_, out_, cmap, invalidate)``."""
-    pc_slot = machine.registers[machine.program_counter].slot
-    out = Emitter()
-    out.line("def build(s, m, in_, out_, cmap, invalidate):")
-    with out.indent():
-        out.line("def block():")
+    """Compile the block: a code object defining ``build(s, m, in_, out_, cmap, invalidate)``,
+    and the cycles of its longest way through (all its instructions)."""
+    source, cycles = block_source(machine, plan)
+    return compile(source, filename, "exec"), cycles
+
+
+def block_source(machine: Machine, plan: BlockPlan, loops: bool = True) -> tuple[str, int]:
+    """The block's Python source and the cycles of its longest way through.
+
+    A conditional branch back to the block's own start becomes a loop
+    inside the function (when ``loops``, and no register is reached by a
+    run-time index): every register the block touches is loaded into its
+    local once, before the loop, and the loop goes round again only while
+    one more full pass fits the room the dispatcher gives.
+    """
+    first = _BlockWriter(machine, plan, carried=None)
+    if not (loops and (first.loops_back or first.skips) and not first.access.dynamic):
+        return first.source(), first.cycles
+    written = first.access.written - {first.pc_slot}
+    carried = (first.access.read_from_state | written, written)
+    second = _BlockWriter(machine, plan, carried=carried)
+    return second.source(), second.cycles
+
+
+class _BlockWriter:
+    """One translation of a block, straight or with its loop."""
+
+    def __init__(self, machine: Machine, plan: BlockPlan, carried: tuple[set[int], set[int]] | None):
+        """``carried``: for the loop, the slots it keeps in locals and those of them it writes."""
+        self.machine, self.plan, self.carried = machine, plan, carried
+        self.pc_slot = machine.registers[machine.program_counter].slot
+        self.loops_back = False
+        self.skips = False
+        self.out = out = Emitter()
+        self.access = access = _KnownAccess(out, machine, {self.pc_slot: plan.start})
+        self.body_indent = " " * (12 if carried is not None else 8)
+        kept, written = carried or ((), ())
+        with out.indent(), out.indent():
+            for slot in sorted(kept):
+                access.read(slot, self._slot_name(slot))
+                if slot in written:
+                    access.dirty[slot] = access.loaded[slot]
+            self.preloads = out.lines[:]
+            out.lines.clear()
+            with out.indent() if carried is not None else nullcontext():
+                self.cycles = self._body()
+
+    def _slot_name(self, slot: int) -> str:
+        machine = self.machine
+        names = {r.slot: n for n, r in machine.registers.items()} | {f.slot: n for n, f in machine.flags.items()}
+        return names[slot]
+
+    def _returning(self, cycles: int, count: int) -> str:
+        if self.carried is None:
+            return f"return {cycles}, {count}"
+        return f"return done + {cycles}, ran + {count}"
+
+    def _body(self) -> int:
+        plan = self.plan
+        self.context = _Context(code=dict(zip(range(plan.start, plan.end), plan.words)))
+        self.starts = {address: index for index, (address, _ins) in enumerate(plan.instructions)}
+        self.cycles_so_far = self.count_so_far = 0
+        self._emit_range(0, len(plan.instructions))
+        self.access.emit_write_back()
+        self.out.line(self._returning(self.cycles_so_far, self.count_so_far))
+        return self.cycles_so_far
+
+    def _emit_range(self, first: int, last: int) -> bool:
+        """Instructions ``first`` up to ``last``; False when the block ended inside them."""
+        machine, plan, out, access, pc_slot = self.machine, self.plan, self.out, self.access, self.pc_slot
+        index = first
+        while index < last:
+            address, ins = plan.instructions[index]
+            out.line(f"# {address:#x}: {ins.display}")
+            _translate_instruction(machine, out, access, ins, self.context)
+            self.cycles_so_far += ins.cycles(machine)
+            self.count_so_far += 1
+            cycles, count = self.cycles_so_far, self.count_so_far
+
+            def leave(cycles=cycles, count=count):
+                access.emit_write_back()
+                out.line(self._returning(cycles, count))
+            following = address + ins.word_count
+            _store_check(out, self.context, (plan.start, leave))
+            index += 1
+            if access.known.get(pc_slot) == following:
+                continue
+            alternatives = _alternatives(access.texts.get(pc_slot)) if pc_slot not in access.known else ()
+            if following not in alternatives:
+                return False
+            target = next(a for a in alternatives if a != following)
+            pc_local = access.loaded[pc_slot]
+            skip_to = self.starts.get(target)
+            if self.carried is not None and skip_to is not None and index < skip_to <= last:
+                self.skips = True
+                self._skip(pc_local, following, index, skip_to, target)
+                index = skip_to
+                continue
+            if target == plan.start:
+                self.loops_back = True
+            elif skip_to is not None and skip_to > index:
+                self.skips = True
+            out.line(f"if {pc_local} != {following}:")
+            with out.indent():
+                if self.carried is not None and target == plan.start:
+                    out.line(f"if done + {cycles} + MOST <= room:")
+                    with out.indent():
+                        self._as_locals(sorted(access.known_dirty - {pc_slot}))
+                        out.line(f"done += {cycles}")
+                        out.line(f"ran += {count}")
+                        out.line("continue")
+                leave()
+            access.write(pc_slot, machine.program_counter, str(following))
+        return True
+
+    def _skip(self, pc_local: str, following: int, first: int, last: int, target: int) -> None:
+        """A taken branch forward inside the block: the instructions it jumps over run under an ``if``.
+
+        Both ways meet at the target with every slot whose known value
+        differs between them in its local; the way that jumps counts the
+        cycles and instructions it did not run off ``done`` and ``ran``.
+        """
+        access, out = self.access, self.out
+        saved = access.snapshot()
+        before = dict(access.known)
+        cycles, count = self.cycles_so_far, self.count_so_far
+        out.line(f"if {pc_local} == {following}:")
         with out.indent():
-            out.line(f'"""{len(plan.instructions)} instructions at {plan.start:#x}, {plan.cycles(machine)} cycles"""')
-            access = _KnownAccess(out, machine, {pc_slot: plan.start})
-            context = _Context(code=dict(zip(range(plan.start, plan.end), plan.words)))
-            cycles = 0
-            for count, (address, ins) in enumerate(plan.instructions, start=1):
-                out.line(f"# {address:#x}: {ins.display}")
-                _translate_instruction(machine, out, access, ins, context)
-                cycles += ins.cycles(machine)
+            access.write(self.pc_slot, self.machine.program_counter, str(following))
+            ended = self._emit_range(first, last)
+            after = dict(access.known)
+            differing = sorted(slot for slot in set(before) | set(after)
+                               if slot != self.pc_slot and before.get(slot) != after.get(slot))
+            if ended:
+                self._as_locals([slot for slot in differing if slot in after])
+            else:                   # the block ends on this way: the other way alone goes on
+                access.emit_write_back()
+                out.line(self._returning(self.cycles_so_far, self.count_so_far))
+                access.restore(saved)
+                differing = []
+        skipped_cycles, skipped_count = self.cycles_so_far - cycles, self.count_so_far - count
+        out.line("else:")
+        with out.indent():
+            self._as_locals([slot for slot in differing if slot in before], before)
+            out.line(f"done -= {skipped_cycles}")
+            out.line(f"ran -= {skipped_count}")
+        for slot in differing:
+            local = access.local(slot, self._slot_name(slot))
+            access.known.pop(slot, None)
+            access.known_dirty.discard(slot)
+            access.loaded[slot] = access.dirty[slot] = local
+        access.write(self.pc_slot, self.machine.program_counter, str(target))
 
-                def side_exit(cycles=cycles, count=count):
-                    access.emit_write_back()
-                    out.line(f"return {cycles}, {count}")
-                _store_check(out, context, (address + ins.word_count, side_exit))
-            access.emit_write_back()
-            out.line(f"return {cycles}, {len(plan.instructions)}")
-        out.line("return block")
-    source = out.source().replace(", END):", f", {plan.end}):")
-    tree = ast.parse(source, filename)
-    block = tree.body[0].body[0]
-    block.body = _without_dead_assignments(block.body)
-    return source, compile(tree, filename, "exec")
+    def _as_locals(self, slots, known=None) -> None:
+        """Put known values into their locals, where the loop's next pass or a meeting point expects them."""
+        known = self.access.known if known is None else known
+        for slot in slots:
+            self.out.line(f"{self.access.local(slot, self._slot_name(slot))} = {known[slot]}")
+
+    def source(self) -> str:
+        plan, body = self.plan, self.out.lines
+        lines = ["def build(s, m, in_, out_, cmap, invalidate):",
+                 "    def block(room):",
+                 f'        """{len(plan.instructions)} instructions from {plan.start:#x}"""']
+        if self.carried is None:
+            lines += _without_dead_assignments(body, self.body_indent)
+        else:
+            loop = _without_dead_assignments(body, self.body_indent, looping=True)
+            lines += _without_dead_assignments(
+                self.preloads + ["        done = ran = 0", "        while True:"] + loop, " " * 8)
+        lines.append("    return block")
+        text = "\n".join(lines) + "\n"
+        return text.replace(", END):", f", {plan.end}):").replace("MOST", str(self.cycles))
 
 
-def _without_dead_assignments(body: list) -> list:
-    """Drop assignments to locals that nothing reads afterwards (straight-line code, pure values).
+def _alternatives(text: str | None) -> tuple:
+    """The constant alternatives of a pc value ``a if flag else b`` (after folding)."""
+    if text is None:
+        return ()
+    node = ast.parse(text, mode="eval").body
+    if not isinstance(node, ast.IfExp):
+        return ()
+    return _constant(ast.unparse(node.body)), _constant(ast.unparse(node.orelse))
+
+
+_ASSIGNMENT = re.compile(r"\s*([A-Za-z_]\w*) (=|&=) (.*)")
+_IDENTIFIER = re.compile(r"\b[A-Za-z_]\w*")
+
+
+def _without_dead_assignments(lines: list[str], indent: str, looping: bool = False) -> list[str]:
+    """Drop assignments to locals that nothing reads afterwards.
 
     Walking backwards with the set of names read later: an assignment to a
-    name outside that set, whose value calls nothing, changes nothing.
+    name outside that set, whose value calls nothing, changes nothing. A
+    statement is a line at ``indent`` with the deeper lines after it; an
+    ``if`` (and its ``else``) is walked branch by branch, ``return`` reads
+    only what it returns, and the translator's lines are simple enough to
+    read as text. With ``looping`` the lines are a loop's body: ``continue``
+    reads what the top of the body reads, found by walking until that set
+    no longer grows.
     """
-    live: set[str] = set()
-    kept = []
-    for statement in reversed(body):
-        nodes = list(ast.walk(statement))
-        reads = {n.id for n in nodes if isinstance(n, ast.Name) and isinstance(n.ctx, ast.Load)}
-        pure = not any(isinstance(n, ast.Call) for n in nodes)
-        if isinstance(statement, ast.Assign) and len(statement.targets) == 1 \
-                and isinstance(statement.targets[0], ast.Name):
-            target = statement.targets[0].id
+    statements = _statements(_constants_substituted(lines), indent)
+    at_top: set[str] = set()
+    while True:
+        kept, live = _live_statements(statements, indent, at_top if looping else set(), set())
+        if not looping or live <= at_top:
+            return kept
+        at_top |= live
+
+
+def _statements(lines: list[str], indent: str) -> list[list[str]]:
+    statements: list[list[str]] = []
+    for line in lines:
+        if line.startswith(indent) and not line[len(indent)].isspace() and line != indent + "else:" \
+                or not statements:
+            statements.append([line])
+        else:
+            statements[-1].append(line)
+    return statements
+
+
+def _live_statements(statements, indent: str, at_top: set[str], live_out: set[str]):
+    """(the lines kept, the names read before the first statement)."""
+    live = set(live_out)
+    kept: list[list[str]] = []
+    for statement in reversed(statements):
+        head = statement[0].strip()
+        if head.startswith("#"):
+            kept.append(statement)
+            continue
+        if head.startswith("if ") and len(statement) > 1:
+            kept.append(_live_branches(statement, indent, at_top, live))
+            live = kept[-1].live
+            continue
+        text = "\n".join(statement)
+        match = _ASSIGNMENT.fullmatch(text) if len(statement) == 1 else None
+        pure = "(" not in text or "_(" not in text and "invalidate(" not in text
+        reads = set(_IDENTIFIER.findall(text))
+        if match:
+            target, operator, value = match.groups()
             if pure and target not in live:
                 continue
-            live.discard(target)
-        elif isinstance(statement, ast.AugAssign) and isinstance(statement.target, ast.Name):
-            if pure and statement.target.id not in live:
-                continue
-            reads.add(statement.target.id)
+            reads = set(_IDENTIFIER.findall(value))
+            if operator == "=":
+                live.discard(target)
+            else:
+                reads.add(target)
+        elif head.startswith("return"):
+            live = set()
+        elif head == "continue":
+            live, reads = set(), set(at_top)
         live |= reads
         kept.append(statement)
-    return kept[::-1]
+    kept.reverse()
+    return [line for statement in kept for line in statement], live
+
+
+class _Lines(list):
+    """Lines of one statement, with the names it needs to have been set before it."""
+    live: set
+
+
+def _live_branches(statement, indent: str, at_top: set[str], live_out: set[str]) -> _Lines:
+    inner = indent + "    "
+    branches, current = [], []
+    for line in statement[1:]:
+        if line == indent + "else:":
+            branches.append(current)
+            current = []
+        else:
+            current.append(line)
+    branches.append(current)
+    result = _Lines([statement[0]])
+    live = set(_IDENTIFIER.findall(statement[0])) | (live_out if len(branches) == 1 else set())
+    for number, branch in enumerate(branches):
+        kept, branch_live = _live_statements(_statements(branch, inner), inner, at_top, live_out)
+        if number:
+            result.append(indent + "else:")
+        result.extend(kept or [inner + "pass"])
+        live |= branch_live
+    result.live = live
+    return result
+
+
+_TEMPORARY_CONSTANT = re.compile(r"\s*([a-z]_\d+) = (\d+)")
+
+
+def _constants_substituted(lines: list[str]) -> list[str]:
+    """Fresh temporaries that only ever hold a literal (``b_3 = 237``) replaced by it."""
+    constants = {}
+    for line in lines:
+        match = _TEMPORARY_CONSTANT.fullmatch(line)
+        if match:
+            constants[match.group(1)] = match.group(2)
+    for line in lines:
+        for name in _IDENTIFIER.findall(line):
+            if name in constants and not _TEMPORARY_CONSTANT.fullmatch(line) and f"{name} " in line \
+                    and re.search(rf"\b{name} (&|\|)?=", line):
+                constants.pop(name)     # written again somewhere: not a constant
+    if not constants:
+        return lines
+    pattern = re.compile(r"\b(" + "|".join(constants) + r")\b")
+    return [pattern.sub(lambda m: constants[m.group(1)], line) for line in lines
+            if not (_TEMPORARY_CONSTANT.fullmatch(line) and _TEMPORARY_CONSTANT.fullmatch(line).group(1) in constants)]
 
 
 # ----- fused instructions that check their stores ------------------------------
@@ -322,56 +611,70 @@ def checked_fused_source(machine: Machine) -> str:
 # ----- the dispatch loop ------------------------------------------------------------
 
 def dispatcher_source(machine: Machine, max_fused: int) -> str:
-    """The hot loop with blocks: a block where one is translated and fits, else one fused instruction.
+    """The hot loops with blocks: a block where one is translated and fits, else fused instructions.
 
     A block runs only when its full cycle count fits the budget, a fused
     instruction only when the longest one does, so no run passes the point
-    where the stepping path would have stopped. Every instruction boundary
-    the loop reaches without a block counts a hit for its pc.
+    where the stepping path would have stopped. Fused instructions run on
+    until one that may change pc (``ends``); only the pc reached then, or
+    after a block, is looked up and counted, so straight-line code that is
+    not hot costs one table look-up per instruction more than the fused path.
+    ``hits[pc]`` is negative where a block is in place.
     """
     pc = machine.registers[machine.program_counter].slot
     peek = _MachineCompiler(machine).peek_expression()
     out = Emitter()
-    out.line("def build(s, m, table, hits, checked, translate, Fallback):")
+    out.line("def build(s, m, table, hits, ends, translate, Fallback):")
     with out.indent():
-        out.line("def run_blocks(budget, points, fused, threshold):")
-        with out.indent():
-            out.line("cycles = count = 0")
-            out.line(f"limit = budget - {max_fused}")
-            out.line("try:")
+        for name, watching in (("run_blocks", False), ("run_blocks_watching", True)):
+            out.line(f"def {name}(budget, points, fused, threshold):")
             with out.indent():
-                out.line("while True:")
-                with out.indent():
-                    out.line(f"pc = s[{pc}]")
-                    out.line("entry = table[pc]")
-                    out.line("if entry is not None:")
-                    with out.indent():
-                        out.line("block, most = entry")
-                        out.line("if cycles + most <= budget:")
-                        with out.indent():
-                            out.line("done, ran = block()")
-                            out.line("cycles += done")
-                            out.line("count += ran")
-                            out.line(f"if points and s[{pc}] in points:")
-                            out.line("    return cycles, count, True")
-                            out.line("continue")
-                    out.line("else:")
-                    with out.indent():
-                        out.line("hit = hits[pc] + 1")
-                        out.line("hits[pc] = hit")
-                        out.line("if hit == threshold:")
-                        with out.indent():
-                            out.line("translate(pc)")
-                            out.line("fused = checked")
-                            out.line("continue")
-                    out.line("if cycles > limit:")
-                    out.line("    return cycles, count, False")
-                    out.line(f"cycles += fused[{peek}]()")
-                    out.line("count += 1")
-                    out.line(f"if points and s[{pc}] in points:")
-                    out.line("    return cycles, count, True")
-            out.line("except Fallback:")
-            out.line("    pass")
-            out.line("return cycles, count, False")
-        out.line("return run_blocks")
+                _dispatch_loop(out, pc, peek, max_fused, watching)
+        out.line("return run_blocks, run_blocks_watching")
     return out.source()
+
+
+def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool) -> None:
+    stop_at_breakpoint = [f"if s[{pc}] in points:", "    return cycles, count, True"] if watching else []
+    out.line("cycles = count = 0")
+    out.line(f"limit = budget - {max_fused}")
+    out.line("try:")
+    with out.indent():
+        out.line("while True:")
+        with out.indent():
+            out.line(f"pc = s[{pc}]")
+            out.line("hit = hits[pc]")
+            out.line("if hit < 0:")
+            with out.indent():
+                out.line("block, most = table[pc]")
+                out.line("room = budget - cycles")
+                out.line("if most <= room:")
+                with out.indent():
+                    out.line("done, ran = block(room)")
+                    out.line("cycles += done")
+                    out.line("count += ran")
+                    for line in stop_at_breakpoint:
+                        out.line(line)
+                    out.line("continue")
+            out.line("else:")
+            with out.indent():
+                out.line("hit += 1")
+                out.line("hits[pc] = hit")
+                out.line("if hit == threshold:")
+                with out.indent():
+                    out.line("fused = translate(pc)")
+                    out.line("continue")
+            out.line("while True:")
+            with out.indent():
+                out.line("if cycles > limit:")
+                out.line("    return cycles, count, False")
+                out.line(f"word = {peek}")
+                out.line("cycles += fused[word]()")
+                out.line("count += 1")
+                for line in stop_at_breakpoint:
+                    out.line(line)
+                out.line("if ends[word]:")
+                out.line("    break")
+    out.line("except Fallback:")
+    out.line("    pass")
+    out.line("return cycles, count, False")

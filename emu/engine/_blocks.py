@@ -24,11 +24,14 @@ import weakref
 from collections import Counter, OrderedDict
 
 from ..description import Machine
-from ._block_translator import (BlockPlan, checked_fused_source, dispatcher_source, falls_through,
-                                translate_block)
+from ._block_translator import MAYBE, NEXT, BlockPlan, checked_fused_source, dispatcher_source, successor, translate_block
 from ._microstep_compiler import Fallback, compile_machine
 
-__all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS"]
+__all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]
+
+WARM_UP_CYCLES = 250_000
+"""Cycles an emulator runs on the plain fused path before it counts visits at all: a
+run this short cannot repay compiling a block, and counting costs it a few per cent."""
 
 HOT_THRESHOLD = 2000
 """Visits of a pc before its block is translated: translating and compiling a
@@ -43,33 +46,42 @@ MAX_INVALIDATIONS = 8
 CACHE_BLOCKS = 4096
 """Compiled blocks kept per machine."""
 
-_RETRY_AFTER = 10_000
-"""A pc where no block can start (a halt, an undefined word) is tried again after this many visits."""
-
-_NEVER = -(1 << 62)
+_BLOCK_HERE = -1
+"""The hit count of a pc where a block is in place."""
 
 
 class _MachineBlocks:
-    """What every emulator of one machine shares: the loop, checked instructions, compiled blocks."""
+    """What every emulator of one machine shares: the loops, checked instructions, compiled blocks."""
 
     def __init__(self, machine: Machine):
-        compiled = compile_machine(machine)
-        self.max_fused = compiled.max_fused_cycles
-        name = machine.name
-        self.dispatcher = compile(dispatcher_source(machine, self.max_fused), f"<relaybench:{name} blocks>", "exec")
-        self.checked = compile(checked_fused_source(machine), f"<relaybench:{name} checked>", "exec")
-        self.falls_through = [falls_through(machine, ins) for ins in machine.instructions]
+        self.machine = machine
+        self.max_fused = compile_machine(machine).max_fused_cycles
+        self.dispatcher = compile(dispatcher_source(machine, self.max_fused),
+                                  f"<relaybench:{machine.name} blocks>", "exec")
+        self.successor = [successor(machine, ins) for ins in machine.instructions]
+        self.ends = [index < 0 or machine.instructions[index].drives_halt or self.successor[index] != NEXT
+                     for index in machine.decode_table]
+        self._checked = None
         self.code: OrderedDict[tuple, tuple] = OrderedDict()
 
-    def compiled_block(self, machine: Machine, plan: BlockPlan):
+    @property
+    def checked(self):
+        """Compiled when the first block of this machine is: runs without blocks never need it."""
+        if self._checked is None:
+            self._checked = compile(checked_fused_source(self.machine), f"<relaybench:{self.machine.name} checked>",
+                                    "exec")
+        return self._checked
+
+    def compiled_block(self, plan: BlockPlan) -> tuple:
+        """(code, cycles of its longest way through), compiled once per start and words."""
         key = (plan.start, plan.words)
-        code = self.code.get(key)
-        if code is None:
-            _source, code = translate_block(machine, plan, f"<relaybench:{machine.name} block {plan.start:#x}>")
-            self.code[key] = code
+        entry = self.code.get(key)
+        if entry is None:
+            name = f"<relaybench:{self.machine.name} block {plan.start:#x}>"
+            entry = self.code[key] = translate_block(self.machine, plan, name)
             if len(self.code) > CACHE_BLOCKS:
                 self.code.popitem(last=False)
-        return code
+        return entry
 
 
 _shared: dict[int, _MachineBlocks] = {}
@@ -94,44 +106,55 @@ class BlockRunner:
     """Block translation for one emulator; ``run`` is the control unit's fast path when enabled.
 
     ``enabled`` switches translation off (the fused path runs as before);
-    ``threshold`` is how many visits make a pc hot; ``built`` counts the
-    blocks put in place so far, and ``dropped`` those taken out again.
+    ``warm_up`` is how many cycles run before counting starts, ``threshold``
+    how many visits make a pc hot; ``built`` counts the blocks put in place
+    so far, and ``dropped`` those taken out again.
     """
 
-    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list):
+    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free):
         self.machine = machine
         self.enabled = True
+        self.warm_up = WARM_UP_CYCLES
         self.threshold = HOT_THRESHOLD
+        self._ran = 0
+        self._run_free = run_free
+        self._max_fused = compile_machine(machine).max_fused_cycles
         self.built = 0
         self.dropped = 0
         self._state = (s, memory, read_port, write_port)
         self._plain = fused
-        self._loop = None
+        self._loops = None
 
     def _start(self) -> None:
-        """Tables the size of memory, made at the first run so an emulator that never runs pays nothing."""
+        """Tables made at the first run, so an emulator that never runs pays nothing for them."""
         machine = self.machine
-        s, memory, read_port, write_port = self._state
+        s, memory, _read, _write = self._state
         self._shared = _machine_blocks(machine)
-        size = machine.memory_words
-        self._table: list = [None] * size
-        self._hits = [0] * size
-        self._cmap = [0] * size
+        self._table: dict[int, tuple] = {}
+        self._hits = [0] * machine.memory_words
+        self._cmap = None
+        self._checked = None
         self._active: dict[int, tuple[int, object]] = {}
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
-        checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
-        self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
-        self._loop = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._checked,
-                            self._translate, Fallback)
+        self._loops = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._shared.ends,
+                             self._translate, Fallback)
 
     def run(self, budget: int, points: frozenset) -> tuple[int, int, bool]:
         """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, breakpoint hit)."""
-        if self._loop is None:
+        if self._ran < self.warm_up and not points:
+            cycles, count, hit = self._run_free(budget - self._max_fused)
+            self._ran += cycles
+            return cycles, count, hit
+        if self._loops is None:
             self._start()
         self._check_blocks(points)
-        fused = self._checked if self._active else self._plain
-        return self._loop(budget, points, fused, self.threshold)
+        loop = self._loops[1] if points else self._loops[0]
+        return loop(budget, points, self._fused(), self.threshold)
+
+    def _fused(self) -> list:
+        """Fused instructions, with stores checked once any block is in place."""
+        return self._checked if self._active else self._plain
 
     # ----- keeping blocks valid
 
@@ -161,12 +184,12 @@ class BlockRunner:
 
     def _drop(self, start: int, soon: bool) -> None:
         end, _words = self._active.pop(start)
-        self._table[start] = None
+        del self._table[start]
         cmap = self._cmap
         for address in range(start, end):
             cmap[address] -= 1
         if self._invalidations[start] > MAX_INVALIDATIONS:
-            self._hits[start] = _NEVER
+            self._hits[start] = self.threshold     # counts on past the threshold: never again
         else:
             self._hits[start] = self.threshold - 1 if soon else 0
         self.dropped += 1
@@ -174,7 +197,7 @@ class BlockRunner:
     # ----- translating
 
     def _plan(self, start: int) -> BlockPlan | None:
-        machine, memory = self.machine, self._state[1]
+        machine, memory, shared = self.machine, self._state[1], self._shared
         decode, size = machine.decode_table, machine.memory_words
         address, instructions = start, []
         while len(instructions) < MAX_BLOCK_INSTRUCTIONS:
@@ -188,23 +211,36 @@ class BlockRunner:
                 break
             instructions.append((address, ins))
             address += ins.word_count
-            if not self._shared.falls_through[index]:
+            if shared.successor[index] not in (NEXT, MAYBE):
                 break
         if not instructions:
             return None
         return BlockPlan(start, tuple(memory[start:address]), tuple(instructions))
 
-    def _translate(self, start: int) -> None:
-        """Put a block in place at ``start``, compiling it unless this machine has compiled it before."""
+    def _translate(self, start: int) -> list:
+        """Put a block in place at ``start`` (compiled unless this machine has compiled it before).
+
+        Returns the fused instructions the loop goes on with. A pc where no
+        block can start (a halt, an undefined word) counts on past the
+        threshold and is not tried again.
+        """
         plan = self._plan(start)
         if plan is None:
-            self._hits[start] = self.threshold - _RETRY_AFTER
-            return
+            return self._fused()
         s, memory, read_port, write_port = self._state
-        code = self._shared.compiled_block(self.machine, plan)
+        if self._cmap is None:
+            self._cmap = [0] * self.machine.memory_words
+            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
+            self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
+        code, most = self._shared.compiled_block(plan)
         block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
-        self._table[start] = (block, plan.cycles(self.machine))
+        self._table[start] = (block, most)
+        self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
         for address in range(start, plan.end):
             self._cmap[address] += 1
+        for address, _ins in plan.instructions[1:]:
+            if self._hits[address] > 0:
+                self._hits[address] = 0    # covered now: a count from before would translate it needlessly
         self.built += 1
+        return self._checked

@@ -74,7 +74,8 @@ class Emulator:
          self._run_free, self._run_free_watching) = compiled.build(
             self._s, self.memory, self.ports.read, self.ports.write)
         self._max_fused = compiled.max_fused_cycles
-        self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write, self._fused)
+        self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
+                                  self._fused, self._run_free)
         self._phases = machine.phases
         self._decode = machine.decode_table
         self._pc = machine.registers[machine.program_counter].slot

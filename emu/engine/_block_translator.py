@@ -254,10 +254,13 @@ class BlockPlan:
         return sum(ins.cycles(machine) for _address, ins in self.instructions)
 
 
-def translate_block(machine: Machine, plan: BlockPlan, filename: str):
+def translate_block(machine: Machine, plan: BlockPlan, filename: str, loops: bool = True):
     """Compile the block: a code object defining ``build(s, m, in_, out_, cmap, invalidate)``,
-    and the cycles of its longest way through (all its instructions)."""
-    source, cycles = block_source(machine, plan)
+    and the cycles of its longest way through (all its instructions).
+
+    Without ``loops`` a branch back to the start leaves the block (a breakpoint there must see it).
+    """
+    source, cycles = block_source(machine, plan, loops)
     return compile(source, filename, "exec"), cycles
 
 
@@ -271,20 +274,21 @@ def block_source(machine: Machine, plan: BlockPlan, loops: bool = True) -> tuple
     one more full pass fits the room the dispatcher gives.
     """
     first = _BlockWriter(machine, plan, carried=None)
-    if not (loops and (first.loops_back or first.skips) and not first.access.dynamic):
+    if first.access.dynamic or not (loops and first.loops_back or first.skips):
         return first.source(), first.cycles
     written = first.access.written - {first.pc_slot}
     carried = (first.access.read_from_state | written, written)
-    second = _BlockWriter(machine, plan, carried=carried)
+    second = _BlockWriter(machine, plan, carried=carried, loops=loops)
     return second.source(), second.cycles
 
 
 class _BlockWriter:
     """One translation of a block, straight or with its loop."""
 
-    def __init__(self, machine: Machine, plan: BlockPlan, carried: tuple[set[int], set[int]] | None):
+    def __init__(self, machine: Machine, plan: BlockPlan, carried: tuple[set[int], set[int]] | None,
+                 loops: bool = True):
         """``carried``: for the loop, the slots it keeps in locals and those of them it writes."""
-        self.machine, self.plan, self.carried = machine, plan, carried
+        self.machine, self.plan, self.carried, self.loops = machine, plan, carried, loops
         self.pc_slot = machine.registers[machine.program_counter].slot
         self.loops_back = False
         self.skips = False
@@ -345,8 +349,11 @@ class _BlockWriter:
             alternatives = _alternatives(access.texts.get(pc_slot)) if pc_slot not in access.known else ()
             if following not in alternatives:
                 return False
-            target = next(a for a in alternatives if a != following)
-            pc_local = access.loaded[pc_slot]
+            others = [a for a in alternatives if a != following]
+            if not others:                  # a jump to the next instruction: no jump at all
+                access.write(pc_slot, machine.program_counter, str(following))
+                continue
+            target, pc_local = others[0], access.loaded[pc_slot]
             skip_to = self.starts.get(target)
             if self.carried is not None and skip_to is not None and index < skip_to <= last:
                 self.skips = True
@@ -359,7 +366,7 @@ class _BlockWriter:
                 self.skips = True
             out.line(f"if {pc_local} != {following}:")
             with out.indent():
-                if self.carried is not None and target == plan.start:
+                if self.carried is not None and self.loops and target == plan.start:
                     out.line(f"if done + {cycles} + MOST <= room:")
                     with out.indent():
                         self._as_locals(sorted(access.known_dirty - {pc_slot}))
@@ -533,7 +540,9 @@ def _live_branches(statement, indent: str, at_top: set[str], live_out: set[str])
         kept, branch_live = _live_statements(_statements(branch, inner), inner, at_top, live_out)
         if number:
             result.append(indent + "else:")
-        result.extend(kept or [inner + "pass"])
+        result.extend(kept)
+        if all(line.strip().startswith("#") for line in kept):
+            result.append(inner + "pass")
         live |= branch_live
     result.live = live
     return result

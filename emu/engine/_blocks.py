@@ -72,16 +72,20 @@ class _MachineBlocks:
                                     "exec")
         return self._checked
 
-    def compiled_block(self, plan: BlockPlan) -> tuple:
-        """(code, cycles of its longest way through), compiled once per start and words."""
-        key = (plan.start, plan.words)
+    def compiled_block(self, plan: BlockPlan, loops: bool) -> tuple:
+        """(code, cycles of its longest way through, whether it was compiled just now).
+
+        Compiled once per start, words and whether it may loop back to its start.
+        """
+        key = (plan.start, plan.words, loops)
         entry = self.code.get(key)
-        if entry is None:
-            name = f"<relaybench:{self.machine.name} block {plan.start:#x}>"
-            entry = self.code[key] = translate_block(self.machine, plan, name)
-            if len(self.code) > CACHE_BLOCKS:
-                self.code.popitem(last=False)
-        return entry
+        if entry is not None:
+            return (*entry, False)
+        name = f"<relaybench:{self.machine.name} block {plan.start:#x}>"
+        entry = self.code[key] = translate_block(self.machine, plan, name, loops)
+        if len(self.code) > CACHE_BLOCKS:
+            self.code.popitem(last=False)
+        return (*entry, True)
 
 
 _shared: dict[int, _MachineBlocks] = {}
@@ -108,7 +112,8 @@ class BlockRunner:
     ``enabled`` switches translation off (the fused path runs as before);
     ``warm_up`` is how many cycles run before counting starts, ``threshold``
     how many visits make a pc hot; ``built`` counts the blocks put in place
-    so far, and ``dropped`` those taken out again.
+    so far, ``compiled`` those of them this emulator had to compile (the
+    others came from the machine's cache), ``dropped`` those taken out again.
     """
 
     def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free):
@@ -120,6 +125,7 @@ class BlockRunner:
         self._run_free = run_free
         self._max_fused = compile_machine(machine).max_fused_cycles
         self.built = 0
+        self.compiled = 0
         self.dropped = 0
         self._state = (s, memory, read_port, write_port)
         self._plain = fused
@@ -200,7 +206,7 @@ class BlockRunner:
         machine, memory, shared = self.machine, self._state[1], self._shared
         decode, size = machine.decode_table, machine.memory_words
         address, instructions = start, []
-        while len(instructions) < MAX_BLOCK_INSTRUCTIONS:
+        while len(instructions) < MAX_BLOCK_INSTRUCTIONS and address < size:
             if address != start and address in self._points:
                 break
             index = decode[memory[address]]
@@ -232,7 +238,8 @@ class BlockRunner:
             self._cmap = [0] * self.machine.memory_words
             checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
             self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
-        code, most = self._shared.compiled_block(plan)
+        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points)
+        self.compiled += fresh
         block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
         self._table[start] = (block, most)
         self._hits[start] = _BLOCK_HERE

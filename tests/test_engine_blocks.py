@@ -80,13 +80,13 @@ def test_breakpoints_stop_where_stepping_stops(machine_name):
     built = []
 
     @settings(max_examples=60, deadline=None)
-    @given(data=st.data(), rounds=st.integers(1, 12))
+    @given(data=st.data(), rounds=st.integers(1, 10))
     def check(data, rounds):
         words = data.draw(programs(machine))
         points = data.draw(st.frozensets(st.integers(0, len(words)), max_size=4))
         fast, slow = hot(boot(machine, words)), stepped(boot(machine, words))
         for _ in range(rounds):
-            reasons = fast.run(max_cycles=2000, breakpoints=points), slow.run(max_cycles=2000, breakpoints=points)
+            reasons = fast.run(max_cycles=300, breakpoints=points), slow.run(max_cycles=300, breakpoints=points)
             assert reasons[0] == reasons[1]
             assert full_state(fast) == full_state(slow)
             if reasons[0].kind == "halted":

@@ -25,6 +25,7 @@ from __future__ import annotations
 import ast
 import re
 from contextlib import nullcontext
+from functools import lru_cache
 from dataclasses import dataclass, field
 
 from ..description import Instruction, Machine
@@ -39,6 +40,7 @@ _NUMBER = re.compile(r"\b0[xXbBoO][0-9a-fA-F_]+\b|\b\d+\b")
 _NAME_START = re.compile(r"[A-Za-z_]")
 
 
+@lru_cache(maxsize=4096)
 def _constant(text: str) -> int | None:
     """The value of an expression text that names nothing (a literal folded), else None."""
     if text.isdigit():

@@ -37,7 +37,7 @@ HOT_THRESHOLD = 2000
 """Visits of a pc before its block is translated: translating and compiling a
 block costs about as much as running a few thousand fused instructions."""
 
-MAX_BLOCK_INSTRUCTIONS = 64
+MAX_BLOCK_INSTRUCTIONS = 32
 """Longest block; it bounds compile time and how much budget a block needs."""
 
 MAX_INVALIDATIONS = 8

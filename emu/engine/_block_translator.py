@@ -29,7 +29,7 @@ from functools import lru_cache
 from dataclasses import dataclass, field
 
 from ..description import Instruction, Machine
-from ..description.notation import Assign, Choose, Mem, Name, Offset, walk
+from ..description.notation import Assign, Choose, Mem, Name, Offset
 from ._emitter import Emitter
 from ._microstep_compiler import _ident, _LocalAccess, _MachineCompiler, _StepTranslator
 
@@ -575,8 +575,7 @@ def _constants_substituted(lines: list[str]) -> list[str]:
 # ----- fused instructions that check their stores ------------------------------
 
 def _writes_memory(ins: Instruction) -> bool:
-    return any(isinstance(node, Assign) and isinstance(node.target, Mem)
-               for step in ins.steps for st in step.statements for node in walk(st))
+    return any(isinstance(st, Assign) and isinstance(st.target, Mem) for step in ins.steps for st in step.statements)
 
 
 class _CheckedFusedCompiler(_MachineCompiler):

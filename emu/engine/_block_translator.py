@@ -1,19 +1,21 @@
 """Straight-line blocks of instructions → one Python function each.
 
-A block starts at a known pc and runs consecutive instructions whose words
-are known at translation time, so the translator propagates constants:
-pc, the instruction register and the operand latches are literals, every
-register field is fixed, and CPython's own constant folding does the rest.
-Registers live in locals for the whole block and are written back once, at
-the end. Dead assignments (flag values a later instruction overwrites
-before anything reads them, temporaries of dropped flags) are removed from
-the function's syntax tree before it is compiled.
+A block starts at a known pc and runs consecutive instructions, up to one
+that jumps unconditionally; a conditional branch leaves the block when it
+is taken (or loops, or skips forward inside it: see ``block_source``). The
+instructions' words are known at translation time, so the translator
+propagates constants: pc, the instruction register and the operand latches
+are literals, every register field is fixed, and CPython's own constant
+folding does the rest. Registers live in locals for the whole block and are
+written back when it leaves. Dead assignments (flag values a later
+instruction overwrites before anything reads them, temporaries of dropped
+flags) are removed before the function is compiled (``_dead_assignments``).
 
 Every memory write is checked against ``cmap``, the per-word count of
 translated blocks covering that word; a hit calls ``invalidate``, and when
-the word belongs to a later instruction of the running block, the block
-leaves right after the current instruction, with the state written back
-and the cycles and instructions run so far.
+the word belongs to the running block, the block leaves right after the
+current instruction, with the state written back and the cycles and
+instructions run so far.
 
 The same statement translator as the stepping and fused back ends does
 the work (``_StepTranslator`` with a local-variable access policy), so a
@@ -30,11 +32,11 @@ from dataclasses import dataclass, field
 
 from ..description import Instruction, Machine
 from ..description.notation import Assign, Choose, Mem, Name, Offset
+from ._dead_assignments import without_dead_assignments
 from ._emitter import Emitter
-from ._microstep_compiler import _ident, _LocalAccess, _MachineCompiler, _StepTranslator
+from ._microstep_compiler import _LocalAccess, _StepTranslator
 
-__all__ = ["BlockPlan", "block_source", "JUMP", "MAYBE", "NEXT", "checked_fused_source", "dispatcher_source", "successor",
-           "translate_block"]
+__all__ = ["BlockPlan", "block_source", "JUMP", "MAYBE", "NEXT", "successor", "translate_block"]
 
 _NUMBER = re.compile(r"\b0[xXbBoO][0-9a-fA-F_]+\b|\b\d+\b")
 _NAME_START = re.compile(r"[A-Za-z_]")
@@ -270,10 +272,13 @@ def block_source(machine: Machine, plan: BlockPlan, loops: bool = True) -> tuple
     """The block's Python source and the cycles of its longest way through.
 
     A conditional branch back to the block's own start becomes a loop
-    inside the function (when ``loops``, and no register is reached by a
-    run-time index): every register the block touches is loaded into its
-    local once, before the loop, and the loop goes round again only while
-    one more full pass fits the room the dispatcher gives.
+    inside the function (when ``loops``), and one forward to a later
+    instruction of the block an ``if`` around the instructions it jumps
+    over. Both need every register the block touches in its local from the
+    start, so they are made in a second translation, once the first has
+    found those registers (and only if no register is reached by a run-time
+    index). The loop goes round again only while one more full pass fits
+    the room the dispatcher gives.
     """
     first = _BlockWriter(machine, plan, carried=None)
     if first.access.dynamic or not (loops and first.loops_back or first.skips):
@@ -429,10 +434,10 @@ class _BlockWriter:
                  "    def block(room):",
                  f'        """{len(plan.instructions)} instructions from {plan.start:#x}"""']
         if self.carried is None:
-            lines += _without_dead_assignments(body, self.body_indent)
+            lines += without_dead_assignments(body, self.body_indent)
         else:
-            loop = _without_dead_assignments(body, self.body_indent, looping=True)
-            lines += _without_dead_assignments(
+            loop = without_dead_assignments(body, self.body_indent, looping=True)
+            lines += without_dead_assignments(
                 self.preloads + ["        done = ran = 0", "        while True:"] + loop, " " * 8)
         lines.append("    return block")
         text = "\n".join(lines) + "\n"
@@ -447,244 +452,3 @@ def _alternatives(text: str | None) -> tuple:
     if not isinstance(node, ast.IfExp):
         return ()
     return _constant(ast.unparse(node.body)), _constant(ast.unparse(node.orelse))
-
-
-_ASSIGNMENT = re.compile(r"\s*([A-Za-z_]\w*) (=|&=) (.*)")
-_IDENTIFIER = re.compile(r"\b[A-Za-z_]\w*")
-
-
-def _without_dead_assignments(lines: list[str], indent: str, looping: bool = False) -> list[str]:
-    """Drop assignments to locals that nothing reads afterwards.
-
-    Walking backwards with the set of names read later: an assignment to a
-    name outside that set, whose value calls nothing, changes nothing. A
-    statement is a line at ``indent`` with the deeper lines after it; an
-    ``if`` (and its ``else``) is walked branch by branch, ``return`` reads
-    only what it returns, and the translator's lines are simple enough to
-    read as text. With ``looping`` the lines are a loop's body: ``continue``
-    reads what the top of the body reads, found by walking until that set
-    no longer grows.
-    """
-    statements = _statements(_constants_substituted(lines), indent)
-    at_top: set[str] = set()
-    while True:
-        kept, live = _live_statements(statements, indent, at_top if looping else set(), set())
-        if not looping or live <= at_top:
-            return kept
-        at_top |= live
-
-
-def _statements(lines: list[str], indent: str) -> list[list[str]]:
-    statements: list[list[str]] = []
-    for line in lines:
-        if line.startswith(indent) and not line[len(indent)].isspace() and line != indent + "else:" \
-                or not statements:
-            statements.append([line])
-        else:
-            statements[-1].append(line)
-    return statements
-
-
-def _live_statements(statements, indent: str, at_top: set[str], live_out: set[str]):
-    """(the lines kept, the names read before the first statement)."""
-    live = set(live_out)
-    kept: list[list[str]] = []
-    for statement in reversed(statements):
-        head = statement[0].strip()
-        if head.startswith("#"):
-            kept.append(statement)
-            continue
-        if head.startswith("if ") and len(statement) > 1:
-            kept.append(_live_branches(statement, indent, at_top, live))
-            live = kept[-1].live
-            continue
-        text = "\n".join(statement)
-        match = _ASSIGNMENT.fullmatch(text) if len(statement) == 1 else None
-        pure = "(" not in text or "_(" not in text and "invalidate(" not in text
-        reads = set(_IDENTIFIER.findall(text))
-        if match:
-            target, operator, value = match.groups()
-            if pure and target not in live:
-                continue
-            reads = set(_IDENTIFIER.findall(value))
-            if operator == "=":
-                live.discard(target)
-            else:
-                reads.add(target)
-        elif head.startswith("return"):
-            live = set()
-        elif head == "continue":
-            live, reads = set(), set(at_top)
-        live |= reads
-        kept.append(statement)
-    kept.reverse()
-    return [line for statement in kept for line in statement], live
-
-
-class _Lines(list):
-    """Lines of one statement, with the names it needs to have been set before it."""
-    live: set
-
-
-def _live_branches(statement, indent: str, at_top: set[str], live_out: set[str]) -> _Lines:
-    inner = indent + "    "
-    branches, current = [], []
-    for line in statement[1:]:
-        if line == indent + "else:":
-            branches.append(current)
-            current = []
-        else:
-            current.append(line)
-    branches.append(current)
-    result = _Lines([statement[0]])
-    live = set(_IDENTIFIER.findall(statement[0])) | (live_out if len(branches) == 1 else set())
-    for number, branch in enumerate(branches):
-        kept, branch_live = _live_statements(_statements(branch, inner), inner, at_top, live_out)
-        if number:
-            result.append(indent + "else:")
-        result.extend(kept)
-        if all(line.strip().startswith("#") for line in kept):
-            result.append(inner + "pass")
-        live |= branch_live
-    result.live = live
-    return result
-
-
-_TEMPORARY_CONSTANT = re.compile(r"\s*([a-z]_\d+) = (\d+)")
-
-
-def _constants_substituted(lines: list[str]) -> list[str]:
-    """Fresh temporaries that only ever hold a literal (``b_3 = 237``) replaced by it."""
-    constants = {}
-    for line in lines:
-        match = _TEMPORARY_CONSTANT.fullmatch(line)
-        if match:
-            constants[match.group(1)] = match.group(2)
-    for line in lines:
-        for name in _IDENTIFIER.findall(line):
-            if name in constants and not _TEMPORARY_CONSTANT.fullmatch(line) and f"{name} " in line \
-                    and re.search(rf"\b{name} (&|\|)?=", line):
-                constants.pop(name)     # written again somewhere: not a constant
-    if not constants:
-        return lines
-    pattern = re.compile(r"\b(" + "|".join(constants) + r")\b")
-    return [pattern.sub(lambda m: constants[m.group(1)], line) for line in lines
-            if not (_TEMPORARY_CONSTANT.fullmatch(line) and _TEMPORARY_CONSTANT.fullmatch(line).group(1) in constants)]
-
-
-# ----- fused instructions that check their stores ------------------------------
-
-def _writes_memory(ins: Instruction) -> bool:
-    return any(isinstance(st, Assign) and isinstance(st.target, Mem) for step in ins.steps for st in step.statements)
-
-
-class _CheckedFusedCompiler(_MachineCompiler):
-    """The fused back end's choice of forms, each store followed by the code-map check.
-
-    Only forms that write memory get a function; the others stay as fused.
-    """
-
-    def fused_function(self, ins: Instruction, fixed: dict[str, int]) -> str:
-        if not _writes_memory(ins):
-            return "None"
-        machine, out = self.machine, self.out
-        suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
-        name = self.unique(f"checked_{_ident(ins)}{suffix}", ins)
-        out.line()
-        out.line(f"def {name}():")
-        with out.indent():
-            out.line(f'"""{ins.display}, stores checked against translated code"""')
-            access = _KnownAccess(out, machine)
-            context = _Context()
-            _translate_instruction(machine, out, access, ins, context, preset=fixed)
-            _store_check(out, context)
-            access.write_back()
-            out.line(f"return {ins.cycles(machine)}")
-        return name
-
-    def checked_source(self) -> str:
-        out = self.out
-        out.line("def build(s, m, in_, out_, cmap, invalidate):")
-        with out.indent():
-            by_word, _max_cycles = self.fused_functions()
-            out.line()
-            names = ", ".join("None" if n == "fallback" else n for n in by_word)
-            out.line(f"return [{names}]")
-        return out.source()
-
-
-def checked_fused_source(machine: Machine) -> str:
-    """Source of ``build(...)`` returning, per first word, a checked fused function or None."""
-    return _CheckedFusedCompiler(machine).checked_source()
-
-
-# ----- the dispatch loop ------------------------------------------------------------
-
-def dispatcher_source(machine: Machine, max_fused: int) -> str:
-    """The hot loops with blocks: a block where one is translated and fits, else fused instructions.
-
-    A block runs only when its full cycle count fits the budget, a fused
-    instruction only when the longest one does, so no run passes the point
-    where the stepping path would have stopped. Fused instructions run on
-    until one that may change pc (``ends``); only the pc reached then, or
-    after a block, is looked up and counted, so straight-line code that is
-    not hot costs one table look-up per instruction more than the fused path.
-    ``hits[pc]`` is negative where a block is in place.
-    """
-    pc = machine.registers[machine.program_counter].slot
-    peek = _MachineCompiler(machine).peek_expression()
-    out = Emitter()
-    out.line("def build(s, m, table, hits, ends, translate, Fallback):")
-    with out.indent():
-        for name, watching in (("run_blocks", False), ("run_blocks_watching", True)):
-            out.line(f"def {name}(budget, points, fused, threshold):")
-            with out.indent():
-                _dispatch_loop(out, pc, peek, max_fused, watching)
-        out.line("return run_blocks, run_blocks_watching")
-    return out.source()
-
-
-def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool) -> None:
-    stop_at_breakpoint = [f"if s[{pc}] in points:", "    return cycles, count, True"] if watching else []
-    out.line("cycles = count = 0")
-    out.line(f"limit = budget - {max_fused}")
-    out.line("try:")
-    with out.indent():
-        out.line("while True:")
-        with out.indent():
-            out.line(f"pc = s[{pc}]")
-            out.line("hit = hits[pc]")
-            out.line("if hit < 0:")
-            with out.indent():
-                out.line("block, most = table[pc]")
-                out.line("room = budget - cycles")
-                out.line("if most <= room:")
-                with out.indent():
-                    out.line("done, ran = block(room)")
-                    out.line("cycles += done")
-                    out.line("count += ran")
-                    for line in stop_at_breakpoint:
-                        out.line(line)
-                    out.line("continue")
-            out.line("else:")
-            with out.indent():
-                out.line("hit += 1")
-                out.line("hits[pc] = hit")
-                out.line("if hit == threshold:")
-                with out.indent():
-                    out.line("fused = translate(pc)")
-                    out.line("continue")
-            out.line("while True:")
-            with out.indent():
-                out.line("if cycles > limit:")
-                out.line("    return cycles, count, False")
-                out.line(f"word = {peek}")
-                out.line("cycles += fused[word]()")
-                out.line("count += 1")
-                for line in stop_at_breakpoint:
-                    out.line(line)
-                out.line("if ends[word]:")
-                out.line("    break")
-    out.line("except Fallback:")
-    out.line("    pass")
-    out.line("return cycles, count, False")

@@ -24,7 +24,8 @@ import weakref
 from collections import Counter, OrderedDict
 
 from ..description import Machine
-from ._block_translator import MAYBE, NEXT, BlockPlan, checked_fused_source, dispatcher_source, successor, translate_block
+from ._block_dispatch import checked_fused_source, dispatcher_source
+from ._block_translator import MAYBE, NEXT, BlockPlan, successor, translate_block
 from ._microstep_compiler import Fallback, compile_machine
 
 __all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]

@@ -36,7 +36,7 @@ from ._dead_assignments import without_dead_assignments
 from ._emitter import Emitter
 from ._microstep_compiler import _LocalAccess, _StepTranslator
 
-__all__ = ["BlockPlan", "block_source", "JUMP", "MAYBE", "NEXT", "successor", "translate_block"]
+__all__ = ["BlockPlan", "block_source", "JUMP", "MAYBE", "NEXT", "successor"]
 
 _NUMBER = re.compile(r"\b0[xXbBoO][0-9a-fA-F_]+\b|\b\d+\b")
 _NAME_START = re.compile(r"[A-Za-z_]")
@@ -258,21 +258,13 @@ class BlockPlan:
         return sum(ins.cycles(machine) for _address, ins in self.instructions)
 
 
-def translate_block(machine: Machine, plan: BlockPlan, filename: str, loops: bool = True):
-    """Compile the block: a code object defining ``build(s, m, in_, out_, cmap, invalidate)``,
-    and the cycles of its longest way through (all its instructions).
-
-    Without ``loops`` a branch back to the start leaves the block (a breakpoint there must see it).
-    """
-    source, cycles = block_source(machine, plan, loops)
-    return compile(source, filename, "exec"), cycles
-
-
 def block_source(machine: Machine, plan: BlockPlan, loops: bool = True) -> tuple[str, int]:
-    """The block's Python source and the cycles of its longest way through.
+    """The block's source, defining ``build(s, m, in_, out_, cmap, invalidate)``, and the
+    cycles of its longest way through (all its instructions).
 
     A conditional branch back to the block's own start becomes a loop
-    inside the function (when ``loops``), and one forward to a later
+    inside the function (when ``loops``: not when the start is a breakpoint,
+    which must see every pass), and one forward to a later
     instruction of the block an ``if`` around the instructions it jumps
     over. Both need every register the block touches in its local from the
     start, so they are made in a second translation, once the first has

@@ -141,6 +141,23 @@ def datapath_state(emu: Emulator) -> tuple:
             else tuple(emu.memory), bytes(emu.output), emu.lamps, emu.ports.input_position)
 
 
+def full_state(emu: Emulator) -> tuple:
+    """The datapath and everything the control unit and the clock hold."""
+    return (datapath_state(emu), emu.cycles, emu.instructions, emu.time_ns, emu.phase_index,
+            emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
+
+
+def run_resuming(emu: Emulator, cycles: int) -> list[str]:
+    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
+    target, reasons = emu.cycles + cycles, []
+    while emu.cycles < target:
+        reason = emu.run(max_cycles=target - emu.cycles)
+        reasons.append(reason.kind)
+        if reason.kind == "halted":
+            emu.press_resume()
+    return reasons
+
+
 # ----- one-program runs for the instruction tests ---------------------------------------
 
 @dataclass

@@ -22,6 +22,7 @@ import json
 from collections import Counter
 from dataclasses import dataclass
 
+from ._blocks import BlockRunner
 from ._clock_ring import Ring
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
@@ -77,6 +78,8 @@ class Emulator:
                         for index, group in machine.decode_groups.items()}
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
         self._max_fused = compiled.max_fused_cycles
+        self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
+                                  bound.fused, self._run_free)
         self._phases = machine.phases
         self._decode = machine.decode_table
         self._pc = machine.registers[machine.program_counter].slot
@@ -388,7 +391,9 @@ class Emulator:
                     budget = min(budget, target - self.cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    if watch is None:
+                    if self.blocks.enabled and until is None:
+                        cycles, count, hit = self.blocks.run(budget, points)
+                    elif watch is None:
                         cycles, count, hit = self._run_free(limit)
                     else:
                         cycles, count, hit = self._run_free_watching(limit, watch)

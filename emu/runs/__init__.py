@@ -8,16 +8,16 @@ halts planted against the plain one.
 """
 
 from ._headless import DEFAULT_MAX_CYCLES, RunResult, program_warnings, report, run_loaded, start_emulator
-from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program
-from ._planting import Divergence, check_planting, compare_runs, loaded_from_program
+from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program, loaded_from_program
+from ._planting import Divergence, check_planting, compare_runs
 from ._panel_files import PANEL_SUFFIX, PanelSettings, panel_path_for, read_panel_file
 from ._summary import format_summary, pause_place
 from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, check_program, collect_programs
 
 __all__ = [
     "DEFAULT_MAX_CYCLES", "RunResult", "program_warnings", "report", "run_loaded", "start_emulator",
-    "SOURCE_SUFFIXES", "LoadedProgram", "ProgramError", "load_program",
-    "Divergence", "check_planting", "compare_runs", "loaded_from_program",
+    "SOURCE_SUFFIXES", "LoadedProgram", "ProgramError", "load_program", "loaded_from_program",
+    "Divergence", "check_planting", "compare_runs",
     "PANEL_SUFFIX", "PanelSettings", "panel_path_for", "read_panel_file",
     "format_summary", "pause_place",
     "PROGRAM_SUFFIX", "CheckFailure", "Verdict", "actual_value", "check_program", "collect_programs",

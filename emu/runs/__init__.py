@@ -1,16 +1,17 @@
 """Headless runs: a program loaded, run, judged and summed up, with no terminal.
 
 ``_loading`` decides what a program file is; ``_panel_files`` reads the
-toggles and input kept beside a program; ``_headless`` runs it as
-``relaybench run`` does and builds the report; ``_verdicts`` judges its
-``.expect`` checks as ``relaybench test`` does; ``_summary`` words a report; ``_planting`` compares a run with
-halts planted against the plain one.
+toggles, input and operator script kept beside a program; ``_headless``
+runs it as ``relaybench run`` does and builds the report; ``_verdicts``
+judges its ``.expect`` checks as ``relaybench test`` does; ``_summary``
+words a report; ``_planting`` compares a run with halts planted against the
+plain one.
 """
 
 from ._headless import DEFAULT_MAX_CYCLES, RunResult, program_warnings, report, run_loaded, start_emulator
 from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program, loaded_from_program
 from ._planting import Divergence, check_planting, compare_runs
-from ._panel_files import PANEL_SUFFIX, PanelSettings, panel_path_for, read_panel_file
+from ._panel_files import PANEL_SUFFIX, HaltAnswer, PanelSettings, operator_script_for, panel_path_for, read_panel_file
 from ._summary import format_summary, pause_place
 from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, check_program, collect_programs
 
@@ -18,7 +19,7 @@ __all__ = [
     "DEFAULT_MAX_CYCLES", "RunResult", "program_warnings", "report", "run_loaded", "start_emulator",
     "SOURCE_SUFFIXES", "LoadedProgram", "ProgramError", "load_program", "loaded_from_program",
     "Divergence", "check_planting", "compare_runs",
-    "PANEL_SUFFIX", "PanelSettings", "panel_path_for", "read_panel_file",
+    "PANEL_SUFFIX", "HaltAnswer", "PanelSettings", "operator_script_for", "panel_path_for", "read_panel_file",
     "format_summary", "pause_place",
     "PROGRAM_SUFFIX", "CheckFailure", "Verdict", "actual_value", "check_program", "collect_programs",
 ]

@@ -23,10 +23,11 @@ Every key is optional and they act in the order shown: toggles, input,
 RESUME, then (with ``stop_after``) STOP, ``steps`` STEP pulses and RUN.
 The operator stops pressing STEP when the halt lamp lights; that halt, like
 one reached before ``stop_after`` cycles have run, is answered by the next
-table. When the script runs out, the run goes on as without one: a pause is
-resumed, a halt ends the run. A script with answers left over when the run
-ends warns (and so fails ``relaybench test``): the run did not go as the
-script expected. ``.expect`` checks are judged at every halt, before the
+table (an answer at the final halt resumes past it, as the operator would).
+When the script runs out, the run goes on as without one: a pause is
+resumed, a halt ends the run. Answers left over when the run ends (at the
+cycle limit) are a warning, and so fail ``relaybench test``: the run did not
+go as the script expected. ``.expect`` checks are judged at every halt, before the
 operator acts.
 """
 

@@ -181,4 +181,12 @@ def test_a_bad_script_names_its_line(tmp_path, panel, line, message):
 
 def test_acc12_takes_twelve_bit_toggles_in_a_script(tmp_path):
     path = script(tmp_path, ADDER_ACC12, "[[at_halt]]\nswitches = 0x1000\n")
-    assert "'switches' must be an integer 0…4095 (the 12 toggles of acc12)" in check_program(str(path), ACC12).error
+    error = check_program(str(path), ACC12).error
+    assert "'switches' must be an integer 0…4095 (the 12 toggles of acc12)" in error
+
+
+def test_stop_at_pause_ends_before_the_first_answer_without_a_warning(tmp_path, capsys):
+    path = script(tmp_path, ADDER, "[[at_halt]]\nswitches = 19\n[[at_halt]]\nswitches = 28\n")
+    result = run(path, REF8, stop_at_pause=True)
+    assert (result.status, result.answers_left, result.emulator.switches) == ("paused", 2, 0)
+    assert report(result)["warnings"] == []

@@ -115,7 +115,8 @@ def test_program_output_matches_its_model(name):
     panel_path = panel_path_for(str(path))
     panel = read_panel_file(panel_path, machine) if panel_path.exists() else None
     result = run_loaded(program, machine, switches=panel.switches if panel else 0,
-                        input_bytes=panel.input_bytes if panel else b"", operator=panel.at_halt if panel else ())
+                        input_bytes=panel.input_bytes if panel else b"",
+                        operator=panel.at_halt if panel else ())
     assert result.status == "halted" and result.answers_left == 0
     assert result.emulator.output.decode("latin-1") == MODELS[name]()
     assert program.pauses and program.expects

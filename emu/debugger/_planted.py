@@ -97,7 +97,8 @@ def replant(session, breakpoints: dict[int, Breakpoint]) -> str:
     kept = f"; the waveform recording was written to {waves}" if waves else ""
     return (f"the program was assembled again with {_halts(len(planting.halt_places))} and burnt into memory; "
             f"it starts again from the beginning: registers, flags, counters and console cleared, "
-            f"input rewound, toggles and beat kept, switch at STOP{kept}.\n{moved_text(session, planting, SHOWN_MOVES)}")
+            f"input rewound, toggles and beat kept, switch at STOP{kept}.\n"
+            f"{moved_text(session, planting, SHOWN_MOVES)}")
 
 
 SHOWN_MOVES = 8

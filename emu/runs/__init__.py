@@ -11,7 +11,8 @@ plain one.
 from ._headless import DEFAULT_MAX_CYCLES, RunResult, program_warnings, report, run_loaded, start_emulator
 from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program, loaded_from_program
 from ._planting import Divergence, check_planting, compare_runs
-from ._panel_files import PANEL_SUFFIX, HaltAnswer, PanelSettings, operator_script_for, panel_path_for, read_panel_file
+from ._panel_files import (PANEL_SUFFIX, HaltAnswer, PanelSettings, operator_script_for, panel_path_for,
+                           read_panel_file)
 from ._summary import format_summary, pause_place
 from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, check_program, collect_programs
 

@@ -121,9 +121,10 @@ def _answer(emu: Emulator, answer: HaltAnswer, limit: int, chunk) -> bool:
 
 def program_warnings(result: RunResult) -> list[str]:
     """What the run warns about beyond the machine's own warnings: an image without its
-    debug file, an operator script with answers no halt used."""
+    debug file, an operator script with answers no halt used (unless the run was told
+    to stop at its first pause)."""
     notes = []
-    if result.answers_left:
+    if result.answers_left and result.status != "paused":
         notes.append(f"the operator script has {result.answers_left} answer(s) left that no halt used: "
                      f"the run did not stop as often as the script expects")
     program = result.program

@@ -5,7 +5,8 @@ script (RESUME at each pause, STOP thrown some cycles later, STEP pressed
 some times, RUN again; toggles and input set on the way, which the program
 never reads) must leave the same final state as the free run: registers,
 flags, memory, console and lamps, and the run ends at the same halt.
-Checked through the runner on ref8 and acc12.
+Checked through the runner's operator scripts and, as a stateful property,
+through the emulator's panel in any order of actions, on ref8 and acc12.
 
 Where the clock freezes is another matter on acc12: its ring gives two
 pulses a turn with a hold point after the first only, and STEP gives a
@@ -22,6 +23,7 @@ from __future__ import annotations
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from hypothesis.stateful import RuleBasedStateMachine, rule, run_state_machine_as_test
 
 import asm
 from emu import load_machine
@@ -153,3 +155,63 @@ def test_acc12_stepping_moves_where_later_halts_freeze():
     assert odd.emulator.warnings == ["undefined opcode at 0x0F ran as a no-op"]   # 'one: .word 1', fetched
     assert final_state(odd) == final_state(free)
     assert freeze_point(even) == freeze_point(free) == (15, [])
+
+
+class PanelOperator(RuleBasedStateMachine):
+    """The same property through the emulator's panel, in any order an operator might
+    act: run a while, throw STOP, press STEP, throw RUN, press RESUME at a pause. The
+    operator presses STEP no more once the halt lamp lights (as the scripts do) and
+    never resumes the final halt; at the end the program is let finish, RESUME at
+    every pause, and compared with the free run."""
+
+    name = "ref8"
+
+    def __init__(self):
+        super().__init__()
+        self.machine, self.program, _pauses = runs(self.name)
+        self.free = run_loaded(self.program, self.machine)
+        self.emu = run_loaded(self.program, self.machine, max_cycles=0).emulator   # powered on, at RUN
+
+    @rule(cycles=st.integers(1, 60))
+    def let_it_run(self, cycles):
+        self.emu.run(max_cycles=cycles)
+
+    @rule()
+    def throw_stop(self):
+        self.emu.set_switch_run(False)
+        self.emu.run(max_cycles=20)          # on to the hold point
+
+    @rule(pulses=st.integers(1, 30))
+    def press_step(self, pulses):
+        for _ in range(pulses):
+            if self.emu.halt_latch or not self.emu.press_step():
+                break
+
+    @rule()
+    def throw_run(self):
+        self.emu.set_switch_run(True)
+
+    @rule()
+    def press_resume_at_a_pause(self):
+        if self.emu.halt_latch and self.emu.halt_address in self.program.pauses:
+            self.emu.press_resume()
+
+    def teardown(self):
+        emu = self.emu
+        emu.set_switch_run(True)
+        while emu.halt_latch and emu.halt_address in self.program.pauses:
+            emu.press_resume()
+        operated = run_loaded(self.program, self.machine, emulator=emu)
+        assert final_state(operated) == final_state(self.free)
+        if self.name == "ref8":
+            assert freeze_point(operated) == freeze_point(self.free)
+
+
+class PanelOperatorAcc12(PanelOperator):
+    name = "acc12"
+
+
+@pytest.mark.parametrize("machine_test", [PanelOperator, PanelOperatorAcc12], ids=["ref8", "acc12"])
+def test_any_panel_sequence_leaves_the_free_runs_state(machine_test):
+    run_state_machine_as_test(machine_test, settings=settings(max_examples=40, stateful_step_count=20,
+                                                              deadline=None))

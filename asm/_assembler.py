@@ -15,19 +15,21 @@ from dataclasses import dataclass, field
 
 from emu.description import Machine
 
-from ._debuginfo import Expect, LineEntry
+from ._debuginfo import LineEntry
+from ._directives import MAX_INCLUDE_DEPTH, _Directives
 from ._errors import AsmError, Diagnostic, file_error
-from ._expr import EvalError, Expr, Name
+from ._expect_checks import _ExpectChecks
+from ._expr import EvalError, Expr
 from ._forms import PAUSE, Chosen, FormError, MachineSyntax
 from ._image import segments_of
 from ._machine_directive import MACHINE_DIRECTIVE
+from ._pass_records import _Constant, _Item, _PendingExpect, _Place, _Run
 from ._program import Program
-from ._syntax import Assignment, Comparison, Directive, InstructionLine, Line, Operand, Text, parse_source
+from ._source_text import decode_source
+from ._syntax import Assignment, Directive, InstructionLine, Line, Text, parse_source
+from ._values import _Values
 
 __all__ = ["assemble_text", "assemble_file", "MAX_INCLUDE_DEPTH"]
-
-MAX_INCLUDE_DEPTH = 64
-"""Far more than any program needs; it keeps a chain of includes inside Python's call stack."""
 
 
 def assemble_file(path, machine: Machine) -> Program:
@@ -37,7 +39,7 @@ def assemble_file(path, machine: Machine) -> Program:
         data = open(path, "rb").read()
     except OSError as exc:
         raise file_error(path, f"cannot read source file ({exc.strerror or exc})") from None
-    text = _decode(data, path)
+    text = decode_source(data, path)
     return assemble_text(text, machine, filename=path)
 
 
@@ -46,85 +48,10 @@ def assemble_text(text: str, machine: Machine, filename: str = "<input>") -> Pro
     return _Assembly(machine).run(text, filename)
 
 
-def _decode(data: bytes, path: str) -> str:
-    """UTF-8 source text; the first byte that is not UTF-8 is a located error.
-
-    The caret points at the character where the stray byte sits (the line
-    is shown with it replaced), so an editor can jump to it.
-    """
-    try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        line_start = data.rfind(b"\n", 0, exc.start) + 1
-        line_end = data.find(b"\n", exc.start)
-        line_bytes = data[line_start:line_end if line_end >= 0 else len(data)]
-        number = data.count(b"\n", 0, exc.start) + 1
-        column = len(data[line_start:exc.start].decode("utf-8")) + 1
-        shown = line_bytes.decode("utf-8", errors="replace")
-        message = (f"byte 0x{data[exc.start]:02X} is not UTF-8 text "
-                   f"(save the file as UTF-8)")
-        raise AsmError([Diagnostic(path, number, column, message, shown)]) from None
-
-
-# ----- what pass one leaves for pass two ------------------------------------
-
-@dataclass(slots=True)
-class _Place:
-    file: str
-    line: int
-    column: int
-
-
-@dataclass(slots=True)
-class _Item:
-    """Words to produce at ``address``: an instruction, data, or zeros."""
-    address: int
-    length: int
-    place: _Place
-    chosen: Chosen | None = None
-    data: list | None = None
-    """Data parts: (Expr, words per value) or a Text."""
-
-
-@dataclass(slots=True)
-class _Run:
-    """Consecutive words laid down without an .org in between."""
-    start: int
-    end: int
-    place: _Place
-    order: int
-
-
-@dataclass(slots=True)
-class _Constant:
-    expr: Expr
-    here: int
-    place: _Place
-    value: int | None = None
-    state: str = "new"
-
-
-@dataclass(slots=True)
-class _PendingExpect:
-    address: int
-    here: int
-    place: _Place
-    check: Comparison
-
-
-class _Broken(EvalError):
-    """A value depending on one whose error has been reported already."""
-
-    def __init__(self, node):
-        super().__init__(None, node)
-
-
-class _TooDeep(EvalError):
-    """A chain of constants deeper than the call stack: reported once, where it broke."""
-
-
 @dataclass
-class _Assembly:
+class _Assembly(_Directives, _Values, _ExpectChecks):
+    """One assembly: the state both passes share; directives, values and checks are its mixins."""
+
     machine: Machine
     syntax: MachineSyntax = field(init=False)
     diagnostics: list[Diagnostic] = field(default_factory=list)
@@ -330,210 +257,6 @@ class _Assembly:
     def address_text(self, value: int) -> str:
         return f"0x{value:0{(self.machine.address_bits + 3) // 4}X}"
 
-    # ----- directives (pass one)
-
-    def expressions(self, body: Directive, file: str, count: int | None, usage: str) -> list[Expr] | None:
-        args = body.arguments
-        ok = (count is None or len(args) == count) and args and all(
-            isinstance(a, Operand) and not a.opening and not a.closing for a in args)
-        if not ok:
-            self.error(file, body.line, body.column, f"{body.name} takes {usage}")
-            return None
-        return [a.expr for a in args]
-
-    def early_value(self, expr: Expr, file: str) -> int | None:
-        """A value needed in pass one (.org, .zero): only what is defined above counts."""
-        self.early, self.here = True, self.address
-        try:
-            return expr.evaluate(self)
-        except EvalError as exc:
-            self.report(exc, file)
-            return None
-        finally:
-            self.early = False
-
-    def do_org(self, body: Directive, file: str):
-        exprs = self.expressions(body, file, 1, "one address, e.g. .org 0x100")
-        if exprs is None:
-            return
-        value = self.early_value(exprs[0], file)
-        if value is None:
-            return
-        if not 0 <= value < self.machine.memory_words:
-            self.error(file, exprs[0].line, exprs[0].column,
-                       f"{value} is not an address of {self.machine.name} (0…{self.machine.memory_words - 1})")
-            return
-        self.address = value
-        self.current_run = None
-        self.pending_origin = _Place(file, body.line, body.column)
-
-    def do_zero(self, body: Directive, file: str):
-        exprs = self.expressions(body, file, 1, "one word count, e.g. .zero 16")
-        if exprs is None:
-            return None
-        count = self.early_value(exprs[0], file)
-        if count is None:
-            return None
-        if count < 0:
-            self.error(file, exprs[0].line, exprs[0].column, f"a word count cannot be negative ({count})")
-            return None
-        return self.emit(_Item(self.address, count, _Place(file, body.line, body.column), data=[]), "data")
-
-    def do_byte(self, body: Directive, file: str):
-        parts, length = [], 0
-        for arg in body.arguments:
-            if isinstance(arg, Text):
-                if arg.problem:
-                    self.error(file, arg.line, arg.column, arg.problem)
-                parts.append(arg)
-                length += len(arg.value)
-            elif isinstance(arg, Operand) and not arg.opening and not arg.closing:
-                parts.append((arg.expr, 1))
-                length += 1
-            else:
-                self.error(file, arg.line, arg.column, ".byte takes expressions and \"strings\"")
-        if not body.arguments:
-            self.error(file, body.line, body.column, ".byte takes expressions and \"strings\"")
-        return self.emit(_Item(self.address, length, _Place(file, body.line, body.column), data=parts), "data")
-
-    def do_word(self, body: Directive, file: str):
-        exprs = self.expressions(body, file, None, "expressions, e.g. .word 0x1234, start")
-        if exprs is None:
-            return None
-        return self.emit(_Item(self.address, 2 * len(exprs), _Place(file, body.line, body.column),
-                               data=[(e, 2) for e in exprs]), "data")
-
-    def do_equ(self, body: Directive, file: str):
-        args = body.arguments
-        if (len(args) != 2 or not all(isinstance(a, Operand) and not a.opening and not a.closing for a in args)
-                or not isinstance(args[0].expr, Name)):
-            self.error(file, body.line, body.column, ".equ takes a name and a value, e.g. .equ COUNT, 10")
-            return
-        name = args[0].expr
-        self.define_constant(name.name, args[1].expr, _Place(file, name.line, name.column))
-
-    def do_machine(self, body: Directive, file: str):
-        """The machine was chosen before assembly (``machine_directive``); here only its place is checked."""
-        args = body.arguments
-        if len(args) != 1 or not isinstance(args[0], Text) or not args[0].value.strip():
-            self.error(file, body.line, body.column, '.machine takes one "machine name or path"')
-        elif len(self.include_stack) > 1 or self.statements_seen:
-            self.error(file, body.line, body.column,
-                       ".machine must be the first statement of the program file (the machine decides "
-                       "how every other line assembles)")
-
-    def do_include(self, body: Directive, file: str):
-        args = body.arguments
-        if len(args) != 1 or not isinstance(args[0], Text):
-            self.error(file, body.line, body.column, '.include takes one "file name"')
-            return
-        arg = args[0]
-        folder = "" if file.startswith("<") else os.path.dirname(file)
-        path = os.path.normpath(os.path.join(folder, arg.value))
-        if len(self.include_stack) >= MAX_INCLUDE_DEPTH:
-            self.error(file, arg.line, arg.column, f"includes nested more than {MAX_INCLUDE_DEPTH} deep")
-            return
-        chain = [os.path.realpath(f) for f in self.include_stack]
-        if os.path.realpath(path) in chain:
-            loop = " → ".join([*self.include_stack[chain.index(os.path.realpath(path)):], path])
-            self.error(file, arg.line, arg.column, f"include loop: {loop}")
-            return
-        try:
-            data = open(path, "rb").read()
-        except OSError as exc:
-            self.error(file, arg.line, arg.column,
-                       f"cannot read include file '{arg.value}' ({exc.strerror or exc})")
-            return
-        try:
-            text = _decode(data, path)
-        except AsmError as exc:
-            self.diagnostics.extend(exc.diagnostics)
-            return
-        if path in self.sources:
-            path = os.path.join(folder, arg.value)
-        self.assemble_file_text(text, path)
-
-    def do_expect(self, body: Directive, file: str):
-        if not body.arguments or not all(isinstance(a, Comparison) for a in body.arguments):
-            self.error(file, body.line, body.column, ".expect takes checks like r0 == 5, out == \"ok\"")
-            return
-        if self.last_halt is None:
-            self.error(file, body.line, body.column,
-                       ".expect has no halt or pause above it to attach to")
-            return
-        for check in body.arguments:
-            self.expects.append(_PendingExpect(self.last_halt, self.address,
-                                               _Place(file, check.line, check.column), check))
-
-    # ----- values
-
-    def lookup(self, node: Name) -> int:
-        name = node.name
-        if name in self.labels:
-            return self.labels[name]
-        constant = self.constants.get(name)
-        if constant is not None:
-            return self.constant_value(name, constant, node)
-        if name.lower() in self.syntax.reserved:
-            raise EvalError(f"the register {name} cannot be used in an expression", node)
-        register_hint = self.syntax.looks_like_register(name)
-        if register_hint:
-            raise EvalError(register_hint, node)
-        if self.early:
-            raise EvalError(f"'{name}' must be defined above this line: its value is needed here "
-                            f"to lay out the program", node)
-        close = difflib.get_close_matches(name, [*self.labels, *self.constants], n=1)
-        hint = f" (did you mean '{close[0]}'?)" if close else ""
-        raise EvalError(f"undefined label '{name}'{hint}", node)
-
-    def constant_value(self, name: str, constant: _Constant, node: Name) -> int:
-        if constant.state == "done":
-            return constant.value
-        if constant.state == "broken":
-            raise _Broken(node)
-        if constant.state == "busy":
-            raise EvalError(f"'{name}' is defined in terms of itself", node)
-        constant.state = "busy"
-        saved, self.here = self.here, constant.here
-        try:
-            try:
-                constant.value = constant.expr.evaluate(self)
-            except RecursionError:
-                raise _TooDeep(f"'{name}' is defined through a chain of constants too long to follow "
-                                f"(each defined by the next); define them in order", node) from None
-        except EvalError as exc:
-            constant.state = "broken" if isinstance(exc, _TooDeep) else "new"
-            exc.file = exc.file or constant.place.file
-            raise
-        finally:
-            self.here = saved
-        constant.state = "done"
-        return constant.value
-
-    def resolve_constants(self):
-        chain_reported = False
-        for name, constant in self.constants.items():
-            if constant.state == "new":
-                try:
-                    self.constant_value(name, constant, Name(name, constant.place.line, constant.place.column))
-                except EvalError as exc:
-                    if not (isinstance(exc, _TooDeep) and chain_reported):   # one long chain, one message
-                        self.report(exc, constant.place.file)
-                    chain_reported = chain_reported or isinstance(exc, _TooDeep)
-                    constant.state = "broken"
-
-    def value(self, expr: Expr, here: int, file: str, low: int, high: int, what: str) -> int | None:
-        self.here = here
-        try:
-            value = expr.evaluate(self)
-        except EvalError as exc:
-            self.report(exc, file)
-            return None
-        if not low <= value <= high:
-            self.error(file, expr.line, expr.column, f"{value} does not fit {what} ({low}…{high})")
-            return None
-        return value
-
     # ----- layout checks and pass two
 
     def check_overlaps(self):
@@ -596,71 +319,3 @@ class _Assembly:
                 return [0] * len(text.value)
             words.append(ord(ch))
         return words
-
-    def finish_expects(self) -> list[Expect]:
-        result = []
-        for pending in self.expects:
-            expect = self.expect(pending)
-            if expect is not None:
-                result.append(expect)
-        return result
-
-    def expect(self, pending: _PendingExpect) -> Expect | None:
-        check, file = pending.check, pending.place.file
-        item_operand, value_arg = check.item, check.value
-        memory_address = None
-        if item_operand.opening == "[" and item_operand.closing == "]":
-            item = "mem"
-            memory_address = self.value(item_operand.expr, pending.here, file, 0,
-                                        self.machine.memory_words - 1, "an address")
-            if memory_address is None:
-                return None
-            low, high, what = *self.word_range, f"[{self.address_text(memory_address)}]"
-        else:
-            text = item_operand.literal_text()
-            item = self.expect_item(text) if not item_operand.opening else None
-            if item is None:
-                names = ", ".join(self.syntax.checkable.values())
-                self.error(file, item_operand.line, item_operand.column,
-                           f"cannot check '{item_operand.expr.text()}': .expect items are {names}, "
-                           f"[address], lamps and out")
-                return None
-            low, high, what = *self.item_range(item), item
-        if item == "out":
-            if not isinstance(value_arg, Text):
-                self.error(file, value_arg.line, value_arg.column,
-                           'out is compared with a string literal, e.g. out == "done\\n"')
-                return None
-            if value_arg.problem:
-                self.error(file, value_arg.line, value_arg.column, value_arg.problem)
-                return None
-            value = value_arg.value
-            shown = f'"{value_arg.value}"'
-        else:
-            if not isinstance(value_arg, Operand) or value_arg.opening or value_arg.closing:
-                self.error(file, value_arg.line, value_arg.column,
-                           f"{what} is compared with a number; only out takes a string")
-                return None
-            value = self.value(value_arg.expr, pending.here, file, low, high, what)
-            if value is None:
-                return None
-            shown = value_arg.expr.text()
-            value &= (1 << (high.bit_length())) - 1
-        item_text = f"[{item_operand.expr.text()}]" if item == "mem" else item
-        return Expect(pending.address, file, check.line, item, check.op, value, memory_address,
-                      f"{item_text} {check.op} {shown}")
-
-    def expect_item(self, text: str | None) -> str | None:
-        if text is None:
-            return None
-        if text in ("lamps", "out"):
-            return text
-        return self.syntax.checkable.get(text)
-
-    def item_range(self, item: str) -> tuple[int, int]:
-        if item in self.machine.flags:
-            return 0, 1
-        if item in ("lamps", "out"):
-            return self.word_range
-        width = self.machine.register_width(item)
-        return -(1 << (width - 1)), (1 << width) - 1

@@ -20,9 +20,10 @@ from ..errors import MachineError
 from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
 from ._decoding import decode_groups
+from ._instruction_forms import IDENTIFIER, read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
-from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, MachineNames, OperandKind, OperandPattern, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
+from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Flag, Instruction,
+                     Machine, MachineNames, OperandKind, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
 from ._schema import Table, is_integer
 from ._sections import read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
@@ -80,9 +81,6 @@ def _too_long_number(text: str, path: str) -> MachineError:
 
 _SECTIONS = ("machine", "registers", "internal", "groups", "flags", "operands", "ports",
              "clock", "fetch", "instruction", "assembler", "timing", "wear")
-_SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
-_ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d{1,9}):(?P<lo>\d{1,9})\])?)$")
-_IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 _LONGEST_PHASE_MS = 86_400_000
 """A day: far beyond any relay clock, and well inside the engine's nanosecond counters."""
 
@@ -162,7 +160,7 @@ class _Loader:
             table = top.table(section, required=not internal)
             for reg_name, width in table.items():
                 table.where = f"[{section}] {reg_name}"
-                if not _IDENTIFIER.match(reg_name):
+                if not IDENTIFIER.match(reg_name):
                     table.fail("a register name must be an identifier", reg_name)
                 if reg_name in registers:
                     table.fail("register declared twice", reg_name)
@@ -190,7 +188,7 @@ class _Loader:
         declared = {**self.top.get("registers", {}), **self.top.get("internal", {}), **self.top.get("groups", {})}
         for flag_name, role in table.items():
             table.where = f"[flags] {flag_name}"
-            if not _IDENTIFIER.match(flag_name):
+            if not IDENTIFIER.match(flag_name):
                 table.fail("a flag name must be an identifier", flag_name)
             if role not in FLAG_ROLES and role != PLAIN_FLAG:
                 table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)} (set by the ALU) or "
@@ -339,14 +337,14 @@ class _Loader:
         spec = Table(raw, f"[[instruction]] {index + 1}", self.fail_at, key)
         spec.known_keys(("syntax", "encoding", "steps", "decode_words") + CALL_KEYS)
         syntax = spec.string("syntax").strip()
-        spec.where = f"instruction '{_strip_kinds(syntax)}'"
-        mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
+        spec.where = f"instruction '{strip_kinds(syntax)}'"
+        mnemonic, operands, field_kinds = read_syntax(spec, syntax, kinds, names)
         words = 'a non-empty list of word strings, e.g. ["0001 rd", "imm"]'
         encoding = spec.list_of("encoding", lambda w: isinstance(w, str), nonempty=True, default=None,
                                 expected=words)
         if encoding is None:
             spec.fail(f"'encoding' must be {words}", "encoding")
-        fixed, fields = self.encoding(spec, encoding, field_kinds, names.data_bits)
+        fixed, fields = read_encoding(spec, encoding, field_kinds, names.data_bits)
         call, returns = read_call_marks(spec, names.registers, names.groups, names.pc)
         texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
@@ -354,7 +352,7 @@ class _Loader:
                       "that only fetches)", "steps")
         places = [(f"{spec.where} step {fetch_count + i}", key + ("steps", i - 1)) for i in range(1, len(texts) + 1)]
         parsed = [self.parse(text, where, at) for text, (where, at) in zip(texts, places)]
-        holders = self.word_holders(spec, names, parsed, len(encoding))
+        holders = word_holders(spec, names, parsed, len(encoding))
         decode_words = spec.integer("decode_words", low=1, high=len(encoding), default=1,
                                     expected=f"a number of leading encoding words, 1…{len(encoding)}")
         if decode_words - 1 not in holders:
@@ -374,94 +372,6 @@ class _Loader:
             holders={w: reg for w, (_s, reg) in holders.items()}, call=call, returns=returns,
             decode_words=decode_words, decode_step=decode_step,
         )
-
-    def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):
-        head, _, rest = syntax.partition(" ")
-        mnemonic = head.lower()
-        if not _IDENTIFIER.match(mnemonic):
-            spec.fail("the syntax must start with a mnemonic", "syntax")
-        taken = names.kinds_of_name
-        operands, field_kinds = [], {}
-        for part in filter(None, (p.strip() for p in rest.split(","))) if rest.strip() else ():
-            m = _SYNTAX_OPERAND.match(part)
-            if m:
-                if m["kind"] not in kinds:
-                    spec.fail(f"unknown operand kind '{m['kind']}' (kinds: {', '.join(kinds)})", "syntax")
-                if m["field"] in field_kinds:
-                    spec.fail(f"operand field '{m['field']}' appears twice", "syntax")
-                if m["field"] in taken:
-                    spec.fail(f"operand field '{m['field']}' has the name of a {taken[m['field']]}", "syntax")
-                field_kinds[m["field"]] = kinds[m["kind"]]
-                operands.append(OperandPattern(m["before"].lower().replace(" ", ""), m["field"],
-                                               m["after"].lower().replace(" ", "")))
-            else:
-                operands.append(OperandPattern(part.lower().replace(" ", ""), None, ""))
-        return mnemonic, tuple(operands), field_kinds
-
-    def encoding(self, spec: Table, words, field_kinds, data_bits: int):
-        def fail(message):
-            spec.fail(message, "encoding")
-
-        fixed, pieces = [], {name: [] for name in field_kinds}
-        for w, text in enumerate(words):
-            position, mask, value = data_bits, 0, 0
-            for token in text.split():
-                m = _ENCODING_TOKEN.match(token)
-                if not m:
-                    fail(f"cannot read encoding token '{token}' in word {w + 1} "
-                         f"(expected bits like 0101, a field name, or field[hi:lo])")
-                if m["bits"]:
-                    position -= len(m["bits"])
-                    if position >= 0:
-                        mask |= ((1 << len(m["bits"])) - 1) << position
-                        value |= int(m["bits"], 2) << position
-                    continue
-                name = m["field"]
-                if name not in field_kinds:
-                    fail(f"encoding word {w + 1} names '{name}', which is not an operand field "
-                         f"of this instruction (fields: {', '.join(field_kinds) or 'none'})")
-                kind = field_kinds[name]
-                hi, lo = (int(m["hi"]), int(m["lo"])) if m["hi"] else (kind.bits - 1, 0)
-                if hi < lo or hi >= kind.bits:
-                    fail(f"slice {name}[{hi}:{lo}] is outside the {kind.bits} bits of '{name}'")
-                position -= hi - lo + 1
-                pieces[name].append(FieldPiece(w, max(position, 0), hi - lo + 1, lo))
-            if position != 0:
-                fail(f"encoding word {w + 1} has {data_bits - position} bits, expected {data_bits} (data_bits)")
-            fixed.append((mask, value))
-        fields = {}
-        for name, kind in field_kinds.items():
-            covered = [0] * kind.bits
-            for piece in pieces[name]:
-                for b in range(piece.field_bit, piece.field_bit + piece.width):
-                    covered[b] += 1
-            if covered != [1] * kind.bits:
-                fail(f"the encoding must place each of the {kind.bits} bits of '{name}' exactly once")
-            fields[name] = Field(name, kind, tuple(pieces[name]))
-        if fixed[0][0] == 0:
-            fail("the first encoding word needs fixed opcode bits")
-        return tuple(fixed), fields
-
-    def word_holders(self, spec: Table, names: MachineNames, parsed, word_count: int):
-        """Which step fetches each later word (a step reading mem[pc]) and where it lands."""
-        pc_word = Mem(Name(names.pc))
-        holders = {0: (0, names.ir)}
-        fetch_reads = 0
-        for i, statements in enumerate(parsed, 1):
-            if not any(node == pc_word for st in statements for node in walk(st)):
-                continue
-            fetch_reads += 1
-            for st in statements:
-                # Only a plain register holds a word for its fields: a pair or a register
-                # field is not one place the fields can be read back from.
-                if (isinstance(st, Assign) and st.value == pc_word and isinstance(st.target, Name)
-                        and st.target.name in names.registers):
-                    holders[fetch_reads] = (i, st.target.name)
-        if fetch_reads != word_count - 1:
-            plural = "s" if word_count != 1 else ""
-            spec.fail(f"the encoding has {word_count} word{plural} but the micro-steps read {fetch_reads} "
-                      f"after the opcode (each later word needs a step that reads mem[{names.pc}])", "encoding")
-        return holders
 
     def parse(self, text: str, where: str, key: tuple):
         try:
@@ -499,6 +409,3 @@ def _computed(steps: tuple[Step, ...], register: str) -> bool:
         computed.update(updates)
     return computed.get(register, False)
 
-
-def _strip_kinds(syntax: str) -> str:
-    return re.sub(r":[A-Za-z_]\w*", "", syntax)

@@ -26,11 +26,11 @@ with the phase table.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 
 import numpy as np
 
-from ..description import Machine, StageParts
+from ..description import Machine, StageParts, TimingSection
 from ..errors import MachineError
 from ._rc import divider, time_to_charge, time_to_discharge
 
@@ -38,20 +38,12 @@ __all__ = ["TimingModel", "timing_model", "has_timing"]
 
 
 @dataclass(frozen=True)
-class TimingModel:
-    """A machine's clock as parts: nominal phase times and the spread of them.
+class TimingModel(TimingSection):
+    """A machine's clock as parts: the checked ``[timing]`` section with the machine it times.
 
     ``phase_stage[i]`` is the index of the stage that times phase ``i``.
     """
     machine: Machine
-    supply: float
-    supply_tol: float
-    stages: tuple[StageParts, ...]
-    phase_stage: tuple[int, ...]
-    min_pulse: float | None
-    table_tolerance: float
-    spread: str
-    jitter: float
 
     # -- the two halves of a phase time: the RC part and the armature part
 
@@ -139,8 +131,7 @@ def timing_model(machine: Machine) -> TimingModel:
                            path=machine.path, where="top level")
     for stage in section.stages:
         _check_pick_up(machine, section.supply, stage)
-    model = TimingModel(machine, section.supply, section.supply_tol, section.stages, section.phase_stage,
-                        section.min_pulse, section.table_tolerance, section.spread, section.jitter)
+    model = TimingModel(machine=machine, **{f.name: getattr(section, f.name) for f in fields(section)})
     _check_table(model)
     return model
 

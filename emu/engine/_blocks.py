@@ -20,15 +20,13 @@ image wrote; and a change of breakpoints drops blocks, to be split anew.
 
 from __future__ import annotations
 
-import os
 import weakref
 from collections import Counter, OrderedDict
-from pathlib import Path
 
 from ..description import Machine
 from ._block_dispatch import checked_fused_source, dispatcher_source, writes_memory
 from ._block_translator import MAYBE, NEXT, BlockPlan, block_source, successor
-from ..files import write_atomic
+from ._emitter import compile_generated
 from ._microstep_compiler import Fallback, compile_machine
 
 __all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]
@@ -60,7 +58,7 @@ class _MachineBlocks:
     def __init__(self, machine: Machine):
         self.machine = machine
         self.max_fused = compile_machine(machine).max_fused_cycles
-        self.dispatcher = _compiled(dispatcher_source(machine, self.max_fused), f"{machine.name}_block_loops")
+        self.dispatcher = compile_generated(dispatcher_source(machine, self.max_fused), f"{machine.name}_block_loops")
         self.successor = [successor(machine, ins) for ins in machine.instructions]
         self.ends = [index < 0 or machine.instructions[index].drives_halt or self.successor[index] != NEXT
                      for index in machine.decode_table]
@@ -71,7 +69,7 @@ class _MachineBlocks:
     def checked(self):
         """Compiled when the first block of this machine is: runs without blocks never need it."""
         if self._checked is None:
-            self._checked = _compiled(checked_fused_source(self.machine), f"{self.machine.name}_checked_fused")
+            self._checked = compile_generated(checked_fused_source(self.machine), f"{self.machine.name}_checked_fused")
         return self._checked
 
     def compiled_block(self, plan: BlockPlan, loops: bool) -> tuple:
@@ -85,22 +83,10 @@ class _MachineBlocks:
             return (*entry, False)
         source, most = block_source(self.machine, plan, loops)
         name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}"
-        entry = self.code[key] = (_compiled(source, name), most)
+        entry = self.code[key] = (compile_generated(source, name), most)
         if len(self.code) > CACHE_BLOCKS:
             self.code.popitem(last=False)
         return (*entry, True)
-
-
-def _compiled(source: str, name: str):
-    """Compile generated code; with ``RELAYBENCH_DUMP_CODE`` set, from a file tracebacks can show."""
-    filename = f"<relaybench:{name}>"
-    dump = os.environ.get("RELAYBENCH_DUMP_CODE")
-    if dump:
-        path = Path(dump) / f"{name}.py"
-        path.parent.mkdir(parents=True, exist_ok=True)
-        write_atomic(path, source)
-        filename = str(path)
-    return compile(source, filename, "exec")
 
 
 _shared: dict[int, _MachineBlocks] = {}

@@ -1,11 +1,31 @@
-"""A small collector of Python source lines, for the micro-step compiler."""
+"""A small collector of Python source lines, for the micro-step compiler, and the compiling of them."""
 
 from __future__ import annotations
 
+import os
 from collections import Counter
 from contextlib import contextmanager
+from pathlib import Path
 
-__all__ = ["Emitter"]
+from ..files import write_atomic
+
+__all__ = ["Emitter", "compile_generated"]
+
+
+def compile_generated(source: str, name: str, dump_name: str | None = None):
+    """Compile generated code; with ``RELAYBENCH_DUMP_CODE`` set, from a file tracebacks can show.
+
+    ``name`` labels the code (``<relaybench:NAME>``); the dumped file is
+    ``DUMP_NAME.py`` (``NAME.py`` when not given) in that folder.
+    """
+    filename = f"<relaybench:{name}>"
+    dump = os.environ.get("RELAYBENCH_DUMP_CODE")
+    if dump:
+        path = Path(dump) / f"{dump_name or name}.py"
+        path.parent.mkdir(parents=True, exist_ok=True)
+        write_atomic(path, source)
+        filename = str(path)
+    return compile(source, filename, "exec")
 
 
 class Emitter:

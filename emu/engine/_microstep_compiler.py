@@ -23,16 +23,13 @@ tracebacks show.
 
 from __future__ import annotations
 
-import os
 import weakref
 from contextlib import nullcontext
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Callable, NamedTuple
 
 from ..description import ALU_OPS, Instruction, Machine, Step
-from ._emitter import Emitter
-from ..files import write_atomic
+from ._emitter import Emitter, compile_generated
 from ..description.notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle,
                                     Input, Join, Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width,
                                     top_word_shift, unknown_node, value_width, walk)
@@ -85,14 +82,8 @@ def compile_machine(machine: Machine) -> CompiledMachine:
     if cached is not None and cached.machine is machine:
         return cached
     source, max_cycles = _MachineCompiler(machine).source()
-    filename = f"<relaybench:{machine.name}>"
-    dump = os.environ.get("RELAYBENCH_DUMP_CODE")
-    if dump:
-        path = Path(dump) / f"{machine.name}_generated.py"
-        path.parent.mkdir(parents=True, exist_ok=True)
-        write_atomic(path, source)
-        filename = str(path)
-    compiled = CompiledMachine(machine, source, compile(source, filename, "exec"), max_cycles)
+    code = compile_generated(source, machine.name, f"{machine.name}_generated")
+    compiled = CompiledMachine(machine, source, code, max_cycles)
     _cache[key] = compiled
     weakref.finalize(machine, _cache.pop, key, None)
     return compiled

@@ -86,9 +86,7 @@ def do_pulse(session, args):
 @command("resume", "Press RESUME: clear the halt latch; at RUN the clock restarts.")
 def do_resume(session, args):
     no_arguments(args, "resume")
-    was_frozen = session.emu.frozen
-    session.emu.press_resume()
-    return session.released(was_frozen, "halt latch clear")
+    return _press(session, session.emu.press_resume, "halt latch clear")
 
 
 @command("reset", "Press RESET: pc, sequencer, flags and halt latch to zero.")
@@ -96,9 +94,14 @@ def do_reset(session, args):
     """Registers, the stack pointer and memory are kept. At RUN, with the
     latch cleared, a frozen clock restarts from address 0."""
     no_arguments(args, "reset")
+    return _press(session, session.emu.press_reset, "reset: pc 0")
+
+
+def _press(session, button, done: str) -> str:
+    """Press a panel button; if that lets a frozen clock go, the clock now runs."""
     was_frozen = session.emu.frozen
-    session.emu.press_reset()
-    return session.released(was_frozen, "reset: pc 0")
+    button()
+    return session.released(was_frozen, done)
 
 
 @command("restart", "Power off and on and load the program again: start it afresh (breakpoints stay).")

@@ -1,11 +1,9 @@
 """The parts of a machine description, as the loader builds them.
 
-The description is the one source of truth. The assembler reads syntax and
-encodings from it, the disassembler decodes with it, the compiler turns its
-micro-steps into Python, the control unit runs its phase table and
-``relaybench isa`` prints it. So every mistake in it is caught here, once,
-with a message that names the file, the key or instruction, and what was
-expected.
+These objects are what every other part reads: the assembler's syntax and
+encodings, the disassembler's decoding, the compiler's micro-steps, the
+control unit's phase table and ``relaybench isa``'s listing. The loader
+(``_loader``) checks a file before any of them is built.
 """
 
 from __future__ import annotations

@@ -7,7 +7,7 @@ once per step), not a question of file syntax.
 
 from __future__ import annotations
 
-from ._alu import ALU_OPS, WORD_SELECTORS
+from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
 from .notation import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset,
                        Output, name_width, unknown_node, value_width)
@@ -99,14 +99,14 @@ class StepChecker:
     def flag_writes(self, value, flags):
         if not flags:
             return
-        if not isinstance(value, Call) or value.op not in ALU_OPS:
+        if not isinstance(value, Call) or value.op not in self.names.alu_ops:
             self.fail("'sets' needs an ALU operation (add, sub, …) as the value")
-        op = ALU_OPS[value.op]
+        op = self.names.alu_ops[value.op]
         for name in flags:
             flag = self.names.flags.get(name)
             if flag is None:
                 self.fail(f"unknown flag '{name}' (flags: {', '.join(self.names.flags)})")
-            if not op.produces(flag.role):
+            if op.produces(flag) is None:
                 self.fail(f"{value.op} does not produce the {flag.role} flag '{name}'")
             self.write(name, name)
 
@@ -125,7 +125,7 @@ class StepChecker:
 
     def width(self, node) -> int:
         names = self.names
-        return value_width(node, names.registers, names.pairs, self.fields, names.data_bits)
+        return value_width(node, names.registers, names.pairs, self.fields, names.data_bits, names.alu_ops)
 
     def expr(self, node) -> None:
         """Check an expression: names known, fields fetched, the design rule kept; then its parts."""
@@ -167,14 +167,19 @@ class StepChecker:
         if op in WORD_SELECTORS:
             if len(args) != 1:
                 self.fail(f"{op}() takes one argument")
-        elif op not in ALU_OPS:
-            self.fail(f"unknown operation '{op}' (ALU: {', '.join(ALU_OPS)}; also hi, lo)")
+        elif op not in names.alu_ops:
+            self.fail(f"unknown operation '{op}' (ALU: {', '.join(names.alu_ops)}; also hi, lo)")
         else:
-            spec = ALU_OPS[op]
+            spec = names.alu_ops[op]
             if len(args) != spec.arity:
                 self.fail(f"{op}() takes {spec.arity} argument{'s' if spec.arity > 1 else ''}, not {len(args)}")
-            if spec.uses_carry_in and not any(f.role == "carry" for f in names.flags.values()):
-                self.fail(f"{op} needs a carry flag, and the machine has none")
+            for ref in spec.reads:
+                _flag, problem = resolve_flag(ref, names.flags)
+                if problem:
+                    self.fail(f"{op} {problem}")
+            problem = spec.width_problem(self.width(Call(op, args)))
+            if problem:
+                self.fail(problem)
             self.alu += 1
             if self.alu > 1:
                 self.fail("two ALU operations in one micro-step (the design rule allows one)")

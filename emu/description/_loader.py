@@ -16,6 +16,7 @@ from importlib import resources
 from pathlib import Path
 
 from ..errors import MachineError
+from ._alu import RESERVED_OPERATION_NAMES, builtin_alu_ops, read_alu_op
 from ._design_rules import StepChecker
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
@@ -65,7 +66,7 @@ def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineEr
 
 
 _SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",
-             "clock", "fetch", "instruction", "assembler", "timing", "wear")
+             "clock", "fetch", "instruction", "assembler", "timing", "wear", "alu")
 _SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
 _ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d+):(?P<lo>\d+)\])?)$")
 _IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
@@ -109,7 +110,7 @@ class _Loader:
         if registers[ir].width != data_bits:
             self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
                          f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
-        names = MachineNames(data_bits, registers, pairs, flags, pc, ir)
+        names = MachineNames(data_bits, registers, pairs, flags, pc, ir, self.alu_ops(flags))
 
         kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
@@ -131,7 +132,7 @@ class _Loader:
             registers=registers, pairs=pairs, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
-            instruction_register=ir, pause=pause.lower(),
+            instruction_register=ir, pause=pause.lower(), alu_ops=names.alu_ops,
         )
         if "timing" in top:
             machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
@@ -181,6 +182,23 @@ class _Loader:
                 table.fail("a flag must not have the name of a register", flag_name)
             flags[flag_name] = Flag(flag_name, role, first_slot + len(flags))
         return flags
+
+    def alu_ops(self, flags: dict[str, Flag]) -> dict:
+        """The built-in operations and the file's ``[alu.NAME]`` definitions; a file's own
+        definition of a built-in name replaces the built-in (its ALU is the one described)."""
+        ops = builtin_alu_ops()
+        table = self.top.table("alu", "[alu]", required=False)
+        for op_name, raw in table.items():
+            where = f"[alu.{op_name}]"
+            if not _IDENTIFIER.match(op_name) or op_name in RESERVED_OPERATION_NAMES:
+                reserved = ", ".join(sorted(RESERVED_OPERATION_NAMES))
+                self.fail_at(where, ("alu", op_name), f"an ALU operation needs an identifier for a name, "
+                                                      f"not one of the notation's words ({reserved})")
+
+            def fail(key, message, op_name=op_name, where=where):
+                self.fail_at(where, ("alu", op_name) + tuple(key), message)
+            ops[op_name] = read_alu_op(op_name, raw, fail, flags)
+        return ops
 
     def operand_kinds(self, names: MachineNames) -> dict[str, OperandKind]:
         kinds = {}

@@ -14,6 +14,7 @@ import re
 from dataclasses import dataclass, field
 from functools import cached_property
 
+from ._alu import builtin_alu_ops
 from ._sections import TimingSection, WearRatings
 from .notation import Assign, FlagsOnly, Statement
 
@@ -226,6 +227,8 @@ class MachineNames:
     flags: dict[str, Flag]
     pc: str
     ir: str
+    alu_ops: dict = field(default_factory=builtin_alu_ops)
+    """Operation name → ``AluOp``: the built-ins and the file's ``[alu.NAME]`` definitions."""
 
     @property
     def kinds_of_name(self) -> dict[str, str]:
@@ -258,6 +261,8 @@ class Machine:
     """The checked ``[timing]`` section (the clock ring's parts), None when the file has none."""
     wear: WearRatings = field(default_factory=WearRatings)
     """The checked ``[wear]`` section; without one no rated life is known."""
+    alu_ops: dict = field(default_factory=builtin_alu_ops)
+    """Operation name → ``AluOp``: the built-ins, then the file's own (a file's definition wins)."""
 
     def control_lines(self) -> list[str]:
         """Every control line some micro-step of the machine drives, in first-use order."""

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
-from .._alu import WORD_SELECTORS
 from ._ir import Call, Choose, Const, Input, Join, Mem, Name, Offset, unknown_node
 
-__all__ = ["name_width", "value_width"]
+__all__ = ["WORD_SELECTORS", "name_width", "value_width"]
+
+WORD_SELECTORS = {"hi", "lo"}
+"""``hi(e)``/``lo(e)``: the upper and lower data word of a wide value (bus wiring, no ALU)."""
 
 
 def name_width(name: str, registers: dict, pairs: dict, fields: dict) -> int:
@@ -20,8 +22,12 @@ def name_width(name: str, registers: dict, pairs: dict, fields: dict) -> int:
     return registers[name].width
 
 
-def value_width(node, registers: dict, pairs: dict, fields: dict, data_bits: int) -> int:
-    """Bits of an IR expression's value, before any masking to its destination."""
+def value_width(node, registers: dict, pairs: dict, fields: dict, data_bits: int, alu_ops: dict | None = None) -> int:
+    """Bits of an IR expression's value, before any masking to its destination.
+
+    An ALU operation is as wide as its definition says (``alu_ops``, the
+    machine's table; without it, the first operand's width).
+    """
     def width(n) -> int:
         match n:
             case Name(name):
@@ -37,7 +43,11 @@ def value_width(node, registers: dict, pairs: dict, fields: dict, data_bits: int
             case Choose(_, _, a, b):
                 return max(width(a), width(b))
             case Call(op, args):
-                return data_bits if op in WORD_SELECTORS else width(args[0])
+                if op in WORD_SELECTORS:
+                    return data_bits
+                if alu_ops is not None and op in alu_ops:
+                    return alu_ops[op].result_width([width(a) for a in args])
+                return width(args[0])
             case _:
                 unknown_node(n)
     return width(node)

@@ -209,8 +209,11 @@ class _Loader:
                 table.where = where
                 table.fail("an operand kind must be a table, e.g. { bits = 8, min = 0, max = 255 }", kind_name)
             spec = table.table(kind_name, where)
-            spec.known_keys(("registers", "bits", "min", "max"))
+            spec.known_keys(("registers", "bits", "min", "max", "signed", "relative"))
             if "registers" in spec:
+                for key in ("signed", "relative"):
+                    if key in spec:
+                        spec.fail(f"'{key}' is for number operands; this kind lists registers", key)
                 regs = spec.list_of("registers", lambda r: True, nonempty=True,
                                     expected="a non-empty list of register names")
                 for reg in regs:
@@ -222,14 +225,16 @@ class _Loader:
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
             else:
                 bits = spec.integer("bits", low=1, high=32)
-                low = spec.integer("min", default=0)
-                high = spec.integer("max", default=(1 << bits) - 1)
+                signed = spec.boolean("signed", default=False)
+                relative = spec.choice("relative", ("next", "this"), default=None)
+                low = spec.integer("min", default=-(1 << (bits - 1)) if signed else 0)
+                high = spec.integer("max", default=(1 << (bits - 1)) - 1 if signed else (1 << bits) - 1)
                 if low > high:
                     spec.fail(f"'min' ({low}) is above 'max' ({high})", "min")
                 if high >= 1 << bits or low < -(1 << (bits - 1)):
                     spec.fail(f"{bits} bits hold {-(1 << (bits - 1))}…{(1 << bits) - 1} at most "
                               f"(signed or unsigned), not {low}…{high}", "max")
-                kinds[kind_name] = OperandKind(kind_name, bits, low, high)
+                kinds[kind_name] = OperandKind(kind_name, bits, low, high, signed=signed, relative=relative)
         return kinds
 
     def ports(self):

@@ -63,6 +63,14 @@ class OperandKind:
     low: int
     high: int
     registers: tuple[str, ...] = ()
+    signed: bool = False
+    """Values are two's complement (range −2^(bits−1)…2^(bits−1)−1 unless min/max say otherwise)."""
+    relative: str | None = None
+    """``"next"``: the field holds label − the address after the instruction; ``"this"``: label − its own."""
+
+    def distance_base(self, address: int, word_count: int) -> int:
+        """The address a relative field's distance is counted from, for an instruction at ``address``."""
+        return address + word_count if self.relative == "next" else address
 
     @property
     def is_register(self) -> bool:

@@ -134,7 +134,7 @@ def resolve_flag(ref: str, flags: dict) -> tuple[object | None, str | None]:
         return holders[0], None
     if not holders:
         if ref in FLAG_ROLE_NAMES:
-            return None, f"needs a {ref} flag, and the machine has none"
+            return None, f"needs {'an' if ref[0] in 'aeiou' else 'a'} {ref} flag, and the machine has none"
         return None, f"reads '{ref}', which is no operand, flag or role (flags: {', '.join(flags) or 'none'})"
     return None, f"reads the {ref} flag, and {', '.join(f.name for f in holders)} all have that role: name one"
 

@@ -96,8 +96,9 @@ def parse_alu_expression(text: str) -> AluExpr:
         tree = _parser().parse(text)
     except lark.UnexpectedInput as exc:
         column = getattr(exc, "column", 0) or 0
-        if column < 1:
-            column = len(text) + 1
+        token = getattr(exc, "token", None)
+        if column < 1 or getattr(token, "type", None) == "$END":
+            column = len(text.rstrip()) + 1   # the text stops short: the caret goes after it
         caret = " " * (column - 1) + "^"
         raise MachineError(f"cannot read the expression at column {column}\n    {text}\n    {caret}") from None
     try:

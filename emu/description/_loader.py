@@ -21,6 +21,7 @@ from ._design_rules import StepChecker
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
 from ._schema import Table, is_integer
+from ._syntax_forms import SyntaxFormError, parse_syntax_form
 from ._sections import read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
 from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
@@ -67,7 +68,6 @@ def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineEr
 
 _SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",
              "clock", "fetch", "instruction", "assembler", "timing", "wear", "alu")
-_SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
 _ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d+):(?P<lo>\d+)\])?)$")
 _IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 _LONGEST_PHASE_MS = 86_400_000
@@ -371,26 +371,24 @@ class _Loader:
         )
 
     def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):
-        head, _, rest = syntax.partition(" ")
-        mnemonic = head.lower()
-        if not _IDENTIFIER.match(mnemonic):
-            spec.fail("the syntax must start with a mnemonic", "syntax")
+        try:
+            mnemonic, shapes = parse_syntax_form(syntax)
+        except SyntaxFormError as exc:
+            spec.fail(str(exc), "syntax")
         taken = names.kinds_of_name
         operands, field_kinds = [], {}
-        for part in filter(None, (p.strip() for p in rest.split(","))) if rest.strip() else ():
-            m = _SYNTAX_OPERAND.match(part)
-            if m:
-                if m["kind"] not in kinds:
-                    spec.fail(f"unknown operand kind '{m['kind']}' (kinds: {', '.join(kinds)})", "syntax")
-                if m["field"] in field_kinds:
-                    spec.fail(f"operand field '{m['field']}' appears twice", "syntax")
-                if m["field"] in taken:
-                    spec.fail(f"operand field '{m['field']}' has the name of a {taken[m['field']]}", "syntax")
-                field_kinds[m["field"]] = kinds[m["kind"]]
-                operands.append(OperandPattern(m["before"].lower().replace(" ", ""), m["field"],
-                                               m["after"].lower().replace(" ", "")))
-            else:
-                operands.append(OperandPattern(part.lower().replace(" ", ""), None, ""))
+        for shape in shapes:
+            if shape.field is None:
+                operands.append(OperandPattern(shape.before + shape.name + shape.after, None, ""))
+                continue
+            if shape.kind not in kinds:
+                spec.fail(f"unknown operand kind '{shape.kind}' (kinds: {', '.join(kinds)})", "syntax")
+            if shape.field in field_kinds:
+                spec.fail(f"operand field '{shape.field}' appears twice", "syntax")
+            if shape.field in taken:
+                spec.fail(f"operand field '{shape.field}' has the name of a {taken[shape.field]}", "syntax")
+            field_kinds[shape.field] = kinds[shape.kind]
+            operands.append(OperandPattern(shape.before, shape.field, shape.after))
         return mnemonic, tuple(operands), field_kinds
 
     def encoding(self, spec: Table, words, field_kinds, data_bits: int):

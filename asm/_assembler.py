@@ -20,6 +20,7 @@ from ._errors import AsmError, Diagnostic, file_error
 from ._expr import EvalError, Expr, Name
 from ._forms import PAUSE, Chosen, FormError, MachineSyntax
 from ._image import segments_of
+from ._machine_directive import MACHINE_DIRECTIVE
 from ._program import Program
 from ._syntax import Assignment, Comparison, Directive, InstructionLine, Line, Operand, Text, parse_source
 
@@ -148,6 +149,8 @@ class _Assembly:
     """(file, line) of instructions to get a planted pause in front (see ``_planting``)."""
     planted: dict = field(default_factory=dict)
     """(file, line) → the addresses of the pauses planted there (twice if its file is included twice)."""
+    statements_seen: int = 0
+    """Statements assembled so far: a ``.machine`` directive after any of them is refused."""
 
     def __post_init__(self):
         self.syntax = MachineSyntax(self.machine)
@@ -162,6 +165,7 @@ class _Assembly:
         self.directives = {
             ".org": self.do_org, ".byte": self.do_byte, ".word": self.do_word, ".zero": self.do_zero,
             ".equ": self.do_equ, ".include": self.do_include, ".expect": self.do_expect,
+            MACHINE_DIRECTIVE: self.do_machine,
         }
 
     # ----- driving
@@ -219,6 +223,12 @@ class _Assembly:
     # ----- pass one
 
     def statement(self, line: Line, file: str) -> LineEntry | None:
+        try:
+            return self.one_statement(line, file)
+        finally:
+            self.statements_seen += 1
+
+    def one_statement(self, line: Line, file: str) -> LineEntry | None:
         start = self.address
         if line.label is not None:
             label = line.label
@@ -406,6 +416,16 @@ class _Assembly:
             return
         name = args[0].expr
         self.define_constant(name.name, args[1].expr, _Place(file, name.line, name.column))
+
+    def do_machine(self, body: Directive, file: str):
+        """The machine was chosen before assembly (``machine_directive``); here only its place is checked."""
+        args = body.arguments
+        if len(args) != 1 or not isinstance(args[0], Text) or not args[0].value.strip():
+            self.error(file, body.line, body.column, '.machine takes one "machine name or path"')
+        elif len(self.include_stack) > 1 or self.statements_seen:
+            self.error(file, body.line, body.column,
+                       ".machine must be the first statement of the program file (the machine decides "
+                       "how every other line assembles)")
 
     def do_include(self, body: Directive, file: str):
         args = body.arguments

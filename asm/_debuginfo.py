@@ -24,7 +24,7 @@ to check there. Schema (version 1)::
       "expects": [                    # .expect checks, in source order
         {"address": 12,               #   the halt/pause they are attached to
          "file": 0, "line": 14,
-         "item": "r0",                #   register, pair or flag name, "mem", "lamps" or "out"
+         "item": "r0",                #   register, group or flag name, "mem", "lamps" or "out"
          "memory_address": null,      #   the address when item is "mem"
          "op": "==",                  #   "==" or "!="
          "value": 5,                  #   an integer (masked to the item's width), or a string for "out"
@@ -209,7 +209,7 @@ class _Reader:
         self.words = machine.memory_words if machine is not None else 1 << 24
         self.items = None
         if machine is not None:
-            names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
+            names = [r.name for r in machine.visible_registers] + list(machine.groups) + list(machine.flags)
             self.items = {*names, "mem", "lamps", "out"}
 
     def fail(self, where: str, _key, message: str):

@@ -8,12 +8,12 @@ clock as parts, waveforms and wear; ``emu.commands`` the sub-commands.
 """
 
 from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,
-                          RegisterPair, Step, load_machine, machine_from_text, shipped_machines)
+                          RegisterGroup, Step, load_machine, machine_from_text, shipped_machines)
 from .engine import Emulator, Observer, StopReason
 from .errors import MachineError
 
 __all__ = [
     "Emulator", "Field", "Flag", "Instruction", "Machine", "MachineError", "OperandKind",
-    "Observer", "OperandPattern", "Phase", "Register", "RegisterPair", "Step", "StopReason",
+    "Observer", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step", "StopReason",
     "load_machine", "machine_from_text", "shipped_machines",
 ]

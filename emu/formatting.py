@@ -10,7 +10,7 @@ JSON output keeps plain numbers; this module is for text only.
 
 from __future__ import annotations
 
-__all__ = ["hex_value", "address_text", "word_text", "count_text", "duration_text", "rate_text",
+__all__ = ["hex_value", "hex_digits", "address_text", "word_text", "count_text", "duration_text", "rate_text",
            "hours_text", "size_text"]
 
 _UNITS = (("d", 86_400), ("h", 3_600), ("min", 60), ("s", 1))
@@ -18,7 +18,13 @@ _UNITS = (("d", 86_400), ("h", 3_600), ("min", 60), ("s", 1))
 
 def hex_value(value: int, bits: int) -> str:
     """``hex_value(0x6E, 16)`` → ``0x006E``: one digit per four bits, upper case."""
-    return f"0x{value:0{(bits + 3) // 4}X}"
+    return "0x" + hex_digits(value, bits)
+
+
+def hex_digits(value: int, bits: int) -> str:
+    """``hex_digits(0x6E, 16)`` → ``006E``: the same digits without the prefix, for
+    the debugger's dense panel and code views where every column is hex."""
+    return f"{value:0{(bits + 3) // 4}X}"
 
 
 def address_text(value: int, machine) -> str:

@@ -1,4 +1,4 @@
-"""Shared helpers for engine tests: the two machines and random programs.
+"""Shared helpers for engine tests: every machine file of the project, and random programs.
 
 Programs are built with the machine's own encoder, not the assembler, so
 the engine tests stand on the description alone. Address-like fields draw
@@ -10,16 +10,81 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+import pytest
 from hypothesis import strategies as st
 
 from emu import Emulator, Observer, load_machine
 
-ACC12_PATH = Path(__file__).parent / "machines" / "acc12.toml"
-MACHINES = {"ref8": load_machine("ref8"), "acc12": load_machine(ACC12_PATH)}
+ROOT = Path(__file__).resolve().parent.parent
+MACHINE_FOLDERS = (ROOT / "emu" / "machines", ROOT / "tests" / "machines")
+ACC12_PATH = ROOT / "tests" / "machines" / "acc12.toml"
+COND4_PATH = ROOT / "tests" / "machines" / "cond4.toml"
+
+
+def machine_files() -> dict[str, Path]:
+    """Every machine file under emu/machines/ and tests/machines/, by file stem.
+
+    Discovered, not listed, so a machine file added to either folder is run
+    by every property at once; two files with one stem would make the ids
+    ambiguous, so that is refused here rather than one shadowing the other.
+    """
+    found: dict[str, Path] = {}
+    for folder in MACHINE_FOLDERS:
+        for path in sorted(folder.glob("*.toml")):
+            if path.stem in found:
+                raise RuntimeError(f"two machine files named {path.stem}: {found[path.stem]} and {path}")
+            found[path.stem] = path
+    return found
+
+
+MACHINE_FILES = machine_files()
+MACHINES = {name: load_machine(path) for name, path in MACHINE_FILES.items()}
+
+
+def property_skip_reason(machine) -> str | None:
+    """Why the random-program properties cannot run on ``machine``, or None when they can.
+
+    The programs mix halting and other instructions, and the halt properties
+    (P5) need a halt; a machine lacking either is skipped with this reason.
+    """
+    if not any(i.drives_halt for i in machine.instructions):
+        return f"{machine.name} has no instruction that drives halt"
+    if all(i.drives_halt for i in machine.instructions):
+        return f"{machine.name} has only halting instructions"
+    return None
+
+
+def skip_unless_properties_run(machine) -> None:
+    reason = property_skip_reason(machine)
+    if reason is not None:
+        pytest.skip(reason)
 
 
 def machine_named(name: str):
     return MACHINES[name]
+
+
+def _plain_value(kind) -> int:
+    return 0 if kind.low <= 0 <= kind.high else kind.low
+
+
+def plain_words(ins) -> list[int]:
+    """``ins`` encoded with every field at zero (or its lowest value when zero is out of range)."""
+    return ins.encode({name: _plain_value(fld.kind) for name, fld in ins.fields.items()})
+
+
+def trivial_program(machine) -> list[int]:
+    """Each instruction once, fields at zero, ending in the machine's pause instruction.
+
+    Not a meaningful program: a smoke run that visits every instruction's
+    micro-steps on both paths (a jump to 0 only makes it loop).
+    """
+    pause = next(i for i in machine.instructions if i.mnemonic == machine.pause and not i.operands)
+    words: list[int] = []
+    for ins in machine.instructions:
+        if not ins.drives_halt:
+            words += plain_words(ins)
+    return words + plain_words(pause)
 
 
 def instruction_named(machine, display: str):
@@ -95,7 +160,7 @@ def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
 
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",
                 max_cycles=200) -> Run:
-    """Load, set ``values`` (registers, pairs, flags by name), run on the ``path`` asked for."""
+    """Load, set ``values`` (registers, groups, flags by name), run on the ``path`` asked for."""
     emulator = Emulator(machine)
     if path == "stepped":
         emulator.observe(Observer())
@@ -106,6 +171,6 @@ def run_program(machine, words, path: str, *, values=None, memory=None, switches
         emulator.set(name, value)
     emulator.switches = switches
     emulator.input_bytes = input_bytes
-    names = [r.name for r in machine.visible_registers] + list(machine.pairs) + list(machine.flags)
+    names = [r.name for r in machine.visible_registers] + list(machine.groups) + list(machine.flags)
     before = {name: emulator.get(name) for name in names}
     return Run(emulator, before, list(emulator.memory), emulator.run(max_cycles=max_cycles))

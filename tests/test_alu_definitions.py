@@ -171,7 +171,7 @@ def load_error(text: str) -> emu.MachineError:
      "[alu.addx]: 'result' reads 'd', which is no operand, flag or role (flags: z, c)"),
     (ADDX.replace('z = "result', 'q = "result'), 36,
      "[alu.addx]: produces 'q', but the machine has no flag of that name or role (flags: z, c)"),
-    (ADDX.replace('"a + b + c"', '"a + b + overflow"'), 34, "[alu.addx]: 'result' needs an overflow flag, and the machine has none"),
+    (ADDX.replace('"a + b + c"', '"a + b + overflow"'), 34, "[alu.addx]: 'result' reads the overflow flag, and the machine has none"),
     (ADDX.replace('"a + b + c"', '"a + (b"'), 34,
      "[alu.addx]: 'result': cannot read the expression at column 7\n    a + (b\n          ^"),
     (ADDX.replace('"result[w]"', '"result[a]"'), 36,

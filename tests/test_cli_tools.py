@@ -200,7 +200,7 @@ def test_isa_shows_groups_flag_meanings_and_the_alu_operations(capsys):
     each ALU operation the flags it sets (values from ref8.toml and the built-in table)."""
     code, out, _ = cli(capsys, "isa", "--brief")
     assert code == 0
-    assert "register groups (high part first): x = {r6, r7}" in out
+    assert "register groups (most significant first): x = {r6, r7}" in out
     assert "flags: z (zero), n (negative), c (carry), v (overflow); carry is a borrow after dec, sub, sbc" in out
     assert "  adc(a, b) = a + b + carry, reads c: z = result[w-1:0] == 0; n = result[w-1]; c = result[w]; " \
            "v = ((a ^ result) & (b ^ result))[w-1]" in out

@@ -50,7 +50,7 @@ def test_power_on_the_switch_is_at_stop_and_the_clock_frozen(kiln):
 
 def test_go_stops_at_the_pause_with_file_and_line_then_resume_reaches_the_halt(kiln):
     text = kiln.execute("go")
-    assert "halted by the program: pause at 000c" in text and "kiln.asm:7" in text
+    assert "halted by the program: pause at 000C" in text and "kiln.asm:7" in text
     assert kiln.emu.cycles == 94 and kiln.emu.pc == 0x0d
     # ref8 runs at a nominal 5 Hz (spec §3): 94 cycles take 18.8 s of simulated time.
     assert kiln.emu.time_ns == 94 * 200_000_000
@@ -96,8 +96,9 @@ def test_pulse_lists_each_micro_step_with_its_control_lines(kiln):
 
 
 def test_pulse_while_the_clock_runs_is_refused_with_a_reason(kiln):
-    kiln.execute("break log")
-    kiln.execute("go")
+    """Only the live view leaves the clock running between commands; this does what it does."""
+    kiln.emu.set_switch_run(True)
+    kiln.emu.run(max_cycles=5)
     assert not kiln.emu.frozen
     before = kiln.emu.snapshot_state()
     assert kiln.execute("pulse") == "error: STEP has no effect while the clock runs; 'throw stop' first"
@@ -123,12 +124,14 @@ def test_over_steps_over_a_call_in_both_clock_states(kiln, frozen):
         kiln.execute("break ramp")
         kiln.execute("throw run")
         kiln.execute("drop all")
+        kiln.emu.set_switch_run(True)  # running, as the live view can leave it
         assert not kiln.emu.frozen
     assert kiln.emu.pc == 0x05
     text = kiln.execute("over")
     assert "stepped over one instruction" in text
     assert kiln.emu.pc == 0x08 and kiln.emu.get("r1") == 1 and kiln.emu.get("r3") == 1
-    assert kiln.emu.frozen == frozen
+    # a finished step of a running clock throws the switch to STOP there
+    assert kiln.emu.frozen and not kiln.emu.switch_run
 
 
 def test_leave_returns_from_the_innermost_routine(kiln):
@@ -136,7 +139,7 @@ def test_leave_returns_from_the_innermost_routine(kiln):
     kiln.execute("go")
     assert kiln.emu.pc == 0x17
     # the stack holds the two return addresses, low byte at the lower address (spec §1)
-    assert kiln.execute("dump 0xfc 4").startswith("  00fc   16 0001 0110")
+    assert kiln.execute("dump 0xfc 4").startswith("  00FC   16 0001 0110")
     assert list(kiln.emu.memory[0xfc:0x100]) == [0x16, 0x00, 0x08, 0x00]
     text = kiln.execute("leave")
     assert "returned to the caller" in text and kiln.emu.pc == 0x16
@@ -147,16 +150,16 @@ def test_leave_returns_from_the_innermost_routine(kiln):
 def test_breakpoints_by_label_file_line_and_address(kiln):
     assert kiln.execute("break log") == "breakpoint 1 at 0012 log kiln.asm:11"
     assert kiln.execute("break kiln.asm:13") == "breakpoint 2 at 0016 log+4 kiln.asm:13"
-    assert kiln.execute("break 0x1a") == "breakpoint 3 at 001a mark+3 kiln.asm:15"
+    assert kiln.execute("break 0x1a") == "breakpoint 3 at 001A mark+3 kiln.asm:15"
     assert kiln.execute("break log").startswith("breakpoint 1 is already at")
     assert kiln.execute("points").splitlines() == [
         "  1  break  watched  0012 log kiln.asm:11", "  2  break  watched  0016 log+4 kiln.asm:13",
-        "  3  break  watched  001a mark+3 kiln.asm:15"]
+        "  3  break  watched  001A mark+3 kiln.asm:15"]
     assert "\nbreakpoint 1 at 0012 log" in kiln.execute("go")
-    assert kiln.emu.cycles == 10 and not kiln.emu.frozen
-    assert kiln.execute("go").startswith("breakpoint 3 at 001a")
+    assert kiln.emu.cycles == 10 and kiln.emu.frozen and not kiln.emu.switch_run
+    assert kiln.execute("go").splitlines()[1].startswith("breakpoint 3 at 001A")
     assert kiln.execute("drop 3") == "dropped point 3"
-    assert kiln.execute("go").startswith("breakpoint 2 at 0016")
+    assert kiln.execute("go").splitlines()[1].startswith("breakpoint 2 at 0016")
 
 
 def test_a_line_without_code_takes_the_next_line_that_has_some(kiln):
@@ -185,9 +188,9 @@ def test_watchpoints_on_a_register_and_a_memory_word(kiln):
     assert kiln.execute("watch r3") == "watchpoint 1 on r3 (now 0x0)"
     assert kiln.execute("watch [0x200]") == "watchpoint 2 on [0200] (now 0x0)"
     text = kiln.execute("go")
-    assert "\nwatchpoint 2: [0200] changed from 0x0 to 0x1 (the instruction before 001a mark+3" in text
+    assert "\nwatchpoint 2: [0200] changed from 0x0 to 0x1 (the instruction before 001A mark+3" in text
     text = kiln.execute("go")
-    assert text.startswith("watchpoint 1: r3 changed from 0x0 to 0x1")
+    assert text.splitlines()[1].startswith("watchpoint 1: r3 changed from 0x0 to 0x1")
     assert kiln.emu.pc == 0x1b
     assert kiln.execute("points").splitlines() == ["  1  watch  r3 (now 0x1)", "  2  watch  [0200] (now 0x1)"]
     assert kiln.execute("drop all") == "dropped 2 point(s)"
@@ -197,14 +200,14 @@ def test_watchpoints_on_a_register_and_a_memory_word(kiln):
 def test_a_breakpoint_right_after_a_halt_still_reports_the_halt(kiln):
     kiln.execute("break 0x0d")
     text = kiln.execute("go")
-    assert "\nhalted by the program: pause at 000c" in text
+    assert "\nhalted by the program: pause at 000C" in text
     assert "also: breakpoint 1" in text and kiln.emu.frozen
 
 
-def test_registers_show_every_visible_register_pair_and_flag(kiln):
+def test_registers_show_every_visible_register_group_and_flag(kiln):
     kiln.execute("go")
     text = kiln.execute("registers")
-    assert "r1    03      3" in text and "sp  0100    256" in text and "pc  000d     13" in text
+    assert "r1    03      3" in text and "sp  0100    256" in text and "pc  000D     13" in text
     assert text.splitlines()[-1] == "flags  z 1  n 0  c 0  v 0"
     assert "ir" not in text.split()
 
@@ -213,9 +216,9 @@ def test_dump_shows_hex_bits_and_characters_of_narrow_words_four_to_a_row(kiln):
     rows = kiln.execute("dump 8 8").splitlines()
     words = bytes(kiln.emu.memory[8:16])
     # reference: bytes.hex() and format(word, "08b") from the Python standard library
-    assert [row.split()[0] for row in rows if not row.endswith(":")] == ["0008", "000c"]
+    assert [row.split()[0] for row in rows if not row.endswith(":")] == ["0008", "000C"]
     cells = [c for row in rows if not row.endswith(":") for c in row.split("   ")[1:]]
-    assert [c.split()[0] for c in cells] == [words[i:i + 1].hex() for i in range(8)]
+    assert [c.split()[0] for c in cells] == [words[i:i + 1].hex().upper() for i in range(8)]
     assert ["".join(c.split()[1:3]) for c in cells] == [format(w, "08b") for w in words]
     assert kiln.execute("dump").startswith("  0010")
 
@@ -232,7 +235,7 @@ def test_dump_starts_at_the_address_a_register_or_pair_holds(kiln):
     kiln.execute("put x 0x0301")
     kiln.execute("put [0x301] 'k'")
     kiln.execute("put r2 0x12")
-    assert kiln.execute("dump [x] 1") == "  0301   6b 0110 1011 k"
+    assert kiln.execute("dump [x] 1") == "  0301   6B 0110 1011 k"
     assert kiln.execute("dump [r2] 1").splitlines() == ["log:", "  0012   69 0110 1001 i"]
     assert kiln.execute("dump [0x301] 1") == kiln.execute("dump [x] 1")
     assert kiln.execute("dump [nothing]") == "error: no label 'nothing' in the program"
@@ -322,7 +325,7 @@ def test_scope_after_a_long_run_is_replayed_from_a_checkpoint(tmp_path):
     assert text.startswith("cycles 299,999 to 300,000 (the run before them was not traced)")
 
 
-def test_put_sets_registers_pairs_flags_and_memory(kiln):
+def test_put_sets_registers_groups_flags_and_memory(kiln):
     assert kiln.execute("put r0 0x7f") == "r0 = 0x7f (127)"
     assert kiln.execute("put x 0x1234") == "x = 0x1234 (4660)"
     assert (kiln.emu.get("r6"), kiln.emu.get("r7")) == (0x12, 0x34)
@@ -375,21 +378,22 @@ def test_a_snapshot_of_another_machine_is_refused(kiln, tmp_path):
 
 def test_toggles_are_read_by_the_program(tmp_path):
     session = session_for(tmp_path, "in r0, 0\nhalt\n")
-    assert session.execute("toggles 0b10100101") == "toggles 10100101 = a5 = 165"
+    assert session.execute("toggles 0b10100101") == "toggles 10100101 = A5 = 165"
     session.execute("go")
     assert session.emu.get("r0") == 0xA5
-    assert session.execute("toggles") == "toggles 10100101 = a5 = 165"
+    assert session.execute("toggles") == "toggles 10100101 = A5 = 165"
     assert session.execute("toggles 0x1ff") == "error: the toggles take 0…255, not 511"
     assert session.execute("toggles 1 2") == "error: usage: toggles [VALUE]"
 
 
 def test_throw_stop_lets_the_clock_carry_on_to_the_hold_point(kiln):
     assert kiln.execute("throw stop").startswith("the switch is already at STOP")
-    kiln.execute("break log")
-    kiln.execute("go")
+    kiln.execute("go 3")
+    kiln.emu.set_switch_run(True)  # running, as the live view can leave it
     text = kiln.execute("throw stop")
-    assert "ran on 0 cycle(s) to the hold point: frozen: the switch is at STOP" in text
-    assert kiln.emu.frozen and kiln.execute("pulse").startswith("pulse 1: fetch")
+    # released, the generator passes the hold point it stood at and stops at the next
+    assert "ran on 1 cycle(s) to the hold point: frozen: the switch is at STOP" in text
+    assert kiln.emu.frozen and kiln.execute("pulse").startswith("pulse 1: li step 3")
 
 
 def test_throw_run_with_the_latch_set_leaves_the_clock_frozen(kiln):
@@ -403,14 +407,14 @@ def test_throw_run_with_the_latch_set_leaves_the_clock_frozen(kiln):
 def test_resume_at_stop_clears_the_latch_but_the_clock_stays_frozen(kiln):
     kiln.execute("go")
     kiln.execute("throw stop")
-    assert kiln.execute("resume") == "halt latch clear; frozen: the switch is at STOP"
+    assert kiln.execute("resume") == "halt latch clear; frozen: the switch is at STOP (state STOP)"
     assert not kiln.emu.halt_latch and kiln.emu.frozen
 
 
 def test_reset_keeps_registers_and_memory(kiln):
     kiln.execute("go")
     kiln.execute("throw stop")
-    assert kiln.execute("reset") == "reset: pc 0; frozen: the switch is at STOP"
+    assert kiln.execute("reset") == "reset: pc 0; frozen: the switch is at STOP (state STOP)"
     assert kiln.emu.pc == 0 and kiln.emu.get("r1") == 3 and kiln.emu.get("z") == 0
     assert kiln.emu.memory[0x200] == 3
 
@@ -419,7 +423,7 @@ def test_reset_at_run_restarts_a_frozen_clock(kiln):
     kiln.execute("go")
     text = kiln.execute("reset")
     assert text.startswith("reset: pc 0; the clock runs")
-    assert "pause at 000c" in text
+    assert "pause at 000C" in text
 
 
 @pytest.mark.parametrize("name", ["resume", "reset", "over", "leave", "points", "registers",
@@ -446,11 +450,11 @@ def test_counts_and_factors_are_checked(kiln, line, message):
     assert refused(kiln, line) == message
 
 
-def test_go_with_a_cycle_limit_holds_the_clock_between_commands(kiln):
+def test_go_with_a_cycle_limit_throws_the_switch_to_stop_there(kiln):
     text = kiln.execute("go 7")
-    assert text.splitlines()[1] == "cycle limit of 7 cycles reached; the clock is held between two commands"
-    assert kiln.emu.cycles == 7 and not kiln.emu.frozen
-    assert kiln.execute("why").splitlines()[1].startswith("clock running, held by the debugger")
+    assert text.splitlines()[1] == "cycle limit of 7 cycles reached; the switch is thrown to STOP there"
+    assert kiln.emu.cycles == 7 and kiln.emu.frozen and not kiln.emu.switch_run
+    assert kiln.execute("why").splitlines()[1].startswith("frozen: the switch is at STOP (state STOP). inside:")
 
 
 def test_live_asks_the_terminal_for_the_live_view(kiln):
@@ -494,12 +498,12 @@ def test_help_lists_every_command_and_explains_one(kiln):
 
 def test_unknown_commands_get_a_hint_and_prefixes_work(kiln):
     assert kiln.execute("registr").startswith("error: unknown command 'registr' (did you mean 'registers'")
-    assert kiln.execute("re") == "error: 're' could be registers, reset, resume"
+    assert kiln.execute("re") == "error: 're' could be registers, reset, restart, resume"
     assert kiln.execute("reg").startswith("r0")
 
 
 def test_completion_of_commands_registers_labels_and_points(kiln):
-    assert kiln.complete("re") == ["registers", "reset", "resume"]
+    assert kiln.complete("re") == ["registers", "reset", "restart", "resume"]
     assert kiln.complete("put r") == ["r0", "r1", "r2", "r3", "r4", "r5", "r6", "r7"]
     assert kiln.complete("break ma") == ["mark"]
     assert kiln.complete("watch [r") == ["[ramp]"]
@@ -536,7 +540,7 @@ def test_acc12_has_no_call_so_over_is_one_instruction_and_leave_is_refused(gauge
     assert gauge.execute("over").startswith("stepped over one instruction")
     assert gauge.emu.pc == 1
     assert gauge.execute("leave") == ("error: acc12 has no return instruction "
-                                      "(none loads pc from memory at a stack register)")
+                                      "(none is marked 'returns = true', and none loads pc from memory at a stack register)")
 
 
 def test_acc12_views_use_its_own_widths_and_names(gauge):
@@ -544,7 +548,7 @@ def test_acc12_views_use_its_own_widths_and_names(gauge):
     assert text.splitlines() == ["acc  000      0   pc    00      0", "flags  zf 0  lk 0"]
     # acc12's 12-bit words: hex only, eight to a row, each label heading its own row
     assert gauge.execute("dump 0 8").splitlines() == [
-        "start:", "  00   903", "tick:", "  01   408   704   601", "done:", "  04   f00   905   a01   f00"]
+        "start:", "  00   903", "tick:", "  01   408   704   601", "done:", "  04   F00   905   A01   F00"]
     assert "ring        ○ ● ○ ○ ○" in gauge.execute("panel")
     assert gauge.execute("put acc 4095") == "acc = 0xfff (4095)"
     assert gauge.execute("put acc 4096").startswith("error: 4096 does not fit acc")

@@ -91,7 +91,7 @@ def test_a_long_list_of_moves_is_cut_short_when_planting_and_listed_whole_by_poi
     assert told.splitlines()[-1] == "  … and 4 more ('points' lists them all)"
     assert "  step0            0001 → 0002  (+1, code label)" in told
     listed = counter.execute("points").splitlines()
-    assert len(listed) == 1 + 1 + 12 and listed[-1] == "  step11           000c → 000d  (+1, code label)"
+    assert len(listed) == 1 + 1 + 12 and listed[-1] == "  step11           000C → 000D  (+1, code label)"
 
 
 def test_drop_all_takes_every_planted_halt_out(tmp_path):

@@ -10,9 +10,10 @@ from hypothesis import strategies as st
 
 from emu import Emulator, MachineError, Observer
 
-from engine_support import MACHINES, boot, datapath_state, encode, programs
+from engine_support import MACHINES, boot, datapath_state, encode, plain_words, programs, skip_unless_properties_run
 
-BOTH = pytest.mark.parametrize("machine_name", ["ref8", "acc12"])
+EVERY_MACHINE = pytest.mark.parametrize("machine_name", MACHINES)
+"""Every machine file under emu/machines/ and tests/machines/, as engine_support finds them."""
 
 
 def _full_state(emu: Emulator) -> tuple:
@@ -31,12 +32,17 @@ def _run_resuming(emu: Emulator, cycles: int) -> list[str]:
     return reasons
 
 
-@BOTH
-@settings(max_examples=60, deadline=None)
-@given(data=st.data(), cycles=st.integers(1, 3000))
-def test_fused_and_stepping_agree_on_state_cycles_and_time(machine_name, data, cycles):
+@EVERY_MACHINE
+def test_fused_and_stepping_agree_on_state_cycles_and_time(machine_name):
     """P6: with an observer attached the engine steps phase by phase; without, it fuses."""
     machine = MACHINES[machine_name]
+    skip_unless_properties_run(machine)
+    _fused_and_stepping_agree(machine)
+
+
+@settings(max_examples=60, deadline=None)
+@given(data=st.data(), cycles=st.integers(1, 3000))
+def _fused_and_stepping_agree(machine, data, cycles):
     words = data.draw(programs(machine))
     fast, stepped = boot(machine, words), boot(machine, words)
     stepped.observe(Observer())
@@ -44,13 +50,17 @@ def test_fused_and_stepping_agree_on_state_cycles_and_time(machine_name, data, c
     assert _full_state(fast) == _full_state(stepped)
 
 
-@BOTH
-@settings(max_examples=40, deadline=None)
-@given(data=st.data(), before=st.integers(0, 1500), after=st.integers(1, 1500), stop=st.booleans())
-def test_snapshot_restore_continues_like_an_uninterrupted_run(machine_name, data, before, after, stop,
-                                                              tmp_path_factory):
+@EVERY_MACHINE
+def test_snapshot_restore_continues_like_an_uninterrupted_run(machine_name, tmp_path_factory):
     """P7: snapshot, restore, run equals one uninterrupted run, frozen or not."""
     machine = MACHINES[machine_name]
+    skip_unless_properties_run(machine)
+    _snapshot_restore_continues(machine, tmp_path_factory)
+
+
+@settings(max_examples=40, deadline=None)
+@given(data=st.data(), before=st.integers(0, 1500), after=st.integers(1, 1500), stop=st.booleans())
+def _snapshot_restore_continues(machine, tmp_path_factory, data, before, after, stop):
     words = data.draw(programs(machine))
     whole, first = boot(machine, words), boot(machine, words)
     for emu in (whole, first):
@@ -106,13 +116,12 @@ def test_acc12_halt_on_the_first_pulse_freezes_at_the_boundary():
     assert emu.at_instruction_boundary and emu.cycles == 2 and emu.pc == 1
 
 
-@BOTH
+@EVERY_MACHINE
 def test_steps_work_while_halted_and_the_latch_stays_set(machine_name):
     machine = MACHINES[machine_name]
-    halt = machine.pause
-    words = encode(machine, halt) + encode(machine, "inc rd", rd=0) if machine_name == "ref8" \
-        else encode(machine, halt) + encode(machine, "bump")
-    emu = boot(machine, words)
+    skip_unless_properties_run(machine)
+    after = next(i for i in machine.instructions if not i.drives_halt)
+    emu = boot(machine, encode(machine, machine.pause) + plain_words(after))
     emu.run(max_cycles=100)
     cycles, index = emu.cycles, emu.phase_index
     assert emu.press_step() and emu.press_step()

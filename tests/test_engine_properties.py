@@ -1,8 +1,9 @@
 """Properties of the clock, the control unit and the two execution paths (P1–P7).
 
-Each runs on both machines: ref8 (a hold point after every pulse) and acc12
-(a hold point after every other pulse), so nothing here holds by accident of
-one phase table.
+Each runs on every machine file under emu/machines/ and tests/machines/
+(engine_support discovers them): among them ref8 (a hold point after every
+pulse) and acc12 (a hold point after every other pulse), so nothing here
+holds by accident of one phase table.
 
 The reference for "what the program does" is a second emulator running free
 on the fast path, resuming by itself at every halt and recording the state
@@ -21,7 +22,7 @@ from hypothesis.stateful import RuleBasedStateMachine, initialize, invariant, pr
 
 from emu import Emulator, Observer
 
-from engine_support import MACHINES, boot, datapath_state, programs
+from engine_support import MACHINES, boot, datapath_state, programs, skip_unless_properties_run
 
 SETTINGS = settings(max_examples=40, stateful_step_count=40, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
@@ -270,25 +271,16 @@ class PanelMachine(RuleBasedStateMachine):
         assert emu.pc == past % self.machine.memory_words, "pc is not just past the halt (and the fetches after it)"
 
 
-class Ref8Stepping(PanelMachine):
-    machine_name, observed = "ref8", True
+def _panel_machine(name: str, observed: bool) -> type[PanelMachine]:
+    """The panel state machine on one machine file, stepping (observed) or fused."""
+    return type(f"{name}_{'stepping' if observed else 'fast'}", (PanelMachine,),
+                {"machine_name": name, "observed": observed})
 
 
-class Ref8Fast(PanelMachine):
-    machine_name, observed = "ref8", False
-
-
-class Acc12Stepping(PanelMachine):
-    machine_name, observed = "acc12", True
-
-
-class Acc12Fast(PanelMachine):
-    machine_name, observed = "acc12", False
-
-
-@pytest.mark.parametrize("panel_machine", [Ref8Stepping, Ref8Fast, Acc12Stepping, Acc12Fast],
-                         ids=["ref8-stepping", "ref8-fast", "acc12-stepping", "acc12-fast"])
-def test_panel_actions_keep_the_program_semantics(panel_machine):
-    case = panel_machine.TestCase
+@pytest.mark.parametrize("machine_name", MACHINES)
+@pytest.mark.parametrize("observed", [True, False], ids=["stepping", "fast"])
+def test_panel_actions_keep_the_program_semantics(machine_name, observed):
+    skip_unless_properties_run(MACHINES[machine_name])
+    case = _panel_machine(machine_name, observed).TestCase
     case.settings = SETTINGS
     case("runTest").runTest()

@@ -65,7 +65,7 @@ CASES = {
     ),
     "unknown section": (
         ref8_with("[fetch]", "[fecth]"),
-        "top level: unknown key 'fecth' (expected one of: machine, registers, internal, pairs, flags, "
+        "top level: unknown key 'fecth' (expected one of: machine, registers, internal, groups, flags, "
         "operands, ports, clock, fetch, instruction, assembler, timing, wear, alu)",
     ),
     "overlapping encodings": (
@@ -134,11 +134,11 @@ CASES = {
         ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd <- mem[x]; rd <- t"]'),
         "instruction 'ld rd, [x]' step 2: writes rd twice in one micro-step",
     ),
-    "a register written twice through its pair": (
+    "a register written twice through its group": (
         ref8_with('steps = ["pc <- x"]', 'steps = ["x <- {u, t}; r6 <- t"]'),
         "instruction 'jmp x' step 2: writes r6 twice in one micro-step; also written as x",
     ),
-    "a pair written after its half": (
+    "a group written after one of its parts": (
         ref8_with('steps = ["pc <- x"]', 'steps = ["r7 <- t; x <- {u, t}"]'),
         "instruction 'jmp x' step 2: writes r7 twice in one micro-step (x includes r7)",
     ),
@@ -203,13 +203,13 @@ CASES = {
     "unreadable fetch step": (
         ref8_with('steps = ["ir <- mem[pc]; pc <- pc + 1"]', 'steps = ["ir <- mem[pc] pc <- pc + 1"]'),
         "[fetch] step 1: cannot read micro-step at column 15 "
-        "(expected ':', ',', '-', '+', '}', ')', ']', ';', 'sets')\n"
+        "(expected '&', '^', ':', ',', '[', '-', '+', '?', '}', ')', ']', ';', 'sets', '|')\n"
         "    ir <- mem[pc] pc <- pc + 1\n"
         "                  ^",
     ),
-    "an empty micro-step": (
-        ref8_with('steps = ["rd <- mem[x]"]', 'steps = [" "]'),
-        "instruction 'ld rd, [x]' step 2: a micro-step must hold at least one statement",
+    "idle beside a transfer": (
+        ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["idle; rd <- mem[x]"]'),
+        "instruction 'ld rd, [x]' step 2: 'idle' cannot stand with statements that transfer or drive something",
     ),
     "halt driven twice": (
         ref8_with('steps = ["halt"]', 'steps = ["halt; halt"]'),
@@ -257,8 +257,8 @@ LINES = {
     "a flag the operation does not produce": 326,
     "sets without an ALU operation": 129,
     "a register written twice": 275,
-    "a register written twice through its pair": 129,
-    "a pair written after its half": 129,
+    "a register written twice through its group": 129,
+    "a group written after one of its parts": 129,
     "a flag written twice": 316,
     "a value too wide for its register": 129,
     "an encoding word too short": 274,
@@ -273,7 +273,7 @@ LINES = {
     "more fetches than encoding words": 274,
     "unreadable micro-step": 275,
     "unreadable fetch step": 102,
-    "an empty micro-step": 275,
+    "idle beside a transfer": 275,
     "halt driven twice": 115,
     "pause naming a non-halting instruction": 67,
     "bad output device": 61,
@@ -402,8 +402,8 @@ def test_a_tiny_hand_written_machine_loads_and_runs():
 @pytest.mark.parametrize(("old", "new", "message"), [
     ('pc = 4\n', '', "2: error: [machine]: 'program_counter' names 'pc', which is not a register"),
     ('ir = 4', 'ir = 3', "12: error: [machine]: the instruction register 'ir' must be 4 bits wide (data_bits)"),
-    ('z = "zero"', 'z = "sign"', "15: error: [flags] z: a flag's role must be one of zero, negative, carry, overflow, "
-                                 "not 'sign'"),
+    ('z = "zero"', 'z = "sign"', "15: error: [flags] z: a flag's role must be one of zero, negative, carry, overflow "
+                                 "(set by the ALU) or 'plain' (a 1-bit register transfers write), not 'sign'"),
     ('ms = 10\nhold', 'ms = -1\nhold', "32: error: [[clock.phase]] 2 ('phase2'): 'ms' must be a positive number of "
                                        "milliseconds, not -1"),
     ('level = 1\nms = 10', 'level = 0\nms = 10', "23: error: [clock]: the phase table needs at least one high "
@@ -413,11 +413,14 @@ def test_a_tiny_hand_written_machine_loads_and_runs():
                                                    "alone must tell instructions apart"),
     ('steps = ["a <- n"]', 'steps = ["a <- n; out(n, a); out(n, a)"]',
      "46: error: instruction 'put n' step 2: two port transfers in one micro-step (there is one I/O bus)"),
-    ('steps = ["a <- n"]', 'steps = ["a <- z"]',
-     "46: error: instruction 'put n' step 2: flag 'z' can only be read as a condition (flag ? a : b)"),
+    ('steps = ["a <- n"]', 'steps = ["a <- n + 0xF0"]',
+     "46: error: instruction 'put n' step 2: the constant 240 does not fit the 2 bits of the value it is "
+     "added to or taken from"),
+    ('steps = ["a <- n"]', 'steps = ["a <- 0x1F"]',
+     "46: error: instruction 'put n' step 2: 'a' holds 4 bits but the value written to it has 5"),
     ('steps = ["a <- n"]', 'steps = ["a <- add(a, n) sets z"]\n\n[[instruction]]\nsyntax = "put n:n"\n'
                            'encoding = ["10 n"]\nsteps = ["a <- adc(a, n) sets z"]',
-     "51: error: instruction 'put n' step 2: adc needs a carry flag, and the machine has none"),
+     "51: error: instruction 'put n' step 2: adc reads the carry flag, and the machine has none"),
     ('syntax = "stop"', 'syntax = "stop n:m"',
      "39: error: instruction 'stop n': unknown operand kind 'm' (kinds: n)"),
 ])
@@ -431,7 +434,8 @@ def test_tiny_machine_errors(old, new, message):
 # ----- no edit of a valid file gives a traceback ----------------------------------------------
 
 WRONG_VALUES = ['"zz"', "[1, 2]", "-3", "{ a = 1 }", "true", "2.5"]
-TEXTS = {"ref8": REF8_TEXT, "acc12": ACC12_PATH.read_text(encoding="utf-8")}
+TEXTS = {"ref8": REF8_TEXT, "acc12": ACC12_PATH.read_text(encoding="utf-8"),
+         "cond4": (ACC12_PATH.parent / "cond4.toml").read_text(encoding="utf-8")}
 
 
 @pytest.mark.parametrize("name", list(TEXTS))

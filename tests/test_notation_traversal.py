@@ -15,23 +15,28 @@ from hypothesis import given, strategies as st
 
 import emu
 from emu.description import StepChecker
-from emu.description.notation import (Assign, Call, Choose, Const, Expression, FlagsOnly, Halt, Input, Join, Mem,
-                                      Name, Offset, Output, StatementNode, parse_step, value_width, walk)
+from emu.description.notation import (Assign, Call, Choose, Condition, Const, Expression, Extend, FlagsOnly, Halt,
+                                      Idle, Input, Join, Logic, Mem, Name, Not, Offset, Output, Slice, StatementNode,
+                                      parse_step, value_width, walk)
 from emu.engine import compile_machine
 
 names = st.sampled_from(["pc", "t", "rd", "x"]).map(Name)
 leaves = names | st.integers(0, 255).map(Const)
+conditions = st.recursive(st.sampled_from(["z", "c", "cs"]).map(Name), lambda inner: st.one_of(
+    inner.map(Not), st.builds(Logic, st.sampled_from("&^|"), inner, inner)), max_leaves=4).map(Condition)
 expressions = st.recursive(leaves, lambda inner: st.one_of(
-    inner.map(Mem), inner.map(Input), st.builds(Join, inner, inner),
+    inner.map(Mem), inner.map(Input), st.lists(inner, min_size=2, max_size=4).map(lambda p: Join(tuple(p))),
     st.builds(Offset, inner, st.integers(-3, 3)),
-    st.builds(Choose, st.sampled_from("zc"), st.booleans(), inner, inner),
+    st.builds(Slice, inner, st.integers(0, 7), st.integers(0, 7)),
+    st.builds(Extend, inner, st.integers(1, 16), st.booleans()),
+    st.builds(Choose, conditions, inner, inner),
     st.lists(inner, min_size=1, max_size=2).map(lambda args: Call("add", tuple(args))),
 ), max_leaves=12)
 statements = st.one_of(
     st.builds(Assign, names | expressions.map(Mem), expressions, st.just(("z",))),
     st.builds(FlagsOnly, st.lists(expressions, min_size=2, max_size=2).map(lambda a: Call("sub", tuple(a))),
               st.just(("z", "c"))),
-    st.builds(Output, expressions, expressions), st.just(Halt()))
+    st.builds(Output, expressions, expressions), st.just(Halt()), st.just(Idle()))
 
 
 def size(node) -> int:
@@ -62,8 +67,9 @@ def test_walk_of_a_statement_yields_what_it_reads_not_what_it_writes():
 
 
 def test_rebuilding_keeps_the_fields_that_are_not_nodes():
-    assert Choose("z", True, Name("a"), Name("b")).with_children(Const(1), Const(2)) == \
-        Choose("z", True, Const(1), Const(2))
+    assert Slice(Name("a"), 7, 4).with_children(Name("b")) == Slice(Name("b"), 7, 4)
+    assert Extend(Name("a"), 12, True).with_children(Name("b")) == Extend(Name("b"), 12, True)
+    assert Logic("^", Name("a"), Name("b")).with_children(Name("c"), Name("d")) == Logic("^", Name("c"), Name("d"))
     assert Offset(Name("pc"), -2).with_children(Name("x")) == Offset(Name("x"), -2)
     assert Assign(Name("t"), Call("add", (Name("t"), Const(1))), ("z", "c")).with_children(
         Name("pc"), Const(3)) == Assign(Name("pc"), Const(3), ("z", "c"))
@@ -90,7 +96,7 @@ def test_a_made_up_statement_is_refused_by_the_design_rule_checker():
 def test_a_made_up_expression_is_refused_by_the_width_rule():
     m = emu.load_machine("ref8")
     with pytest.raises(TypeError, match="Chirp is not a kind of micro-step node"):
-        value_width(Join(Name("t"), Chirp()), m.registers, m.pairs, {}, m.data_bits)
+        value_width(Join((Name("t"), Chirp())), m, {})
 
 
 def test_a_made_up_node_is_refused_by_walk():

@@ -14,18 +14,20 @@ import sys
 from ..description import Machine, load_machine
 from ..description.notation import NUMBER_FORMS, decode_escapes, parse_number
 from ..formatting import hex_value
-from ..runs import ProgramError
+from ..runs import DEFAULT_MACHINE, MachineChooser, ProgramError
 from ..runs import panel_path_for, read_panel_file
 
 __all__ = [
     "add_machine_option", "add_panel_options", "input_stream", "panel_settings", "keep_parser", "usage_error", "number", "seed", "cycle_count",
-    "memory_range", "check_word", "check_range", "machine_from", "print_program_error",
+    "memory_range", "check_word", "check_range", "machine_from", "machine_for_program", "print_program_error",
 ]
 
 
-def add_machine_option(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--machine", metavar="FILE", default="ref8",
-                        help="machine description: a shipped name or a .toml file (default: ref8)")
+def add_machine_option(parser: argparse.ArgumentParser, *, per_program: bool = False) -> None:
+    default = ("the program's .machine directive, else its panel file's machine, else ref8" if per_program
+               else DEFAULT_MACHINE)
+    parser.add_argument("--machine", metavar="FILE", default=None,
+                        help=f"machine description: a shipped name or a .toml file (default: {default})")
 
 
 def add_panel_options(parser: argparse.ArgumentParser) -> None:
@@ -141,8 +143,17 @@ def check_range(args, option: str, dump: tuple[str, int, int], machine: Machine)
 
 
 def machine_from(args) -> Machine:
-    """The machine named by ``--machine``; a bad file raises MachineError (exit 1)."""
-    return load_machine(args.machine)
+    """The machine named by ``--machine`` (default ref8); a bad file raises MachineError (exit 1)."""
+    return load_machine(args.machine or DEFAULT_MACHINE)
+
+
+def machine_for_program(args, program_path) -> Machine:
+    """``--machine``, else the machine the program or its panel file names, else ref8.
+
+    A name that is no machine raises ProgramError at its place; a machine
+    file that does not load raises MachineError (both exit 1).
+    """
+    return MachineChooser(args.machine).machine_for(program_path)
 
 
 def print_program_error(exc: ProgramError) -> int:

@@ -16,7 +16,8 @@ import asm
 
 from ..files import write_together
 from ..formatting import count_text
-from ._options import add_machine_option, keep_parser, machine_from, usage_error
+from ..runs import ProgramError
+from ._options import add_machine_option, keep_parser, machine_for_program, usage_error
 
 SUMMARY = "assemble a program into Intel HEX or a raw binary, a listing and a debug file"
 
@@ -26,7 +27,7 @@ _FORMATS = ("bin", "hex")
 
 def add_arguments(parser) -> None:
     parser.add_argument("source", metavar="SOURCE", help="assembly source file")
-    add_machine_option(parser)
+    add_machine_option(parser, per_program=True)
     parser.add_argument("-o", "--out", metavar="FILE",
                         help="the image file (default: SOURCE with .hex, or .bin with --format bin)")
     parser.add_argument("--format", choices=_FORMATS,
@@ -48,8 +49,12 @@ def image_format(args) -> str:
 
 
 def main(args) -> int:
-    machine = machine_from(args)
     source = Path(args.source)
+    try:
+        machine = machine_for_program(args, source)
+    except ProgramError as exc:
+        print(str(exc), file=sys.stderr)
+        return 1
     if args.out and Path(args.out).resolve() == source.resolve():
         usage_error(args, "argument -o/--out: the image would overwrite the source file")
     try:

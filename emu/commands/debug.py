@@ -7,14 +7,14 @@ import sys
 from emu.runs import ProgramError
 from emu.runs import panel_path_for
 
-from ._options import add_machine_option, add_panel_options, keep_parser, machine_from, panel_settings
+from ._options import add_machine_option, add_panel_options, keep_parser, machine_for_program, panel_settings
 
 SUMMARY = "debug a program at the machine's panel in the terminal"
 
 
 def add_arguments(parser) -> None:
     parser.add_argument("program", metavar="PROGRAM", help="assembly source, Intel HEX or raw binary")
-    add_machine_option(parser)
+    add_machine_option(parser, per_program=True)
     add_panel_options(parser)
     keep_parser(parser)
 
@@ -22,8 +22,8 @@ def add_arguments(parser) -> None:
 def main(args) -> int:
     from emu.debugger import Session, load_view, run_repl, run_script
 
-    machine = machine_from(args)
     try:
+        machine = machine_for_program(args, args.program)
         view = load_view(args.program, machine)
         switches, data = panel_settings(args, args.program, machine)
     except ProgramError as exc:

@@ -14,14 +14,15 @@ from pathlib import Path
 import asm
 
 from ..files import write_atomic
-from ._options import add_machine_option, keep_parser, machine_from
+from ..runs import ProgramError
+from ._options import add_machine_option, keep_parser, machine_for_program
 
 SUMMARY = "disassemble an Intel HEX or raw binary image, with labels from its debug file"
 
 
 def add_arguments(parser) -> None:
     parser.add_argument("image", metavar="IMAGE", help="Intel HEX or raw binary image")
-    add_machine_option(parser)
+    add_machine_option(parser, per_program=True)
     names = parser.add_mutually_exclusive_group()
     names.add_argument("--debug", metavar="FILE", help="debug file to take labels from (default: beside IMAGE)")
     names.add_argument("--no-debug", action="store_true", help="ignore any debug file")
@@ -49,7 +50,11 @@ def disassembly(args, machine) -> str:
 
 
 def main(args) -> int:
-    machine = machine_from(args)
+    try:
+        machine = machine_for_program(args, args.image)
+    except ProgramError as exc:
+        print(str(exc), file=sys.stderr)
+        return 1
     try:
         text = disassembly(args, machine)
         if args.out:

@@ -12,7 +12,7 @@ import json
 import sys
 
 from ..engine import compile_machine
-from ..description import ALU_OPS, Instruction, Machine, resolve_flag
+from ..description import ALU_OPS, PORT_DEVICES, Instruction, Machine, resolve_flag
 from ..description.notation import Call, walk
 from ..formatting import rate_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
@@ -77,7 +77,7 @@ def datapath_json(machine: Machine) -> dict:
     """Register groups, flag meanings and the ALU operations: what a programmer needs besides the table."""
     return {
         "registers": {r.name: r.width for r in machine.visible_registers},
-        "groups": {name: [pair.high, pair.low] for name, pair in machine.pairs.items()},
+        "groups": {name: list(group.parts) for name, group in machine.groups.items()},
         "flags": {name: flag.role for name, flag in machine.flags.items()},
         "alu": [{
             "name": op.name, "operands": op.arity, "result": op.texts["result"],
@@ -94,7 +94,7 @@ def datapath_text(machine: Machine) -> list[str]:
     summary = datapath_json(machine)
     lines = ["registers: " + ", ".join(f"{name} ({bits} bits)" for name, bits in summary["registers"].items())]
     if summary["groups"]:
-        lines.append("register groups (high part first): " + ", ".join(
+        lines.append("register groups (most significant first): " + ", ".join(
             f"{name} = {{{', '.join(parts)}}}" for name, parts in summary["groups"].items()))
     borrows = [op.name for op in alu_ops_used(machine)
                if op.name in ("sub", "sbc", "dec") and op == ALU_OPS[op.name]]
@@ -111,6 +111,18 @@ def datapath_text(machine: Machine) -> list[str]:
     return lines
 
 
+def port_lines(machine: Machine) -> list[str]:
+    """One line per wired port: its number, its device and what the device promises."""
+    lines = []
+    for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out)):
+        for number, name in sorted(wired.items()):
+            device = PORT_DEVICES[name]
+            ending = f"; past the end of input it {device.at_end_of_input}" if device.at_end_of_input else ""
+            wide = device.wide_values.format(bits=machine.data_bits)
+            lines.append(f"  {direction:<3} {number:>3}  {name:<12} {device.does}{ending}; wider: {wide}")
+    return lines
+
+
 def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     def steps(seq):
         return [{"text": s.text, "control_lines": list(s.control_lines)} for s in seq]
@@ -119,6 +131,9 @@ def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
         "address_bits": machine.address_bits, "memory_words": machine.memory_words,
         "nominal_hz": machine.nominal_hz, "pause": machine.pause, **datapath_json(machine),
         "fetch": steps(machine.fetch),
+        "ports": [{"direction": direction, "port": number, "device": name}
+                  for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out))
+                  for number, name in sorted(wired.items())],
         "instructions": [{
             "syntax": ins.display, "mnemonic": ins.mnemonic, "encoding": encoding_words(ins, machine),
             "words": ins.word_count, "cycles": ins.cycles(machine),
@@ -140,6 +155,9 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
     ]
     lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(machine.fetch, 1)]
+    ports = port_lines(machine)
+    if ports:
+        lines += ["ports:"] + ports
     lines.append("")
     syntax_width = max([len(i.display) for i in instructions] + [11])
     encodings = {ins.index: " | ".join(encoding_words(ins, machine)) for ins in instructions}

@@ -19,7 +19,7 @@ from ..runs import format_summary
 from ..formatting import address_text, count_text, duration_text, rate_text
 from ..timing import count_wear, format_wear, record_vcd, spread_source
 from ._options import (add_machine_option, add_panel_options, check_range, cycle_count, cycle_start, keep_parser,
-                       machine_from, memory_range, panel_settings, print_program_error, seed,
+                       machine_for_program, memory_range, panel_settings, print_program_error, seed,
                        usage_error)
 
 SUMMARY = "run a program headless and report the machine at its halt"
@@ -31,7 +31,7 @@ EXIT_INTERRUPTED = 130
 
 def add_arguments(parser) -> None:
     parser.add_argument("program", metavar="PROGRAM", help="assembly source, Intel HEX or raw binary")
-    add_machine_option(parser)
+    add_machine_option(parser, per_program=True)
     parser.add_argument("--max-cycles", metavar="N", type=cycle_count, default=DEFAULT_MAX_CYCLES,
                         help=f"cycle limit for the whole run (default {DEFAULT_MAX_CYCLES:,})")
     add_panel_options(parser)
@@ -59,7 +59,10 @@ def _warn(message: str) -> None:
 
 
 def main(args) -> int:
-    machine = machine_from(args)
+    try:
+        machine = machine_for_program(args, args.program)
+    except ProgramError as exc:
+        return print_program_error(exc)
     if args.vcd is None and (args.vcd_from or args.vcd_cycles is not None):
         usage_error(args, "argument --vcd-from/--vcd-cycles: only with --vcd FILE")
     for dump in args.dump:

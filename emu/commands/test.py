@@ -13,7 +13,8 @@ import sys
 
 from ._progress import Progress, terminal_attached
 from ..formatting import count_text, duration_text, hex_value
-from ..runs import PROGRAM_SUFFIX, Verdict, check_program, collect_programs
+from ..errors import RelaybenchError
+from ..runs import PROGRAM_SUFFIX, MachineChooser, Verdict, check_program, collect_programs
 from ._options import add_machine_option, cycle_count, keep_parser, machine_from
 
 SUMMARY = "run programs and check their .expect lines; exit 0 when all pass"
@@ -22,7 +23,7 @@ SUMMARY = "run programs and check their .expect lines; exit 0 when all pass"
 def add_arguments(parser) -> None:
     parser.add_argument("paths", metavar="PROGRAM|DIR", nargs="+",
                         help=f"program files, or folders searched for *{PROGRAM_SUFFIX} at any depth")
-    add_machine_option(parser)
+    add_machine_option(parser, per_program=True)
     parser.add_argument("--max-cycles", metavar="N", type=cycle_count, default=None,
                         help="cycle limit of each program (default: its panel file's, else 50,000,000)")
     parser.add_argument("--json", action="store_true", help="print one JSON object with every verdict")
@@ -40,12 +41,15 @@ def _one_line(text: str) -> str:
     return text.replace("\\", "\\\\").replace("\n", "\\n").replace("\r", "\\r").replace("\t", "\\t")
 
 
-def verdict_lines(verdict: Verdict, machine) -> list[str]:
+def verdict_lines(verdict: Verdict, machine, *, name_machine: bool = False) -> list[str]:
+    """The verdict's lines; ``name_machine`` adds the machine (when a batch runs on more than one)."""
+    on = f" on {machine.name}" if name_machine and machine is not None else ""
     if verdict.error is not None:
-        return [f"FAIL  {verdict.path}: cannot run it", *("      " + row for row in verdict.error.splitlines())]
+        return [f"FAIL  {verdict.path}{on}: cannot run it",
+                *("      " + row for row in verdict.error.splitlines())]
     time = f"{count_text(verdict.cycles, 'cycle')} ≈ {duration_text(verdict.sim_seconds)}"
     checks = f"{count_text(verdict.checks_run, 'check')} at {count_text(verdict.halts, 'halt')}"
-    lines = [f"{'pass' if verdict.passed else 'FAIL'}  {verdict.path}  ({checks}, {time})"]
+    lines = [f"{'pass' if verdict.passed else 'FAIL'}  {verdict.path}{on}  ({checks}, {time})"]
     if verdict.status == "cycle_limit":
         lines.append(f"      ended at the cycle limit of {count_text(verdict.max_cycles)} without reaching a halt")
     if verdict.checks_defined == 0:
@@ -76,11 +80,12 @@ def _item_bits(expect, machine) -> int:
         return machine.data_bits
 
 
-def verdict_json(verdict: Verdict) -> dict:
+def verdict_json(verdict: Verdict, machine) -> dict:
     def place(expect):
         return {"file": expect.file, "line": expect.line, "check": expect.text}
     return {
-        "path": verdict.path, "passed": verdict.passed, "status": verdict.status,
+        "path": verdict.path, "machine": machine.name if machine is not None else None,
+        "passed": verdict.passed, "status": verdict.status,
         "cycles": verdict.cycles, "sim_seconds": verdict.sim_seconds,
         "checks_run": verdict.checks_run, "halts": verdict.halts,
         "failures": [{**place(f.expect), "op": f.expect.op, "expected": f.expect.value,
@@ -93,33 +98,51 @@ def verdict_json(verdict: Verdict) -> dict:
 
 
 def main(args) -> int:
-    machine = machine_from(args)
     programs = collect_programs(args.paths)
     if not programs:
         print(f"relaybench: error: no *{PROGRAM_SUFFIX} programs in {', '.join(args.paths)}", file=sys.stderr)
         return 1
+    if args.machine is not None:
+        machine_from(args)          # a bad --machine is the command's error, not each program's
+    machines = _machines_of(programs, MachineChooser(args.machine))
+    name_machines = len({m.name for m in machines.values() if not isinstance(m, str)}) > 1
     verdicts = []
     try:
         with Progress(enabled=terminal_attached() and not args.json) as progress:
             batch = progress.line("programs", len(programs), unit="programs")
             for done, path in enumerate(programs):
                 bar = progress.line(path, remove_when_done=True)
-                verdict = check_program(path, machine, max_cycles=args.max_cycles,
-                                        chunk=lambda emu: bar.update(emu.cycles))
+                machine = machines[path]
+                if isinstance(machine, str):
+                    verdict, machine = Verdict(path, error=machine), None
+                else:
+                    verdict = check_program(path, machine, max_cycles=args.max_cycles,
+                                            chunk=lambda emu: bar.update(emu.cycles))
                 bar.finish()
                 batch.update(done + 1)
-                verdicts.append(verdict)
+                verdicts.append((verdict, machine))
                 if not args.json:
-                    print("\n".join(verdict_lines(verdict, machine)), flush=True)
+                    print("\n".join(verdict_lines(verdict, machine, name_machine=name_machines)), flush=True)
     except KeyboardInterrupt:
         if len(verdicts) < len(programs):
             print(f"relaybench: interrupted after {len(verdicts)} of {len(programs)} programs", file=sys.stderr)
             return 130
-    passed = sum(v.passed for v in verdicts)
+    passed = sum(v.passed for v, _machine in verdicts)
     if args.json:
         print(json.dumps({"passed": passed, "failed": len(verdicts) - passed,
-                          "programs": [verdict_json(v) for v in verdicts]}, ensure_ascii=False))
+                          "programs": [verdict_json(v, m) for v, m in verdicts]}, ensure_ascii=False))
     else:
         print(f"{len(verdicts)} program{'s' if len(verdicts) != 1 else ''}: {passed} passed, "
               f"{len(verdicts) - passed} failed")
     return 0 if passed == len(verdicts) else 1
+
+
+def _machines_of(programs: list[str], chooser: MachineChooser) -> dict:
+    """Each program's machine, or the error text of a machine that cannot be had (that program fails)."""
+    machines = {}
+    for path in programs:
+        try:
+            machines[path] = chooser.machine_for(path)
+        except RelaybenchError as exc:
+            machines[path] = str(exc)
+    return machines

@@ -84,13 +84,13 @@ def where(places: Places, text: str) -> tuple[int, str]:
 
 
 def target(places: Places, text: str) -> Watch:
-    """A register, pair or flag name, or [address]."""
+    """A register, group or flag name, or [address]."""
     match = _MEMORY.fullmatch(text)
     if match:
         word = address(places, match[1].strip())
         return Watch(0, address=word, label=f"[{places.hex(word)}]")
     m = places.machine
-    names = [r.name for r in m.visible_registers] + list(m.pairs) + list(m.flags)
+    names = [r.name for r in m.visible_registers] + list(m.groups) + list(m.flags)
     if text.lower() in names:
         return Watch(0, name=text.lower(), label=text.lower())
     raise DebugError(f"'{text}' is not a register or flag of {m.name} "

@@ -1,11 +1,16 @@
-"""Which instructions call and return, read from the micro-steps.
+"""Which instructions call and return: the machine file's marks, else read from the micro-steps.
 
 Stepping over a call and running to the end of a routine need to know what
 a call is, and the machine description must stay the only place that says
-so. A *call* is an instruction that writes the program counter and writes
-memory at an address taken from a register it also moves (the stack
-pointer); a *return* writes the program counter from memory read at an
-address taken from that register. No mnemonic is looked at.
+so. A file that marks its calls and returns (``call = "stack"`` or
+``call = "link"``, ``returns = true`` in an ``[[instruction]]``) is taken
+at its word, which is the only way a link-register machine can say it.
+
+For a file with no marks at all the shape is inferred, which works for a
+stack machine: a *call* is an instruction that writes the program counter
+and writes memory at an address taken from a register it also moves (the
+stack pointer); a *return* writes the program counter from memory read at
+an address taken from that register. No mnemonic is looked at.
 """
 
 from __future__ import annotations
@@ -35,9 +40,9 @@ class CallShape:
 
 
 def _registers_in(expr, machine: Machine) -> set[str]:
-    """Registers and pairs an expression reads (walk yields the expression itself too)."""
+    """Registers and groups an expression reads (walk yields the expression itself too)."""
     return {node.name for node in walk(expr)
-            if isinstance(node, Name) and (node.name in machine.registers or node.name in machine.pairs)}
+            if isinstance(node, Name) and (node.name in machine.registers or node.name in machine.groups)}
 
 
 def _assignments(instruction):
@@ -81,6 +86,19 @@ def _pc_from_stack(instruction, machine: Machine, stack: str) -> bool:
 
 
 def call_shape(machine: Machine) -> CallShape:
+    """The marked calls and returns, or (for a file that marks none) the inferred ones."""
+    if any(ins.call is not None or ins.returns for ins in machine.instructions):
+        return _marked_shape(machine)
+    return _inferred_shape(machine)
+
+
+def _marked_shape(machine: Machine) -> CallShape:
+    calls = frozenset(ins.index for ins in machine.instructions if ins.call is not None)
+    returns = frozenset(ins.index for ins in machine.instructions if ins.returns)
+    return CallShape(calls, returns)
+
+
+def _inferred_shape(machine: Machine) -> CallShape:
     calls, stacks = set(), set()
     for ins in machine.instructions:
         registers = _stack_writes(ins, machine)

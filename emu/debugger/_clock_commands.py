@@ -9,7 +9,6 @@ panel does first.
 from __future__ import annotations
 
 from emu import MachineError
-from emu.timing import spread_source
 
 from ._arguments import count, no_arguments, number
 from ._conditions import CallDepth, Count
@@ -57,24 +56,30 @@ def do_throw(session, args):
 @command("pulse [N]", "Press STEP N times: N clock pulses, one micro-step each.", repeats=True)
 def do_pulse(session, args):
     """Works only while the generator is frozen at a hold point, as on the
-    panel; the ring does not move. Breakpoints are not checked. Each line
-    shows the control lines driven and the bus (as 'help panel' defines it)."""
+    panel; the ring does not move. Breakpoints are not checked; a halt or
+    pause, the cycle limit and Ctrl-C stop the pulses early. Each line shows
+    the control lines driven and the bus (as 'help panel' defines it)."""
     n = count(args, 1, "pulse count")
     e = session.emu
     if not e.frozen:
         raise DebugError("STEP has no effect while the clock runs; 'throw stop' first")
-    rows = []
-    for k in range(n):
+    rows, given, stop = [], 0, None
+    while stop is None and given < min(n, PULSE_REPORT):
         step, (instruction, index) = e.current_step, e.sequencer
-        e.press_step()
-        if k < PULSE_REPORT:
-            doing = "fetch" if instruction is None else instruction.mnemonic
-            lines = ", ".join(step.control_lines) or "no lines"
-            rows.append(f"pulse {k + 1}: {doing} step {index + 1}: {step.text}   [{lines}]   "
-                        f"bus {bus_text(session.machine, session.recorder.last_bus)}")
-    if n > PULSE_REPORT:
-        rows.append(f"… {n - PULSE_REPORT:,} more pulses")
-    latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch else ""
+        stop, _one = session.pulses(count=1, spent=given)
+        given += 1
+        doing = "fetch" if instruction is None else instruction.mnemonic
+        lines = ", ".join(step.control_lines) or "no lines"
+        rows.append(f"pulse {given}: {doing} step {index + 1}: {step.text}   [{lines}]   "
+                    f"bus {bus_text(session.machine, session.recorder.last_bus)}")
+    if stop is None and n > given:
+        stop, more = session.pulses(count=n - given, spent=given)
+        given += more
+    if given > PULSE_REPORT:
+        rows.append(f"… {given - PULSE_REPORT:,} more pulses")
+    if stop is not None:
+        rows.append(f"{stop.describe(session.places)} (after {given:,} of {n:,} pulses)")
+    latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch and stop is None else ""
     return "\n".join(rows) + f"\n{session.here_text()}{latch}"
 
 
@@ -94,6 +99,24 @@ def do_reset(session, args):
     was_frozen = session.emu.frozen
     session.emu.press_reset()
     return session.released(was_frozen, "reset: pc 0")
+
+
+@command("restart", "Power off and on and load the program again: start it afresh (breakpoints stay).")
+def do_restart(session, args):
+    """Unlike RESET, memory is loaded again from the program image, the
+    input stream rewinds, console, lamps, warnings and counters clear, and
+    time starts at 0; the toggles stay as they are set and the beat
+    ('beat SEED') draws its turns again from the start. The switch comes
+    up at STOP, so the program starts with 'go'. A waveform being recorded
+    is written first (its time cannot go back)."""
+    no_arguments(args, "restart")
+    written = ""
+    if session.waves is not None:
+        written = f"waveform written to {session.waves[0]}; "
+        session.close()
+    session.restart()
+    session.last_stop = "restarted: powered on with the program loaded again"
+    return f"{written}restarted with the program loaded again; {session.state_text()}. {session.here_text()}"
 
 
 @command("toggles [VALUE]", "Show or set the panel's toggle switches (an input port of the machine).")
@@ -144,7 +167,7 @@ def do_leave(session, args):
     no_arguments(args, "leave")
     if not session.shape.returns:
         raise DebugError(f"{session.machine.name} has no return instruction "
-                         f"(none loads pc from memory at a stack register)")
+                         f"(none is marked 'returns = true', and none loads pc from memory at a stack register)")
     return session.step(CallDepth(session.machine, session.shape, session.emu.instruction_address, 0,
                                   "returned to the caller"))
 
@@ -176,13 +199,13 @@ def do_beat(session, args):
     if len(args) != 1:
         raise DebugError("usage: beat SEED|even")
     if args[0].lower() == "even":
-        session.emu.clock_source = None
+        session.set_beat(None)
         return "the clock beats evenly at its nominal phase durations"
     seed = number(args[0], "seed")
     if seed < 0:
         raise DebugError(f"a seed is 0 or more, not {seed}")
     try:
-        session.emu.clock_source = spread_source(session.machine, seed)
+        session.set_beat(seed)
     except MachineError as exc:
         raise DebugError(f"no irregular clock for {session.machine.name}: {exc.message}") from None
     return f"irregular clock: one built from the [timing] parts with seed {seed}"

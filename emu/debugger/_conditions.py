@@ -66,7 +66,7 @@ class CallDepth:
 
 @dataclass(frozen=True)
 class Watch:
-    """One watchpoint: a register, pair or flag by name, or a memory word."""
+    """One watchpoint: a register, group or flag by name, or a memory word."""
     number: int
     name: str | None = None
     address: int | None = None

@@ -12,6 +12,7 @@ import textwrap
 import asm
 
 from .. import formatting
+from ..formatting import hex_digits
 
 from ._trace import Column
 
@@ -21,18 +22,19 @@ __all__ = ["registers_text", "dump_text", "code_lines", "panel_text", "scope_tex
 LIT, DARK = "●", "○"
 HIGH, LOW = "‾", "_"
 BAR = "█"
+IDLE = "·"
 
 
 def word_hex(machine, value: int) -> str:
-    return f"{value:0{(machine.data_bits + 3) // 4}x}"
+    return hex_digits(value, machine.data_bits)
 
 
 def address_hex(machine, value: int) -> str:
-    return f"{value:0{(machine.address_bits + 3) // 4}x}"
+    return hex_digits(value, machine.address_bits)
 
 
 def _hex(value: int, bits: int) -> str:
-    return f"{value:0{(bits + 3) // 4}x}"
+    return hex_digits(value, bits)
 
 
 def duration_text(ns: int) -> str:
@@ -75,9 +77,9 @@ def registers_text(emu) -> str:
     for reg in m.visible_registers:
         value = emu.get(reg.name)
         cells.append(f"{reg.name:<3} {_hex(value, reg.width):>4} {value:>6}")
-    for pair in m.pairs.values():
-        value = emu.get(pair.name)
-        cells.append(f"{pair.name:<3} {_hex(value, pair.width):>4} {value:>6}")
+    for group in m.groups.values():
+        value = emu.get(group.name)
+        cells.append(f"{group.name:<3} {_hex(value, group.width):>4} {value:>6}")
     rows = ["   ".join(cells[i:i + 4]) for i in range(0, len(cells), 4)]
     flags = "  ".join(f"{name} {emu.get(name)}" for name in m.flags)
     rows.append(f"flags  {flags}")
@@ -226,6 +228,7 @@ def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = Fals
         for line in sorted(column.lines):
             if line not in lines_seen:
                 lines_seen.append(line)
+    any_idle = any(c.idle for c in columns)
     label = max([SCOPE_LABEL_ROOM] + [len(n) + 1 for n in lines_seen])
     per_block = max(width - label, 8)
     blocks = []
@@ -241,13 +244,16 @@ def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = Fals
         rows["latch"] = "".join(HIGH if c.latch else LOW for c in part)
         for line in lines_seen:
             rows[line] = "".join(BAR if line in c.lines else " " for c in part)
+        if any_idle:
+            rows["idle"] = "".join(IDLE if c.idle else " " for c in part)
         rows["generator"] = "".join({"frozen": "F", "pulse": "P"}.get(c.kind, " ") for c in part)
         rows["panel"] = "".join(_event_mark(c) for c in part)
         blocks.append("\n".join(f"{name:<{label}}{row.rstrip() or ''}" for name, row in rows.items()))
     first, last = columns[0].cycle, columns[-1].cycle
     head = f"cycles {first:,} to {last:,}" + (" (the run before them was not traced)" if gap else "")
+    legend_text = _LEGEND + ("\nidle: · a cycle whose micro-step drives no control line" if any_idle else "")
     legend = "\n".join(textwrap.fill(line, max(width, 40), subsequent_indent="  ")
-                       for line in _LEGEND.splitlines())
+                       for line in legend_text.splitlines())
     return head + "\n" + "\n\n".join(blocks) + "\n" + legend
 
 

@@ -7,12 +7,14 @@ The commands themselves live in their groups (``_clock_commands``,
 and ``quit`` below), each one function entered in the table of ``_table``,
 which drives dispatch, ``help`` and tab completion.
 
-Two states matter for what a command may do. The generator is *frozen*
-at a hold point (switch at stop, or halt latch set): then STEP works and
-instruction steps are made of STEP pulses. Or the clock is *running* and
-the debugger merely holds simulated time between commands (after a
-breakpoint, a watchpoint or a cycle limit): then STEP is refused, as the
-hardware would ignore it, and instruction steps let the generator run.
+Between commands the generator is *frozen* at a hold point, by the
+switch (state STOP) or by the halt latch (state HALT): STEP works, and
+instruction steps are made of STEP pulses. A command that lets the clock
+run ends frozen too: a halt freezes it, and any stop of the debugger's own
+(breakpoint, watchpoint, goal, cycle limit) throws the switch to STOP where
+it fired, as an operator at the panel would. Only the live view can leave
+the clock running between commands. ``_stopping.STATE_TABLE`` says what
+each command does in each state; ``help`` shows it.
 How a run or a step stops is the ``RunPolicy`` of ``_stopping``.
 """
 
@@ -27,6 +29,7 @@ from emu.errors import RelaybenchError
 import asm
 from emu.description.notation import NUMBER_FORMS
 from emu.runs import DEFAULT_MAX_CYCLES
+from emu.timing import spread_source
 
 from . import _clock_commands, _file_commands, _point_commands, _view_commands
 from ._arguments import no_arguments
@@ -35,7 +38,7 @@ from ._conditions import Watch
 from ._panel import address_hex
 from ._program import Places, ProgramView, empty_view
 from ._running import ReplayMismatch
-from ._stopping import Breakpoint, RunPolicy, Stop
+from ._stopping import STATE_TABLE, Breakpoint, CycleLimit, RunPolicy, Stop, stop_state
 from ._table import COMMANDS, DebugError, command, find_command, words_of
 from ._trace import Recorder
 
@@ -74,15 +77,50 @@ class Session:
         """Where a 'dump' without an address goes on."""
         self.waves: tuple[str, ExitStack] | None = None
         """(path, the recording's context stack) while 'waves' records."""
+        self.beat_seed: int | None = None
+        """The seed of the irregular clock chosen with 'beat', None for the even clock."""
+        self.fingerprint = None if self.view.loaded is None else asm.image_fingerprint(self.view.loaded.segments)
+        """The program image's fingerprint, recorded in snapshots (None: no program)."""
         if emulator is not None:
             self.attach(emulator)
             return
-        emulator = Emulator(machine)
+        self.attach(self.powered_on())
+        self.settle()
+
+    def set_beat(self, seed: int | None, turns_drawn: int = 0) -> None:
+        """The irregular clock of ``seed`` (None: the even one), its draws advanced past
+        ``turns_drawn`` turns, the last of which is the turn in progress (a snapshot's)."""
+        source = None
+        if seed is not None:
+            source = spread_source(self.machine, seed)
+            if turns_drawn > 1:
+                source.turns(turns_drawn - 1)
+        self.emu.clock_source = source
+        self.beat_seed = seed
+
+    def powered_on(self, like: Emulator | None = None) -> Emulator:
+        """A machine just switched on with the program loaded and the switch at STOP;
+        ``like`` lends it its toggles and input stream (rewound), which power leaves alone."""
+        emulator = Emulator(self.machine)
         if self.view.loaded is not None:
             emulator.load(self.view.loaded.segments)
-        self.attach(emulator)
+        if like is not None:
+            emulator.switches = like.switches
+            emulator.input_bytes = like.input_bytes
         emulator.set_switch_run(False)
+        return emulator
+
+    def restart(self) -> None:
+        """Power-cycle and reload: the state of a fresh machine, the program loaded again,
+        input rewound, ports and counters cleared, the beat drawn again from its seed.
+        The emulator object stays, so the timing recorder stays attached. The beat is
+        chosen after the clock settles, as 'beat' typed at power-on would be."""
+        fresh = self.powered_on(like=self.emu)
+        self.emu.clock_source = None
+        self.emu.restore_state(fresh.snapshot_state(), "<power-on>")
+        self.recorder.clear()
         self.settle()
+        self.set_beat(self.beat_seed)
 
     def attach(self, emulator: Emulator) -> None:
         """Work on ``emulator`` from now on (power-on, or a snapshot loaded)."""
@@ -146,7 +184,7 @@ class Session:
 
     def _candidates(self, kind: str) -> list[str]:
         m = self.machine
-        names = [r.name for r in m.visible_registers] + list(m.pairs) + list(m.flags)
+        names = [r.name for r in m.visible_registers] + list(m.groups) + list(m.flags)
         labels = list(self.view.labels)
         return {
             "command": list(COMMANDS),
@@ -168,10 +206,15 @@ class Session:
         return f"set by the {self.places.halt_kind(address)} at {self.places.name(address)}"
 
     def state_text(self) -> str:
+        """The stop state of ``STATE_TABLE`` in words: the panel's first line and 'why' show it."""
         e = self.emu
-        if e.frozen:
-            return "frozen: the halt latch is set" if e.halt_latch else "frozen: the switch is at STOP"
-        return "clock running, held by the debugger between commands"
+        switch = "RUN" if e.switch_run else "STOP"
+        state = stop_state(e)
+        if state == "HALT":
+            return f"frozen: the halt latch is set ({self.latch_origin()}), switch at {switch} (state HALT)"
+        if state == "STOP":
+            return "frozen: the switch is at STOP (state STOP)"
+        return "the clock runs, as the live view left it; 'throw stop' freezes it (state RUNNING)"
 
     def here_text(self) -> str:
         e = self.emu
@@ -213,18 +256,37 @@ class Session:
         if self.emu.halt_latch and not self.emu.frozen:
             also = self.last_stop
             self.last_stop = f"{self.settle().describe(self.places)} (also: {also})"
+        elif not self.emu.frozen:
+            self.hold_at_stop()
         ran = self.emu.cycles - start
         head = f"{prelude}\n" if prelude and not watch.told else ""
         return f"{head}{self.last_stop}\n{ran:,} cycles run. {self.here_text()}"
+
+    def hold_at_stop(self) -> None:
+        """A debugger stop of a running clock: the switch thrown to STOP where it fired, and
+        the clock carried on to its hold point (none on ref8, whose hold point is every cycle's
+        start), so the machine is as the hardware would be and STEP works."""
+        self.emu.set_switch_run(False)
+        self.settle()
 
     def step(self, goal) -> str:
         """An instruction step: STEP pulses while frozen, else the running clock."""
         if not self.emu.frozen:
             return self.let_run(goal)
+        stop, pulses = self.pulses(goal)
+        return f"{stop.describe(self.places)} ({pulses:,} STEP pulse{'s' if pulses != 1 else ''}). {self.here_text()}"
+
+    def pulses(self, goal=None, count: int | None = None, spent: int = 0) -> tuple[Stop | None, int]:
+        """STEP pulses under this session's rules (see ``RunPolicy.pulse``), ``spent`` of the
+        cycle limit already given by the same command; a stop becomes 'why'."""
         self._interrupted = False
-        stop, pulses = self.policy(goal, self.max_cycles, self._watch_for_ctrl_c()).pulse()
-        self.last_stop = stop.describe(self.places)
-        return f"{self.last_stop} ({pulses:,} STEP pulse{'s' if pulses != 1 else ''}). {self.here_text()}"
+        limit = max(self.max_cycles - spent, 1)
+        stop, pulses = self.policy(goal, limit, self._watch_for_ctrl_c()).pulse(count)
+        if isinstance(stop, CycleLimit):
+            stop = CycleLimit(self.max_cycles, stepping=True)
+        if stop is not None:
+            self.last_stop = stop.describe(self.places)
+        return stop, pulses
 
     def released(self, was_frozen: bool, done: str) -> str:
         """After a panel action: if it let a frozen generator go, the clock now runs."""
@@ -264,7 +326,7 @@ def do_help(session, args):
     rows = [f"  {c.usage:<{width}}  {c.summary}" for c in listed]
     return ("Commands (any unambiguous start of a name will do):\n" + "\n".join(rows) +
             f"\nNumbers: {NUMBER_FORMS}. An empty line repeats pulse, instr, over or leave. "
-            "Ctrl-C during a run throws the stop switch.")
+            "Ctrl-C during a run throws the stop switch.\n" + STATE_TABLE)
 
 
 @command("quit", "Leave the debugger.")

@@ -10,6 +10,19 @@ or the command's goal (an instruction count, a call depth); besides that
 the cycle limit and Ctrl-C. Every drive returns a ``Stop`` that puts the
 reason in words, so ``go``, ``pulse``, ``instr``, ``over``, ``leave`` and
 ``live`` say the same sentence for the same event.
+
+A halt or pause passed while stepping stops the stepping right after the
+STEP pulse that drove it, announced by ``HaltPassed``: the latch lamp has
+just lit, and an operator stops pressing there. The running clock stops
+at the same instruction, freezing at its next hold point (on ref8 the hold
+point follows every falling edge, so both end at one place).
+
+``STATE_TABLE`` is the operator's model of the stop states, shown by
+``help``: between commands the clock is always frozen, either by the
+switch (STOP) or by the halt latch (HALT); a debugger stop (breakpoint,
+watchpoint, goal, cycle limit) throws the switch to STOP at the
+instruction boundary where it fired, as an operator would, so STEP works
+at once after it.
 """
 
 from __future__ import annotations
@@ -23,8 +36,30 @@ from ._conditions import AnyOf, Watch, Watches
 from ._program import Places
 from ._running import run_clock
 
-__all__ = ["AtBreakpoint", "Breakpoint", "CycleLimit", "GoalReached", "HaltedByProgram", "PlantedHalt", "RunPolicy",
-           "Stop", "SteppingInterrupted", "StoppedBySwitch", "WatchFired"]
+__all__ = ["AtBreakpoint", "Breakpoint", "CycleLimit", "GoalReached", "HaltPassed", "HaltedByProgram", "PlantedHalt",
+           "RunPolicy", "STATE_TABLE", "Stop", "SteppingInterrupted", "StoppedBySwitch", "WatchFired",
+           "stop_state"]
+
+STATE_TABLE = """\
+Stop states (the panel's first line and 'why' name the one you are in):
+  state   what holds the clock   go            pulse / instr / over / leave     resume               throw run | stop
+  STOP    switch at STOP         runs (RUN)    STEP pulses                      nothing to clear     runs | already
+  HALT    halt latch set         refused       STEP pulses (latch stays set)    clears the latch;    switch moves;
+                                                                                runs if at RUN       still held
+A breakpoint, watchpoint, finished step or cycle limit throws the switch to STOP where it
+fired, so it leaves the clock in STOP. Any halt or pause passed while stepping stops the
+steps there and is announced; 'pulse N' and steps also stop at the cycle limit and on Ctrl-C.
+'reset' clears pc, flags and latch (memory kept); 'restart' powers off, reloads the program
+and rewinds input, ports and counters (breakpoints stay)."""
+
+
+def stop_state(emu) -> str:
+    """The state of the table above: "HALT", "STOP", or "RUNNING" (only the live view leaves it so)."""
+    if emu.frozen and emu.halt_latch:
+        return "HALT"
+    if emu.frozen:
+        return "STOP"
+    return "RUNNING"
 
 
 @dataclass(frozen=True)
@@ -69,6 +104,16 @@ class PlantedHalt(Stop):
 
 
 @dataclass(frozen=True)
+class HaltPassed(Stop):
+    address: int
+    """The halt or pause instruction whose STEP pulse drove halt."""
+
+    def describe(self, places: Places) -> str:
+        return (f"passed the {places.halt_kind(self.address)} at {places.name(self.address)}: "
+                f"the halt latch is set; stepping stopped there")
+
+
+@dataclass(frozen=True)
 class StoppedBySwitch(Stop):
     ctrl_c: bool
 
@@ -86,7 +131,7 @@ class CycleLimit(Stop):
     def describe(self, places: Places) -> str:
         if self.stepping:
             return f"cycle limit of {self.limit:,} reached while stepping"
-        return f"cycle limit of {self.limit:,} cycles reached; the clock is held between two commands"
+        return f"cycle limit of {self.limit:,} cycles reached; the switch is thrown to STOP there"
 
 
 @dataclass(frozen=True)
@@ -163,23 +208,33 @@ class RunPolicy:
                           max_cycles=self.limit, interrupted=self.interrupted)
         return self._from_engine(ended.stop, ended.interrupted)
 
-    def pulse(self) -> tuple[Stop, int]:
-        """STEP pulses, an instruction at a time, until a rule stops them; also the pulses given.
+    def pulse(self, count: int | None = None) -> tuple[Stop | None, int]:
+        """STEP pulses until a rule stops them; also the pulses given.
 
-        The generator must be frozen (STEP does nothing otherwise); the limit
-        counts pulses, and is needed: a goal may never be reached.
+        Without ``count`` the pulses go on until a rule at an instruction
+        boundary fires (an instruction step); with it, ``count`` pulses are
+        given (``pulse N``, which checks no breakpoints) and the stop is None
+        when all were. Either way a pulse that drives halt, the limit (it
+        counts pulses and is needed: a goal may never be reached) and
+        Ctrl-C stop them. The generator must be frozen (STEP does nothing
+        otherwise).
         """
         e = self.emu
         pulses = 0
-        while True:
-            pulses += e.step_instruction(max_pulses=self.limit - pulses)
+        while count is None or pulses < count:
+            drives_halt = e.current_step.drives_halt
+            if not e.press_step():
+                raise ValueError("STEP pulses need a frozen generator")
+            pulses += 1
+            if drives_halt:
+                return HaltPassed(e.halt_address), pulses
+            if count is None and e.at_instruction_boundary and (stop := self.at_boundary()) is not None:
+                return stop, pulses
             if pulses >= self.limit:
                 return CycleLimit(self.limit, stepping=True), pulses
-            stop = self.at_boundary()
-            if stop is None and self.interrupted():
-                stop = SteppingInterrupted()
-            if stop is not None:
-                return stop, pulses
+            if self.interrupted():
+                return SteppingInterrupted(), pulses
+        return None, pulses
 
     def follow(self, target_ns: Callable[[], float], max_phases: int) -> Stop | None:
         """Phase by phase while each phase ends by ``target_ns()`` (real time); None unless a rule fired.

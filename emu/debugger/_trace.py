@@ -42,6 +42,8 @@ class Column:
     """A high column whose cycle's micro-step has latched (``bus`` is then known)."""
     bus: "Bus | None" = None
     """What the bus carried in that micro-step; None when it was dark."""
+    idle: bool = False
+    """True for the high columns of an idle cycle: its micro-step drives no control line."""
 
 
 @dataclass(frozen=True)
@@ -95,7 +97,7 @@ class _BeforeTheStep:
 
     def width(self, node) -> int:
         m = self.emu.machine
-        return value_width(node, m.registers, m.pairs, self.fields, m.data_bits)
+        return value_width(node, m, self.fields)
 
     def value(self, node) -> int | None:
         m = self.emu.machine
@@ -110,9 +112,14 @@ class _BeforeTheStep:
             case Offset(base, delta):
                 base_value = self.value(base)
                 return None if base_value is None else base_value + delta & (1 << self.width(base)) - 1
-            case Join(high, low):
-                parts = self.value(high), self.value(low)
-                return None if None in parts else parts[0] << self.width(low) | parts[1]
+            case Join(parts):
+                values = [self.value(part) for part in parts]
+                if None in values:
+                    return None
+                joined = 0
+                for part, value in zip(parts, values):
+                    joined = joined << self.width(part) | value
+                return joined
             case Mem(address):
                 at = self.value(address)
                 return None if at is None else self.emu.memory[at & m.memory_words - 1]
@@ -128,7 +135,7 @@ class _BeforeTheStep:
 def bus_probe(emu):
     """Called just before a micro-step latches: a function that, called after it,
     gives what the bus carried (a ``Bus``), or None when nothing is known."""
-    step, (instruction, _index) = emu.current_step, emu.sequencer
+    step, (instruction, _) = emu.current_step, emu.sequencer
     transfer = _transfer(step)
     if transfer is None:
         return lambda: None
@@ -197,6 +204,7 @@ class Recorder(Observer):
         for column in self._high:
             column.lines.update(lines)
             column.latched, column.bus = True, bus
+            column.idle = not lines
         self._high = []
         if emu.frozen:
             self._add(emu, "frozen", 0, self.machine.phases[emu.phase_index].ring)

@@ -47,7 +47,7 @@ def _dump_start(session, text: str) -> int:
         return address(session.places, text)
     m = session.machine
     name = match[1].strip().lower()
-    if name in m.registers or name in m.pairs:
+    if name in m.registers or name in m.groups:
         return session.emu.get(name) & m.memory_words - 1
     return address(session.places, match[1].strip())
 

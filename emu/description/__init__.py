@@ -4,7 +4,9 @@
 ``_loader`` reads a TOML machine file into them and checks every key;
 ``_schema`` are the typed getters every file
 reader shares, ``_toml_lines`` finds the line of a key, ``_sections`` reads
-``[timing]`` and ``[wear]``; ``_design_rules`` checks each micro-step against the rule a control unit
+``[timing]`` and ``[wear]``; ``_port_devices`` is the table of port devices,
+``_call_marks`` reads which instructions call and return;
+``_design_rules`` checks each micro-step against the rule a control unit
 obeys; ``_alu`` is the table of ALU operations (built-in definitions and ``[alu.NAME]``); ``notation/`` is the
 micro-step notation and the number notation. Everything downstream (the
 assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
@@ -15,9 +17,11 @@ from ._alu import (ALU_OPS, BUILTIN_DEFINITIONS, RESERVED_OPERATION_NAMES, WORD_
 from ._design_rules import StepChecker
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair,
+                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterGroup,
                      Step, stage_relay)
 from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
+from ._call_marks import CallMark
+from ._port_devices import PORT_DEVICES, PortDevice
 from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
                         TimingSection, WearRatings, read_timing, read_wear, timing_section,
                         wear_section)
@@ -28,8 +32,8 @@ __all__ = [
     "read_alu_op", "resolve_flag", "StepChecker",
     "MachineNames", "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
-    "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterPair", "Step",
-    "stage_relay",
+    "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step",
+    "stage_relay", "PORT_DEVICES", "PortDevice", "CallMark",
     "REQUIRED", "Table", "is_integer", "is_number", "kind_of",
     "MAX_TOLERANCE", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",
     "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section",

@@ -22,7 +22,7 @@ from functools import cache
 from typing import Callable
 
 from ..errors import MachineError
-from .notation import (WORD_SELECTORS, AluExpr, Binary, Slice, alu_parts, evaluate, free_names, index_names,
+from .notation import (WORD_SELECTORS, AluExpr, Binary, BitRange, alu_parts, evaluate, free_names, index_names,
                        parse_alu_expression)
 
 __all__ = ["ALU_OPS", "AluOp", "BUILTIN_DEFINITIONS", "FLAG_ROLE_NAMES", "RESERVED_OPERATION_NAMES", "WORD_SELECTORS",
@@ -42,7 +42,7 @@ _LOGIC = {**_ZERO_NEGATIVE, "carry": "0", "overflow": "0"}
 
 
 def _op(operands: int, result: str, flags: dict) -> dict:
-    return {"operands": operands, "result": result, "width": "a", "flags": flags}
+    return {"operands": operands, "result": result, "flags": flags}
 
 
 BUILTIN_DEFINITIONS: dict[str, dict] = {
@@ -68,8 +68,9 @@ BUILTIN_DEFINITIONS: dict[str, dict] = {
 class AluOp:
     """One ALU operation: ``result`` over the operands, kept to ``width``; each flag's expression.
 
-    ``width`` is an operand letter (the result is as wide as that operand)
-    or a number of bits. Flag keys are roles (``carry``) or flag names
+    ``width`` is ``"widest"`` (as wide as the widest operand, the notation's
+    rule and the built-ins' width), an operand letter (as wide as that
+    operand) or a number of bits. Flag keys are roles (``carry``) or flag names
     (``lk``); ``reads`` are the flags the expressions read, by role or name.
     """
     name: str
@@ -92,6 +93,8 @@ class AluOp:
     def result_width(self, operand_widths) -> int:
         if isinstance(self.width, int):
             return self.width
+        if self.width == "widest":
+            return max(operand_widths)
         return operand_widths[self.operands.index(self.width)]
 
     def produces(self, flag) -> str | None:
@@ -114,7 +117,7 @@ class AluOp:
 
 def _index_pairs(node):
     match node:
-        case Slice(x, h, l):
+        case BitRange(x, h, l):
             yield h, l
             yield from _index_pairs(x)
         case Binary("<<" | ">>", x, y):
@@ -134,9 +137,10 @@ def resolve_flag(ref: str, flags: dict) -> tuple[object | None, str | None]:
         return holders[0], None
     if not holders:
         if ref in FLAG_ROLE_NAMES:
-            return None, f"needs {'an' if ref[0] in 'aeiou' else 'a'} {ref} flag, and the machine has none"
+            return None, f"reads the {ref} flag, and the machine has none"
         return None, f"reads '{ref}', which is no operand, flag or role (flags: {', '.join(flags) or 'none'})"
-    return None, f"reads the {ref} flag, and {', '.join(f.name for f in holders)} all have that role: name one"
+    return None, (f"reads the {ref} flag, and the machine has {len(holders)} "
+                  f"({', '.join(f.name for f in holders)}): it cannot tell which (name the flag)")
 
 
 Fail = Callable[[tuple, str], None]
@@ -159,10 +163,11 @@ def read_alu_op(name: str, raw: dict, fail: Fail, flags: dict | None = None) -> 
         fail(("operands",), f"'operands' must be 1…{len(OPERAND_LETTERS)} (how many values the operation takes), "
                             f"not {arity!r}")
     letters = OPERAND_LETTERS[:arity]
-    width = raw.get("width", "a")
-    if not (isinstance(width, str) and width in letters
+    width = raw.get("width", "widest")
+    if not (isinstance(width, str) and (width in letters or width == "widest")
             or isinstance(width, int) and not isinstance(width, bool) and 1 <= width <= 32):
-        fail(("width",), f"'width' must be an operand ({', '.join(letters)}) or a number of bits 1…32, "
+        fail(("width",), f"'width' must be \"widest\" (the default), an operand ({', '.join(letters)}) "
+                         f"or a number of bits 1…32, "
                          f"not {width!r}")
     texts = {}
 

@@ -9,8 +9,8 @@ from __future__ import annotations
 
 from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
-from .notation import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset,
-                       Output, name_width, unknown_node, value_width)
+from .notation import (Assign, Call, Choose, Condition, Const, Extend, FlagsOnly, Halt, Idle, Input, Join, Logic,
+                       Mem, Name, Not, Offset, Output, Slice, name_width, unknown_node, value_width)
 
 __all__ = ["StepChecker"]
 
@@ -19,18 +19,19 @@ class StepChecker:
     """Checks one micro-step against the design rule and the machine's names.
 
     Rule ("Clock, halts and the panel" in emu/machines/ref8.md): at most one
-    memory access and one ALU operation per step, and no register or flag written twice (a pair counts as its halves).
+    memory access and one ALU operation per step, and no register or flag written twice (a group counts as its parts).
+    The width rule (emu/machines/README.md) is checked here too: nothing is masked silently.
     """
 
     def __init__(self, names, where: str, fields: dict[str, Field], available: dict[str, Field], fail):
-        """``names`` is the loader's ``MachineNames`` (registers, pairs, flags, data_bits);
+        """``names`` is the loader's ``MachineNames`` (registers, groups, flags, data_bits);
         ``fail(where, message)`` raises the loader's located error."""
         self.names, self.where, self._fail = names, where, fail
         self.fields, self.available = fields, available
         self.memory = self.alu = self.io = 0
         self.written: dict[str, str] = {}
         self.lines: list[str] = []
-        self.halts = False
+        self.halts = self.idle = False
 
     def fail(self, message):
         self._fail(self.where, message)
@@ -56,6 +57,7 @@ class StepChecker:
                     self.memory += 1
                     self.expr(target.address)
                     self.line("write")
+                    self.fits("memory", self.names.data_bits, width)
                 else:
                     self.target(target.name, width)
                 self.flag_writes(value, flags)
@@ -65,6 +67,7 @@ class StepChecker:
             case Output(port, value):
                 self.expr(port)
                 self.expr(value)
+                self.fits("the output port", self.names.data_bits, self.width(value))
                 self.io += 1
                 self.line("out")
             case Halt():
@@ -72,8 +75,15 @@ class StepChecker:
                     self.fail("drives halt twice")
                 self.halts = True
                 self.line("halt")
+            case Idle():
+                self.idle = True
             case _:
                 unknown_node(st)
+
+    def fits(self, what: str, width: int, value_width: int):
+        """The width rule's one refusal: a value wider than where it is written."""
+        if value_width > width:
+            self.fail(f"{what} holds {width} bits but the value written to it has {value_width}")
 
     def target(self, name, value_width):
         names = self.names
@@ -83,18 +93,15 @@ class StepChecker:
                 self.fail(f"cannot write to '{name}': it is a value field, not a register")
             self.require_available(name)
             self.write(name, name)
-        elif name in names.pairs:
-            pair = names.pairs[name]
-            self.write(pair.high, name)
-            self.write(pair.low, name)
-        elif name in names.registers:
+        elif name in names.groups:
+            for part in names.groups[name].parts:
+                self.write(part, name)
+        elif name in names.registers or name in names.flags:
             self.write(name, name)
         else:
             self.unknown(name)
         self.line(f"load {name}")
-        width = name_width(name, names.registers, names.pairs, self.fields)
-        if value_width > width:
-            self.fail(f"'{name}' holds {width} bits but the value written to it has {value_width}")
+        self.fits(f"'{name}'", name_width(name, names, self.fields), value_width)
 
     def flag_writes(self, value, flags):
         if not flags:
@@ -118,25 +125,25 @@ class StepChecker:
 
     def unknown(self, name):
         names = self.names
-        known = list(names.registers) + list(names.pairs)
+        known = list(names.registers) + list(names.groups)
         fields = list(self.fields)
         self.fail(f"unknown register or field '{name}' (registers: {', '.join(known)}; "
                   f"fields: {', '.join(fields) or 'none'})")
 
     def width(self, node) -> int:
-        names = self.names
-        return value_width(node, names.registers, names.pairs, self.fields, names.data_bits, names.alu_ops)
+        return value_width(node, self.names, self.fields)
 
     def expr(self, node) -> None:
-        """Check an expression: names known, fields fetched, the design rule kept; then its parts."""
+        """Check an expression: its parts first (so every name is known before a width is asked), then
+        the node itself: names known, fields fetched, widths kept, the design rule kept."""
         names = self.names
+        for part in node.children():
+            self.expr(part)
         match node:
             case Name(name):
                 if name in self.fields:
                     self.require_available(name)
-                elif name in names.flags:
-                    self.fail(f"flag '{name}' can only be read as a condition (flag ? a : b)")
-                elif name not in names.pairs and name not in names.registers:
+                elif name not in names.groups and name not in names.registers and name not in names.flags:
                     self.unknown(name)
             case Const(value):
                 if value >= 1 << 32:
@@ -146,11 +153,36 @@ class StepChecker:
                 if self.memory > 1:
                     self.fail("two memory accesses in one micro-step (the design rule allows one)")
                 self.line("read")
-            case Join() | Offset():
+            case Join(parts):
+                for part in parts:
+                    self.widthless_constant(part, "a join {…}")
+            case Offset(base, delta):
+                bits = self.width(base)
+                if abs(delta) >> bits:
+                    self.fail(f"the constant {abs(delta)} does not fit the {bits} bits of the value it is "
+                              f"added to or taken from")
+            case Slice(base, high, low):
+                self.widthless_constant(base, "a slice [h:l]")
+                bits = self.width(base)
+                if low > high:
+                    self.fail(f"slice [{high}:{low}] runs backwards: write the high bit first")
+                if high >= bits:
+                    self.fail(f"slice [{high}:{low}] reaches outside the {bits} bits of its value "
+                              f"(bits {bits - 1}…0)")
+            case Extend(value, bits, signed):
+                self.widthless_constant(value, "sext()" if signed else "zext()")
+                if bits < self.width(value):
+                    self.fail(f"{'sext' if signed else 'zext'}() to {bits} bits, but its value already has "
+                              f"{self.width(value)}")
+            case Not(operand):
+                self.one_bit(operand)
+            case Logic(_, left, right):
+                self.one_bit(left)
+                self.one_bit(right)
+            case Condition(test):
+                self.one_bit(test)
+            case Choose():
                 pass
-            case Choose(flag, _, _, _):
-                if flag not in names.flags:
-                    self.fail(f"'{flag}' in a condition is not a flag (flags: {', '.join(names.flags)})")
             case Input():
                 self.io += 1
                 self.line("in")
@@ -158,8 +190,20 @@ class StepChecker:
                 self.call(op, args)
             case _:
                 unknown_node(node)
-        for part in node.children():
-            self.expr(part)
+
+    def condition(self, node: Condition) -> None:
+        """Check a condition (of a choice, or of a sequencing statement): a 1-bit boolean expression."""
+        self.expr(node)
+
+    def one_bit(self, operand) -> None:
+        bits = self.width(operand)
+        if bits != 1 and not (isinstance(operand, Const) and operand.value in (0, 1)):
+            self.fail(f"a condition operand must be 1 bit wide (a flag, a 1-bit register or field, or a "
+                      f"slice like x[0]), but {_shown(operand)} has {bits}")
+
+    def widthless_constant(self, node, where: str) -> None:
+        if isinstance(node, Const):
+            self.fail(f"a constant in {where} has no width of its own: write zext({node.value}, N)")
 
     def call(self, op, args) -> None:
         """Check an operation's name and arity and count it; expr() checks its arguments."""
@@ -167,6 +211,10 @@ class StepChecker:
         if op in WORD_SELECTORS:
             if len(args) != 1:
                 self.fail(f"{op}() takes one argument")
+            self.widthless_constant(args[0], f"{op}()")
+            if op == "hi" and self.width(args[0]) <= names.data_bits:
+                self.fail(f"hi() needs a value wider than one data word ({names.data_bits} bits), "
+                          f"not one of {self.width(args[0])}")
         elif op not in names.alu_ops:
             self.fail(f"unknown operation '{op}' (ALU: {', '.join(names.alu_ops)}; also hi, lo)")
         else:
@@ -180,13 +228,25 @@ class StepChecker:
             problem = spec.width_problem(self.width(Call(op, args)))
             if problem:
                 self.fail(problem)
+            widths = [self.width(a) for a in args if not isinstance(a, Const)]
+            for arg in args:
+                if isinstance(arg, Const) and widths and arg.value.bit_length() > max(widths):
+                    self.fail(f"the constant {arg.value} does not fit the {max(widths)} bits of {op}()'s "
+                              f"other operand")
             self.alu += 1
             if self.alu > 1:
                 self.fail("two ALU operations in one micro-step (the design rule allows one)")
             self.line(f"alu {op}")
 
     def finish(self):
+        if self.idle and self.lines:
+            self.fail("'idle' cannot stand with statements that transfer or drive something")
         if self.memory > 1:
             self.fail("two memory accesses in one micro-step (the design rule allows one)")
         if self.io > 1:
             self.fail("two port transfers in one micro-step (there is one I/O bus)")
+
+
+def _shown(node) -> str:
+    """A short name for an operand in a message: the name, or its kind of expression."""
+    return f"'{node.name}'" if isinstance(node, Name) else f"its {type(node).__name__.lower()} operand"

@@ -11,6 +11,7 @@ expected.
 from __future__ import annotations
 
 import re
+import sys
 import tomllib
 from importlib import resources
 from pathlib import Path
@@ -18,8 +19,9 @@ from pathlib import Path
 from ..errors import MachineError
 from ._alu import RESERVED_OPERATION_NAMES, builtin_alu_ops, read_alu_op
 from ._design_rules import StepChecker
+from ._call_marks import CALL_KEYS, read_call_marks
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
-                     Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterPair, Step)
+                     Machine, MachineNames, OperandKind, OperandPattern, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
 from ._schema import Table, is_integer
 from ._syntax_forms import SyntaxFormError, parse_syntax_form
 from ._sections import read_timing, read_wear
@@ -58,6 +60,8 @@ def machine_from_text(text: str, path: str = "<machine>") -> Machine:
         raise _toml_error(exc, text, path) from None
     except RecursionError:
         raise MachineError("not a machine description (nested too deeply)", path=path) from None
+    except ValueError:      # tomllib reads integers with Python's limit on their digits
+        raise _too_long_number(text, path) from None
     return _Loader(data, path, text).machine()
 
 
@@ -66,9 +70,17 @@ def _toml_error(exc: tomllib.TOMLDecodeError, text: str, path: str) -> MachineEr
     return MachineError(f"not valid TOML: {message}", path=path, line=line, column=column, source_line=source)
 
 
-_SECTIONS = ("machine", "registers", "internal", "pairs", "flags", "operands", "ports",
+def _too_long_number(text: str, path: str) -> MachineError:
+    digits = sys.get_int_max_str_digits()
+    run = re.search(r"[0-9_]{%d,}" % (digits + 1), text)
+    line = text.count("\n", 0, run.start()) + 1 if run else None
+    return MachineError(f"not valid TOML for relaybench: a number with more than {digits} digits",
+                        path=path, line=line)
+
+
+_SECTIONS = ("machine", "registers", "internal", "groups", "flags", "operands", "ports",
              "clock", "fetch", "instruction", "assembler", "timing", "wear", "alu")
-_ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d+):(?P<lo>\d+)\])?)$")
+_ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d{1,9}):(?P<lo>\d{1,9})\])?)$")
 _IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 _LONGEST_PHASE_MS = 86_400_000
 """A day: far beyond any relay clock, and well inside the engine's nanosecond counters."""
@@ -100,7 +112,7 @@ class _Loader:
         if memory_words & (memory_words - 1):
             head.fail(f"'memory_words' must be a power of two, not {memory_words}", "memory_words")
 
-        registers, pairs = self.registers()
+        registers, groups = self.registers()
         flags = self.flags(len(registers))
         pc = head.string("program_counter", default="pc")
         ir = head.string("instruction_register", default="ir")
@@ -110,7 +122,7 @@ class _Loader:
         if registers[ir].width != data_bits:
             self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
                          f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
-        names = MachineNames(data_bits, registers, pairs, flags, pc, ir, self.alu_ops(flags))
+        names = MachineNames(data_bits, registers, groups, flags, pc, ir, self.alu_ops(flags))
 
         kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
@@ -129,7 +141,7 @@ class _Loader:
         machine = Machine(
             name=name, title=head.string("title", default=name), path=self.path,
             data_bits=data_bits, address_bits=address_bits, memory_words=memory_words,
-            registers=registers, pairs=pairs, flags=flags, operand_kinds=kinds,
+            registers=registers, groups=groups, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
             instruction_register=ir, pause=pause.lower(), alu_ops=names.alu_ops,
@@ -155,29 +167,32 @@ class _Loader:
                 if not is_integer(width) or not 1 <= width <= 32:
                     table.fail(f"a register width must be an integer 1…32 (bits), not {width!r}", reg_name)
                 registers[reg_name] = Register(reg_name, width, len(registers), internal)
-        pairs = {}
-        table = top.table("pairs", required=False)
-        for pair_name, parts in table.items():
-            table.where = f"[pairs] {pair_name}"
-            if (not isinstance(parts, list) or len(parts) != 2
+        groups = {}
+        table = top.table("groups", required=False)
+        for group_name, parts in table.items():
+            table.where = f"[groups] {group_name}"
+            if (not isinstance(parts, list) or len(parts) < 2
                     or not all(isinstance(p, str) and p in registers for p in parts)):
-                table.fail("a pair must be a list of two registers, high first, e.g. [\"r6\", \"r7\"]", pair_name)
-            if pair_name in registers:
-                table.fail("a pair must not have the name of a register", pair_name)
-            high, low = parts
-            pairs[pair_name] = RegisterPair(pair_name, high, low, registers[high].width + registers[low].width)
-        return registers, pairs
+                table.fail("a group must be a list of two or more registers, most significant first, "
+                           "e.g. [\"r6\", \"r7\"]", group_name)
+            if len(set(parts)) != len(parts):
+                table.fail("a group must not name a register twice", group_name)
+            if group_name in registers:
+                table.fail("a group must not have the name of a register", group_name)
+            groups[group_name] = RegisterGroup(group_name, tuple(parts), sum(registers[p].width for p in parts))
+        return registers, groups
 
     def flags(self, first_slot: int) -> dict[str, Flag]:
         flags = {}
-        table = self.top.table("flags")
-        declared = {**self.top.get("registers", {}), **self.top.get("internal", {})}
+        table = self.top.table("flags", required=False)
+        declared = {**self.top.get("registers", {}), **self.top.get("internal", {}), **self.top.get("groups", {})}
         for flag_name, role in table.items():
             table.where = f"[flags] {flag_name}"
-            if role not in FLAG_ROLES:
-                table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)}, not {role!r}", flag_name)
-            if any(f.role == role for f in flags.values()):
-                table.fail(f"two flags have the role '{role}'", flag_name)
+            if not _IDENTIFIER.match(flag_name):
+                table.fail("a flag name must be an identifier", flag_name)
+            if role not in FLAG_ROLES and role != PLAIN_FLAG:
+                table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)} (set by the ALU) or "
+                           f"'{PLAIN_FLAG}' (a 1-bit register transfers write), not {role!r}", flag_name)
             if flag_name in declared:
                 table.fail("a flag must not have the name of a register", flag_name)
             flags[flag_name] = Flag(flag_name, role, first_slot + len(flags))
@@ -341,7 +356,7 @@ class _Loader:
         if not isinstance(raw, dict):
             self.fail_at(f"[[instruction]] {index + 1}", key, "an instruction must be a table")
         spec = Table(raw, f"[[instruction]] {index + 1}", self.fail_at, key)
-        spec.known_keys(("syntax", "encoding", "steps"))
+        spec.known_keys(("syntax", "encoding", "steps") + CALL_KEYS)
         syntax = spec.string("syntax").strip()
         spec.where = f"instruction '{_strip_kinds(syntax)}'"
         mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
@@ -351,6 +366,7 @@ class _Loader:
         if encoding is None:
             spec.fail(f"'encoding' must be {words}", "encoding")
         fixed, fields = self.encoding(spec, encoding, field_kinds, names.data_bits)
+        call, returns = read_call_marks(spec, names.registers, names.groups, names.pc)
         texts = spec.get("steps")
         if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
             spec.fail("'steps' must be a list of micro-step strings (steps = [] for one "
@@ -367,7 +383,7 @@ class _Loader:
         return Instruction(
             index=index, syntax=syntax, mnemonic=mnemonic, operands=operands, fields=fields,
             word_count=len(encoding), fixed=fixed, steps=tuple(steps),
-            holders={w: reg for w, (_s, reg) in holders.items()},
+            holders={w: reg for w, (_s, reg) in holders.items()}, call=call, returns=returns,
         )
 
     def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):
@@ -445,7 +461,10 @@ class _Loader:
                 continue
             fetch_reads += 1
             for st in statements:
-                if isinstance(st, Assign) and st.value == pc_word and isinstance(st.target, Name):
+                # Only a plain register holds a word for its fields: a pair or a register
+                # field is not one place the fields can be read back from.
+                if (isinstance(st, Assign) and st.value == pc_word and isinstance(st.target, Name)
+                        and st.target.name in names.registers):
                     holders[fetch_reads] = (i, st.target.name)
         if fetch_reads != word_count - 1:
             plural = "s" if word_count != 1 else ""
@@ -466,7 +485,7 @@ class _Loader:
         for st in statements:
             checker.statement(st)
         checker.finish()
-        return Step(text.strip(), statements, tuple(checker.lines), checker.halts)
+        return Step(text.strip() or "idle", statements, tuple(checker.lines), checker.halts)
 
     def check_overlaps(self, instructions: list[Instruction], data_bits: int):
         owner = [-1] * (1 << data_bits)

@@ -15,18 +15,23 @@ from dataclasses import dataclass, field
 from functools import cached_property
 
 from ._alu import builtin_alu_ops
+from ._call_marks import CallMark
+from ._port_devices import devices_for
 from ._sections import TimingSection, WearRatings
-from .notation import Assign, FlagsOnly, Statement
+from .notation import Assign, FlagsOnly, Name, Statement
 
 __all__ = [
-    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterPair", "Flag",
+    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterGroup", "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
-    "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
+    "FLAG_ROLES", "PLAIN_FLAG", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
 ]
 
 FLAG_ROLES = ("zero", "negative", "carry", "overflow")
-OUTPUT_DEVICES = ("console", "lamps")
-INPUT_DEVICES = ("switches", "input", "input_ready")
+"""What an ALU operation may produce into a flag; a flag may instead be ``PLAIN_FLAG``."""
+PLAIN_FLAG = "plain"
+"""A 1-bit register that transfers write (``rdy <- in(2)[0]``), with no ALU meaning."""
+OUTPUT_DEVICES = devices_for("out")
+INPUT_DEVICES = devices_for("in")
 
 
 # ----- the parts of a machine ----------------------------------------------
@@ -40,11 +45,10 @@ class Register:
 
 
 @dataclass(frozen=True)
-class RegisterPair:
-    """Two registers read and written as one wider value (high word first)."""
+class RegisterGroup:
+    """Two or more registers read and written as one wider value, most significant first."""
     name: str
-    high: str
-    low: str
+    parts: tuple[str, ...]
     width: int
 
 
@@ -149,6 +153,10 @@ class Instruction:
     steps: tuple[Step, ...]
     holders: dict[int, str]
     """word index → the register holding that word after it was fetched."""
+    call: CallMark | None = None
+    """How it calls a routine, as the machine file marks it (None: no call, or unmarked)."""
+    returns: bool = False
+    """Marked as the return from a routine (``returns = true``)."""
 
     @property
     def display(self) -> str:
@@ -213,6 +221,8 @@ class Instruction:
             for st in step.statements:
                 if isinstance(st, (Assign, FlagsOnly)):
                     written.extend(f for f in st.flags if f not in written)
+                if isinstance(st, Assign) and isinstance(st.target, Name) and st.target.name in machine.flags:
+                    written.append(st.target.name)
         return tuple(f for f in machine.flags if f in written)
 
 
@@ -231,7 +241,7 @@ class MachineNames:
     """
     data_bits: int
     registers: dict[str, Register]
-    pairs: dict[str, RegisterPair]
+    groups: dict[str, RegisterGroup]
     flags: dict[str, Flag]
     pc: str
     ir: str
@@ -240,7 +250,7 @@ class MachineNames:
 
     @property
     def kinds_of_name(self) -> dict[str, str]:
-        return {**{n: "register" for n in self.registers}, **{n: "register pair" for n in self.pairs},
+        return {**{n: "register" for n in self.registers}, **{n: "register group" for n in self.groups},
                 **{n: "flag" for n in self.flags}}
 
 
@@ -253,7 +263,7 @@ class Machine:
     address_bits: int
     memory_words: int
     registers: dict[str, Register]
-    pairs: dict[str, RegisterPair]
+    groups: dict[str, RegisterGroup]
     flags: dict[str, Flag]
     operand_kinds: dict[str, OperandKind]
     ports_out: dict[int, str]
@@ -335,6 +345,6 @@ class Machine:
         return ins if ins.matches(words) else None
 
     def register_width(self, name: str) -> int:
-        if name in self.pairs:
-            return self.pairs[name].width
+        if name in self.groups:
+            return self.groups[name].width
         return self.registers[name].width

@@ -11,6 +11,7 @@ through the reader's own ``fail`` so the error names its file and place.
 from __future__ import annotations
 
 import math
+import sys
 from typing import Callable, NoReturn
 
 __all__ = ["REQUIRED", "Table", "is_integer", "is_number", "kind_of"]
@@ -22,6 +23,8 @@ class _Required:
 
 
 REQUIRED = _Required()
+_LARGEST_FLOAT = sys.float_info.max
+"""A number beyond it (a TOML integer may be any size) cannot be computed with as a float."""
 """The default of a getter whose key must be present."""
 _NONE = object()
 
@@ -117,6 +120,8 @@ class Table:
         problem = None
         if not is_number(value):
             problem = f"a number, not {kind_of(value)}"
+        elif is_integer(value) and abs(value) > _LARGEST_FLOAT:
+            problem = f"a number a float can hold, not an integer of {len(str(abs(value)))} digits"
         elif not math.isfinite(value):
             problem = f"a finite number, not {value}"
         elif above is not None and not value > above:

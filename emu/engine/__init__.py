@@ -12,6 +12,7 @@ from ._clock_ring import Ring
 from ._control_unit import Emulator, Observer, StopReason
 from ._microstep_compiler import CompiledMachine, Fallback, compile_machine
 from ._ports import Ports
+from ._snapshots import read_snapshot
 
-__all__ = ["CompiledMachine", "Emulator", "Fallback", "Observer", "Ports", "Ring", "StopReason",
+__all__ = ["CompiledMachine", "Emulator", "Fallback", "Observer", "Ports", "Ring", "StopReason", "read_snapshot",
            "compile_machine"]

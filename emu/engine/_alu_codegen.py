@@ -10,7 +10,7 @@ time, so ``result[w]`` becomes ``r >> 8 & 1`` for an 8-bit operation.
 
 from __future__ import annotations
 
-from ..description.notation import Binary, Slice, Unary, Var, alu_parts, evaluate, free_names
+from ..description.notation import Binary, BitRange, Unary, Var, alu_parts, evaluate, free_names
 
 __all__ = ["emit_alu"]
 
@@ -45,7 +45,7 @@ class _Printer:
                 level = _LEVEL[op]
                 left = self.wrap(x, level + 1 if level == 1 else level)
                 return f"{left} {op} {self.wrap(y, level + 1)}", level
-            case Slice(x, h, l):
+            case BitRange(x, h, l):
                 return self.slice(x, _fold(h, self.w), _fold(l, self.w))
         raise TypeError(f"not an ALU expression: {node!r}")
 
@@ -70,7 +70,7 @@ def _reads_exact_result(node, w: int) -> bool:
     match node:
         case Var("result"):
             return True
-        case Slice(Var("result"), h, _):
+        case BitRange(Var("result"), h, _):
             return _fold(h, w) > w - 1
     return any(_reads_exact_result(part, w) for part in alu_parts(node))
 

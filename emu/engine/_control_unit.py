@@ -106,11 +106,13 @@ class Emulator:
             self.memory[start:start + len(words)] = [w & mask for w in words]
 
     def get(self, name: str) -> int:
-        """A register, register pair or flag by name."""
-        pair = self.machine.pairs.get(name)
-        if pair is not None:
-            low_width = self.machine.registers[pair.low].width
-            return self.get(pair.high) << low_width | self.get(pair.low)
+        """A register, register group (its parts side by side, first most significant) or flag by name."""
+        group = self.machine.groups.get(name)
+        if group is not None:
+            value = 0
+            for part in group.parts:
+                value = value << self.machine.registers[part].width | self.get(part)
+            return value
         try:
             slot, _width = self._slots[name]
         except KeyError:
@@ -118,11 +120,11 @@ class Emulator:
         return int(self._s[slot])
 
     def set(self, name: str, value: int) -> None:
-        pair = self.machine.pairs.get(name)
-        if pair is not None:
-            low_width = self.machine.registers[pair.low].width
-            self.set(pair.high, value >> low_width)
-            self.set(pair.low, value)
+        group = self.machine.groups.get(name)
+        if group is not None:
+            for part in reversed(group.parts):
+                self.set(part, value)
+                value >>= self.machine.registers[part].width
             return
         try:
             slot, width = self._slots[name]

@@ -33,8 +33,9 @@ from ..description import Instruction, Machine, Step, resolve_flag
 from ._alu_codegen import emit_alu
 from ._emitter import Emitter
 from ..files import write_atomic
-from ..description.notation import (Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset,
-                                    Output, name_width, unknown_node, value_width, walk)
+from ..description.notation import (Assign, Call, Choose, Condition, Const, Extend, FlagsOnly, Halt, Idle, Input,
+                                    Join, Logic, Mem, Name, Not, Offset, Output, Slice, name_width, top_word_shift,
+                                    unknown_node, value_width, walk)
 
 __all__ = ["CompiledMachine", "compile_machine", "Fallback"]
 
@@ -170,10 +171,12 @@ class _StepTranslator:
         self.ins, self.fixed = ins, fixed or {}
         self.fields = ins.fields if ins else {}
         self.reg_slots = {name: reg.slot for name, reg in machine.registers.items()}
+        self.reg_slots.update({name: flag.slot for name, flag in machine.flags.items()})
 
     # -- names
 
     def register(self, name: str) -> str:
+        """A register or a flag (both are one slot each)."""
         return self.access.read(self.reg_slots[name], name)
 
     def kind_slots(self, field_name: str) -> list[int]:
@@ -203,8 +206,7 @@ class _StepTranslator:
         return f"({', '.join(map(str, padded))})[{index}]"
 
     def width(self, node) -> int:
-        machine = self.machine
-        return value_width(node, machine.registers, machine.pairs, self.fields, machine.data_bits, machine.alu_ops)
+        return value_width(node, self.machine, self.fields)
 
     # -- expressions
 
@@ -220,36 +222,64 @@ class _StepTranslator:
                 slots = self.kind_slots(name)
                 self.access.flush(slots)
                 return f"s[{self.dynamic_slot(name)}]"
-            case Name(name) if name in machine.pairs:
-                pair = machine.pairs[name]
-                low_width = machine.registers[pair.low].width
-                return f"({self.register(pair.high)} << {low_width} | {self.register(pair.low)})"
+            case Name(name) if name in machine.groups:
+                return self.join([(self.register(part), machine.registers[part].width)
+                                  for part in machine.groups[name].parts])
             case Name(name):
                 return self.register(name)
             case Const(value):
                 return str(value)
             case Mem(address):
                 return f"m[{self.address(address)}]"
-            case Join(high, low):
-                return f"({self.expr(high)} << {self.width(low)} | {self.expr(low)})"
+            case Join(parts):
+                return self.join([(self.expr(part), self.width(part)) for part in parts])
             case Offset(base, delta):
                 mask = (1 << self.width(base)) - 1
                 sign = "+" if delta >= 0 else "-"
                 return f"({self.expr(base)} {sign} {abs(delta)} & {mask:#x})"
-            case Choose(flag, negate, a, b):
-                cond = self.access.read(machine.flags[flag].slot, flag)
-                first, second = (b, a) if negate else (a, b)
-                return f"({self.expr(first)} if {cond} else {self.expr(second)})"
+            case Slice(base, high, low):
+                shifted = f"{self.expr(base)} >> {low}" if low else self.expr(base)
+                return f"({shifted} & {(1 << (high - low + 1)) - 1:#x})"
+            case Extend(value, bits, signed):
+                if not signed or bits == self.width(value):
+                    return self.expr(value)
+                # two's complement: flip the sign bit, subtract it back, keep N bits
+                sign_bit = 1 << (self.width(value) - 1)
+                return f"(({self.expr(value)} ^ {sign_bit:#x}) - {sign_bit:#x} & {(1 << bits) - 1:#x})"
+            case Not(operand):
+                return f"(1 ^ {self.expr(operand)})"
+            case Logic(op, left, right):
+                return f"({self.expr(left)} {op} {self.expr(right)})"
+            case Condition():
+                return self.condition(node)
+            case Choose(Condition(Not(test)), a, b):
+                return f"({self.expr(b)} if {self.expr(test)} else {self.expr(a)})"
+            case Choose(condition, a, b):
+                return f"({self.expr(a)} if {self.condition(condition)} else {self.expr(b)})"
             case Input(port):
                 return f"in_({self.expr(port)})"
             case Call("hi", (arg,)):
-                return f"({self.expr(arg)} >> {machine.data_bits} & {machine.data_mask:#x})"
+                shift = top_word_shift(self.width(arg), machine.data_bits)
+                return f"({self.expr(arg)} >> {shift} & {machine.data_mask:#x})"
             case Call("lo", (arg,)):
                 return f"({self.expr(arg)} & {machine.data_mask:#x})"
             case Call():
                 raise AssertionError("ALU operations are translated by alu()")
             case _:
                 unknown_node(node)
+
+    def condition(self, node: Condition) -> str:
+        """A condition as a Python expression that is 1 when it holds and 0 when not
+        (the hook sequencing statements use for their ``if``)."""
+        return self.expr(node.test)
+
+    def join(self, parts: list[tuple[str, int]]) -> str:
+        """Parts (text, width), most significant first, side by side."""
+        pieces, shift = [], 0
+        for text, width in reversed(parts):
+            pieces.append(f"{text} << {shift}" if shift else text)
+            shift += width
+        return f"({' | '.join(reversed(pieces))})"
 
     def address(self, node) -> str:
         text = self.expr(node)
@@ -273,7 +303,7 @@ class _StepTranslator:
         """
         machine = self.machine
         op = machine.alu_ops[call.op]
-        width = op.result_width([self.width(arg) for arg in call.args])
+        width = self.width(call)
         operands = []
         for key, arg in zip(op.operands, call.args):
             text = self.expr(arg)
@@ -317,6 +347,8 @@ class _StepTranslator:
                 self.out.line(f"out_({self.expr(port)}, {self.expr(value)})")
             case Halt():
                 self.out.line("halted = True")
+            case Idle():
+                pass
             case _:
                 unknown_node(st)
 
@@ -325,40 +357,41 @@ class _StepTranslator:
             self.access.write(self.machine.flags[name].slot, name, values[name])
 
     def assign(self, target, value: str, width: int) -> None:
+        """Write a value the checker has held to the target's width (so no mask, except a
+        register field over registers of different widths, which keeps each one's own)."""
         machine = self.machine
         if isinstance(target, Mem):
-            if width > machine.data_bits:
-                value = f"{value} & {machine.data_mask:#x}"
             self.out.line(f"m[{self.address(target.address)}] = {value}")
             return
         name = target.name
         if name in self.fields:
             fld = self.fields[name]
-            reg_width = name_width(name, machine.registers, machine.pairs, self.fields)
-            value = value if width <= reg_width else f"{value} & {(1 << reg_width) - 1:#x}"
             if name in self.fixed:
                 reg = fld.kind.registers[self.fixed[name]]
+                if width > machine.registers[reg].width:
+                    value = f"{value} & {(1 << machine.registers[reg].width) - 1:#x}"
                 self.access.write(self.reg_slots[reg], reg, value)
             else:
+                narrowest = min(machine.registers[r].width for r in fld.kind.registers)
+                if width > narrowest:
+                    value = f"{value} & {(1 << name_width(name, machine, self.fields)) - 1:#x}"
                 slots = self.kind_slots(name)
                 self.access.flush(slots)
                 self.out.line(f"s[{self.dynamic_slot(name, writing=True)}] = {value}")
                 self.access.forget(slots)
             return
-        if name in machine.pairs:
-            pair = machine.pairs[name]
-            low_width = machine.registers[pair.low].width
+        if name in machine.groups:
             if not value.isidentifier():
                 temp = self.out.fresh("v")
                 self.out.line(f"{temp} = {value}")
                 value = temp
-            high_mask = (1 << machine.registers[pair.high].width) - 1
-            self.access.write(self.reg_slots[pair.high], pair.high, f"{value} >> {low_width} & {high_mask:#x}")
-            self.access.write(self.reg_slots[pair.low], pair.low, f"{value} & {(1 << low_width) - 1:#x}")
+            shift = machine.groups[name].width
+            for part in machine.groups[name].parts:
+                part_width = machine.registers[part].width
+                shift -= part_width
+                shifted = f"{value} >> {shift}" if shift else value
+                self.access.write(self.reg_slots[part], part, f"{shifted} & {(1 << part_width) - 1:#x}")
             return
-        reg_width = machine.registers[name].width
-        if width > reg_width:
-            value = f"{value} & {(1 << reg_width) - 1:#x}"
         self.access.write(self.reg_slots[name], name, value)
 
     def step_through_temporaries(self, statements) -> None:
@@ -404,8 +437,8 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
                     return {fld.kind.registers[translator.fixed[name]]}
                 return set(fld.kind.registers) | {translator.ins.holders[p.word] for p in fld.pieces}
             return {translator.ins.holders[p.word] for p in fld.pieces}
-        if name in machine.pairs:
-            return {machine.pairs[name].high, machine.pairs[name].low}
+        if name in machine.groups:
+            return set(machine.groups[name].parts)
         return {name}
 
     if writing:
@@ -417,7 +450,7 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
                 found |= set(flags)
             case Assign(Mem(), _, flags) | FlagsOnly(_, flags):
                 found |= set(flags)
-            case Output() | Halt():
+            case Output() | Halt() | Idle():
                 pass
             case _:
                 unknown_node(node)
@@ -426,11 +459,10 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
         match sub:
             case Name(name):
                 found |= name_slots(name)
-            case Choose(flag, _, _, _):
-                found.add(flag)
             case Call(op, _) if op in machine.alu_ops:
                 found |= {resolve_flag(ref, machine.flags)[0].name for ref in machine.alu_ops[op].reads}
-            case Const() | Mem() | Join() | Offset() | Input() | Call():
+            case (Const() | Mem() | Join() | Offset() | Slice() | Extend() | Not() | Logic() | Condition()
+                  | Choose() | Input() | Call()):
                 pass  # no state of their own; their parts come next in the walk
             case _:
                 unknown_node(sub)

@@ -1,7 +1,8 @@
 """The I/O bus: the panel's switches and lamps, the console and the input stream.
 
 Which device answers at which port number is the machine file's business
-(``[ports]``); this module only knows what each kind of device does. A
+(``[ports]``); what each kind of device does is the description's table of
+devices (``emu.description.PORT_DEVICES``), which this bus calls. A
 transfer to a port with no device is ignored and counted, and so is a read
 past the end of the input stream: it gives 0, as the machine's reference
 says ("I/O ports"), but a program that reads more input than it was given
@@ -12,7 +13,7 @@ from __future__ import annotations
 
 from collections import Counter
 
-from ..description import Machine, Table, is_integer
+from ..description import PORT_DEVICES, Machine, Table, is_integer
 
 __all__ = ["Ports"]
 
@@ -27,33 +28,23 @@ class Ports:
         self.input_position = 0
         self.unmapped = Counter()
         self.reads_past_end = 0
-        self._out = dict(machine.ports_out)
-        self._in = dict(machine.ports_in)
-        self._mask = machine.data_mask
+        self.data_mask = machine.data_mask
+        self._readers = {port: PORT_DEVICES[name].read for port, name in machine.ports_in.items()}
+        self._writers = {port: PORT_DEVICES[name].write for port, name in machine.ports_out.items()}
 
     def read(self, port: int) -> int:
-        device = self._in.get(port)
-        if device == "switches":
-            return self.switches & self._mask
-        if device == "input":
-            if self.input_position < len(self.input_bytes):
-                self.input_position += 1
-                return self.input_bytes[self.input_position - 1]
-            self.reads_past_end += 1
+        reader = self._readers.get(port)
+        if reader is None:
+            self.unmapped[("in", port)] += 1
             return 0
-        if device == "input_ready":
-            return 1 if self.input_position < len(self.input_bytes) else 0
-        self.unmapped[("in", port)] += 1
-        return 0
+        return reader(self)
 
     def write(self, port: int, value: int) -> None:
-        device = self._out.get(port)
-        if device == "console":
-            self.output.append(value & 0xFF)
-        elif device == "lamps":
-            self.lamps = value
-        else:
+        writer = self._writers.get(port)
+        if writer is None:
             self.unmapped[("out", port)] += 1
+            return
+        writer(self, value)
 
     def warnings(self) -> list[str]:
         notes = []
@@ -77,7 +68,7 @@ class Ports:
 
     def checked_state(self, state: Table) -> dict:
         """The ports part of a snapshot, every value checked; ``state`` fails with the reader's error."""
-        for key, top in (("lamps", self._mask), ("switches", self._mask), ("input_position", 1 << 63),
+        for key, top in (("lamps", self.data_mask), ("switches", self.data_mask), ("input_position", 1 << 63),
                          ("reads_past_end", 1 << 63)):
             state.integer(key, low=0, high=top, expected="a word or count of this machine")
         for key in ("output", "input"):

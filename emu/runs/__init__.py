@@ -3,22 +3,25 @@
 ``_loading`` decides what a program file is; ``_panel_files`` reads the
 toggles and input kept beside a program; ``_headless`` runs it as
 ``relaybench run`` does and builds the report; ``_verdicts`` judges its
-``.expect`` checks as ``relaybench test`` does; ``_summary`` words a report; ``_planting`` compares a run with
-halts planted against the plain one.
+``.expect`` checks as ``relaybench test`` does; ``_summary`` words a report;
+``_which_machine`` settles which machine a program runs on; ``_planting``
+compares a run with halts planted against the plain one.
 """
 
 from ._headless import DEFAULT_MAX_CYCLES, RunResult, program_warnings, report, run_loaded, start_emulator
 from ._loading import SOURCE_SUFFIXES, LoadedProgram, ProgramError, load_program
+from ._panel_files import PANEL_SUFFIX, PanelMachine, PanelSettings, panel_machine, panel_path_for, read_panel_file
 from ._planting import Divergence, check_planting, compare_runs, loaded_from_program
-from ._panel_files import PANEL_SUFFIX, PanelSettings, panel_path_for, read_panel_file
 from ._summary import format_summary, pause_place
+from ._which_machine import DEFAULT_MACHINE, MachineChoice, MachineChooser
 from ._verdicts import PROGRAM_SUFFIX, CheckFailure, Verdict, actual_value, check_program, collect_programs
 
 __all__ = [
     "DEFAULT_MAX_CYCLES", "RunResult", "program_warnings", "report", "run_loaded", "start_emulator",
     "SOURCE_SUFFIXES", "LoadedProgram", "ProgramError", "load_program",
     "Divergence", "check_planting", "compare_runs", "loaded_from_program",
-    "PANEL_SUFFIX", "PanelSettings", "panel_path_for", "read_panel_file",
+    "PANEL_SUFFIX", "PanelMachine", "PanelSettings", "panel_machine", "panel_path_for", "read_panel_file",
+    "DEFAULT_MACHINE", "MachineChoice", "MachineChooser",
     "format_summary", "pause_place",
     "PROGRAM_SUFFIX", "CheckFailure", "Verdict", "actual_value", "check_program", "collect_programs",
 ]

@@ -96,7 +96,7 @@ def report(result: RunResult, dumps: list[tuple[str, int, int]] = ()) -> dict:
     machine = emu.machine
     registers = {reg.name: emu.get(reg.name) for reg in machine.visible_registers
                  if reg.name != machine.program_counter}
-    registers.update({name: emu.get(name) for name in machine.pairs})
+    registers.update({name: emu.get(name) for name in machine.groups})
     return {
         "status": result.status,
         "pc": emu.pc,

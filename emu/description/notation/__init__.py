@@ -10,21 +10,24 @@ command options and the debugger; ``alu.lark`` and ``_alu_expr`` are the
 expression language of ALU definitions (``[alu.NAME]`` and the built-ins).
 """
 
-from ._alu_expr import (AluExpr, Binary, Num, Slice, Unary, Var, alu_parts, evaluate, free_names, index_names,
+from ._alu_expr import (AluExpr, Binary, BitRange, Num, Unary, Var, alu_parts, evaluate, free_names, index_names,
                         parse_alu_expression)
-from ._ir import (Assign, Call, Choose, Const, Expr, Expression, FlagsOnly, Halt, Input, Join, Mem, Name, Node,
-                  Offset, Output, Statement, StatementNode, unknown_node, walk)
+
+from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, Expr, Expression, Extend, FlagsOnly, Halt,
+                  Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Slice, Statement, StatementNode,
+                  unknown_node, walk)
 from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parser import parse_step
-from ._widths import WORD_SELECTORS, name_width, value_width
+from ._widths import WORD_SELECTORS, name_width, top_word_shift, value_width
 
 __all__ = [
-    "AluExpr", "Binary", "Num", "Slice", "Unary", "Var", "alu_parts", "evaluate", "free_names", "index_names",
+    "AluExpr", "Binary", "BitRange", "Num", "Unary", "Var", "alu_parts", "evaluate", "free_names", "index_names",
     "parse_alu_expression",
-    "Assign", "Call", "Choose", "Const", "Expr", "Expression", "FlagsOnly", "Halt", "Input", "Join", "Mem",
-    "Name", "Node", "Offset", "Output", "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
+    "Assign", "Call", "Choose", "Condition", "Const", "Expr", "Expression", "Extend", "FlagsOnly", "Halt", "Idle",
+    "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
+    "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
     "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number",
-    "WORD_SELECTORS", "name_width", "value_width",
+    "WORD_SELECTORS", "name_width", "top_word_shift", "value_width",
 ]

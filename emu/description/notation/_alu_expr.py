@@ -16,7 +16,7 @@ import lark
 from ...errors import MachineError
 from ._numbers import GRAMMAR_IMPORTS, literal_value
 
-__all__ = ["AluExpr", "Binary", "Num", "Slice", "Unary", "Var", "alu_parts", "evaluate", "free_names",
+__all__ = ["AluExpr", "Binary", "BitRange", "Num", "Unary", "Var", "alu_parts", "evaluate", "free_names",
            "index_names", "parse_alu_expression"]
 
 
@@ -46,14 +46,14 @@ class Binary:
 
 
 @dataclass(frozen=True)
-class Slice:
-    """``x[high:low]``; ``x[i]`` is ``Slice(x, i, i)``. ``high``/``low`` use numbers and ``w`` only."""
+class BitRange:
+    """``x[high:low]``; ``x[i]`` is ``BitRange(x, i, i)``. ``high``/``low`` use numbers and ``w`` only."""
     value: "AluExpr"
     high: "AluExpr"
     low: "AluExpr"
 
 
-AluExpr = Num | Var | Unary | Binary | Slice
+AluExpr = Num | Var | Unary | Binary | BitRange
 
 
 def _binary(op):
@@ -71,10 +71,10 @@ class _ToTree(lark.Transformer):
         return Unary("-", items[0])
 
     def bit(self, items):
-        return Slice(items[0], items[1], items[1])
+        return BitRange(items[0], items[1], items[1])
 
     def slice(self, items):
-        return Slice(*items)
+        return BitRange(*items)
 
     def name(self, items):
         return Var(str(items[0]))
@@ -114,7 +114,7 @@ def alu_parts(node: AluExpr) -> tuple:
             return (x,)
         case Binary(_, x, y):
             return (x, y)
-        case Slice(x, h, l):
+        case BitRange(x, h, l):
             return (x, h, l)
     return ()
 
@@ -130,7 +130,7 @@ def index_names(node: AluExpr) -> set[str]:
     """The names used where only constants and ``w`` may stand: slice indices and shift amounts."""
     found: set[str] = set()
     match node:
-        case Slice(x, h, l):
+        case BitRange(x, h, l):
             found |= free_names(h) | free_names(l) | index_names(x)
         case Binary("<<" | ">>", x, y):
             found |= free_names(y) | index_names(x)
@@ -158,7 +158,7 @@ def evaluate(node: AluExpr, env: dict[str, int]) -> int:
             return -evaluate(x, env)
         case Binary(op, x, y):
             return _PYTHON[op](evaluate(x, env), evaluate(y, env))
-        case Slice(x, h, l):
+        case BitRange(x, h, l):
             high, low = evaluate(h, env), evaluate(l, env)
             return evaluate(x, env) >> low & ((1 << (high - low + 1)) - 1)
     raise TypeError(f"not an ALU expression: {node!r}")

@@ -3,7 +3,7 @@
 The IR is the single thing every back end reads: the stepping compiler, the
 fused compiler, the design-rule checker, the `isa` table, the disassembler
 and the debugger. It is deliberately tiny — register transfers, one memory
-port, one ALU, flags, I/O and the halt line — so a later back end (whole
+port, one ALU, flags, conditions, I/O, the halt line and idle — so a later back end (whole
 straight-line blocks, numpy lock-step machines) can be written from it
 without going back to the text.
 
@@ -25,8 +25,8 @@ from typing import NoReturn
 
 __all__ = [
     "Node", "Expression", "StatementNode",
-    "Name", "Const", "Mem", "Join", "Offset", "Choose", "Input", "Call",
-    "Assign", "FlagsOnly", "Output", "Halt", "Expr", "Statement",
+    "Name", "Const", "Mem", "Join", "Offset", "Slice", "Extend", "Not", "Logic", "Condition", "Choose",
+    "Input", "Call", "Assign", "FlagsOnly", "Output", "Halt", "Idle", "Expr", "Statement", "LOGIC_OPERATORS",
     "walk", "unknown_node",
 ]
 
@@ -66,7 +66,7 @@ def unknown_node(node) -> NoReturn:
 
 @dataclass(frozen=True)
 class Name(Expression):
-    """A register, a register pair, an operand field or a flag, by name."""
+    """A register, a register group, an operand field or a flag, by name."""
     name: str
 
 
@@ -89,15 +89,14 @@ class Mem(Expression):
 
 @dataclass(frozen=True)
 class Join(Expression):
-    """Two words side by side, ``{high, low}``: an address built on the bus."""
-    high: "Expr"
-    low: "Expr"
+    """Parts side by side, ``{a, b, c}`` (most significant first): an address built on the bus."""
+    parts: tuple["Expr", ...]
 
     def children(self):
-        return (self.high, self.low)
+        return self.parts
 
-    def with_children(self, high, low):
-        return Join(high, low)
+    def with_children(self, *parts):
+        return Join(parts)
 
 
 @dataclass(frozen=True)
@@ -114,18 +113,87 @@ class Offset(Expression):
 
 
 @dataclass(frozen=True)
+class Slice(Expression):
+    """``x[high:low]`` (``x[i]`` is ``x[i:i]``): some wires of a value, no gate."""
+    base: "Expr"
+    high: int
+    low: int
+
+    def children(self):
+        return (self.base,)
+
+    def with_children(self, base):
+        return Slice(base, self.high, self.low)
+
+
+@dataclass(frozen=True)
+class Extend(Expression):
+    """``sext(x, N)`` / ``zext(x, N)``: x widened to N bits, copying its top bit or with zeros."""
+    value: "Expr"
+    width: int
+    signed: bool
+
+    def children(self):
+        return (self.value,)
+
+    def with_children(self, value):
+        return Extend(value, self.width, self.signed)
+
+
+LOGIC_OPERATORS = {"&": "and", "^": "xor", "|": "or"}
+"""The two-input gates of a condition, by the symbol a micro-step writes them with."""
+
+
+@dataclass(frozen=True)
+class Not(Expression):
+    """``!x`` on a 1-bit value."""
+    operand: "Expr"
+
+    def children(self):
+        return (self.operand,)
+
+    def with_children(self, operand):
+        return Not(operand)
+
+
+@dataclass(frozen=True)
+class Logic(Expression):
+    """``a & b``, ``a ^ b``, ``a | b`` on 1-bit values (``op`` is the symbol)."""
+    op: str
+    left: "Expr"
+    right: "Expr"
+
+    def children(self):
+        return (self.left, self.right)
+
+    def with_children(self, left, right):
+        return Logic(self.op, left, right)
+
+
+@dataclass(frozen=True)
+class Condition(Expression):
+    """The boolean expression a choice (or a sequencing statement) tests; ``test`` is 1 bit."""
+    test: "Expr"
+
+    def children(self):
+        return (self.test,)
+
+    def with_children(self, test):
+        return Condition(test)
+
+
+@dataclass(frozen=True)
 class Choose(Expression):
-    """``flag ? a : b``, the gate a conditional jump puts on the pc input."""
-    flag: str
-    negate: bool
+    """``COND ? a : b``, the gate a conditional jump puts on the pc input."""
+    condition: Condition
     if_true: "Expr"
     if_false: "Expr"
 
     def children(self):
-        return (self.if_true, self.if_false)
+        return (self.condition, self.if_true, self.if_false)
 
-    def with_children(self, if_true, if_false):
-        return Choose(self.flag, self.negate, if_true, if_false)
+    def with_children(self, condition, if_true, if_false):
+        return Choose(condition, if_true, if_false)
 
 
 @dataclass(frozen=True)
@@ -152,7 +220,7 @@ class Call(Expression):
         return Call(self.op, args)
 
 
-Expr = Name | Const | Mem | Join | Offset | Choose | Input | Call
+Expr = Name | Const | Mem | Join | Offset | Slice | Extend | Not | Logic | Condition | Choose | Input | Call
 
 
 # ----- statements ----------------------------------------------------------
@@ -201,7 +269,12 @@ class Halt(StatementNode):
     """Drives the halt line; the control unit sets its latch on the falling edge."""
 
 
-Statement = Assign | FlagsOnly | Output | Halt
+@dataclass(frozen=True)
+class Idle(StatementNode):
+    """``idle`` (or an empty step): a cycle that transfers nothing and drives no line."""
+
+
+Statement = Assign | FlagsOnly | Output | Halt | Idle
 
 
 def walk(node: Node):

@@ -7,7 +7,8 @@ from functools import cache
 import lark
 
 from ...errors import MachineError
-from ._ir import Assign, Call, Choose, Const, FlagsOnly, Halt, Input, Join, Mem, Name, Offset, Output, Statement
+from ._ir import (Assign, Call, Choose, Condition, Const, Extend, FlagsOnly, Halt, Idle, Input, Join, Logic, Mem, Name,
+                  Not, Offset, Output, Slice, Statement)
 from ._numbers import GRAMMAR_IMPORTS, char_value, literal_value
 
 __all__ = ["parse_step"]
@@ -42,14 +43,37 @@ class _ToIR(lark.Transformer):
     def flag_list(self, items):
         return tuple(str(t) for t in items)
 
-    def choose(self, items):
-        (negate, flag), if_true, if_false = items
-        return Choose(flag, negate, if_true, if_false)
+    def idle(self, _items):
+        return Idle()
 
-    def condition(self, items):
-        if len(items) == 2:
-            return True, str(items[1])
-        return False, str(items[0])
+    def choose(self, items):
+        test, if_true, if_false = items
+        return Choose(Condition(test), if_true, if_false)
+
+    def logic_or(self, items):
+        return Logic("|", items[0], items[1])
+
+    def logic_xor(self, items):
+        return Logic("^", items[0], items[1])
+
+    def logic_and(self, items):
+        return Logic("&", items[0], items[1])
+
+    def logic_not(self, items):
+        return Not(items[0])
+
+    def slice(self, items):
+        return Slice(items[0], _number(items[1]), _number(items[2]))
+
+    def bit(self, items):
+        index = _number(items[1])
+        return Slice(items[0], index, index)
+
+    def sext(self, items):
+        return Extend(items[0], _number(items[1]), True)
+
+    def zext(self, items):
+        return Extend(items[0], _number(items[1]), False)
 
     def plus(self, items):
         return Offset(items[0], items[1].value)
@@ -70,7 +94,7 @@ class _ToIR(lark.Transformer):
         return Mem(items[0])
 
     def join(self, items):
-        return Join(items[0], items[1])
+        return Join(tuple(items))
 
     def input(self, items):
         return Input(items[0])
@@ -106,9 +130,12 @@ def _parser() -> lark.Lark:
 
 @cache
 def parse_step(text: str) -> tuple[Statement, ...]:
-    """Parse one micro-step; raise MachineError saying where it went wrong."""
+    """Parse one micro-step; raise MachineError saying where it went wrong.
+
+    An empty step is an idle cycle, the same as ``idle``.
+    """
     if not text.strip():
-        raise MachineError("a micro-step must hold at least one statement")
+        return (Idle(),)
     try:
         tree = _parser().parse(text)
     except lark.UnexpectedInput as exc:

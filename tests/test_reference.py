@@ -1,0 +1,124 @@
+"""The machine-format reference (emu/machines/README.md) describes a format that loads.
+
+Each TOML example marked ``<!-- check: … -->`` in the reference is checked:
+``machine`` is a whole machine file; ``adds`` is a part that, appended to
+the reference's complete example machine, must still load; ``replaces`` is a
+part that must load in place of the example's sections of the same names. Examples marked
+``<!-- design: … -->`` describe planned features and are left alone.
+"""
+
+from __future__ import annotations
+
+import re
+from importlib import resources
+from pathlib import Path
+
+import pytest
+
+from asm import assemble_text
+from emu import Emulator, MachineError
+from emu.description import machine_from_text
+
+REFERENCE = Path(__file__).resolve().parent.parent / "emu" / "machines" / "README.md"
+_EXAMPLE = re.compile(r"<!-- (check|design): ([\w-]+)[^>]*-->\s*```toml\n(.*?)```", re.S)
+
+
+def examples(text: str) -> list[tuple[str, str]]:
+    """(mark, TOML text) of every example checked by this file, in page order."""
+    return [(mark, body) for kind, mark, body in _EXAMPLE.findall(text) if kind == "check"]
+
+
+TEXT = REFERENCE.read_text(encoding="utf-8")
+CHECKED = examples(TEXT)
+COMPLETE = next(body for mark, body in CHECKED if mark == "machine")
+COUNTDOWN = """\
+        lda 3
+loop:   out 1       ; the lamps show 3, 2, 1
+        dec
+        jnz loop
+        stop
+"""
+
+
+_HEADER = re.compile(r"^\[\[?([\w.]+)\]\]?", re.M)
+
+
+def with_part(mark: str, part: str) -> str:
+    """The complete example with ``part`` added, or put in place of its sections of the same names."""
+    if mark == "adds":
+        return COMPLETE + "\n" + part
+    replaced = set(_HEADER.findall(part))
+    starts = [m.start() for m in _HEADER.finditer(COMPLETE)] + [len(COMPLETE)]
+    kept = COMPLETE[:starts[0]] + "".join(
+        COMPLETE[a:b] for a, b in zip(starts, starts[1:]) if _HEADER.match(COMPLETE, a)[1] not in replaced)
+    return kept + "\n" + part
+
+
+def test_the_reference_ships_with_the_package_and_the_readmes_link_it():
+    assert resources.files("emu").joinpath("machines", "README.md").is_file()
+    readme = (REFERENCE.parent.parent.parent / "README.md").read_text(encoding="utf-8")
+    assert "(emu/machines/README.md)" in readme
+    assert "(README.md)" in (REFERENCE.parent / "ref8.md").read_text(encoding="utf-8")
+    assert "(ref8.md)" in TEXT
+
+
+def test_the_examples_are_found_and_only_known_marks_are_used():
+    marks = [mark for mark, _ in CHECKED]
+    assert marks.count("machine") == 1 and marks.count("adds") >= 2 and "replaces" in marks
+    assert set(marks) <= {"machine", "adds", "replaces"}
+    every_toml_block = TEXT.count("```toml")
+    assert every_toml_block == len(_EXAMPLE.findall(TEXT)), "a TOML example without a check/design mark"
+
+
+def test_the_complete_example_machine_loads():
+    machine = machine_from_text(COMPLETE, "count8.toml")
+    assert machine.name == "count8" and machine.pause == "stop"
+    assert [i.display for i in machine.instructions][:3] == ["stop", "lda imm", "add imm"]
+
+
+PARTS = [(mark, body) for mark, body in CHECKED if mark != "machine"]
+
+
+@pytest.mark.parametrize("mark, part", PARTS, ids=[f"{i}-{mark}" for i, (mark, _) in enumerate(PARTS, 1)])
+def test_each_part_example_loads_within_the_complete_machine(mark, part):
+    machine_from_text(with_part(mark, part), "count8-with-part.toml")
+
+
+def test_a_replacing_part_takes_the_place_of_the_sections_it_names():
+    text = with_part("replaces", "[registers]\na = 8\npc = 8\nb = 4\n")
+    assert text.count("[registers]") == 1 and "[internal]" in text
+    assert "b" in machine_from_text(text, "count8-b.toml").registers
+
+
+def test_the_reference_program_runs_as_the_reference_says_on_the_example_machine():
+    """Cycles, time and results as the worked example works them out by hand."""
+    machine = machine_from_text(COMPLETE, "count8.toml")
+    program = assemble_text(COUNTDOWN, machine, "countdown.asm")
+    emu = Emulator(machine)
+    emu.load(program.segments)
+    lamps = []
+    reason = emu.run(max_cycles=1_000, until=lambda e: lamps.append(e.lamps) or False)
+    assert reason.kind == "halted"
+    assert emu.cycles == 25 and emu.time_ns == 2_500_000_000
+    assert emu.get("a") == 0 and emu.get("z") == 1
+    assert emu.frozen and machine.phases[emu.phase_index].name == "wait"
+    assert [value for i, value in enumerate(lamps) if i == 0 or value != lamps[i - 1]] == [0, 3, 2, 1]
+
+
+def test_a_part_example_that_breaks_the_format_would_be_caught():
+    """The checker is not vacuous: a misspelt key in an added part is refused."""
+    with pytest.raises(MachineError, match="unknown key"):
+        machine_from_text(COMPLETE + "\n[wear]\nrated_operation = 5\n", "count8-broken.toml")
+
+
+def _slug(heading: str) -> str:
+    """A heading's anchor as Markdown renderers on code hosts make it (common practice)."""
+    kept = re.sub(r"[^\w\- ]", "", heading.strip().lower())
+    return kept.replace(" ", "-")
+
+
+def test_every_link_inside_the_reference_reaches_a_heading():
+    anchors = {_slug(h) for h in re.findall(r"^#+ (.+)$", TEXT, re.M)}
+    links = re.findall(r"\]\(#([^)]+)\)", TEXT)
+    assert len(links) > 10
+    assert [link for link in links if link not in anchors] == []

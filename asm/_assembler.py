@@ -305,7 +305,7 @@ class _Assembly:
         ins = chosen.instruction
         if ins.drives_halt:
             self.last_halt = self.address
-        cycles = ins.cycles(self.machine)
+        cycles = ins.cycles(self.machine).shortest  # the shortest path when sequencing makes it vary
         return self.emit(_Item(self.address, ins.word_count, place, chosen=chosen), "code", cycles)
 
     def emit(self, item: _Item, kind: str, cycles: int | None = None) -> LineEntry | None:

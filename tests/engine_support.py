@@ -19,6 +19,7 @@ ROOT = Path(__file__).resolve().parent.parent
 MACHINE_FOLDERS = (ROOT / "emu" / "machines", ROOT / "tests" / "machines")
 ACC12_PATH = ROOT / "tests" / "machines" / "acc12.toml"
 COND4_PATH = ROOT / "tests" / "machines" / "cond4.toml"
+NIB4_PATH = ROOT / "tests" / "machines" / "nib4.toml"
 
 
 def machine_files() -> dict[str, Path]:
@@ -138,6 +139,23 @@ def datapath_state(emu: Emulator) -> tuple:
     registers_and_flags = emu._s[:emu.machine.undriven_slot]
     return (tuple(int(v) for v in registers_and_flags), bytes(emu.memory) if isinstance(emu.memory, bytearray)
             else tuple(emu.memory), bytes(emu.output), emu.lamps, emu.ports.input_position)
+
+
+def full_state(emu: Emulator) -> tuple:
+    """The datapath and everything the control unit and the clock hold."""
+    return (datapath_state(emu), emu.cycles, emu.instructions, emu.time_ns, emu.phase_index,
+            emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
+
+
+def run_resuming(emu: Emulator, cycles: int) -> list[str]:
+    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
+    target, reasons = emu.cycles + cycles, []
+    while emu.cycles < target:
+        reason = emu.run(max_cycles=target - emu.cycles)
+        reasons.append(reason.kind)
+        if reason.kind == "halted":
+            emu.press_resume()
+    return reasons
 
 
 # ----- one-program runs for the instruction tests ---------------------------------------

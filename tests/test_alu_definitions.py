@@ -27,8 +27,8 @@ from emu.engine._emitter import Emitter
 
 from engine_support import run_program
 
-NIB4_PATH = Path(__file__).parent / "machines" / "nib4.toml"
-NIB4 = emu.load_machine(NIB4_PATH)
+ALU4_PATH = Path(__file__).parent / "machines" / "alu4.toml"
+ALU4 = emu.load_machine(ALU4_PATH)
 
 
 def signed(x: int, w: int) -> int:
@@ -120,7 +120,7 @@ def test_the_builtins_produce_the_documented_flags():
         assert set(op.flags) == expected, name
 
 
-# ----- user definitions on nib4 (tests/machines/nib4.toml)
+# ----- user definitions on alu4 (tests/machines/alu4.toml)
 
 def program(*words):
     return list(words) + [0]   # stop
@@ -129,7 +129,7 @@ def program(*words):
 @pytest.mark.parametrize("path", ["fused", "stepped"])
 @pytest.mark.parametrize("acc, imm, carry", [(9, 8, 0), (9, 8, 1), (7, 8, 1), (0, 0, 0), (15, 0, 1)])
 def test_addx_adds_the_carry_and_sets_carry_by_role_and_z_by_name(path, acc, imm, carry):
-    run = run_program(NIB4, program(0b0010, imm), path, values={"acc": acc, "c": carry})
+    run = run_program(ALU4, program(0b0010, imm), path, values={"acc": acc, "c": carry})
     total = acc + imm + carry
     assert run.emu.get("acc") == total & 0xF
     assert run.emu.get("c") == int(total > 15)
@@ -139,15 +139,15 @@ def test_addx_adds_the_carry_and_sets_carry_by_role_and_z_by_name(path, acc, imm
 @pytest.mark.parametrize("path", ["fused", "stepped"])
 @pytest.mark.parametrize("acc, imm", [(5, 3), (3, 5), (4, 4), (0, 1)])
 def test_a_file_definition_of_a_builtin_name_wins(path, acc, imm):
-    """nib4 redefines sub with carry = no borrow (the opposite of the built-in convention)."""
-    run = run_program(NIB4, program(0b0011, imm), path, values={"acc": acc})
+    """alu4 redefines sub with carry = no borrow (the opposite of the built-in convention)."""
+    run = run_program(ALU4, program(0b0011, imm), path, values={"acc": acc})
     assert run.emu.get("acc") == (acc - imm) & 0xF
     assert run.emu.get("c") == int(acc >= imm)
 
 
 # ----- bad definitions
 
-NIB4_TEXT = NIB4_PATH.read_text(encoding="utf-8")
+ALU4_TEXT = ALU4_PATH.read_text(encoding="utf-8")
 ADDX = '''[alu.addx]
 operands = 2
 result = "a + b + c"
@@ -155,9 +155,9 @@ width = "a"
 flags = { carry = "result[w]", z = "result[w-1:0] == 0" }'''
 
 
-def nib4_with(new: str) -> str:
-    assert NIB4_TEXT.count(ADDX) == 1
-    return NIB4_TEXT.replace(ADDX, new)
+def alu4_with(new: str) -> str:
+    assert ALU4_TEXT.count(ADDX) == 1
+    return ALU4_TEXT.replace(ADDX, new)
 
 
 def load_error(text: str) -> emu.MachineError:
@@ -181,7 +181,7 @@ def load_error(text: str) -> emu.MachineError:
     (ADDX.replace("[alu.addx]", "[alu.hi]"), 32, "[alu.hi]: an ALU operation needs an identifier for a name"),
 ])
 def test_a_bad_definition_is_a_located_error(new, line, message):
-    error = load_error(nib4_with(new))
+    error = load_error(alu4_with(new))
     assert error.line == line
     assert error.text().startswith(message)
 

@@ -12,7 +12,8 @@ import emu
 HERE = Path(__file__).parent
 REF8 = emu.load_machine("ref8")
 ACC12 = emu.load_machine(HERE / "machines" / "acc12.toml")
-MACHINES = {"ref8": REF8, "acc12": ACC12}
+NIB4 = emu.load_machine(HERE / "machines" / "nib4.toml")
+MACHINES = {"ref8": REF8, "acc12": ACC12, "nib4": NIB4}
 
 
 def code_lines(lines):

@@ -126,7 +126,7 @@ def test_panel_file_input_from_a_file(capsys, tmp_path):
 @pytest.mark.parametrize("panel, message", [
     ("switches = 300\n", "1: error: 'switches' must be an integer 0…255 (the 8 toggles of ref8), not 300"),
     ("# toggles\nspeed = 3\n", "2: error: unknown key 'speed' (expected one of: switches, input, input_file, "
-                               "max_cycles, machine)"),
+                               "max_cycles, machine, at_halt)"),
     ('input = "a"\ninput_file = "b"\n', "2: error: give 'input' or 'input_file', not both"),
     ("max_cycles = 0\n", "1: error: 'max_cycles' must be a positive integer, not 0"),
     ("switches = \n", "1:12: error: not valid TOML: Invalid value"),

@@ -204,11 +204,11 @@ def test_isa_shows_groups_flag_meanings_and_the_alu_operations(capsys):
     assert "flags: z (zero), n (negative), c (carry), v (overflow); carry is a borrow after dec, sub, sbc" in out
     assert "  adc(a, b) = a + b + carry, reads c: z = result[w-1:0] == 0; n = result[w-1]; c = result[w]; " \
            "v = ((a ^ result) & (b ^ result))[w-1]" in out
-    nib4 = str(ROOT / "tests" / "machines" / "nib4.toml")
-    code, out, _ = cli(capsys, "isa", "--json", "--machine", nib4)
+    alu4 = str(ROOT / "tests" / "machines" / "alu4.toml")
+    code, out, _ = cli(capsys, "isa", "--json", "--machine", alu4)
     data = json.loads(out)
     assert data["flags"] == {"z": "zero", "c": "carry"} and data["groups"] == {}
     sub = next(op for op in data["alu"] if op["name"] == "sub")
-    assert sub["sets"] == {"z": "result[w-1:0] == 0", "c": "result[w] ^ 1"}   # nib4's own sub: no borrow
-    code, out, _ = cli(capsys, "isa", "--brief", "--machine", nib4)
+    assert sub["sets"] == {"z": "result[w-1:0] == 0", "c": "result[w] ^ 1"}   # alu4's own sub: no borrow
+    code, out, _ = cli(capsys, "isa", "--brief", "--machine", alu4)
     assert "flags: z (zero), c (carry)\n" in out   # its sub is not the built-in: no borrow note

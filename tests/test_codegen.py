@@ -27,7 +27,7 @@ def built(machine):
     """The generated functions bound to fresh state, as the emulator gets them."""
     state = [0] * machine.slot_count
     memory = [0] * machine.memory_words
-    return compile_machine(machine).build(state, memory, lambda port: 0, lambda port, value: None)
+    return compile_machine(machine).build(state, memory, lambda port: 0, lambda port, value: None, lambda address: None)
 
 
 def function_defs(source: str) -> dict[str, ast.FunctionDef]:
@@ -46,7 +46,7 @@ def test_generated_source_compiles_and_parses(name):
 @pytest.mark.parametrize("name", list(MACHINES))
 def test_every_micro_step_function_has_its_text_as_docstring(name):
     machine = MACHINES[name]
-    fetch_steps, instruction_steps, _fused, _run, _watching = built(machine)
+    fetch_steps, instruction_steps, _jumps, _fused, _run, _watching = built(machine)
     assert [f.__doc__ for f in fetch_steps] == [step.text for step in machine.fetch]
     assert [f.__name__ for f in fetch_steps] == [f"fetch_{i + 1}" for i in range(len(machine.fetch))]
     for ins, functions in zip(machine.instructions, instruction_steps, strict=True):
@@ -59,7 +59,7 @@ def test_every_micro_step_function_has_its_text_as_docstring(name):
 @pytest.mark.parametrize("name", list(MACHINES))
 def test_every_form_has_a_fused_function_named_after_it(name):
     machine = MACHINES[name]
-    _fetch, _steps, fused, _run, _watching = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching = built(machine)
     for word, index in enumerate(machine.decode_table):
         function = fused[word]
         if index < 0 or machine.instructions[index].drives_halt:
@@ -83,7 +83,7 @@ def test_every_form_has_a_fused_function_named_after_it(name):
 def test_fused_function_names(name, display, word_values, expected):
     machine = MACHINES[name]
     ins = next(i for i in machine.instructions if i.display == display)
-    _fetch, _steps, fused, _run, _watching = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching = built(machine)
     assert fused[ins.encode(word_values)[0]].__name__ == expected
 
 
@@ -110,7 +110,7 @@ def test_dump_code_writes_the_source_that_tracebacks_name(tmp_path, monkeypatch)
     assert compiled.code.co_filename == str(dumped)
 
     fetch_steps, *_rest = compiled.build([None] * machine.slot_count, bytearray(machine.memory_words),
-                                         lambda port: 0, lambda port, value: None)
+                                         lambda port: 0, lambda port, value: None, lambda address: None)
     with pytest.raises(TypeError) as caught:
         fetch_steps[0]()
     frame = traceback.extract_tb(caught.value.__traceback__)[-1]
@@ -272,7 +272,7 @@ def test_carry_and_overflow_are_computed_only_for_flags_the_step_sets(display, w
     """``c_N``/``o_N`` are the compiler's fresh names for carry-out and overflow."""
     machine = MACHINES["ref8"]
     ins = next(i for i in machine.instructions if i.display == display)
-    _fetch, _steps, fused, _run, _watching = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching = built(machine)
     assert fused[ins.encode(word_values)[0]].__name__ == function
     names = assigned_names(function_defs(compile_machine(machine).source)[function])
     assert {name.split("_")[0] for name in names if name[:2] in ("c_", "o_")} == computed

@@ -151,3 +151,22 @@ def test_planting_rewinds_the_input_stream_and_keeps_the_toggles(tmp_path):
     assert echo.emu.switches == 0x5A and echo.execute("console") == "no console output yet"
     finish(echo)
     assert echo.execute("console") == "2 byte(s):\nok"
+
+
+def test_planting_powers_on_as_restart_does_and_keeps_the_beat(tmp_path):
+    """Burning the planted program is 'restart' with the new image: the beat chosen before
+    draws its turns again from the start, as if chosen at power-on."""
+    beat_first = session_for(tmp_path)
+    beat_first.execute("beat 7")
+    beat_first.execute("instr 5")
+    beat_first.execute("break kiln.asm:5 planted")
+    assert (beat_first.emu.cycles, beat_first.emu.time_ns) == (0, 0)
+    planted_first = session_for(tmp_path)
+    planted_first.execute("break kiln.asm:5 planted")
+    planted_first.execute("beat 7")
+    even = session_for(tmp_path)
+    even.execute("break kiln.asm:5 planted")
+    for session in (beat_first, planted_first, even):
+        finish(session)
+    assert beat_first.emu.cycles == even.emu.cycles
+    assert beat_first.emu.time_ns == planted_first.emu.time_ns != even.emu.time_ns

@@ -10,26 +10,11 @@ from hypothesis import strategies as st
 
 from emu import Emulator, MachineError, Observer
 
-from engine_support import MACHINES, boot, datapath_state, encode, plain_words, programs, skip_unless_properties_run
+from engine_support import (MACHINES, boot, encode, full_state, plain_words, programs, run_resuming,
+                            skip_unless_properties_run)
 
 EVERY_MACHINE = pytest.mark.parametrize("machine_name", MACHINES)
 """Every machine file under emu/machines/ and tests/machines/, as engine_support finds them."""
-
-
-def _full_state(emu: Emulator) -> tuple:
-    return (datapath_state(emu), emu.cycles, emu.instructions, emu.time_ns, emu.phase_index,
-            emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
-
-
-def _run_resuming(emu: Emulator, cycles: int) -> list[str]:
-    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
-    target, reasons = emu.cycles + cycles, []
-    while emu.cycles < target:
-        reason = emu.run(max_cycles=target - emu.cycles)
-        reasons.append(reason.kind)
-        if reason.kind == "halted":
-            emu.press_resume()
-    return reasons
 
 
 @EVERY_MACHINE
@@ -46,8 +31,8 @@ def _fused_and_stepping_agree(machine, data, cycles):
     words = data.draw(programs(machine))
     fast, stepped = boot(machine, words), boot(machine, words)
     stepped.observe(Observer())
-    assert _run_resuming(fast, cycles) == _run_resuming(stepped, cycles)
-    assert _full_state(fast) == _full_state(stepped)
+    assert run_resuming(fast, cycles) == run_resuming(stepped, cycles)
+    assert full_state(fast) == full_state(stepped)
 
 
 @EVERY_MACHINE
@@ -64,20 +49,20 @@ def _snapshot_restore_continues(machine, tmp_path_factory, data, before, after, 
     words = data.draw(programs(machine))
     whole, first = boot(machine, words), boot(machine, words)
     for emu in (whole, first):
-        _run_resuming(emu, before)
+        run_resuming(emu, before)
         if stop:
             emu.set_switch_run(False)
             emu.run(max_cycles=50)
     path = tmp_path_factory.mktemp("snap") / "state.json"
     first.snapshot(path)
     second = Emulator.restore(path, machine)
-    assert _full_state(second) == _full_state(first)
+    assert full_state(second) == full_state(first)
     for emu in (whole, second):
         if stop:
             emu.press_step()
             emu.set_switch_run(True)
-        _run_resuming(emu, after)
-    assert _full_state(second) == _full_state(whole)
+        run_resuming(emu, after)
+    assert full_state(second) == full_state(whole)
 
 
 def test_ref8_halt_freezes_at_the_boundary_right_after_it():
@@ -138,9 +123,9 @@ def test_step_while_running_does_nothing():
     machine = MACHINES["ref8"]
     emu = boot(machine, encode(machine, "inc rd", rd=0) * 4)
     emu.advance_phase()
-    before = _full_state(emu)
+    before = full_state(emu)
     assert emu.press_step() is False
-    assert _full_state(emu) == before
+    assert full_state(emu) == before
 
 
 def test_reset_clears_pc_sequencer_flags_and_latch_but_keeps_registers_and_memory():
@@ -239,7 +224,7 @@ def test_a_damaged_snapshot_is_refused_and_changes_nothing(damage, tmp_path):
     damage(state)
     path = tmp_path / "damaged.json"
     path.write_text(json.dumps(state))
-    before = _full_state(emu)
+    before = full_state(emu)
     with pytest.raises(MachineError, match="damaged snapshot"):
         emu.restore_state(json.loads(path.read_text()), str(path))
-    assert _full_state(emu) == before
+    assert full_state(emu) == before

@@ -174,9 +174,12 @@ class PanelMachine(RuleBasedStateMachine):
             assert emu.halt_latch, "the latch stays set through steps"
 
     def _single_step_instruction(self, seq) -> bool:
+        """Whether a STEP may leave the sequencer where it was: a one-step fetch with no
+        instruction steps, or a step that repeats itself (``wait until``, ``goto`` to itself)."""
         index, step = seq
         if index >= 0:
-            return False
+            jump = self.machine.instructions[index].steps[step].jump
+            return jump is not None and jump.target == step
         return len(self.machine.fetch) == 1 and step == 0
 
     @rule()

@@ -71,12 +71,12 @@ CASES = {
     "overlapping encodings": (
         ref8_with('syntax = "jmp x"\nencoding = ["00000011"]', 'syntax = "jmp x"\nencoding = ["00000010"]'),
         "instruction 'jmp x': its encoding overlaps instruction 'ret' at first word 0x02; "
-        "the first word alone must tell instructions apart",
+        "the first word alone must tell them apart, or both must say decode_words ≥ 2",
     ),
     "overlap through a register field": (
         ref8_with('encoding = ["00011 rd", "imm"]', 'encoding = ["0001 0 rd", "imm"]'),
         "instruction 'li rd, imm': its encoding overlaps instruction 'jv addr' at first word 0x10; "
-        "the first word alone must tell instructions apart",
+        "the first word alone must tell them apart, or both must say decode_words ≥ 2",
     ),
     "two memory reads": (
         ref8_with('steps = ["rd <- mem[x]"]', 'steps = ["rd <- mem[x]; t <- mem[sp]"]'),
@@ -410,7 +410,7 @@ def test_a_tiny_hand_written_machine_loads_and_runs():
                                                  "(level 1) and one low (level 0) phase"),
     ('encoding = ["01 n"]', 'encoding = ["00 n"]', "45: error: instruction 'put n': its encoding overlaps "
                                                    "instruction 'stop' at first word 0x0; the first word "
-                                                   "alone must tell instructions apart"),
+                                                   "alone must tell them apart, or both must say decode_words ≥ 2"),
     ('steps = ["a <- n"]', 'steps = ["a <- n; out(n, a); out(n, a)"]',
      "46: error: instruction 'put n' step 2: two port transfers in one micro-step (there is one I/O bus)"),
     ('steps = ["a <- n"]', 'steps = ["a <- n + 0xF0"]',

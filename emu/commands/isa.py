@@ -136,11 +136,18 @@ def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
                   for number, name in sorted(wired.items())],
         "instructions": [{
             "syntax": ins.display, "mnemonic": ins.mnemonic, "encoding": encoding_words(ins, machine),
-            "words": ins.word_count, "cycles": ins.cycles(machine),
+            "words": ins.word_count, **_cycles_json(ins.cycles(machine)),
             "flags": list(ins.flags_written(machine)), "drives_halt": ins.drives_halt,
             "steps": steps(ins.steps),
         } for ins in instructions],
     }
+
+
+def _cycles_json(cycles) -> dict:
+    """``cycles`` as a number when fixed; with sequencing, also the shortest and longest (null: a loop)."""
+    if cycles.fixed:
+        return {"cycles": cycles.shortest}
+    return {"cycles": str(cycles), "shortest": cycles.shortest, "longest": cycles.longest}
 
 
 def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -> str:
@@ -166,7 +173,7 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
     for ins in instructions:
         flags = " ".join(ins.flags_written(machine)) or "-"
         lines.append(f"{ins.display:<{syntax_width}}  {encodings[ins.index]:<{encoding_width}}  "
-                     f"{ins.cycles(machine):>6}  {flags}")
+                     f"{str(ins.cycles(machine)):>6}  {flags}")
         if not brief:
             lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(ins.steps, fetch + 1)]
     return "\n".join(lines) + "\n"

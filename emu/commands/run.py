@@ -14,7 +14,8 @@ import sys
 from contextlib import ExitStack
 
 from ._progress import Progress, terminal_attached
-from ..runs import DEFAULT_MAX_CYCLES, ProgramError, load_program, report, run_loaded, start_emulator
+from ..runs import (DEFAULT_MAX_CYCLES, ProgramError, load_program, operator_script_for, report, run_loaded,
+                    start_emulator)
 from ..runs import format_summary
 from ..formatting import address_text, count_text, duration_text, rate_text
 from ..timing import count_wear, format_wear, record_vcd, spread_source
@@ -71,6 +72,7 @@ def main(args) -> int:
         program = load_program(args.program, machine)
         switches, data = panel_settings(args, args.program, machine)
         emulator = start_emulator(program, machine, switches=switches, input_bytes=data)
+        operator = operator_script_for(args.program, machine)
     except ProgramError as exc:
         return print_program_error(exc)
     if args.clock_spread is not None:
@@ -86,7 +88,7 @@ def main(args) -> int:
             wear = observers.enter_context(count_wear(emulator)) if args.wear else None
             bar = progress.line(args.program)
             result = run_loaded(program, machine, max_cycles=args.max_cycles,
-                                stop_at_pause=args.stop_at_pause, emulator=emulator,
+                                stop_at_pause=args.stop_at_pause, emulator=emulator, operator=operator,
                                 chunk=lambda emu: bar.update(emu.cycles))
     except KeyboardInterrupt:
         print(f"relaybench: run interrupted after {count_text(emulator.cycles, 'cycle')} "

@@ -15,7 +15,7 @@ from ._conditions import CallDepth, Count
 from ._panel import bus_text, word_hex
 from ._table import DebugError, command
 
-__all__ = []
+__all__ = ["power_cycle"]
 
 PULSE_REPORT = 8
 """Pulses listed one by one; beyond that only a count."""
@@ -110,13 +110,25 @@ def do_restart(session, args):
     up at STOP, so the program starts with 'go'. A waveform being recorded
     is written first (its time cannot go back)."""
     no_arguments(args, "restart")
-    written = ""
+    written = power_cycle(session, "restarted: powered on with the program loaded again")
+    written = f"waveform written to {written}; " if written else ""
+    return f"{written}restarted with the program loaded again; {session.state_text()}. {session.here_text()}"
+
+
+def power_cycle(session, last_stop: str) -> str | None:
+    """Power off and on with the session's program loaded afresh: the one way the
+    debugger starts a program again ('restart', and a program burnt anew with its
+    planted halts). What 'restart' documents happens; ``last_stop`` is what 'why'
+    says next. Returns the file of a waveform recording that was written (its time
+    cannot go back), None when none was recording."""
+    written = None
     if session.waves is not None:
-        written = f"waveform written to {session.waves[0]}; "
+        written = session.waves[0]
         session.close()
     session.restart()
-    session.last_stop = "restarted: powered on with the program loaded again"
-    return f"{written}restarted with the program loaded again; {session.state_text()}. {session.here_text()}"
+    session.last_stop = last_stop
+    session.dump_next = 0
+    return written
 
 
 @command("toggles [VALUE]", "Show or set the panel's toggle switches (an input port of the machine).")

@@ -4,10 +4,11 @@ A planted breakpoint is a halt assembled into the program (``asm.plant_halts``),
 as on a relay machine whose only breakpoint is a halt in its memory. Planting
 or dropping one makes a new image, so the honest analogue is what the
 builder does: burn the new program and restart. Memory is reloaded from the
-new image and the machine powers on again (registers, flags, counters and
-console cleared, the input stream rewound, the toggles kept, the switch at
-STOP). Every other breakpoint and memory watchpoint follows its statement
-to the address it has now; what moved is said.
+new image and the machine powers on again exactly as 'restart' does
+(``power_cycle``: registers, flags, counters and console cleared, the input
+stream rewound, the toggles and the beat kept, the switch at STOP). Every
+other breakpoint and memory watchpoint follows its statement to the address
+it has now; what moved is said.
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ import asm
 from emu import Emulator, MachineError
 from emu.runs import loaded_from_program
 
+from ._clock_commands import power_cycle
 from ._conditions import Watch
 from ._program import Places, ProgramView
 from ._stopping import Breakpoint
@@ -73,7 +75,7 @@ def replant(session, breakpoints: dict[int, Breakpoint]) -> str:
     view = ProgramView(old_view.path, loaded, dict(loaded.labels), dict(loaded.symbols), list(loaded.lines),
                        loaded.pauses, dict(loaded.source_map), dict(loaded.sources), planting=planting)
     places_now = Places(session.machine, view)
-    emulator = _burnt(session, view)
+    _check_fits(session, view)
 
     def follow(address: int) -> int:
         before = old_view.planting.original_address(address) if old_view.planting else address
@@ -90,12 +92,13 @@ def replant(session, breakpoints: dict[int, Breakpoint]) -> str:
         if w.address is not None:
             session.watches[number] = Watch(number, address=follow(w.address),
                                             label=f"[{places_now.hex(follow(w.address))}]")
-    waves = session.waves[0] if session.waves else None
-    _power_on(session, emulator, view, places_now)
+    session.view, session.places = view, places_now
+    waves = power_cycle(session, "the program was burnt again with its planted halts and started from the beginning")
     kept = f"; the waveform recording was written to {waves}" if waves else ""
     return (f"the program was assembled again with {_halts(len(planting.halt_places))} and burnt into memory; "
             f"it starts again from the beginning: registers, flags, counters and console cleared, "
-            f"input rewound, toggles kept, switch at STOP{kept}.\n{moved_text(session, planting, SHOWN_MOVES)}")
+            f"input rewound, toggles and beat kept, switch at STOP{kept}.\n"
+            f"{moved_text(session, planting, SHOWN_MOVES)}")
 
 
 SHOWN_MOVES = 8
@@ -124,23 +127,9 @@ def _halts(count: int) -> str:
     return "no planted halt" if count == 0 else f"{count} planted halt{'s' if count != 1 else ''}"
 
 
-def _burnt(session, view: ProgramView) -> Emulator:
-    """A new machine with the new image; the toggles and the input stream carried over."""
-    emulator = Emulator(session.machine)
+def _check_fits(session, view: ProgramView) -> None:
+    """Refuse a planted program that memory cannot hold, before anything changes."""
     try:
-        emulator.load(view.loaded.segments)
+        Emulator(session.machine).load(view.loaded.segments)
     except MachineError as exc:
         raise DebugError(f"the planted program does not fit: {exc.message}") from None
-    emulator.switches = session.emu.switches
-    emulator.input_bytes = session.emu.input_bytes
-    return emulator
-
-
-def _power_on(session, emulator: Emulator, view: ProgramView, places: Places) -> None:
-    """The session works on the new machine, switch at STOP, as after 'relaybench debug'."""
-    session.view, session.places = view, places
-    session.attach(emulator)
-    emulator.set_switch_run(False)
-    session.settle()
-    session.last_stop = "the program was burnt again with its planted halts and started from the beginning"
-    session.dump_next = 0

@@ -9,8 +9,9 @@ from __future__ import annotations
 
 from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
-from .notation import (Assign, Call, Choose, Condition, Const, Extend, FlagsOnly, Halt, Idle, Input, Join, Logic,
-                       Mem, Name, Not, Offset, Output, Slice, name_width, unknown_node, value_width)
+from .notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join,
+                       Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width, unknown_node,
+                       value_width)
 
 __all__ = ["StepChecker"]
 
@@ -32,6 +33,8 @@ class StepChecker:
         self.written: dict[str, str] = {}
         self.lines: list[str] = []
         self.halts = self.idle = False
+        self.sequencing = None
+        """The step's one sequencing statement (end, goto, wait until), if any."""
 
     def fail(self, message):
         self._fail(self.where, message)
@@ -77,6 +80,12 @@ class StepChecker:
                 self.line("halt")
             case Idle():
                 self.idle = True
+            case End(condition) | Goto(_, condition) | WaitUntil(condition):
+                if self.sequencing is not None:
+                    self.fail("a step has at most one sequencing statement (end, goto, wait until)")
+                self.sequencing = st
+                if condition is not None:
+                    self.condition(condition)
             case _:
                 unknown_node(st)
 

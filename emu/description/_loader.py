@@ -20,6 +20,8 @@ from ..errors import MachineError
 from ._alu import RESERVED_OPERATION_NAMES, builtin_alu_ops, read_alu_op
 from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
+from ._decoding import decode_groups
+from ._sequencing import resolve_jump
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
 from ._schema import Table, is_integer
@@ -137,14 +139,15 @@ class _Loader:
             choices = ", ".join(i.mnemonic for i in halting) or "none"
             assembler.fail(f"'pause' must name an instruction without operands that drives halt "
                            f"(candidates: {choices}), not '{pause}'", "pause")
-        self.check_overlaps(instructions, data_bits)
+        decoding = decode_groups(instructions, data_bits, lambda ins, message: self.fail_at(
+            f"instruction '{ins.display}'", ("instruction", ins.index, "encoding"), message))
         machine = Machine(
             name=name, title=head.string("title", default=name), path=self.path,
             data_bits=data_bits, address_bits=address_bits, memory_words=memory_words,
             registers=registers, groups=groups, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
-            instruction_register=ir, pause=pause.lower(), alu_ops=names.alu_ops,
+            instruction_register=ir, pause=pause.lower(), decode_groups=decoding, alu_ops=names.alu_ops,
         )
         if "timing" in top:
             machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
@@ -332,6 +335,7 @@ class _Loader:
                 if isinstance(st, Assign) and isinstance(st.target, Mem) or isinstance(st, (Output, Halt)):
                     self.fail_at(f"[fetch] step {i}", ("fetch", "steps", i - 1),
                                  "fetch steps may only read: no memory writes, output or halt")
+
         if _computed(steps, names.ir):
             spec.fail("the fetch steps must load the instruction register by plain register transfers "
                       "(no ALU, input or choice)", "steps")
@@ -356,7 +360,7 @@ class _Loader:
         if not isinstance(raw, dict):
             self.fail_at(f"[[instruction]] {index + 1}", key, "an instruction must be a table")
         spec = Table(raw, f"[[instruction]] {index + 1}", self.fail_at, key)
-        spec.known_keys(("syntax", "encoding", "steps") + CALL_KEYS)
+        spec.known_keys(("syntax", "encoding", "steps", "decode_words") + CALL_KEYS)
         syntax = spec.string("syntax").strip()
         spec.where = f"instruction '{_strip_kinds(syntax)}'"
         mnemonic, operands, field_kinds = self.syntax(spec, syntax, kinds, names)
@@ -374,16 +378,24 @@ class _Loader:
         places = [(f"{spec.where} step {fetch_count + i}", key + ("steps", i - 1)) for i in range(1, len(texts) + 1)]
         parsed = [self.parse(text, where, at) for text, (where, at) in zip(texts, places)]
         holders = self.word_holders(spec, names, parsed, len(encoding))
+        decode_words = spec.integer("decode_words", low=1, high=len(encoding), default=1,
+                                    expected=f"a number of leading encoding words, 1…{len(encoding)}")
+        if decode_words - 1 not in holders:
+            spec.fail(f"word {decode_words} decodes the instruction (decode_words = {decode_words}), so a "
+                      f"step must load it whole into a register (t <- mem[{names.pc}])", "decode_words")
+        decode_step = holders[decode_words - 1][0] - 1
         steps = []
         for i, (text, statements, (where, at)) in enumerate(zip(texts, parsed, places), 1):
             fetched_words = {w for w, (step_no, _reg) in holders.items() if step_no < i}
             available = {name: f for name, f in fields.items()
                          if all(p.word in fetched_words for p in f.pieces)}
-            steps.append(self.step(names, statements, text, where, at, fields, available))
+            steps.append(self.step(names, statements, text, where, at, fields, available,
+                                   (i - 1, fetch_count, len(texts), decode_step)))
         return Instruction(
             index=index, syntax=syntax, mnemonic=mnemonic, operands=operands, fields=fields,
             word_count=len(encoding), fixed=fixed, steps=tuple(steps),
             holders={w: reg for w, (_s, reg) in holders.items()}, call=call, returns=returns,
+            decode_words=decode_words, decode_step=decode_step,
         )
 
     def syntax(self, spec: Table, syntax: str, kinds, names: MachineNames):
@@ -479,25 +491,19 @@ class _Loader:
             self.fail_at(where, key, exc.message)
 
     def step(self, names: MachineNames, statements, text: str, where: str, key: tuple,
-             fields, available) -> Step:
+             fields, available, position=None) -> Step:
+        """One checked step; ``position`` is (own index, fetch steps, own steps, decode step)
+        for an instruction's step, None for a fetch step."""
         checker = StepChecker(names, where, fields, available,
                               lambda at, message: self.fail_at(at, key, message))
         for st in statements:
             checker.statement(st)
         checker.finish()
-        return Step(text.strip() or "idle", statements, tuple(checker.lines), checker.halts)
-
-    def check_overlaps(self, instructions: list[Instruction], data_bits: int):
-        owner = [-1] * (1 << data_bits)
-        for ins in instructions:
-            for word in ins.first_words(data_bits):
-                if owner[word] >= 0:
-                    other = instructions[owner[word]]
-                    width = (data_bits + 3) // 4
-                    self.fail_at(f"instruction '{ins.display}'", ("instruction", ins.index, "encoding"),
-                                 f"its encoding overlaps instruction '{other.display}' at first word "
-                                 f"0x{word:0{width}X}; the first word alone must tell instructions apart")
-                owner[word] = ins.index
+        if checker.sequencing is not None and position is None:
+            checker.fail("fetch steps run in order: no end, goto or wait until (they belong to an "
+                         "instruction's own steps)")
+        jump = None if checker.sequencing is None else resolve_jump(checker.sequencing, position, checker.fail)
+        return Step(text.strip() or "idle", statements, tuple(checker.lines), checker.halts, jump)
 
 
 def _computed(steps: tuple[Step, ...], register: str) -> bool:

@@ -13,15 +13,17 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 from functools import cached_property
+from typing import NamedTuple
 
 from ._alu import builtin_alu_ops
 from ._call_marks import CallMark
 from ._port_devices import devices_for
 from ._sections import TimingSection, WearRatings
-from .notation import Assign, FlagsOnly, Name, Statement
+from .notation import Assign, Condition, FlagsOnly, Name, Statement
 
 __all__ = [
-    "Machine", "MachineNames", "Instruction", "Step", "Register", "RegisterGroup", "Flag",
+    "Machine", "MachineNames", "Instruction", "Step", "Jump", "Cycles", "DecodeGroup", "Register", "RegisterGroup",
+    "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
     "FLAG_ROLES", "PLAIN_FLAG", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
 ]
@@ -133,12 +135,80 @@ class Phase:
 
 
 @dataclass(frozen=True)
+class Jump:
+    """Where the sequencer goes after a step with a sequencing statement.
+
+    To ``target`` (an index into the instruction's own steps; the number of
+    steps means "the instruction is finished") when ``condition`` is
+    ``when`` — always when there is no condition — else to the next step.
+    ``end if z`` is Jump(n, z, True); ``wait until rdy`` on step k is
+    Jump(k, rdy, False). The condition reads the state before the step.
+    """
+    target: int
+    condition: Condition | None
+    when: bool = True
+
+    def successors(self, step: int) -> tuple[int, ...]:
+        return (self.target,) if self.condition is None else (self.target, step + 1)
+
+
+@dataclass(frozen=True)
 class Step:
-    """One micro-step: its text, its IR, and the control lines it drives."""
+    """One micro-step: its text, its IR, the control lines it drives, and where it goes next."""
     text: str
     statements: tuple[Statement, ...]
     control_lines: tuple[str, ...]
     drives_halt: bool
+    jump: Jump | None = None
+
+
+class Cycles(NamedTuple):
+    """Clock cycles of an instruction: its shortest and longest path (None: a loop, unbounded)."""
+    shortest: int
+    longest: int | None
+
+    @property
+    def fixed(self) -> bool:
+        return self.shortest == self.longest
+
+    def __str__(self) -> str:
+        if self.fixed:
+            return str(self.shortest)
+        return f"{self.shortest}–{'∞' if self.longest is None else self.longest}"
+
+
+def step_paths(steps: tuple[Step, ...]) -> tuple[int, int | None]:
+    """Shortest and longest number of steps from the first step to the end (None: a loop can repeat)."""
+    end = len(steps)
+
+    def successors(k):
+        jump = steps[k].jump
+        return (k + 1,) if jump is None else jump.successors(k)
+
+    distance, frontier = {0: 0}, [0]
+    while frontier and end not in distance:
+        reached = []
+        for k in frontier:
+            for n in successors(k):
+                if n not in distance:
+                    distance[n] = distance[k] + 1
+                    reached.append(n)
+        frontier = [n for n in reached if n != end]
+    shortest = distance.get(end, 0) if steps else 0
+    longest: dict[int, int | None] = {end: 0}
+    visiting: set[int] = set()
+
+    def longest_from(k) -> int | None:
+        if k in longest:
+            return longest[k]
+        if k in visiting:
+            return None
+        visiting.add(k)
+        rest = [longest_from(n) for n in successors(k)]
+        visiting.discard(k)
+        longest[k] = None if None in rest else 1 + max(rest)
+        return longest[k]
+    return shortest, (longest_from(0) if steps else 0)
 
 
 @dataclass
@@ -157,6 +227,10 @@ class Instruction:
     """How it calls a routine, as the machine file marks it (None: no call, or unmarked)."""
     returns: bool = False
     """Marked as the return from a routine (``returns = true``)."""
+    decode_words: int = 1
+    """How many leading words tell this instruction apart (``decode_words`` in the file)."""
+    decode_step: int = -1
+    """Index of the own step after which it is decoded (the one fetching its last decoding word); -1: the fetch."""
 
     @property
     def display(self) -> str:
@@ -164,9 +238,19 @@ class Instruction:
         ops = ", ".join(op.text() for op in self.operands)
         return f"{self.mnemonic} {ops}".strip()
 
-    def cycles(self, machine: "Machine") -> int:
-        """Clock cycles of the whole instruction: the fetch steps and its own."""
-        return len(machine.fetch) + len(self.steps)
+    def cycles(self, machine: "Machine") -> Cycles:
+        """Clock cycles of the whole instruction, the fetch steps included: shortest and longest path."""
+        shortest, longest = step_paths(self.steps)
+        fetch = len(machine.fetch)
+        return Cycles(fetch + shortest, None if longest is None else fetch + longest)
+
+    @property
+    def has_loop(self) -> bool:
+        return step_paths(self.steps)[1] is None
+
+    @property
+    def has_jumps(self) -> bool:
+        return any(step.jump is not None for step in self.steps)
 
     def first_words(self, data_bits: int):
         """Every first-word value that decodes to this instruction.
@@ -226,6 +310,32 @@ class Instruction:
         return tuple(f for f in machine.flags if f in written)
 
 
+@dataclass(frozen=True)
+class DecodeGroup:
+    """Instructions told apart only after some of their own steps (``decode_words`` ≥ 2).
+
+    Every member shares the steps up to ``decode_step``; the sequencer runs
+    them as the first member's, then looks the decoding words up in
+    ``table`` (the words masked by ``masks`` and laid side by side, first
+    word lowest) and goes on with the member found — or, when none is, ends
+    the instruction as an undefined opcode.
+    """
+    members: tuple[int, ...]
+    decode_step: int
+    holders: tuple[str, ...]
+    """The register holding each decoding word once the shared steps have run (the first: ir)."""
+    masks: tuple[int, ...]
+    data_bits: int
+    table: dict[int, int]
+
+    def key(self, words) -> int:
+        return sum((word & mask) << (self.data_bits * k) for k, (word, mask) in enumerate(zip(words, self.masks)))
+
+    def member_for(self, words) -> int:
+        """The member the decoding words select, or -1 (an undefined opcode)."""
+        return self.table.get(self.key(words), -1)
+
+
 def stage_relay(stage: int) -> str:
     """The relay of clock-ring stage ``stage`` (from 1), as wear reports and ``[wear.relays]`` name it."""
     return f"stage {stage}"
@@ -279,6 +389,8 @@ class Machine:
     """The checked ``[timing]`` section (the clock ring's parts), None when the file has none."""
     wear: WearRatings = field(default_factory=WearRatings)
     """The checked ``[wear]`` section; without one no rated life is known."""
+    decode_groups: dict[int, DecodeGroup] = field(default_factory=dict)
+    """First member's index → its decode group; ``decode_table`` sends the group's first words there."""
     alu_ops: dict = field(default_factory=builtin_alu_ops)
     """Operation name → ``AluOp``: the built-ins, then the file's own (a file's definition wins)."""
 
@@ -316,11 +428,12 @@ class Machine:
 
     @cached_property
     def decode_table(self) -> tuple[int, ...]:
-        """First word value → instruction index, or -1 for an undefined opcode."""
+        """First word value → instruction index (a decode group's first member), or -1 for an undefined opcode."""
+        first_member = {m: first for first, group in self.decode_groups.items() for m in group.members}
         table = [-1] * (1 << self.data_bits)
         for ins in self.instructions:
             for word in ins.first_words(self.data_bits):
-                table[word] = ins.index
+                table[word] = first_member.get(ins.index, ins.index)
         return tuple(table)
 
     @cached_property
@@ -339,6 +452,9 @@ class Machine:
 
     def instruction_at(self, words) -> Instruction | None:
         index = self.decode_table[words[0]] if words else -1
+        group = self.decode_groups.get(index)
+        if group is not None:
+            index = group.member_for(words[:len(group.masks)]) if len(words) >= len(group.masks) else -1
         if index < 0:
             return None
         ins = self.instructions[index]

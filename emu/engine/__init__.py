@@ -2,7 +2,9 @@
 
 ``_microstep_compiler`` turns a machine description's micro-steps into
 Python (one function per micro-step, one fused function per instruction),
-written through ``_emitter``. ``_control_unit`` is the hold line, the halt
+written through ``_emitter``; ``_blocks`` translates hot straight-line code
+into one function a block (``_block_translator``, ``_block_dispatch``,
+``_dead_assignments``). ``_control_unit`` is the hold line, the halt
 latch, STEP, RESUME and RESET, and the two paths that run the compiled
 steps; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
 devices on the I/O bus; ``_snapshots`` the whole state as a file.

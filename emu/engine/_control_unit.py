@@ -22,6 +22,7 @@ import json
 from collections import Counter
 from dataclasses import dataclass
 
+from ._blocks import BlockRunner
 from ._clock_ring import Ring
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
@@ -70,10 +71,15 @@ class Emulator:
         self._s = [0] * machine.slot_count
         self.memory = bytearray(machine.memory_words) if machine.data_bits <= 8 else [0] * machine.memory_words
         self.ports = Ports(machine)
-        bound = compiled.build(self._s, self.memory, self.ports.read, self.ports.write)
+        bound = compiled.build(self._s, self.memory, self.ports.read, self.ports.write, self._count_undefined)
         self._fetch_steps, self._instruction_steps = bound.fetch_steps, bound.instruction_steps
+        self._jumps = bound.instruction_jumps
+        self._groups = {index: (group, [machine.registers[r].slot for r in group.holders])
+                        for index, group in machine.decode_groups.items()}
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
         self._max_fused = compiled.max_fused_cycles
+        self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
+                                  bound.fused, self._run_free)
         self._phases = machine.phases
         self._decode = machine.decode_table
         self._pc = machine.registers[machine.program_counter].slot
@@ -315,16 +321,23 @@ class Emulator:
             else:
                 decoded = self._decode[self._s[self._ir]]
                 if decoded < 0:
-                    self._undefined[self._instruction_address] += 1
+                    self._count_undefined(self._instruction_address)
                 if decoded < 0 or not self._instruction_steps[decoded]:
                     self._seq = _FETCH_START
                 else:
                     self._seq = (decoded, 0)
         else:
-            function = self._instruction_steps[index][step]
+            jump = self._jumps[index][step]
+            following = step + 1 if jump is None else jump()
             step_info = self.machine.instructions[index].steps[step]
-            halted = function()
-            self._seq = (index, step + 1) if step + 1 < len(self._instruction_steps[index]) else _FETCH_START
+            halted = self._instruction_steps[index][step]()
+            grouped = self._groups.get(index)
+            if grouped is not None and step == grouped[0].decode_step:
+                index = grouped[0].member_for([self._s[slot] for slot in grouped[1]])
+                if index < 0:
+                    self._count_undefined(self._instruction_address)
+            self._seq = (index, following) if index >= 0 and following < len(self._instruction_steps[index]) \
+                else _FETCH_START
         self.cycles += 1
         if halted:
             self.halt_address = self._instruction_address
@@ -335,6 +348,9 @@ class Emulator:
             self._notify("microstep", step_info, step_info.control_lines)
             if self._seq == _FETCH_START:
                 self._notify("instruction")
+
+    def _count_undefined(self, address: int) -> None:
+        self._undefined[address] += 1
 
     def _fast_path_open(self) -> bool:
         return (not self._observers and self._seq == _FETCH_START and not self.frozen
@@ -375,7 +391,9 @@ class Emulator:
                     budget = min(budget, target - self.cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    if watch is None:
+                    if self.blocks.enabled and until is None:
+                        cycles, count, hit = self.blocks.run(budget, points)
+                    elif watch is None:
                         cycles, count, hit = self._run_free(limit)
                     else:
                         cycles, count, hit = self._run_free_watching(limit, watch)

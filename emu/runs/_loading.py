@@ -15,7 +15,7 @@ import asm
 from ..description import Machine
 from ..errors import RelaybenchError
 
-__all__ = ["LoadedProgram", "ProgramError", "SOURCE_SUFFIXES", "load_program"]
+__all__ = ["LoadedProgram", "ProgramError", "SOURCE_SUFFIXES", "load_program", "loaded_from_program"]
 
 SOURCE_SUFFIXES = (".asm", ".inc")
 """File names that always mean assembly source (``relaybench test`` runs the ``.asm`` ones)."""
@@ -114,7 +114,12 @@ def _not_a_program(path: str, error: asm.AsmError) -> str | None:
 
 
 def _from_source(path: str, machine: Machine) -> LoadedProgram:
-    program = asm.assemble_file(path, machine)
+    return loaded_from_program(path, asm.assemble_file(path, machine))
+
+
+def loaded_from_program(path: str, program: asm.Program) -> LoadedProgram:
+    """An assembled program as the runner and the debugger take it (kind ``"source"``):
+    a source file read, or a program assembled again with halts planted in it."""
     return LoadedProgram(path, "source", program.segments, frozenset(program.pauses),
                          tuple(program.expects), dict(program.source_map), dict(program.symbols),
                          labels=dict(program.labels), lines=tuple(program.lines),

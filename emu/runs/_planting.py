@@ -16,9 +16,9 @@ import asm
 
 from ..description import Machine
 from ._headless import DEFAULT_MAX_CYCLES, RunResult, run_loaded
-from ._loading import LoadedProgram
+from ._loading import loaded_from_program
 
-__all__ = ["Divergence", "check_planting", "compare_runs", "loaded_from_program"]
+__all__ = ["Divergence", "check_planting", "compare_runs"]
 
 
 @dataclass(frozen=True)
@@ -29,14 +29,6 @@ class Divergence:
     plain: object
     planted: object
     text: str
-
-
-def loaded_from_program(path: str, program: asm.Program) -> LoadedProgram:
-    """An assembled program as the runner and the debugger take it (kind ``"source"``)."""
-    return LoadedProgram(path, "source", program.segments, frozenset(program.pauses),
-                         tuple(program.expects), dict(program.source_map), dict(program.symbols),
-                         labels=dict(program.labels), lines=tuple(program.lines),
-                         sources=dict(program.sources))
 
 
 def compare_runs(plain: RunResult, planted: RunResult, planting: asm.Planting) -> Divergence | None:

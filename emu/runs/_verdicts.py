@@ -4,10 +4,12 @@ A program passes when it has checks, every ``.expect`` check passed each
 time the machine halted at the instruction it is attached to, every
 instruction with checks was reached at least once, the run ended at a halt
 rather than at the cycle limit, and the run gave no warning (an undefined
-opcode, a port with no device, a read past the end of the input): a program
+opcode, a port with no device, a read past the end of the input, an
+operator script with answers left over): a program
 that went astray must not pass because its checks happened to hold. A check
 that fails is reported once, at its first failing visit, with the value the
-machine actually held. An image without its debug file is not run at all:
+machine actually held. The panel file's toggles, input and operator script
+are what the run is given. An image without its debug file is not run at all:
 it has no checks, and its pauses cannot be told from halts.
 """
 
@@ -21,7 +23,7 @@ import asm
 
 from ..description import Machine
 from ..engine import Emulator
-from ._headless import DEFAULT_MAX_CYCLES, run_loaded
+from ._headless import DEFAULT_MAX_CYCLES, program_warnings, run_loaded
 from ._loading import LoadedProgram, load_program, ProgramError
 from ._panel_files import PanelSettings, panel_path_for, read_panel_file
 
@@ -121,13 +123,13 @@ def check_program(path: str, machine: Machine, *, max_cycles: int | None = None,
                 failed[index] = CheckFailure(expect, actual, visits[address])
 
     result = run_loaded(program, machine, max_cycles=verdict.max_cycles, switches=panel.switches,
-                        input_bytes=panel.input_bytes, on_halt=on_halt, chunk=chunk)
+                        input_bytes=panel.input_bytes, on_halt=on_halt, chunk=chunk, operator=panel.at_halt)
     verdict.status = result.status
     verdict.cycles = result.emulator.cycles
     verdict.sim_seconds = result.emulator.sim_seconds
     verdict.failures = [failed[i] for i in sorted(failed)]
     verdict.unreached = [group[0][1] for address, group in checks.items() if address not in visits]
-    verdict.warnings = result.emulator.warnings
+    verdict.warnings = program_warnings(result) + result.emulator.warnings
     verdict.passed = (result.status == "halted" and verdict.checks_defined > 0 and not verdict.failures
                       and not verdict.unreached and not verdict.warnings)
     return verdict

@@ -12,9 +12,9 @@ expression language of ALU definitions (``[alu.NAME]`` and the built-ins).
 
 from ._alu_expr import (AluExpr, Binary, BitRange, Num, Unary, Var, alu_parts, evaluate, free_names, index_names,
                         parse_alu_expression)
-
-from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, Expr, Expression, Extend, FlagsOnly, Halt,
-                  Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Slice, Statement, StatementNode,
+from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, End, Expr, Expression, Extend, FlagsOnly,
+                  Goto, Halt, Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Sequencing, Slice,
+                  Statement, StatementNode, WaitUntil,
                   unknown_node, walk)
 from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
@@ -27,6 +27,7 @@ __all__ = [
     "Assign", "Call", "Choose", "Condition", "Const", "Expr", "Expression", "Extend", "FlagsOnly", "Halt", "Idle",
     "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
     "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
+    "End", "Goto", "Sequencing", "WaitUntil",
     "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number",
     "WORD_SELECTORS", "name_width", "top_word_shift", "value_width",

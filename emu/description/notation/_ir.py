@@ -27,6 +27,7 @@ __all__ = [
     "Node", "Expression", "StatementNode",
     "Name", "Const", "Mem", "Join", "Offset", "Slice", "Extend", "Not", "Logic", "Condition", "Choose",
     "Input", "Call", "Assign", "FlagsOnly", "Output", "Halt", "Idle", "Expr", "Statement", "LOGIC_OPERATORS",
+    "End", "Goto", "WaitUntil", "Sequencing",
     "walk", "unknown_node",
 ]
 
@@ -274,7 +275,33 @@ class Idle(StatementNode):
     """``idle`` (or an empty step): a cycle that transfers nothing and drives no line."""
 
 
-Statement = Assign | FlagsOnly | Output | Halt | Idle
+# ----- sequencing: what the control unit does after the step ------------------
+# Their conditions are read by the sequencer, not the datapath, so they are not
+# children: ``walk`` does not reach them, and the checker and compiler read
+# them through their ``condition`` hooks.
+
+@dataclass(frozen=True)
+class End(StatementNode):
+    """``end`` / ``end if COND``: the instruction is finished after this step."""
+    condition: Condition | None = None
+
+
+@dataclass(frozen=True)
+class Goto(StatementNode):
+    """``goto N`` / ``goto N if COND``: the next step is the instruction's step N (``isa`` numbering)."""
+    step: int
+    condition: Condition | None = None
+
+
+@dataclass(frozen=True)
+class WaitUntil(StatementNode):
+    """``wait until COND``: the step repeats until COND holds (a stall); sugar for a goto to itself."""
+    condition: Condition
+
+
+Sequencing = End | Goto | WaitUntil
+
+Statement = Assign | FlagsOnly | Output | Halt | Idle | End | Goto | WaitUntil
 
 
 def walk(node: Node):

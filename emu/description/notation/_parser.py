@@ -7,8 +7,8 @@ from functools import cache
 import lark
 
 from ...errors import MachineError
-from ._ir import (Assign, Call, Choose, Condition, Const, Extend, FlagsOnly, Halt, Idle, Input, Join, Logic, Mem, Name,
-                  Not, Offset, Output, Slice, Statement)
+from ._ir import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join, Logic,
+                  Mem, Name, Not, Offset, Output, Slice, Statement, WaitUntil)
 from ._numbers import GRAMMAR_IMPORTS, char_value, literal_value
 
 __all__ = ["parse_step"]
@@ -33,6 +33,25 @@ class _ToIR(lark.Transformer):
 
     def halt(self, _items):
         return Halt()
+
+    def end(self, _items):
+        return End()
+
+    def end_if(self, items):
+        return End(items[0])
+
+    def goto(self, items):
+        return Goto(_number(items[0]))
+
+    def goto_if(self, items):
+        return Goto(_number(items[0]), items[1])
+
+    def wait_until(self, items):
+        return WaitUntil(items[0])
+
+    def sequencing_condition(self, items):
+        """The one place a sequencing statement's condition is built."""
+        return Condition(items[0])
 
     def target_name(self, items):
         return Name(str(items[0]))

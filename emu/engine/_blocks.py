@@ -1,0 +1,285 @@
+"""Block translation for the fast path: hot straight-line code run as one function a block.
+
+The fast path of the control unit runs whole instructions, one fused
+function each. Here, a pc that the fast path has reached ``threshold``
+times becomes the start of a *block*: the instructions from there up to a
+branch, a halting or undefined instruction, a breakpoint or a length cap,
+translated into one function (``_block_translator``). The dispatch loop
+runs a block only when its full cycle count fits the budget, so cycle
+limits, breakpoints and every panel event land where stepping puts them.
+
+Compiled blocks are cached per machine, keyed by their start and their
+words, so the same image loaded again (in this emulator or another) binds
+the compiled code instead of translating it again. Blocks are bound to one
+emulator's state and kept valid three ways: stores made by blocks and by the
+fast path's instructions check a per-word map of translated words and drop
+the blocks they hit; each entry into the loop compares every block's words
+with memory, which catches what the stepping path, the debugger or a new
+image wrote; and a change of breakpoints drops blocks, to be split anew.
+"""
+
+from __future__ import annotations
+
+import os
+import weakref
+from collections import Counter, OrderedDict
+from pathlib import Path
+
+from ..description import Machine
+from ._block_dispatch import checked_fused_source, dispatcher_source, writes_memory
+from ._block_translator import MAYBE, NEXT, BlockPlan, block_source, successor
+from ..files import write_atomic
+from ._microstep_compiler import Fallback, compile_machine
+
+__all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]
+
+WARM_UP_CYCLES = 250_000
+"""Cycles an emulator runs on the plain fused path before it counts visits at all: a
+run this short cannot repay compiling a block, and counting costs it a few per cent."""
+
+HOT_THRESHOLD = 2000
+"""Visits of a pc before its block is translated: translating and compiling a
+block costs about as much as running a few thousand fused instructions."""
+
+MAX_BLOCK_INSTRUCTIONS = 32
+"""Longest block; it bounds compile time and how much budget a block needs."""
+
+MAX_INVALIDATIONS = 8
+"""Times one start's block may be dropped by stores before it stays untranslated."""
+
+CACHE_BLOCKS = 4096
+"""Compiled blocks kept per machine."""
+
+_BLOCK_HERE = -1
+"""The hit count of a pc where a block is in place."""
+
+
+class _MachineBlocks:
+    """What every emulator of one machine shares: the loops, checked instructions, compiled blocks."""
+
+    def __init__(self, machine: Machine):
+        self.machine = machine
+        self.max_fused = compile_machine(machine).max_fused_cycles
+        self.dispatcher = _compiled(dispatcher_source(machine, self.max_fused), f"{machine.name}_block_loops")
+        self.successor = [successor(machine, ins) for ins in machine.instructions]
+        self.ends = [index < 0 or machine.instructions[index].drives_halt or self.successor[index] != NEXT
+                     for index in machine.decode_table]
+        self._checked = None
+        self.code: OrderedDict[tuple, tuple] = OrderedDict()
+
+    @property
+    def checked(self):
+        """Compiled when the first block of this machine is: runs without blocks never need it."""
+        if self._checked is None:
+            self._checked = _compiled(checked_fused_source(self.machine), f"{self.machine.name}_checked_fused")
+        return self._checked
+
+    def compiled_block(self, plan: BlockPlan, loops: bool) -> tuple:
+        """(code, cycles of its longest way through, whether it was compiled just now).
+
+        Compiled once per start, words and whether it may loop back to its start.
+        """
+        key = (plan.start, plan.words, loops)
+        entry = self.code.get(key)
+        if entry is not None:
+            return (*entry, False)
+        source, most = block_source(self.machine, plan, loops)
+        name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}"
+        entry = self.code[key] = (_compiled(source, name), most)
+        if len(self.code) > CACHE_BLOCKS:
+            self.code.popitem(last=False)
+        return (*entry, True)
+
+
+def _compiled(source: str, name: str):
+    """Compile generated code; with ``RELAYBENCH_DUMP_CODE`` set, from a file tracebacks can show."""
+    filename = f"<relaybench:{name}>"
+    dump = os.environ.get("RELAYBENCH_DUMP_CODE")
+    if dump:
+        path = Path(dump) / f"{name}.py"
+        path.parent.mkdir(parents=True, exist_ok=True)
+        write_atomic(path, source)
+        filename = str(path)
+    return compile(source, filename, "exec")
+
+
+_shared: dict[int, _MachineBlocks] = {}
+
+
+def _machine_blocks(machine: Machine) -> _MachineBlocks:
+    key = id(machine)
+    shared = _shared.get(key)
+    if shared is None:
+        shared = _shared[key] = _MachineBlocks(machine)
+        weakref.finalize(machine, _shared.pop, key, None)
+    return shared
+
+
+def _build(code, *arguments):
+    namespace: dict = {}
+    exec(code, namespace)
+    return namespace["build"](*arguments)
+
+
+class BlockRunner:
+    """Block translation for one emulator; ``run`` is the control unit's fast path when enabled.
+
+    ``enabled`` switches translation off (the fused path runs as before);
+    ``warm_up`` is how many cycles run before counting starts, ``threshold``
+    how many visits make a pc hot; ``built`` counts the blocks put in place
+    so far, ``compiled`` those of them this emulator had to compile (the
+    others came from the machine's cache), ``dropped`` those taken out again.
+    """
+
+    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free):
+        self.machine = machine
+        self.enabled = blocks_cover(machine)
+        """Off where blocks cannot be exact yet: see ``blocks_cover``."""
+        self.warm_up = WARM_UP_CYCLES
+        self.threshold = HOT_THRESHOLD
+        self._ran = 0
+        self._run_free = run_free
+        self._max_fused = compile_machine(machine).max_fused_cycles
+        self.built = 0
+        self.compiled = 0
+        self.dropped = 0
+        self._state = (s, memory, read_port, write_port)
+        self._plain = fused
+        self._loops = None
+
+    def _start(self) -> None:
+        """Tables made at the first run, so an emulator that never runs pays nothing for them."""
+        machine = self.machine
+        s, memory, _read, _write = self._state
+        self._shared = _machine_blocks(machine)
+        self._table: dict[int, tuple] = {}
+        self._hits = [0] * machine.memory_words
+        self._cmap = None
+        self._checked = None
+        self._active: dict[int, tuple[int, object]] = {}
+        self._invalidations: Counter[int] = Counter()
+        self._points = frozenset()
+        self._loops = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._shared.ends,
+                             self._translate, Fallback)
+
+    def run(self, budget: int, points: frozenset) -> tuple[int, int, bool]:
+        """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, breakpoint hit)."""
+        if self._ran < self.warm_up and not points:
+            cycles, count, hit = self._run_free(budget - self._max_fused)
+            self._ran += cycles
+            return cycles, count, hit
+        if self._loops is None:
+            self._start()
+        self._check_blocks(points)
+        loop = self._loops[1] if points else self._loops[0]
+        return loop(budget, points, self._fused(), self.threshold)
+
+    def _fused(self) -> list:
+        """Fused instructions, with stores checked once any block is in place."""
+        return self._checked if self._active else self._plain
+
+    # ----- keeping blocks valid
+
+    def _check_blocks(self, points: frozenset) -> None:
+        """Drop blocks whose words memory no longer holds, and all of them when breakpoints changed."""
+        memory = self._state[1]
+        if points != self._points:
+            self._points = points
+            for start in list(self._active):
+                self._drop(start, soon=True)
+            return
+        for start, (end, words) in list(self._active.items()):
+            if memory[start:end] != words:
+                self._drop(start, soon=False)
+
+    def _invalidate(self, addresses, low: int, high: int) -> bool:
+        """Called by a store that hit translated words: drop the blocks covering them.
+
+        True when one of the words lies in ``[low, high)``, the rest of the running block.
+        """
+        for address in addresses:
+            if self._cmap[address]:
+                for start in [b for b, (end, _w) in self._active.items() if b <= address < end]:
+                    self._invalidations[start] += 1
+                    self._drop(start, soon=False)
+        return any(low <= address < high for address in addresses)
+
+    def _drop(self, start: int, soon: bool) -> None:
+        end, _words = self._active.pop(start)
+        del self._table[start]
+        cmap = self._cmap
+        for address in range(start, end):
+            cmap[address] -= 1
+        if self._invalidations[start] > MAX_INVALIDATIONS:
+            self._hits[start] = self.threshold     # counts on past the threshold: never again
+        else:
+            self._hits[start] = self.threshold - 1 if soon else 0
+        self.dropped += 1
+
+    # ----- translating
+
+    def _plan(self, start: int) -> BlockPlan | None:
+        machine, memory, shared = self.machine, self._state[1], self._shared
+        decode, size = machine.decode_table, machine.memory_words
+        address, instructions = start, []
+        while len(instructions) < MAX_BLOCK_INSTRUCTIONS and address < size:
+            if address != start and address in self._points:
+                break
+            index = decode[memory[address]]
+            if index < 0:
+                break
+            ins = machine.instructions[index]
+            if ins.drives_halt or not _fixed_sequence(ins) or address + ins.word_count > size:
+                break
+            instructions.append((address, ins))
+            address += ins.word_count
+            if shared.successor[index] not in (NEXT, MAYBE):
+                break
+        if not instructions:
+            return None
+        return BlockPlan(start, tuple(memory[start:address]), tuple(instructions))
+
+    def _translate(self, start: int) -> list:
+        """Put a block in place at ``start`` (compiled unless this machine has compiled it before).
+
+        Returns the fused instructions the loop goes on with. A pc where no
+        block can start (a halt, an undefined word) counts on past the
+        threshold and is not tried again.
+        """
+        plan = self._plan(start)
+        if plan is None:
+            return self._fused()
+        s, memory, read_port, write_port = self._state
+        if self._cmap is None:
+            self._cmap = [0] * self.machine.memory_words
+            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
+            self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
+        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points)
+        self.compiled += fresh
+        block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
+        self._table[start] = (block, most)
+        self._hits[start] = _BLOCK_HERE
+        self._active[start] = (plan.end, memory[start:plan.end])
+        for address in range(start, plan.end):
+            self._cmap[address] += 1
+        for address, _ins in plan.instructions[1:]:
+            if self._hits[address] > 0:
+                self._hits[address] = 0    # covered now: a count from before would translate it needlessly
+        self.built += 1
+        return self._checked
+
+
+def _fixed_sequence(ins) -> bool:
+    """A block counts each instruction as its steps in order: one that decodes on a
+    later word or whose steps end early, jump or wait is left to the fused path."""
+    return ins.decode_words == 1 and all(step.jump is None for step in ins.steps)
+
+
+def blocks_cover(machine) -> bool:
+    """Whether translation is exact on this machine.
+
+    Instructions of variable sequence never enter a block, but one that also
+    stores would need a checked fused version counting its own cycles; until
+    that exists, such machines run without blocks (the fused path as before).
+    """
+    return not any(writes_memory(ins) and not _fixed_sequence(ins) for ins in machine.instructions)

@@ -189,3 +189,9 @@ def test_a_bad_definition_is_a_located_error(new, line, message):
 def test_an_operation_too_narrow_for_its_indices_says_so():
     assert ALU_OPS["add"].width_problem(4) is None
     assert ALU_OPS["add"].width_problem(0) == "add cannot work 0 bits wide (a bit index is -1)"
+
+
+def test_an_index_far_beyond_any_register_is_refused_where_a_step_uses_it():
+    text = alu4_with(ADDX.replace('"result[w]"', '"result[99999999999]"'))
+    error = load_error(text)
+    assert "addx uses bit 99999999999 at width 4; bit indices and shifts stop at 64" in error.text()

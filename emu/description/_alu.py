@@ -34,6 +34,8 @@ RESERVED_OPERATION_NAMES = WORD_SELECTORS | {"sext", "zext", "mem", "in", "out",
 FLAG_ROLE_NAMES = ("zero", "negative", "carry", "overflow")
 OPERAND_LETTERS = "abcd"
 _ROLE_OF_RESULT = ("result", "w")
+_HIGHEST_INDEX = 64
+"""Registers hold 32 bits at most; a larger index or shift is a mistake (and would cost memory)."""
 
 _ZERO_NEGATIVE = {"zero": "result[w-1:0] == 0", "negative": "result[w-1]"}
 _SUM = {**_ZERO_NEGATIVE, "carry": "result[w]", "overflow": "((a ^ result) & (b ^ result))[w-1]"}
@@ -112,6 +114,9 @@ class AluOp:
                 h, l = evaluate(high, env), evaluate(low, env)
                 if l < 0 or h < l:
                     return f"{self.name} cannot work {w} bit{'s' if w != 1 else ''} wide (a bit index is {l if l < 0 else h})"
+                if h > _HIGHEST_INDEX:
+                    return (f"{self.name} uses bit {h} at width {w}; bit indices and shifts stop at "
+                            f"{_HIGHEST_INDEX} (registers hold at most 32 bits)")
         return None
 
 

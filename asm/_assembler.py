@@ -84,7 +84,11 @@ class _Assembly(_Directives, _Values, _ExpectChecks):
         self.data_bits = self.machine.data_bits
         bits = self.data_bits
         self.word_range = (-(1 << (bits - 1)), (1 << bits) - 1)
-        self.double_range = (-(1 << (2 * bits - 1)), (1 << (2 * bits)) - 1)
+        self.word_words = max(2, -(-self.machine.address_bits // bits))
+        """Words of a ``.word`` item: two, or as many as an address needs (least significant first)."""
+        self.char_words_each = -(-8 // bits) if bits < 8 else 1
+        """Words of one ``.byte`` character: one, or on a machine narrower than 8 bits as many as a
+        character code 0…255 needs (least significant first)."""
         self.directives = {
             ".org": self.do_org, ".byte": self.do_byte, ".word": self.do_word, ".zero": self.do_zero,
             ".equ": self.do_equ, ".include": self.do_include, ".expect": self.do_expect,
@@ -284,7 +288,10 @@ class _Assembly(_Directives, _Values, _ExpectChecks):
                 ok = True
                 for name, expr in item.chosen.values.items():
                     kind = ins.fields[name].kind
-                    value = self.value(expr, address, file, kind.low, kind.high, kind.name)
+                    if kind.relative:
+                        value = self.distance(expr, address, ins.word_count, file, kind)
+                    else:
+                        value = self.value(expr, address, file, kind.low, kind.high, kind.name)
                     ok = ok and value is not None
                     values[name] = value
                 if not ok:
@@ -301,21 +308,26 @@ class _Assembly(_Directives, _Values, _ExpectChecks):
                         value = self.value(expr, address, file, word_low, word_high, "one data word")
                         words.append((value or 0) & mask)
                     else:
-                        low, high = self.double_range
-                        value = self.value(expr, address, file, low, high, "two data words") or 0
-                        words.extend([value & mask, (value >> self.data_bits) & mask])
+                        bits = width * self.data_bits
+                        value = self.value(expr, address, file, -(1 << (bits - 1)), (1 << bits) - 1,
+                                           f"{width} data words") or 0
+                        words.extend((value >> (i * self.data_bits)) & mask for i in range(width))
                 words.extend([0] * (item.length - len(words)))
             for i, word in enumerate(words):
                 image[address + i] = word
         return image
 
     def char_words(self, text: Text, file: str) -> list[int]:
+        """A string's words: one per character, or ``char_words_each`` (low word first) when a
+        word is narrower than a character."""
+        each, bits = self.char_words_each, self.data_bits
+        top = self.word_range[1] if each == 1 else 255
         words = []
-        for offset, ch in enumerate(text.value):
-            if ord(ch) > self.word_range[1]:
+        for ch in text.value:
+            if ord(ch) > top:
+                room = "one data word" if each == 1 else f"{each} data words (a character is 8 bits)"
                 self.error(file, text.line, text.column,
-                           f"character {ch!r} (code {ord(ch)}) does not fit one data word "
-                           f"(0…{self.word_range[1]})")
-                return [0] * len(text.value)
-            words.append(ord(ch))
+                           f"character {ch!r} (code {ord(ch)}) does not fit {room} (0…{top})")
+                return [0] * (len(text.value) * each)
+            words.extend((ord(ch) >> (i * bits)) & self.machine.data_mask for i in range(each))
         return words

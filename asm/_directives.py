@@ -77,7 +77,7 @@ class _Directives:
                 if arg.problem:
                     self.error(file, arg.line, arg.column, arg.problem)
                 parts.append(arg)
-                length += len(arg.value)
+                length += len(arg.value) * self.char_words_each
             elif isinstance(arg, Operand) and not arg.opening and not arg.closing:
                 parts.append((arg.expr, 1))
                 length += 1
@@ -91,8 +91,9 @@ class _Directives:
         exprs = self.expressions(body, file, None, "expressions, e.g. .word 0x1234, start")
         if exprs is None:
             return None
-        return self.emit(_Item(self.address, 2 * len(exprs), _Place(file, body.line, body.column),
-                               data=[(e, 2) for e in exprs]), "data")
+        count = self.word_words
+        return self.emit(_Item(self.address, count * len(exprs), _Place(file, body.line, body.column),
+                               data=[(e, count) for e in exprs]), "data")
 
     def do_equ(self, body: Directive, file: str):
         args = body.arguments

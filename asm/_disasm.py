@@ -83,7 +83,7 @@ def _segment_lines(pieces, names: "_Names", decoder: "_Decoder", placed: set[int
                 flush()
             continue
         flush()
-        text = decoder.text(ins, chunk, names, placed, referenced, pause=address in names.pauses)
+        text = decoder.text(ins, chunk, names, placed, referenced, pause=address in names.pauses, address=address)
         body.append(_line(text, address, chunk, decoder))
     flush()
     return body
@@ -99,7 +99,8 @@ def disassemble_at(machine: Machine, read_word, address: int, debug=None) -> tup
     if ins is None:
         return f".byte {decoder.word_text(words[0])}", 1
     everywhere = set(names.by_address)
-    text = decoder.text(ins, words[:ins.word_count], names, everywhere, set(), pause=address in names.pauses)
+    text = decoder.text(ins, words[:ins.word_count], names, everywhere, set(), pause=address in names.pauses,
+                        address=address)
     return text, ins.word_count
 
 
@@ -166,7 +167,9 @@ class _Decoder:
                 values[name] = signed
         return values
 
-    def text(self, ins: Instruction, words, names: _Names, placed, referenced, pause=False) -> str:
+    def text(self, ins: Instruction, words, names: _Names, placed, referenced, pause=False, address=0) -> str:
+        """The instruction as a programmer writes it; a relative operand shows its target address
+        (or label), which is what the assembler reads back."""
         if pause and ins.mnemonic == self.pause and not ins.operands:
             return "pause"
         values = self.fields(ins, words)
@@ -177,9 +180,11 @@ class _Decoder:
                 continue
             kind = ins.fields[pattern.field].kind
             value = values[pattern.field]
+            if kind.relative:
+                value = (kind.distance_base(address, ins.word_count) + value) % self.machine.memory_words
             if kind.is_register:
                 shown = kind.registers[value]
-            elif kind.name in self.address_kinds:
+            elif kind.relative or kind.name in self.address_kinds:
                 shown = self.address_text(value)
                 labels = names.by_address.get(value)
                 if labels:

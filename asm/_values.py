@@ -83,3 +83,17 @@ class _Values:
             return None
         return value
 
+    def distance(self, expr: Expr, here: int, word_count: int, file: str, kind) -> int | None:
+        """A pc-relative operand: the target's distance from the address the kind counts from."""
+        target = self.value(expr, here, file, -(1 << 64), 1 << 64, kind.name)
+        if target is None:
+            return None
+        base = kind.distance_base(here, word_count)
+        distance = target - base
+        if not kind.low <= distance <= kind.high:
+            counted = "the next instruction" if kind.relative == "next" else "this instruction"
+            self.error(file, expr.line, expr.column,
+                       f"the target {self.address_text(target)} is {distance} words from {counted} "
+                       f"({self.address_text(base)}); {kind.name} reaches {kind.low}…{kind.high}")
+            return None
+        return distance

@@ -193,3 +193,22 @@ def test_a_command_whose_module_cannot_be_imported_stops_the_program(monkeypatch
     monkeypatch.setitem(sys.modules, "emu.commands.clock", None)  # import of it now fails
     with pytest.raises(ImportError, match="emu.commands.clock"):
         build_parser()
+
+
+def test_isa_shows_groups_flag_meanings_and_the_alu_operations(capsys):
+    """What a programmer needs without the TOML: ref8's pair x, its four flag roles, and for
+    each ALU operation the flags it sets (values from ref8.toml and the built-in table)."""
+    code, out, _ = cli(capsys, "isa", "--brief")
+    assert code == 0
+    assert "register groups (most significant first): x = {r6, r7}" in out
+    assert "flags: z (zero), n (negative), c (carry), v (overflow); carry is a borrow after dec, sub, sbc" in out
+    assert "  adc(a, b) = a + b + carry, reads c: z = result[w-1:0] == 0; n = result[w-1]; c = result[w]; " \
+           "v = ((a ^ result) & (b ^ result))[w-1]" in out
+    alu4 = str(ROOT / "tests" / "machines" / "alu4.toml")
+    code, out, _ = cli(capsys, "isa", "--json", "--machine", alu4)
+    data = json.loads(out)
+    assert data["flags"] == {"z": "zero", "c": "carry"} and data["groups"] == {}
+    sub = next(op for op in data["alu"] if op["name"] == "sub")
+    assert sub["sets"] == {"z": "result[w-1:0] == 0", "c": "result[w] ^ 1"}   # alu4's own sub: no borrow
+    code, out, _ = cli(capsys, "isa", "--brief", "--machine", alu4)
+    assert "flags: z (zero), c (carry)\n" in out   # its sub is not the built-in: no borrow note

@@ -66,7 +66,7 @@ CASES = {
     "unknown section": (
         ref8_with("[fetch]", "[fecth]"),
         "top level: unknown key 'fecth' (expected one of: machine, registers, internal, groups, flags, "
-        "operands, ports, clock, fetch, instruction, assembler, timing, wear)",
+        "operands, ports, clock, fetch, instruction, assembler, timing, wear, alu)",
     ),
     "overlapping encodings": (
         ref8_with('syntax = "jmp x"\nencoding = ["00000011"]', 'syntax = "jmp x"\nencoding = ["00000010"]'),

@@ -12,7 +12,8 @@ import json
 import sys
 
 from ..engine import compile_machine
-from ..description import PORT_DEVICES, Instruction, Machine
+from ..description import ALU_OPS, PORT_DEVICES, Instruction, Machine, resolve_flag
+from ..description.notation import Call, walk
 from ..formatting import rate_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
@@ -56,6 +57,60 @@ def encoding_words(ins: Instruction, machine: Machine) -> list[str]:
     return words
 
 
+def alu_ops_used(machine: Machine) -> list:
+    """The ALU operations the machine's micro-steps use, in first-use order."""
+    used = []
+    for step in list(machine.fetch) + [s for ins in machine.instructions for s in ins.steps]:
+        for st in step.statements:
+            for node in walk(st):
+                if isinstance(node, Call) and node.op in machine.alu_ops and node.op not in used:
+                    used.append(node.op)
+    return [machine.alu_ops[name] for name in used]
+
+
+def flags_set_by(op, machine: Machine) -> list[str]:
+    """The machine's flags a step may set with ``op`` (``sets …``)."""
+    return [name for name, flag in machine.flags.items() if op.produces(flag) is not None]
+
+
+def datapath_json(machine: Machine) -> dict:
+    """Register groups, flag meanings and the ALU operations: what a programmer needs besides the table."""
+    return {
+        "registers": {r.name: r.width for r in machine.visible_registers},
+        "groups": {name: list(group.parts) for name, group in machine.groups.items()},
+        "flags": {name: flag.role for name, flag in machine.flags.items()},
+        "alu": [{
+            "name": op.name, "operands": op.arity, "result": op.texts["result"],
+            "width": op.width if isinstance(op.width, int) else f"as {op.width}",
+            "reads": [resolve_flag(ref, machine.flags)[0].name for ref in op.reads],
+            "sets": {name: op.texts["flags." + op.produces(machine.flags[name])]
+                     for name in flags_set_by(op, machine)},
+        } for op in alu_ops_used(machine)],
+    }
+
+
+def datapath_text(machine: Machine) -> list[str]:
+    """The same as ``datapath_json``, as lines for the human table."""
+    summary = datapath_json(machine)
+    lines = ["registers: " + ", ".join(f"{name} ({bits} bits)" for name, bits in summary["registers"].items())]
+    if summary["groups"]:
+        lines.append("register groups (most significant first): " + ", ".join(
+            f"{name} = {{{', '.join(parts)}}}" for name, parts in summary["groups"].items()))
+    borrows = [op.name for op in alu_ops_used(machine)
+               if op.name in ("sub", "sbc", "dec") and op == ALU_OPS[op.name]]
+    borrow_note = f"; carry is a borrow after {', '.join(borrows)}" if borrows else ""
+    lines.append("flags: " + (", ".join(f"{name} ({role})" for name, role in summary["flags"].items()) or "none")
+                 + borrow_note)
+    if summary["alu"]:
+        lines.append("ALU operations (a, b: operands; result before it is kept to its width w):")
+        for op in summary["alu"]:
+            args = ", ".join("abcd"[:op["operands"]])
+            reads = f", reads {' '.join(op['reads'])}" if op["reads"] else ""
+            sets = "; ".join(f"{name} = {text}" for name, text in op["sets"].items()) or "sets no flag"
+            lines.append(f"  {op['name']}({args}) = {op['result']}{reads}: {sets}")
+    return lines
+
+
 def port_lines(machine: Machine) -> list[str]:
     """One line per wired port: its number, its device and what the device promises."""
     lines = []
@@ -74,7 +129,8 @@ def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     return {
         "machine": machine.name, "title": machine.title, "data_bits": machine.data_bits,
         "address_bits": machine.address_bits, "memory_words": machine.memory_words,
-        "nominal_hz": machine.nominal_hz, "pause": machine.pause, "fetch": steps(machine.fetch),
+        "nominal_hz": machine.nominal_hz, "pause": machine.pause, **datapath_json(machine),
+        "fetch": steps(machine.fetch),
         "ports": [{"direction": direction, "port": number, "device": name}
                   for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out))
                   for number, name in sorted(wired.items())],
@@ -102,6 +158,7 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         f"{machine.data_bits}-bit words, {machine.address_bits}-bit addresses, {machine.memory_words:,} "
         f"words of memory; {rate_text(machine.nominal_hz)} nominal clock, {len(machine.phases)} phases "
         f"(hold at {holds}); one micro-step per cycle",
+        *datapath_text(machine),
         f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
     ]
     lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(machine.fetch, 1)]

@@ -7,12 +7,13 @@ reader shares, ``_toml_lines`` finds the line of a key, ``_sections`` reads
 ``[timing]`` and ``[wear]``; ``_port_devices`` is the table of port devices,
 ``_call_marks`` reads which instructions call and return;
 ``_design_rules`` checks each micro-step against the rule a control unit
-obeys; ``_alu`` is the table of ALU operations; ``notation/`` is the
+obeys; ``_alu`` is the table of ALU operations (built-in definitions and ``[alu.NAME]``); ``notation/`` is the
 micro-step notation and the number notation. Everything downstream (the
 assembler, the engine, the debugger, ``isa``) reads a ``Machine``.
 """
 
-from ._alu import ALU_OPS, WORD_SELECTORS
+from ._alu import (ALU_OPS, BUILTIN_DEFINITIONS, RESERVED_OPERATION_NAMES, WORD_SELECTORS, AluOp, builtin_alu_ops,
+                   read_alu_op, resolve_flag)
 from ._design_rules import StepChecker
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
@@ -27,7 +28,8 @@ from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREA
 from ._toml_lines import key_line, toml_syntax_error
 
 __all__ = [
-    "ALU_OPS", "WORD_SELECTORS", "StepChecker",
+    "ALU_OPS", "BUILTIN_DEFINITIONS", "RESERVED_OPERATION_NAMES", "WORD_SELECTORS", "AluOp", "builtin_alu_ops",
+    "read_alu_op", "resolve_flag", "StepChecker",
     "MachineNames", "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
     "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step",

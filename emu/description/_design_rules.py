@@ -7,7 +7,7 @@ once per step), not a question of file syntax.
 
 from __future__ import annotations
 
-from ._alu import ALU_OPS, WORD_SELECTORS
+from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
 from .notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join,
                        Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width, unknown_node,
@@ -115,14 +115,14 @@ class StepChecker:
     def flag_writes(self, value, flags):
         if not flags:
             return
-        if not isinstance(value, Call) or value.op not in ALU_OPS:
+        if not isinstance(value, Call) or value.op not in self.names.alu_ops:
             self.fail("'sets' needs an ALU operation (add, sub, …) as the value")
-        op = ALU_OPS[value.op]
+        op = self.names.alu_ops[value.op]
         for name in flags:
             flag = self.names.flags.get(name)
             if flag is None:
                 self.fail(f"unknown flag '{name}' (flags: {', '.join(self.names.flags)})")
-            if not op.produces(flag.role):
+            if op.produces(flag) is None:
                 self.fail(f"{value.op} does not produce the {flag.role} flag '{name}'")
             self.write(name, name)
 
@@ -224,16 +224,19 @@ class StepChecker:
             if op == "hi" and self.width(args[0]) <= names.data_bits:
                 self.fail(f"hi() needs a value wider than one data word ({names.data_bits} bits), "
                           f"not one of {self.width(args[0])}")
-        elif op not in ALU_OPS:
-            self.fail(f"unknown operation '{op}' (ALU: {', '.join(ALU_OPS)}; also hi, lo)")
+        elif op not in names.alu_ops:
+            self.fail(f"unknown operation '{op}' (ALU: {', '.join(names.alu_ops)}; also hi, lo)")
         else:
-            spec = ALU_OPS[op]
+            spec = names.alu_ops[op]
             if len(args) != spec.arity:
                 self.fail(f"{op}() takes {spec.arity} argument{'s' if spec.arity > 1 else ''}, not {len(args)}")
-            carries = [f.name for f in names.flags.values() if f.role == "carry"]
-            if spec.uses_carry_in and len(carries) != 1:
-                self.fail(f"{op} reads the carry flag, and the machine has "
-                          + ("none" if not carries else f"{len(carries)} ({', '.join(carries)}): it cannot tell which"))
+            for ref in spec.reads:
+                _flag, problem = resolve_flag(ref, names.flags)
+                if problem:
+                    self.fail(f"{op} {problem}")
+            problem = spec.width_problem(self.width(Call(op, args)))
+            if problem:
+                self.fail(problem)
             widths = [self.width(a) for a in args if not isinstance(a, Const)]
             for arg in args:
                 if isinstance(arg, Const) and widths and arg.value.bit_length() > max(widths):

@@ -11,37 +11,34 @@ import re
 
 from ._model import Field, FieldPiece, MachineNames, OperandPattern
 from ._schema import Table
+from ._syntax_forms import SyntaxFormError, parse_syntax_form
 from .notation import Assign, Mem, Name, walk
 
-__all__ = ["IDENTIFIER", "read_encoding", "read_syntax", "strip_kinds", "word_holders"]
+__all__ = ["read_encoding", "read_syntax", "strip_kinds", "word_holders"]
 
-_SYNTAX_OPERAND = re.compile(r"^(?P<before>[^A-Za-z_]*)(?P<field>[A-Za-z_]\w*):(?P<kind>[A-Za-z_]\w*)(?P<after>.*)$")
 _ENCODING_TOKEN = re.compile(r"^(?:(?P<bits>[01]+)|(?P<field>[A-Za-z_]\w*)(?:\[(?P<hi>\d{1,9}):(?P<lo>\d{1,9})\])?)$")
-IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 
 
 def read_syntax(spec: Table, syntax: str, kinds, names: MachineNames):
     """The mnemonic, the operand patterns and the kind of each operand field of ``syntax``."""
-    head, _, rest = syntax.partition(" ")
-    mnemonic = head.lower()
-    if not IDENTIFIER.match(mnemonic):
-        spec.fail("the syntax must start with a mnemonic", "syntax")
+    try:
+        mnemonic, shapes = parse_syntax_form(syntax)
+    except SyntaxFormError as exc:
+        spec.fail(str(exc), "syntax")
     taken = names.kinds_of_name
     operands, field_kinds = [], {}
-    for part in filter(None, (p.strip() for p in rest.split(","))) if rest.strip() else ():
-        m = _SYNTAX_OPERAND.match(part)
-        if m:
-            if m["kind"] not in kinds:
-                spec.fail(f"unknown operand kind '{m['kind']}' (kinds: {', '.join(kinds)})", "syntax")
-            if m["field"] in field_kinds:
-                spec.fail(f"operand field '{m['field']}' appears twice", "syntax")
-            if m["field"] in taken:
-                spec.fail(f"operand field '{m['field']}' has the name of a {taken[m['field']]}", "syntax")
-            field_kinds[m["field"]] = kinds[m["kind"]]
-            operands.append(OperandPattern(m["before"].lower().replace(" ", ""), m["field"],
-                                           m["after"].lower().replace(" ", "")))
-        else:
-            operands.append(OperandPattern(part.lower().replace(" ", ""), None, ""))
+    for shape in shapes:
+        if shape.field is None:
+            operands.append(OperandPattern(shape.before + shape.name + shape.after, None, ""))
+            continue
+        if shape.kind not in kinds:
+            spec.fail(f"unknown operand kind '{shape.kind}' (kinds: {', '.join(kinds)})", "syntax")
+        if shape.field in field_kinds:
+            spec.fail(f"operand field '{shape.field}' appears twice", "syntax")
+        if shape.field in taken:
+            spec.fail(f"operand field '{shape.field}' has the name of a {taken[shape.field]}", "syntax")
+        field_kinds[shape.field] = kinds[shape.kind]
+        operands.append(OperandPattern(shape.before, shape.field, shape.after))
     return mnemonic, tuple(operands), field_kinds
 
 

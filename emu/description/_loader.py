@@ -17,10 +17,11 @@ from importlib import resources
 from pathlib import Path
 
 from ..errors import MachineError
+from ._alu import RESERVED_OPERATION_NAMES, builtin_alu_ops, read_alu_op
 from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
 from ._decoding import decode_groups
-from ._instruction_forms import IDENTIFIER, read_encoding, read_syntax, strip_kinds, word_holders
+from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Flag, Instruction,
                      Machine, MachineNames, OperandKind, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
@@ -80,7 +81,8 @@ def _too_long_number(text: str, path: str) -> MachineError:
 
 
 _SECTIONS = ("machine", "registers", "internal", "groups", "flags", "operands", "ports",
-             "clock", "fetch", "instruction", "assembler", "timing", "wear")
+             "clock", "fetch", "instruction", "assembler", "timing", "wear", "alu")
+_IDENTIFIER = re.compile(r"^[A-Za-z_]\w*$")
 _LONGEST_PHASE_MS = 86_400_000
 """A day: far beyond any relay clock, and well inside the engine's nanosecond counters."""
 
@@ -121,7 +123,7 @@ class _Loader:
         if registers[ir].width != data_bits:
             self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
                          f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
-        names = MachineNames(data_bits, registers, groups, flags, pc, ir)
+        names = MachineNames(data_bits, registers, groups, flags, pc, ir, self.alu_ops(flags))
 
         kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
@@ -144,7 +146,7 @@ class _Loader:
             registers=registers, groups=groups, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
-            instruction_register=ir, pause=pause.lower(), decode_groups=decoding,
+            instruction_register=ir, pause=pause.lower(), decode_groups=decoding, alu_ops=names.alu_ops,
         )
         if "timing" in top:
             machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
@@ -160,7 +162,7 @@ class _Loader:
             table = top.table(section, required=not internal)
             for reg_name, width in table.items():
                 table.where = f"[{section}] {reg_name}"
-                if not IDENTIFIER.match(reg_name):
+                if not _IDENTIFIER.match(reg_name):
                     table.fail("a register name must be an identifier", reg_name)
                 if reg_name in registers:
                     table.fail("register declared twice", reg_name)
@@ -188,7 +190,7 @@ class _Loader:
         declared = {**self.top.get("registers", {}), **self.top.get("internal", {}), **self.top.get("groups", {})}
         for flag_name, role in table.items():
             table.where = f"[flags] {flag_name}"
-            if not IDENTIFIER.match(flag_name):
+            if not _IDENTIFIER.match(flag_name):
                 table.fail("a flag name must be an identifier", flag_name)
             if role not in FLAG_ROLES and role != PLAIN_FLAG:
                 table.fail(f"a flag's role must be one of {', '.join(FLAG_ROLES)} (set by the ALU) or "
@@ -197,6 +199,23 @@ class _Loader:
                 table.fail("a flag must not have the name of a register", flag_name)
             flags[flag_name] = Flag(flag_name, role, first_slot + len(flags))
         return flags
+
+    def alu_ops(self, flags: dict[str, Flag]) -> dict:
+        """The built-in operations and the file's ``[alu.NAME]`` definitions; a file's own
+        definition of a built-in name replaces the built-in (its ALU is the one described)."""
+        ops = builtin_alu_ops()
+        table = self.top.table("alu", "[alu]", required=False)
+        for op_name, raw in table.items():
+            where = f"[alu.{op_name}]"
+            if not _IDENTIFIER.match(op_name) or op_name in RESERVED_OPERATION_NAMES:
+                reserved = ", ".join(sorted(RESERVED_OPERATION_NAMES))
+                self.fail_at(where, ("alu", op_name), f"an ALU operation needs an identifier for a name, "
+                                                      f"not one of the notation's words ({reserved})")
+
+            def fail(key, message, op_name=op_name, where=where):
+                self.fail_at(where, ("alu", op_name) + tuple(key), message)
+            ops[op_name] = read_alu_op(op_name, raw, fail, flags)
+        return ops
 
     def operand_kinds(self, names: MachineNames) -> dict[str, OperandKind]:
         kinds = {}
@@ -207,8 +226,11 @@ class _Loader:
                 table.where = where
                 table.fail("an operand kind must be a table, e.g. { bits = 8, min = 0, max = 255 }", kind_name)
             spec = table.table(kind_name, where)
-            spec.known_keys(("registers", "bits", "min", "max"))
+            spec.known_keys(("registers", "bits", "min", "max", "signed", "relative"))
             if "registers" in spec:
+                for key in ("signed", "relative"):
+                    if key in spec:
+                        spec.fail(f"'{key}' is for number operands; this kind lists registers", key)
                 regs = spec.list_of("registers", lambda r: True, nonempty=True,
                                     expected="a non-empty list of register names")
                 for reg in regs:
@@ -220,14 +242,16 @@ class _Loader:
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
             else:
                 bits = spec.integer("bits", low=1, high=32)
-                low = spec.integer("min", default=0)
-                high = spec.integer("max", default=(1 << bits) - 1)
+                signed = spec.boolean("signed", default=False)
+                relative = spec.choice("relative", ("next", "this"), default=None)
+                low = spec.integer("min", default=-(1 << (bits - 1)) if signed else 0)
+                high = spec.integer("max", default=(1 << (bits - 1)) - 1 if signed else (1 << bits) - 1)
                 if low > high:
                     spec.fail(f"'min' ({low}) is above 'max' ({high})", "min")
                 if high >= 1 << bits or low < -(1 << (bits - 1)):
                     spec.fail(f"{bits} bits hold {-(1 << (bits - 1))}…{(1 << bits) - 1} at most "
                               f"(signed or unsigned), not {low}…{high}", "max")
-                kinds[kind_name] = OperandKind(kind_name, bits, low, high)
+                kinds[kind_name] = OperandKind(kind_name, bits, low, high, signed=signed, relative=relative)
         return kinds
 
     def ports(self):

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from functools import cached_property
 from typing import NamedTuple
 
+from ._alu import builtin_alu_ops
 from ._call_marks import CallMark
 from ._port_devices import devices_for
 from ._sections import TimingSection, WearRatings
@@ -66,6 +67,14 @@ class OperandKind:
     low: int
     high: int
     registers: tuple[str, ...] = ()
+    signed: bool = False
+    """Values are two's complement (range −2^(bits−1)…2^(bits−1)−1 unless min/max say otherwise)."""
+    relative: str | None = None
+    """``"next"``: the field holds label − the address after the instruction; ``"this"``: label − its own."""
+
+    def distance_base(self, address: int, word_count: int) -> int:
+        """The address a relative field's distance is counted from, for an instruction at ``address``."""
+        return address + word_count if self.relative == "next" else address
 
     @property
     def is_register(self) -> bool:
@@ -344,6 +353,8 @@ class MachineNames:
     flags: dict[str, Flag]
     pc: str
     ir: str
+    alu_ops: dict = field(default_factory=builtin_alu_ops)
+    """Operation name → ``AluOp``: the built-ins and the file's ``[alu.NAME]`` definitions."""
 
     @property
     def kinds_of_name(self) -> dict[str, str]:
@@ -378,6 +389,8 @@ class Machine:
     """The checked ``[wear]`` section; without one no rated life is known."""
     decode_groups: dict[int, DecodeGroup] = field(default_factory=dict)
     """First member's index → its decode group; ``decode_table`` sends the group's first words there."""
+    alu_ops: dict = field(default_factory=builtin_alu_ops)
+    """Operation name → ``AluOp``: the built-ins, then the file's own (a file's definition wins)."""
 
     def control_lines(self) -> list[str]:
         """Every control line some micro-step of the machine drives, in first-use order."""

@@ -28,7 +28,8 @@ from contextlib import nullcontext
 from dataclasses import dataclass
 from typing import Callable, NamedTuple
 
-from ..description import ALU_OPS, Instruction, Machine, Step
+from ..description import Instruction, Machine, Step, resolve_flag
+from ._alu_codegen import emit_alu
 from ._emitter import Emitter, compile_generated
 from ..description.notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle,
                                     Input, Join, Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width,
@@ -285,44 +286,35 @@ class _StepTranslator:
 
     def value(self, node) -> tuple[str, int]:
         """An expression's text and width; ALU operations are computed into a temporary."""
-        if isinstance(node, Call) and node.op in ALU_OPS:
+        if isinstance(node, Call) and node.op in self.machine.alu_ops:
             result, _flags = self.alu(node)
             return result, self.width(node)
         return self.expr(node), self.width(node)
 
     def alu(self, call: Call, flags: tuple[str, ...] = ()) -> tuple[str, dict[str, str]]:
-        """Emit the ALU operation; return its masked result and the value of each role ``flags`` take.
+        """Emit the ALU operation; return its kept result and the value of each flag in ``flags``.
 
-        Carry and overflow cost a line each, so only the ones a named flag
-        takes are computed: ``inc(rd) sets z n`` computes neither.
+        A flag costs a line only when it needs the exact result or an
+        operand, and only the flags a step names are computed:
+        ``inc(rd) sets z n`` computes neither carry nor overflow.
         """
-        op = ALU_OPS[call.op]
-        wanted = {self.machine.flags[name].role for name in flags}
+        machine = self.machine
+        op = machine.alu_ops[call.op]
         width = self.width(call)
-        names = {}
-        for key, arg in zip("ab", call.args):
+        operands = []
+        for key, arg in zip(op.operands, call.args):
             text = self.expr(arg)
             if not text.isidentifier():
                 name = self.out.fresh(key)
                 self.out.line(f"{name} = {text}")
                 text = name
-            names[key] = text
-        carry = next((f for f in self.machine.flags.values() if f.role == "carry"), None)
-        names["cin"] = self.access.read(carry.slot, carry.name) if op.uses_carry_in else "0"
-        names["w"], names["top"] = str(width), str(width - 1)
-        result = self.out.fresh("r")
-        self.out.line(f"{result} = {op.raw.format(**names)}")
-        names["r"] = result
-        roles = {}
-        for role, template in (("carry", op.carry), ("overflow", op.overflow)):
-            if role in wanted and template is not None:
-                flag_value = self.out.fresh(role[0])
-                self.out.line(f"{flag_value} = {template.format(**names)}")
-                roles[role] = flag_value
-        self.out.line(f"{result} &= {(1 << width) - 1:#x}")
-        roles["zero"] = f"{result} == 0"
-        roles["negative"] = f"{result} >> {width - 1}"
-        return result, roles
+            operands.append(text)
+        reads = {}
+        for ref in op.reads:
+            flag, _problem = resolve_flag(ref, machine.flags)
+            reads[ref] = self.access.read(flag.slot, flag.name)
+        wanted = {name: op.produces(machine.flags[name]) for name in flags}
+        return emit_alu(op, operands, reads, width, wanted, self.out)
 
     # -- statements
 
@@ -352,15 +344,15 @@ class _StepTranslator:
         match st:
             case Assign(target, value, flags):
                 if flags:
-                    result, roles = self.alu(value, flags)
+                    result, values = self.alu(value, flags)
                     self.assign(target, result, self.width(value))
-                    self.write_flags(flags, roles)
+                    self.write_flags(flags, values)
                 else:
                     text, width = self.value(value)
                     self.assign(target, text, width)
             case FlagsOnly(call, flags):
-                _result, roles = self.alu(call, flags)
-                self.write_flags(flags, roles)
+                _result, values = self.alu(call, flags)
+                self.write_flags(flags, values)
             case Output(port, value):
                 self.out.line(f"out_({self.expr(port)}, {self.expr(value)})")
             case Halt():
@@ -370,10 +362,9 @@ class _StepTranslator:
             case _:
                 unknown_node(st)
 
-    def write_flags(self, flags, roles) -> None:
+    def write_flags(self, flags, values) -> None:
         for name in flags:
-            flag = self.machine.flags[name]
-            self.access.write(flag.slot, name, roles[flag.role])
+            self.access.write(self.machine.flags[name].slot, name, values[name])
 
     def assign(self, target, value: str, width: int) -> None:
         """Write a value the checker has held to the target's width (so no mask, except a
@@ -424,13 +415,12 @@ class _StepTranslator:
                 pending.append((st.target, temp, width))
             elif isinstance(st, (Assign, FlagsOnly)):
                 call = st.value if isinstance(st, Assign) else st.call
-                result, roles = self.alu(call, st.flags)
+                result, values = self.alu(call, st.flags)
                 temps = {}
                 for name in st.flags:
-                    role = self.machine.flags[name].role
                     temp = self.out.fresh("f")
-                    self.out.line(f"{temp} = {roles[role]}")
-                    temps[role] = temp
+                    self.out.line(f"{temp} = {values[name]}")
+                    temps[name] = temp
                 pending.append(("flags", st.flags, temps))
                 if isinstance(st, Assign):
                     pending.append((st.target, result, self.width(call)))
@@ -479,8 +469,8 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
         match sub:
             case Name(name):
                 found |= name_slots(name)
-            case Call(op, _) if op in ALU_OPS and ALU_OPS[op].uses_carry_in:
-                found |= {f.name for f in machine.flags.values() if f.role == "carry"}
+            case Call(op, _) if op in machine.alu_ops:
+                found |= {resolve_flag(ref, machine.flags)[0].name for ref in machine.alu_ops[op].reads}
             case (Const() | Mem() | Join() | Offset() | Slice() | Extend() | Not() | Logic() | Condition()
                   | Choose() | Input() | Call()):
                 pass  # no state of their own; their parts come next in the walk

@@ -6,9 +6,12 @@ traversal over it (``children``/``with_children``, ``walk``, and
 ``_parser`` turn the text of one micro-step into it; ``_widths`` is the
 rule that says how many bits a value has; ``numbers.lark`` and ``_numbers``
 are the number and escape notation shared by machine files, the assembler,
-command options and the debugger.
+command options and the debugger; ``alu.lark`` and ``_alu_expr`` are the
+expression language of ALU definitions (``[alu.NAME]`` and the built-ins).
 """
 
+from ._alu_expr import (AluExpr, Binary, BitRange, Num, Unary, Var, alu_parts, evaluate, free_names, index_names,
+                        parse_alu_expression)
 from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, End, Expr, Expression, Extend, FlagsOnly,
                   Goto, Halt, Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Sequencing, Slice,
                   Statement, StatementNode, WaitUntil,
@@ -16,14 +19,16 @@ from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, End, 
 from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parser import parse_step
-from ._widths import name_width, top_word_shift, value_width
+from ._widths import WORD_SELECTORS, name_width, top_word_shift, value_width
 
 __all__ = [
+    "AluExpr", "Binary", "BitRange", "Num", "Unary", "Var", "alu_parts", "evaluate", "free_names", "index_names",
+    "parse_alu_expression",
     "Assign", "Call", "Choose", "Condition", "Const", "Expr", "Expression", "Extend", "FlagsOnly", "Halt", "Idle",
     "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
     "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
     "End", "Goto", "Sequencing", "WaitUntil",
     "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number",
-    "name_width", "top_word_shift", "value_width",
+    "WORD_SELECTORS", "name_width", "top_word_shift", "value_width",
 ]

@@ -12,11 +12,13 @@ so here it counts the bits it needs, and the checker holds it to its place.
 
 from __future__ import annotations
 
-from .._alu import WORD_SELECTORS
 from ._ir import (Call, Choose, Condition, Const, Extend, Input, Join, Logic, Mem, Name, Not, Offset, Slice,
                   unknown_node)
 
-__all__ = ["name_width", "value_width", "top_word_shift"]
+__all__ = ["WORD_SELECTORS", "name_width", "value_width", "top_word_shift"]
+
+WORD_SELECTORS = {"hi", "lo"}
+"""``hi(e)``/``lo(e)``: the upper and lower data word of a wide value (bus wiring, no ALU)."""
 
 
 def name_width(name: str, names, fields: dict) -> int:
@@ -72,6 +74,9 @@ def value_width(node, names, fields: dict) -> int:
             case Call("lo", (arg,)):
                 return min(width(arg), data_bits)
             case Call(op, args) if op not in WORD_SELECTORS:
+                alu_ops = getattr(names, "alu_ops", None)   # the machine's definitions say their width
+                if alu_ops is not None and op in alu_ops:
+                    return alu_ops[op].result_width([width(a) for a in args])
                 return max(width(a) for a in args)
             case _:
                 unknown_node(n)

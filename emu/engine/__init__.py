@@ -1,8 +1,11 @@
 """The engine: where a micro-step runs.
 
 ``_microstep_compiler`` turns a machine description's micro-steps into
-Python (one function per micro-step, one fused function per instruction),
-written through ``_emitter``; ``_blocks`` translates hot straight-line code
+Python (one function per micro-step, one fused function per instruction):
+``_machine_compiler`` writes the whole machine's source through ``_emitter``,
+``_step_translator`` translates one micro-step's statements (reading state
+as ``_state_access`` says), ``_fused_functions`` writes the fused functions
+and free runners; ``_blocks`` translates hot straight-line code
 into one function a block (``_block_translator``, ``_block_dispatch``,
 ``_dead_assignments``). ``_control_unit`` is the hold line, the halt
 latch, STEP, RESUME and RESET, and the two paths that run the compiled

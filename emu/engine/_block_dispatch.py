@@ -12,7 +12,8 @@ from ..description import Instruction, Machine
 from ..description.notation import Assign, Mem
 from ._block_translator import _Context, _KnownAccess, _store_check, _translate_instruction
 from ._emitter import Emitter
-from ._microstep_compiler import _ident, _MachineCompiler
+from ._machine_compiler import _MachineCompiler
+from ._naming import _ident
 
 __all__ = ["checked_fused_source", "dispatcher_source", "writes_memory"]
 

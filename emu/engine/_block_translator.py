@@ -34,7 +34,8 @@ from ..description import Instruction, Machine
 from ..description.notation import Assign, Choose, Mem, Name, Offset
 from ._dead_assignments import without_dead_assignments
 from ._emitter import Emitter
-from ._microstep_compiler import _LocalAccess, _StepTranslator
+from ._state_access import _LocalAccess
+from ._step_translator import _StepTranslator
 
 __all__ = ["BlockPlan", "block_source", "JUMP", "MAYBE", "NEXT", "successor"]
 

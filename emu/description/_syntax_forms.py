@@ -13,6 +13,8 @@ from functools import cache
 
 import lark
 
+from .notation import error_column
+
 __all__ = ["FormOperand", "SyntaxFormError", "parse_syntax_form"]
 
 
@@ -51,10 +53,7 @@ def parse_syntax_form(text: str) -> tuple[str, tuple[FormOperand, ...]]:
     try:
         tree = _parser().parse(text)
     except lark.UnexpectedInput as exc:
-        column = getattr(exc, "column", 0) or 0
-        token = getattr(exc, "token", None)
-        if column < 1 or getattr(token, "type", None) == "$END":
-            column = len(text.rstrip()) + 1
+        column = error_column(exc, text)
         expected = sorted({_EXPECTED.get(t, t) for t in (getattr(exc, "expected", None) or getattr(exc, "allowed", None) or ())})
         why = f"expected {', '.join(expected)}" if expected else "not an operand the assembler can read"
         _fail(text, column, why + "; an operand is field:kind or a name, inside [ ] or after # or @")

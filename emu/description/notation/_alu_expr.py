@@ -15,6 +15,7 @@ import lark
 
 from ...errors import MachineError
 from ._numbers import GRAMMAR_IMPORTS, literal_value
+from ._parse_errors import error_column
 
 __all__ = ["AluExpr", "Binary", "BitRange", "Num", "Unary", "Var", "alu_parts", "evaluate", "free_names",
            "index_names", "parse_alu_expression"]
@@ -95,10 +96,7 @@ def parse_alu_expression(text: str) -> AluExpr:
     try:
         tree = _parser().parse(text)
     except lark.UnexpectedInput as exc:
-        column = getattr(exc, "column", 0) or 0
-        token = getattr(exc, "token", None)
-        if column < 1 or getattr(token, "type", None) == "$END":
-            column = len(text.rstrip()) + 1   # the text stops short: the caret goes after it
+        column = error_column(exc, text)
         caret = " " * (column - 1) + "^"
         raise MachineError(f"cannot read the expression at column {column}\n    {text}\n    {caret}") from None
     try:

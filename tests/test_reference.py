@@ -3,7 +3,9 @@
 Each TOML example marked ``<!-- check: … -->`` in the reference is checked:
 ``machine`` is a whole machine file; ``adds`` is a part that, appended to
 the reference's complete example machine, must still load; ``replaces`` is a
-part that must load in place of the example's sections of the same names. Examples marked
+part that must load in place of the example's sections of the same names (its
+``[[instruction]]`` tables are added to the example's, never put in place of
+them all). Examples marked
 ``<!-- design: … -->`` describe planned features and are left alone.
 """
 
@@ -47,7 +49,7 @@ def with_part(mark: str, part: str) -> str:
     """The complete example with ``part`` added, or put in place of its sections of the same names."""
     if mark == "adds":
         return COMPLETE + "\n" + part
-    replaced = set(_HEADER.findall(part))
+    replaced = set(_HEADER.findall(part)) - {"instruction"}
     starts = [m.start() for m in _HEADER.finditer(COMPLETE)] + [len(COMPLETE)]
     kept = COMPLETE[:starts[0]] + "".join(
         COMPLETE[a:b] for a, b in zip(starts, starts[1:]) if _HEADER.match(COMPLETE, a)[1] not in replaced)
@@ -103,6 +105,60 @@ def test_the_reference_program_runs_as_the_reference_says_on_the_example_machine
     assert emu.get("a") == 0 and emu.get("z") == 1
     assert emu.frozen and machine.phases[emu.phase_index].name == "wait"
     assert [value for i, value in enumerate(lamps) if i == 0 or value != lamps[i - 1]] == [0, 3, 2, 1]
+
+
+def _part_with(text: str) -> tuple[str, str]:
+    return next((mark, body) for mark, body in PARTS if text in body)
+
+
+def _run_with_parts(snippets: list[str], source: str, input_bytes: bytes = b""):
+    """count8 with the part examples holding each snippet, running ``source``: the emulator and lamp values."""
+    text = COMPLETE + "".join("\n" + _part_with(s)[1] for s in snippets)
+    machine = machine_from_text(text, "count8-landed.toml")
+    emu = Emulator(machine)
+    emu.load(assemble_text(source, machine, "landed.asm").segments)
+    emu.ports.input_bytes = input_bytes
+    lamps = []
+    reason = emu.run(max_cycles=10_000, until=lambda e: lamps.append(e.lamps) or False)
+    assert reason.kind == "halted" and emu.warnings == []
+    return machine, emu, [v for i, v in enumerate(lamps) if i == 0 or v != lamps[i - 1]]
+
+
+def test_the_width_examples_compute_what_their_comments_say():
+    _machine, _emu, lamps = _run_with_parts(['"swn"'], """
+        lda 0x35
+        swn
+        out 1       ; 0x53
+        lda 0x0B
+        sx4
+        out 1       ; 0xFB
+        lda 0x81
+        rr
+        out 1       ; 0xC0
+        stop
+    """)
+    assert lamps == [0, 0x53, 0xFB, 0xC0]
+
+
+def test_the_sequencing_examples_take_the_cycles_the_reference_gives():
+    machine, emu, lamps = _run_with_parts(['"skz"', '"clr"'], """
+        lda 3
+        drain       ; 1 + 2 x 3 cycles
+        out 1
+        lda 7
+        neg
+        out 1       ; -7
+        getc
+        out 1       ; the input byte
+        clr
+        out 1
+        stop
+    """, b"A")
+    cycles = {i.display: str(i.cycles(machine)) for i in machine.instructions}
+    assert cycles["skz"] == "2–3" and cycles["getc"] == "3–∞" and cycles["drain"] == "3–∞"
+    assert cycles["clr"] == cycles["neg"] == "3"
+    assert lamps == [0, 0xF9, ord("A"), 0]
+    assert emu.get("a") == 0 and emu.cycles == 2 + 7 + 3 + 2 + 3 + 3 + 3 + 3 + 3 + 3 + 2
 
 
 def test_a_part_example_that_breaks_the_format_would_be_caught():

@@ -9,12 +9,15 @@ from ._debuginfo import (DebugInfo, Expect, LineEntry, debug_path_for, debug_tex
                          write_debug)
 from ._disasm import disassemble, disassemble_at, disassemble_image
 from ._errors import AsmError, Diagnostic
+from ._expr import EvalError
+from ._forms import FormError
 from ._image import image_bytes, intel_hex_text, parse_intel_hex, read_image, sniff, write_binary, write_intel_hex
 from ._machine_directive import MachineDirective, machine_directive
 from ._planting import Moved, Planting, plant_halts
 from ._program import Program, write_listing
 
 __all__ = [
+    "EvalError", "FormError",
     "MAX_INCLUDE_DEPTH", "AsmError", "DebugInfo", "Diagnostic", "Expect", "LineEntry", "MachineDirective",
     "Moved", "Planting", "Program", "assemble_file", "assemble_text", "debug_path_for", "debug_text",
     "disassemble", "disassemble_at", "disassemble_image", "image_bytes", "image_fingerprint", "intel_hex_text",

@@ -22,8 +22,7 @@ from hypothesis import strategies as st
 import emu
 from emu.description import ALU_OPS
 from emu.description.notation import evaluate
-from emu.engine._alu_codegen import emit_alu
-from emu.engine._emitter import Emitter
+from emu.engine import Emitter, emit_alu
 
 from engine_support import run_program
 

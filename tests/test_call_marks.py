@@ -13,7 +13,7 @@ import pytest
 
 import emu
 from emu.debugger import call_shape
-from emu.debugger._calls import _inferred_shape
+from emu.debugger import inferred_call_shape
 
 from debugger_programs import session_for
 
@@ -61,7 +61,7 @@ def test_ref8_marks_say_what_the_inference_found():
     by_name = {ins.display: ins for ins in REF8.instructions}
     assert by_name["call addr"].call == emu.description.CallMark("stack", "sp")
     assert by_name["ret"].returns
-    assert call_shape(REF8) == _inferred_shape(REF8)
+    assert call_shape(REF8) == inferred_call_shape(REF8)
 
 
 def test_without_marks_a_link_call_is_not_seen():

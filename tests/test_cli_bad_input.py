@@ -354,8 +354,7 @@ def test_every_user_facing_error_is_one_family():
     from emu.debugger import DebugError
     from emu.errors import RelaybenchError
     from emu.runs import ProgramError
-    from asm._expr import EvalError
-    from asm._forms import FormError
+    from asm import EvalError, FormError
     for error in (emu.MachineError, asm.AsmError, ProgramError, DebugError, EvalError, FormError):
         assert issubclass(error, RelaybenchError), error
 

@@ -299,12 +299,12 @@ def test_debug_takes_the_input_stream_from_the_command_line(tmp_path, monkeypatc
     (3, 8, "programs", "3/8 programs"),
 ])
 def test_progress_amount_text(done, total, unit, text):
-    from emu.commands._progress import amount_text
+    from emu.commands import amount_text
     assert amount_text(done, total, unit) == text
 
 
 def test_progress_rate_text():
-    from emu.commands._progress import rate_text_per_second
+    from emu.commands import rate_text_per_second
     assert rate_text_per_second(5_000_000, 2.0, "cycles") == "2,500,000 cycles/s"
     assert rate_text_per_second(10, 0.0, "cycles") == ""
 

@@ -59,6 +59,6 @@ def test_rates(hz, text):
 
 def test_the_debugger_panel_writes_time_as_every_command_does():
     """Before: the panel wrote ``7127 h 46 min 12.0 s`` where ``run`` wrote days."""
-    from emu.debugger._panel import duration_text as panel_duration
+    from emu.debugger import duration_text as panel_duration
     nanoseconds = round((7127 * 3_600 + 46 * 60 + 12) * 1e9)
     assert panel_duration(nanoseconds) == duration_text(nanoseconds / 1e9) == "296 d 23 h 46 min 12 s"

@@ -5,6 +5,6 @@ and ``main``; ``_options`` holds the option types they share and
 ``_progress`` the progress bar shown on a terminal.
 """
 
-from ._progress import Progress, terminal_attached
+from ._progress import Progress, amount_text, rate_text_per_second, terminal_attached
 
-__all__ = ["Progress", "terminal_attached"]
+__all__ = ["Progress", "amount_text", "rate_text_per_second", "terminal_attached"]

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 from emu import Machine
 from emu.description.notation import Assign, Mem, Name, Offset, walk
 
-__all__ = ["CallShape", "call_shape"]
+__all__ = ["CallShape", "call_shape", "inferred_call_shape"]
 
 
 @dataclass(frozen=True)
@@ -89,7 +89,7 @@ def call_shape(machine: Machine) -> CallShape:
     """The marked calls and returns, or (for a file that marks none) the inferred ones."""
     if any(ins.call is not None or ins.returns for ins in machine.instructions):
         return _marked_shape(machine)
-    return _inferred_shape(machine)
+    return inferred_call_shape(machine)
 
 
 def _marked_shape(machine: Machine) -> CallShape:
@@ -98,7 +98,8 @@ def _marked_shape(machine: Machine) -> CallShape:
     return CallShape(calls, returns)
 
 
-def _inferred_shape(machine: Machine) -> CallShape:
+def inferred_call_shape(machine: Machine) -> CallShape:
+    """The calls and returns guessed from the micro-steps (a file that marks none)."""
     calls, stacks = set(), set()
     for ins in machine.instructions:
         registers = _stack_writes(ins, machine)

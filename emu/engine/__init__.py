@@ -19,5 +19,8 @@ from ._microstep_compiler import CompiledMachine, Fallback, compile_machine
 from ._ports import Ports
 from ._snapshots import read_snapshot
 
-__all__ = ["CompiledMachine", "Emulator", "Fallback", "Observer", "Ports", "Ring", "StopReason", "read_snapshot",
+from ._alu_codegen import emit_alu
+from ._emitter import Emitter
+
+__all__ = ["Emitter", "emit_alu", "CompiledMachine", "Emulator", "Fallback", "Observer", "Ports", "Ring", "StopReason", "read_snapshot",
            "compile_machine"]

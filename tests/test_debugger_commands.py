@@ -571,3 +571,12 @@ def test_stepping_by_pulses_stops_at_the_cycle_limit(tmp_path):
     assert "cycle limit of 5,000 reached while stepping" in reply
     assert session.emu.cycles - before == 5_000
     assert "cycle limit of 5,000 reached while stepping" in session.execute("instr 99999999999999999999")
+
+
+def test_stepping_over_a_write_to_a_plain_flag_shows_it_on_the_bus(tmp_path):
+    """A plain flag is a 1-bit register: the bus of the step that writes it is one bit wide."""
+    from engine_support import COND4_PATH
+    from emu import load_machine
+    session = session_for(tmp_path, "        poll\n        stop\n", load_machine(COND4_PATH), "poll.asm")
+    reply = session.execute("pulse 2")
+    assert "rdy <- in(2)[0]" in reply and "into rdy" in reply, reply

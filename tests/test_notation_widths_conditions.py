@@ -255,3 +255,12 @@ def test_idle_cycles_drive_no_line_in_the_waveform_and_wear_nothing(tmp_path):
     rises = {name.rsplit(".", 1)[1]: sum(1 for t, v in vcd[name].tv if t > 0 and v == "1")
              for name in vcd.signals if ".lines." in name}
     assert sum(rises.values()) == sum(expected.values())
+
+
+def test_an_alu_operation_in_a_branch_of_a_choice_is_refused_at_load():
+    """The compiler has no way to gate an ALU operation by a condition, so the loader says so, located."""
+    text = COND4_TEXT.replace('steps = ["rdy <- in(2)[0]"]', 'steps = ["a <- z ? inc(a) : a"]')
+    assert text != COND4_TEXT
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(text, "cond4.toml")
+    assert "step 2: the ALU operation inc() cannot stand in a branch of a choice" in str(caught.value)

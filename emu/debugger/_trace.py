@@ -155,7 +155,8 @@ def bus_probe(emu):
     register = before.register_of(transfer.target.name)
     if register is None:
         return lambda: None
-    return lambda: Bus(emu.get(register), m.register_width(register), register=register)
+    bits = 1 if register in m.flags else m.register_width(register)
+    return lambda: Bus(emu.get(register), bits, register=register)
 
 
 class Recorder(Observer):

@@ -11,7 +11,7 @@ from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
 from .notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join,
                        Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width, unknown_node,
-                       value_width)
+                       value_width, walk)
 
 __all__ = ["StepChecker"]
 
@@ -190,8 +190,12 @@ class StepChecker:
                 self.one_bit(right)
             case Condition(test):
                 self.one_bit(test)
-            case Choose():
-                pass
+            case Choose(_, if_true, if_false):
+                for branch in (if_true, if_false):
+                    for n in walk(branch):
+                        if isinstance(n, Call) and n.op not in WORD_SELECTORS:
+                            self.fail(f"the ALU operation {n.op}() cannot stand in a branch of a choice: "
+                                      f"choose its operands instead, or give it a step of its own")
             case Input():
                 self.io += 1
                 self.line("in")

@@ -9,6 +9,9 @@ cycles. ``GAUGE`` is the acc12 counterpart of KILN.
 
 from __future__ import annotations
 
+import threading
+import time
+from contextlib import contextmanager
 from pathlib import Path
 
 from emu import load_machine
@@ -75,3 +78,20 @@ def session_for(tmp_path, text: str = KILN, machine=REF8, name: str = "kiln.asm"
     working folder, so places read ``kiln.asm:7``."""
     write(tmp_path, text, name)
     return Session(machine, load_view(name, machine), **options)
+
+
+@contextmanager
+def ctrl_c_after(session: Session, cycles: int):
+    """Press Ctrl-C (the session's stop switch) from another thread once the
+    machine has run ``cycles`` cycles, while the body runs a long command."""
+    def press():
+        while session.emu.cycles < cycles:
+            time.sleep(0.001)
+        session.interrupt()
+
+    presser = threading.Thread(target=press)
+    presser.start()
+    try:
+        yield
+    finally:
+        presser.join()

@@ -8,15 +8,13 @@ the pause after 94 cycles and at the final halt after 101.
 
 from __future__ import annotations
 
-import threading
-import time
 
 import pytest
 
 from emu import Emulator
 from emu.debugger import COMMANDS, call_shape
 
-from debugger_programs import ACC12, GAUGE, REF8, SOAK, session_for
+from debugger_programs import ACC12, GAUGE, REF8, SOAK, ctrl_c_after, session_for
 
 
 @pytest.fixture(autouse=True)
@@ -465,15 +463,8 @@ def test_live_asks_the_terminal_for_the_live_view(kiln):
 def test_ctrl_c_during_a_long_run_throws_the_stop_switch_and_loses_nothing(tmp_path):
     session = session_for(tmp_path, SOAK.replace("li r4, 200", "li r4, 20"))
 
-    def press_ctrl_c_once_running():
-        while session.emu.cycles < 100_000:
-            time.sleep(0.001)
-        session.interrupt()
-
-    presser = threading.Thread(target=press_ctrl_c_once_running)
-    presser.start()
-    text = session.execute("go")
-    presser.join()
+    with ctrl_c_after(session, 100_000):
+        text = session.execute("go")
     assert text.splitlines()[1] == "stopped by the stop switch (Ctrl-C): the clock froze at the hold point"
     e = session.emu
     assert e.frozen and not e.switch_run and e.machine.phases[e.phase_index].hold

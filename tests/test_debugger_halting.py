@@ -9,14 +9,12 @@ own steps follow; halt and pause are one step each after the fetch).
 
 from __future__ import annotations
 
-import threading
-import time
 
 import pytest
 
 from emu import Emulator
 
-from debugger_programs import REF8, SOAK, session_for
+from debugger_programs import REF8, SOAK, ctrl_c_after, session_for
 
 
 @pytest.fixture(autouse=True)
@@ -83,15 +81,8 @@ def test_pulse_n_respects_the_cycle_limit(tmp_path):
 def test_ctrl_c_stops_a_long_pulse_and_loses_nothing(tmp_path):
     session = session_for(tmp_path, SOAK)
 
-    def press_ctrl_c_once_pulsing():
-        while session.emu.cycles < 20_000:
-            time.sleep(0.001)
-        session.interrupt()
-
-    presser = threading.Thread(target=press_ctrl_c_once_pulsing)
-    presser.start()
-    text = session.execute("pulse 100000000")
-    presser.join()
+    with ctrl_c_after(session, 20_000):
+        text = session.execute("pulse 100000000")
     assert "stepping stopped by Ctrl-C (after " in text
     e = session.emu
     assert e.frozen and 20_000 <= e.cycles < 100_000_000

@@ -40,7 +40,13 @@ def machine_directive(path) -> MachineDirective | None:
         text = open(path, "rb").read().decode("utf-8")
     except (OSError, UnicodeDecodeError):
         return None
-    lines, _problems = parse_source(text, path)
+    rows = text.replace("\r\n", "\n").split("\n")
+    at = next((n for n, row in enumerate(rows) if row.split(";")[0].strip()), None)
+    if at is None:
+        return None
+    # Only the first line with a statement is parsed (kept at its own line
+    # number): the assembler reads the whole file later, once.
+    lines, _problems = parse_source("\n" * at + rows[at], path)
     first = next((line for line in lines if line.label is not None or line.body is not None), None)
     if first is None or first.label is not None or not isinstance(first.body, Directive):
         return None
@@ -50,5 +56,5 @@ def machine_directive(path) -> MachineDirective | None:
     name = body.arguments[0]
     if name.problem is not None or not name.value.strip():
         return None
-    source_line = text.replace("\r\n", "\n").split("\n")[name.line - 1]
+    source_line = rows[name.line - 1]
     return MachineDirective(name.value, path, name.line, name.column, source_line)

@@ -101,6 +101,19 @@ def _machine_blocks(machine: Machine) -> _MachineBlocks:
     return shared
 
 
+_cover: dict[int, bool] = {}
+
+
+def _covered(machine: Machine) -> bool:
+    """``blocks_cover`` once per machine: every new emulator asks, and the answer walks every instruction."""
+    key = id(machine)
+    covered = _cover.get(key)
+    if covered is None:
+        covered = _cover[key] = blocks_cover(machine)
+        weakref.finalize(machine, _cover.pop, key, None)
+    return covered
+
+
 def _build(code, *arguments):
     namespace: dict = {}
     exec(code, namespace)
@@ -119,7 +132,7 @@ class BlockRunner:
 
     def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free):
         self.machine = machine
-        self.enabled = blocks_cover(machine)
+        self.enabled = _covered(machine)
         """Off where blocks cannot be exact yet: see ``blocks_cover``."""
         self.warm_up = WARM_UP_CYCLES
         self.threshold = HOT_THRESHOLD

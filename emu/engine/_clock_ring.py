@@ -30,9 +30,7 @@ class Ring:
         self.phases = phases
         self.count = len(phases)
         self.nominal = tuple(p.duration_ns for p in phases)
-        self.turn = list(self.nominal)
         self.source = None
-        self.time_ns = 0
         starts = [i for i in range(self.count)
                   if phases[i - 1].level == 1 and phases[i].level == 0]
         self.boundaries = tuple(starts)
@@ -40,7 +38,6 @@ class Ring:
         self.phases_per_cycle = tuple(
             (starts[(k + 1) % len(starts)] - start) % self.count or self.count
             for k, start in enumerate(starts))
-        self.index = starts[0]
         high_run, i = 0, starts[0]
         while phases[i].level == 0:
             i = (i + 1) % self.count
@@ -49,6 +46,13 @@ class Ring:
             i = (i + 1) % self.count
         self.manual_pulse_ns = high_run
         """A STEP pulse from the panel lasts as long as the generator's first high pulse."""
+        self.power_on()
+
+    def power_on(self) -> None:
+        """At the first cycle boundary, time 0; an irregular clock (kept) gives the turn from here on."""
+        self.index = self.boundaries[0]
+        self.time_ns = 0
+        self.set_source(self.source)
 
     @property
     def at_boundary(self) -> bool:

@@ -30,6 +30,7 @@ from ..errors import MachineError
 from ..files import write_atomic
 from ..formatting import address_text
 from ._ports import Ports
+from ._save_points import SavePoint, rewind, save_point
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
 __all__ = ["Emulator", "Observer", "StopReason"]
@@ -87,6 +88,13 @@ class Emulator:
         self._slots = {**{n: (r.slot, r.width) for n, r in machine.registers.items()},
                        **{n: (f.slot, 1) for n, f in machine.flags.items()}}
         self.ring = Ring(machine)
+        self._observers: list[Observer] = []
+        self._blank_slots = tuple(self._s)
+        self._blank_memory = bytes(self.memory) if isinstance(self.memory, bytearray) else tuple(self.memory)
+        self._power_on_control()
+
+    def _power_on_control(self) -> None:
+        """The control unit, counters and warnings as power-on leaves them."""
         self.switch_run = True
         self.halt_latch = False
         self.halt_address: int | None = None
@@ -97,7 +105,6 @@ class Emulator:
         self.cycles = 0
         self.instructions = 0
         self._undefined: Counter[int] = Counter()
-        self._observers: list[Observer] = []
 
     # ----- loading and looking --------------------------------------------
 
@@ -110,6 +117,34 @@ class Emulator:
                                    f"past the {size} words of memory of {self.machine.name}")
             mask = self.machine.data_mask
             self.memory[start:start + len(words)] = [w & mask for w in words]
+
+    def reload(self, segments, *, switches: int = 0, input_bytes: bytes = b"") -> None:
+        """Power on again with ``segments`` loaded, keeping the compiled functions.
+
+        The machine is then exactly as a new ``Emulator`` given ``load(segments)``,
+        ``switches`` and ``input_bytes``: registers, memory, ports, ring, latch and
+        counters as at power-on. What is attached to it stays: observers, the
+        clock source (which gives the next turn) and blocks already translated
+        (checked against memory before they run again).
+        """
+        self._s[:] = self._blank_slots
+        self.memory[:] = self._blank_memory
+        self.ports.power_on()
+        self.ring.power_on()
+        self._power_on_control()
+        self.load(segments)
+        self.switches = switches
+        self.input_bytes = input_bytes
+
+    def save_point(self) -> SavePoint:
+        """The whole state kept in memory, for ``rewind`` (cheap; a snapshot file is ``snapshot``)."""
+        return save_point(self)
+
+    def rewind(self, point: SavePoint) -> None:
+        """Back to the state of ``point``, taken from an emulator of the same machine (this one or another)."""
+        if point.machine is not self.machine:
+            raise MachineError(f"the save point is of machine '{point.machine.name}', not '{self.machine.name}'")
+        rewind(self, point)
 
     def get(self, name: str) -> int:
         """A register, register group (its parts side by side, first most significant) or flag by name."""
@@ -385,7 +420,8 @@ class Emulator:
                 chunk(self)
                 next_chunk = self.cycles + chunk_cycles
                 continue
-            if self._fast_path_open():
+            fast = self._fast_path_open()
+            if fast:
                 budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
                 if target is not None:
                     budget = min(budget, target - self.cycles)
@@ -404,9 +440,33 @@ class Emulator:
                     if cycles > limit:
                         continue
             done = self.instructions
-            self.advance_phase()
+            if fast:
+                stop_at = next_chunk if chunk is not None else self.cycles + chunk_cycles
+                self._step_unwatched(stop_at if target is None else min(stop_at, target))
+            else:
+                self.advance_phase()
             if self.instructions != done and watch is not None and watch():
                 return self._watch_reason(points)
+
+    def _step_unwatched(self, stop_at: int) -> None:
+        """The instruction at hand, one micro-step per cycle, without walking the phase table.
+
+        Where the fused path cannot go (a halt, an undefined word, a step that
+        loops, too little budget left) and nobody watches the phases, each
+        cycle is one compiled micro-step and the ring skips the cycle whole.
+        It ends at the instruction's end, the cycle that sets the halt latch
+        (from there the generator walks to its hold point as usual) or
+        ``stop_at``: exactly where the stepping path's checks, made between
+        phases, would stop it.
+        """
+        start = self.cycles
+        microstep = self._microstep
+        while True:
+            microstep()
+            if self.halt_latch or self._seq == _FETCH_START or self.cycles >= stop_at:
+                break
+        self.ring.skip_cycles(self.cycles - start)
+        self._released = False
 
     def _watcher(self, points, until, applied):
         """The check made after every instruction of a watched run.

@@ -45,7 +45,8 @@ class Ports:
         output, self.lamps, self.switches, self.input_bytes, self.input_position, unmapped, \
             self.reads_past_end = kept
         self.output = bytearray(output)
-        self.unmapped = Counter(dict(unmapped))
+        if unmapped or self.unmapped:
+            self.unmapped = Counter(dict(unmapped))
 
     def read(self, port: int) -> int:
         reader = self._readers.get(port)

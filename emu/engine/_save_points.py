@@ -47,5 +47,6 @@ def rewind(emu, point: SavePoint) -> None:
     ring.turn = list(turn)
     (emu.switch_run, emu.halt_latch, emu.halt_address, emu.frozen, emu._released, emu._seq,
      emu._instruction_address, emu.cycles, emu.instructions, undefined) = point.control
-    emu._undefined = Counter(dict(undefined))
+    if undefined or emu._undefined:
+        emu._undefined = Counter(dict(undefined))
     emu.ports.put_back(point.ports)

@@ -1,0 +1,31 @@
+; tolls.asm — the toll for one cart on the Gullhaven causeway.
+;
+; The toll keeper keys in the cart's axle load (in quarter tonnes) and the
+; toll per quarter tonne (in pence); the program multiplies them (16-bit
+; multiply, low 16 bits kept) into `toll` and shows the low byte on the
+; lamps. Made for `relaybench sweep`, which sets `load` and `rate` to every
+; pair of values and checks `toll` against Python's own product:
+;
+;   relaybench sweep programs/tolls.asm --each load=0..255 --each rate=0..255 \
+;       --collect toll --check "toll == load * rate"
+;
+; Expected values: computed in Python, 23 * 45 = 1035 = 0x040B.
+
+LAMPS = 1
+
+        ld r0, [load]
+        li r1, 0
+        ld r2, [rate]
+        li r3, 0
+        call mul16
+        st [toll], r0
+        st [toll + 1], r1
+        out LAMPS, r0
+        halt
+        .expect [toll] == lo(1035), [toll + 1] == hi(1035), lamps == lo(1035)
+
+load:   .byte 23
+rate:   .byte 45
+toll:   .word 0
+
+        .include "lib/math16.inc"

@@ -160,7 +160,7 @@ class _client:
             usage_error(self.args, "argument --cluster: dask.distributed is not installed "
                                    "(pip install 'relaybench[cluster]')")
         try:
-            self.client = Client(self.args.cluster, timeout="10s")
+            self.client = Client(self.args.cluster, timeout="5s")
         except (OSError, TimeoutError, ValueError) as exc:
             raise RelaybenchError(f"cannot reach the cluster at {self.args.cluster} ({exc})") from None
         return self.client
@@ -220,15 +220,20 @@ def _summary(args, plan: SweepPlan, rows, seconds: float) -> list[str]:
     lines = [f"{args.program}: {count_text(runs, 'run')} in {seconds:.2f} s {where}"
              + (f" -> {args.out}" if args.out else "")]
     if plan.checks:
+        shown = "; ".join(text if column is None else f"{column} == {text}" for text, column in plan.checks)
         lines.append(f"  checks     {count_text(runs - len(failed))} passed, {count_text(len(failed))} failed "
-                     f"({'; '.join(text for text, _column in plan.checks)})")
+                     f"({shown})")
     if limited:
         lines.append(f"  limit      {count_text(limited, 'run')} reached the cycle limit "
                      f"({count_text(plan.max_cycles, 'cycle')}) without halting")
     names = plan.columns
+    expects = [compile_check(text, names, "--expect", column) for text, column in plan.checks if column]
     for values, outputs, _ok, status in failed[:SHOWN_FAILURES]:
-        cells = ", ".join(f"{n}={_cell(v)!s}" for n, v in zip(names, values + outputs))
-        lines.append(f"  fail       {cells}" + ("" if status == "halted" else f" ({status})"))
+        row = dict(zip(names, values + outputs))
+        cells = ", ".join(f"{n}={_cell(v)}" for n, v in row.items())
+        notes = [status] if status != "halted" else []
+        notes += [f"{e.column} should be {_cell(e.value(row))}" for e in expects if not e.passes(row)]
+        lines.append(f"  fail       {cells}" + (f" ({'; '.join(notes)})" if notes else ""))
     if len(failed) > SHOWN_FAILURES:
         lines.append(f"  …          and {count_text(len(failed) - SHOWN_FAILURES, 'more failure')}")
     return lines

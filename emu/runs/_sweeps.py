@@ -183,30 +183,35 @@ def sweep_locally(plan: SweepPlan, workers: int, done=None) -> list[tuple]:
 
     ``done(rows_so_far)`` is called as chunks finish. Workers are forked, so
     they start with the compiled machine, and ignore Ctrl-C: the sweeping
-    process takes it, drops the chunks not started and lets the pool wind down.
+    process takes it and ends them, with whatever chunk they were in.
     """
-    total = len(plan.rows)
-    chunks = chunk_bounds(total, workers)
+    chunks = chunk_bounds(len(plan.rows), workers)
     results: dict[int, list] = {}
+
+    def finished(first: int, rows: list) -> None:
+        results[first] = rows
+        if done is not None:
+            done(sum(map(len, results.values())))
+
     if workers <= 1 or len(chunks) == 1:
         for first, stop in chunks:
-            results[first] = run_chunk(plan, first, stop)
-            if done is not None:
-                done(sum(map(len, results.values())))
-        return [row for first, _stop in chunks for row in results[first]]
-    import multiprocessing
-    from concurrent.futures import ProcessPoolExecutor, as_completed
-    context = multiprocessing.get_context("fork")
-    pool = ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_quiet_worker)
-    try:
-        futures = {pool.submit(run_chunk, plan, first, stop): first for first, stop in chunks}
-        for future in as_completed(futures):
-            results[futures[future]] = future.result()
-            if done is not None:
-                done(sum(map(len, results.values())))
-    finally:
-        pool.shutdown(wait=True, cancel_futures=True)
+            finished(first, run_chunk(plan, first, stop))
+    else:
+        import multiprocessing
+        pool = multiprocessing.get_context("fork").Pool(min(workers, len(chunks)), initializer=_quiet_worker)
+        try:
+            for first, rows in pool.imap_unordered(_run_numbered, [(plan, first, stop) for first, stop in chunks]):
+                finished(first, rows)
+            pool.close()
+        finally:
+            pool.terminate()
+            pool.join()
     return [row for first, _stop in chunks for row in results[first]]
+
+
+def _run_numbered(task: tuple) -> tuple[int, list]:
+    plan, first, stop = task
+    return first, run_chunk(plan, first, stop)
 
 
 def sweep_on_cluster(plan: SweepPlan, client, done=None) -> list[tuple]:

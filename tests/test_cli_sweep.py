@@ -62,6 +62,9 @@ def test_an_expected_column_is_compared_with_its_output(capsys):
     assert code == 1
     assert "2 passed, 2 failed (toll == load * rate)" in out     # 15 * 16 and 15 * 17 fit the byte
     assert "fail       load=16, rate=17, toll=16 (toll should be 272)" in out
+    code, out, _err = cli(capsys, "sweep", TOLLS, "--each", "load=15,16", "--each", "rate=16,17",
+                          "--collect", "toll:2", "--expect", "toll=load * rate", "--workers", "1")
+    assert code == 0 and _rows(out)[0] == ["load", "rate", "toll", "ok", "status"]   # the collected toll:2
 
 
 def test_registers_flags_toggles_and_input_text_are_inputs_and_outputs(tmp_path, capsys):

@@ -21,7 +21,7 @@ from pathlib import Path
 from ._progress import Progress, terminal_attached
 from ..errors import RelaybenchError
 from ..formatting import count_text
-from ..runs import (ProgramError, SweepPlan, SweepSpecError, compile_check, load_program, operator_script_for,
+from ..runs import (ProgramError, SweepPlan, SweepSpecError, chunk_bounds, compile_check, load_program, operator_script_for,
                     parse_input, parse_output, sweep_locally, sweep_on_cluster)
 from ..files import write_atomic
 from ._options import (add_machine_option, add_panel_options, cycle_count, keep_parser, machine_for_program,
@@ -117,16 +117,20 @@ def _plan(args, machine, program, switches, data, operator) -> SweepPlan:
             raise SweepSpecError(f"an input is named twice ({', '.join(names)})")
         option = "--collect"
         wanted = [name.strip() for group in args.collect for name in group.split(",") if name.strip()]
-        expects = [_expect_parts(args, text) for text in args.expect]
-        wanted += [name for name, _expr in expects if name not in wanted]
         outputs = []
         for name in wanted:
             outputs.append(parse_output(name, machine, program, set(names) | {o.column for o in outputs}))
+        expects = []
+        for name, expr in (_expect_parts(args, text) for text in args.expect):
+            option = "--expect"
+            output = next((o for o in outputs if name in (o.name, o.column, o.name.partition(":")[0])), None)
+            if output is None:
+                output = parse_output(name, machine, program, set(names) | {o.column for o in outputs})
+                outputs.append(output)
+            expects.append((output.column, expr))
         columns = names + [o.column for o in outputs]
-        by_name = {o.name: o.column for o in outputs}
         checks = [(compile_check(text, columns, "--check").text, None) for text in args.check]
-        checks += [(compile_check(expr, columns, "--expect", by_name[name]).text, by_name[name])
-                   for name, expr in expects]
+        checks += [(compile_check(expr, columns, "--expect", column).text, column) for column, expr in expects]
     except SweepSpecError as exc:
         usage_error(args, exc.message if exc.message.startswith("argument") else f"argument {option}: {exc.message}")
     product = 1
@@ -184,10 +188,16 @@ def _cell(value) -> str:
     return str(value)
 
 
+def _shown(value) -> str:
+    """A cell on one line: text with its escapes (``\\n``), numbers as they are."""
+    if isinstance(value, (str, bytes)):
+        return _cell(value).encode("unicode_escape").decode("ascii")
+    return _cell(value)
+
+
 def _text(table) -> str:
     header, body = table
-    shown = [[_cell(v).encode("unicode_escape").decode("ascii") if isinstance(v, (str, bytes)) else _cell(v)
-              for v in row] for row in body]
+    shown = [[_shown(v) for v in row] for row in body]
     widths = [max([len(h)] + [len(row[k]) for row in shown]) for k, h in enumerate(header)]
     lines = ["  ".join(h.rjust(w) for h, w in zip(header, widths))]
     lines += ["  ".join(c.rjust(w) for c, w in zip(row, widths)) for row in shown]
@@ -216,7 +226,7 @@ def _summary(args, plan: SweepPlan, rows, seconds: float) -> list[str]:
     failed = [row for row in rows if not row[2]]
     limited = sum(1 for *_row, status in rows if status != "halted")
     where = f"on the cluster at {args.cluster}" if args.cluster else \
-        f"on {count_text(min(args.workers, runs), 'worker')}"
+        f"on {count_text(min(args.workers, len(chunk_bounds(runs, args.workers))), 'worker')}"
     lines = [f"{args.program}: {count_text(runs, 'run')} in {seconds:.2f} s {where}"
              + (f" -> {args.out}" if args.out else "")]
     if plan.checks:
@@ -230,9 +240,9 @@ def _summary(args, plan: SweepPlan, rows, seconds: float) -> list[str]:
     expects = [compile_check(text, names, "--expect", column) for text, column in plan.checks if column]
     for values, outputs, _ok, status in failed[:SHOWN_FAILURES]:
         row = dict(zip(names, values + outputs))
-        cells = ", ".join(f"{n}={_cell(v)}" for n, v in row.items())
+        cells = ", ".join(f"{n}={_shown(v)}" for n, v in row.items())
         notes = [status] if status != "halted" else []
-        notes += [f"{e.column} should be {_cell(e.value(row))}" for e in expects if not e.passes(row)]
+        notes += [f"{e.column} should be {_shown(e.value(row))}" for e in expects if not e.passes(row)]
         lines.append(f"  fail       {cells}" + (f" ({'; '.join(notes)})" if notes else ""))
     if len(failed) > SHOWN_FAILURES:
         lines.append(f"  …          and {count_text(len(failed) - SHOWN_FAILURES, 'more failure')}")

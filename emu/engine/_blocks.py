@@ -89,29 +89,27 @@ class _MachineBlocks:
         return (*entry, True)
 
 
+def _once_per_machine(cache: dict, machine: Machine, make):
+    """``make(machine)``, kept in ``cache`` until the machine object goes."""
+    key = id(machine)
+    value = cache.get(key)
+    if value is None:
+        value = cache[key] = make(machine)
+        weakref.finalize(machine, cache.pop, key, None)
+    return value
+
+
 _shared: dict[int, _MachineBlocks] = {}
+_cover: dict[int, bool] = {}
 
 
 def _machine_blocks(machine: Machine) -> _MachineBlocks:
-    key = id(machine)
-    shared = _shared.get(key)
-    if shared is None:
-        shared = _shared[key] = _MachineBlocks(machine)
-        weakref.finalize(machine, _shared.pop, key, None)
-    return shared
-
-
-_cover: dict[int, bool] = {}
+    return _once_per_machine(_shared, machine, _MachineBlocks)
 
 
 def _covered(machine: Machine) -> bool:
     """``blocks_cover`` once per machine: every new emulator asks, and the answer walks every instruction."""
-    key = id(machine)
-    covered = _cover.get(key)
-    if covered is None:
-        covered = _cover[key] = blocks_cover(machine)
-        weakref.finalize(machine, _cover.pop, key, None)
-    return covered
+    return _once_per_machine(_cover, machine, blocks_cover)
 
 
 def _build(code, *arguments):

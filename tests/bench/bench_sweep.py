@@ -80,27 +80,25 @@ def new_each(pairs) -> list[int]:
     return tolls
 
 
-def reload_each(pairs) -> list[int]:
-    tolls = []
-    emu = start_emulator(PROGRAM, MACHINE)
-    for load, rate in pairs:
-        emu.reload(PROGRAM.segments)
-        emu.memory[LOAD], emu.memory[RATE] = load, rate
-        run_loaded(PROGRAM, MACHINE, emulator=emu)
-        tolls.append(_toll(emu))
-    return tolls
-
-
-def rewind_each(pairs) -> list[int]:
+def reused(pairs, back_to_start) -> list[int]:
+    """One emulator for every run; ``back_to_start(emu, point)`` before each."""
     tolls = []
     emu = start_emulator(PROGRAM, MACHINE)
     start = emu.save_point()
     for load, rate in pairs:
-        emu.rewind(start)
+        back_to_start(emu, start)
         emu.memory[LOAD], emu.memory[RATE] = load, rate
         run_loaded(PROGRAM, MACHINE, emulator=emu)
         tolls.append(_toll(emu))
     return tolls
+
+
+def reload_each(pairs) -> list[int]:
+    return reused(pairs, lambda emu, _point: emu.reload(PROGRAM.segments))
+
+
+def rewind_each(pairs) -> list[int]:
+    return reused(pairs, lambda emu, point: emu.rewind(point))
 
 
 def whole_sweep(workers: int) -> tuple[float, list]:

@@ -180,6 +180,17 @@ def test_bad_options_are_usage_errors(argv, message, capsys):
     assert message in err and "Traceback" not in err
 
 
+def test_labels_of_an_image_come_from_its_debug_file(tmp_path, capsys):
+    image = tmp_path / "tolls.hex"
+    assert cli(capsys, "asm", TOLLS, "-o", image, "--format", "hex")[0] == 0
+    code, out, _err = cli(capsys, "sweep", image, "--each", "load=3,200", "--each", "rate=5",
+                          "--collect", "toll:2,console", "--check", "toll == load * rate", "--workers", "1")
+    assert code == 0 and _rows(out)[2] == ["200", "5", "1000", "toll", "1000p\\n", "yes", "halted"]
+    (tmp_path / "tolls.dbg.json").unlink()
+    code, _out, err = cli(capsys, "sweep", image, "--each", "load=3")
+    assert code == 2 and "(labels: none: the image has no debug file beside it)" in err
+
+
 def test_a_bad_program_is_located(tmp_path, capsys):
     program = write(tmp_path, "bad.asm", "        ld r0, [nowhere]\n        halt\n")
     code, _out, err = cli(capsys, "sweep", program, "--each", "r1=1")

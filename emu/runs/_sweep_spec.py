@@ -105,7 +105,8 @@ def _place(name: str, machine: Machine, program: LoadedProgram, role: str) -> tu
         if label in program.symbols:
             raise SweepSpecError(f"'{label}' is a constant of the program (= {program.symbols[label]}), "
                                  f"not a label of a memory word")
-        known = ", ".join(sorted(program.labels)[:12]) or "none"
+        known = ", ".join(sorted(program.labels)[:12]) or \
+            ("none" if program.kind == "source" or program.debug_path else "none: the image has no debug file beside it")
         facts = f", {', '.join(RUN_FACTS)}" if role == "output" else ""
         raise SweepSpecError(f"'{label}' is no {role} of this sweep: not toggles{', input' if role == 'input' else ''}"
                              f"{facts}, a register or flag of {machine.name}, nor a label of the program "

@@ -30,6 +30,9 @@ class Ring:
         self.phases = phases
         self.count = len(phases)
         self.nominal = tuple(p.duration_ns for p in phases)
+        self._turn_ns = sum(self.nominal)
+        self._nominal_turn = list(self.nominal)
+        """The turn of a regular clock; ``skip_cycles`` takes its shortcut while ``turn`` is this list."""
         self.source = None
         starts = [i for i in range(self.count)
                   if phases[i - 1].level == 1 and phases[i].level == 0]
@@ -38,6 +41,9 @@ class Ring:
         self.phases_per_cycle = tuple(
             (starts[(k + 1) % len(starts)] - start) % self.count or self.count
             for k, start in enumerate(starts))
+        self._nominal_steps = tuple(tuple(self._nominal_span(start, rest) for rest in range(len(starts)))
+                                    for start in starts)
+        """Per boundary and number of cycles short of a whole turn: (phases, ns) on the nominal clock."""
         high_run, i = 0, starts[0]
         while phases[i].level == 0:
             i = (i + 1) % self.count
@@ -61,7 +67,7 @@ class Ring:
     def set_source(self, source) -> None:
         """Take phase durations from ``source`` from now on, the turn in progress included."""
         self.source = source
-        self.turn = list(self.nominal) if source is None else [int(d) for d in source.turns(1)[0]]
+        self.turn = self._nominal_turn if source is None else [int(d) for d in source.turns(1)[0]]
 
     def run_phase(self) -> None:
         """The generator spends the current phase's duration, then moves on."""
@@ -75,6 +81,12 @@ class Ring:
         if self.source is not None:
             self.turn = [int(d) for d in self.source.turns(1)[0]]
 
+    def _nominal_span(self, start: int, rest: int) -> tuple[int, int]:
+        k = self.boundaries.index(start)
+        per_turn = len(self.boundaries)
+        phases = sum(self.phases_per_cycle[(k + j) % per_turn] for j in range(rest))
+        return phases, sum(self.nominal[(start + p) % self.count] for p in range(phases))
+
     def skip_cycles(self, cycles: int) -> None:
         """Advance by whole cycles from a cycle boundary, as the fast path just ran them."""
         if cycles <= 0:
@@ -82,6 +94,11 @@ class Ring:
         k = self.boundary_slot[self.index]
         per_turn = len(self.boundaries)
         turns, rest = divmod(cycles, per_turn)
+        if self.turn is self._nominal_turn and self.source is None:
+            phases, ns = self._nominal_steps[k][rest]
+            self.time_ns += turns * self._turn_ns + ns
+            self.index = (self.index + phases) % self.count
+            return
         phases = turns * self.count + sum(self.phases_per_cycle[(k + j) % per_turn] for j in range(rest))
         self._consume(phases)
 
@@ -109,4 +126,5 @@ class Ring:
     def restore(self, state: dict) -> None:
         self.index = state["index"]
         self.time_ns = state["time_ns"]
-        self.turn = list(state["turn"])
+        turn = list(state["turn"])
+        self.turn = self._nominal_turn if turn == self._nominal_turn else turn

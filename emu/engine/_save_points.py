@@ -23,16 +23,15 @@ class SavePoint:
     machine: object
     slots: tuple
     memory: bytes | tuple
-    ring: tuple
+    ring: dict
     control: tuple
     ports: tuple
 
 
 def save_point(emu) -> SavePoint:
     memory = emu.memory
-    ring = emu.ring
     return SavePoint(emu.machine, tuple(emu._s), bytes(memory) if isinstance(memory, bytearray) else tuple(memory),
-                     (ring.index, ring.time_ns, tuple(ring.turn)),
+                     emu.ring.state(),
                      (emu.switch_run, emu.halt_latch, emu.halt_address, emu.frozen, emu._released, emu._seq,
                       emu._instruction_address, emu.cycles, emu.instructions, tuple(emu._undefined.items())),
                      emu.ports.kept())
@@ -42,9 +41,7 @@ def rewind(emu, point: SavePoint) -> None:
     """Put ``point`` back into the emulator's own list, memory and ports, so bound code stays valid."""
     emu._s[:] = point.slots
     emu.memory[:] = point.memory
-    ring = emu.ring
-    ring.index, ring.time_ns, turn = point.ring
-    ring.turn = list(turn)
+    emu.ring.restore(point.ring)
     (emu.switch_run, emu.halt_latch, emu.halt_address, emu.frozen, emu._released, emu._seq,
      emu._instruction_address, emu.cycles, emu.instructions, undefined) = point.control
     if undefined or emu._undefined:

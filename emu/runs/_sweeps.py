@@ -16,6 +16,7 @@ is a slice of row numbers, so what travels is two integers.
 from __future__ import annotations
 
 import hashlib
+import itertools
 import random
 import threading
 from dataclasses import dataclass, field, replace
@@ -79,6 +80,12 @@ class SweepRows:
     def __len__(self) -> int:
         return self.product if self.picked is None else len(self.picked)
 
+    def slice(self, first: int, stop: int):
+        """Rows ``first``…``stop - 1`` in order (the product walked in C, not one row at a time)."""
+        if self.picked is not None:
+            return (self[row] for row in range(first, stop))
+        return itertools.islice(itertools.product(*self.values), first, stop)
+
     def __getitem__(self, row: int) -> tuple:
         number = row if self.picked is None else self.picked[row]
         values = []
@@ -99,19 +106,20 @@ class _Runner:
         self.rows = plan.rows
         self.columns = plan.columns
         self.checks = [compile_check(text, self.columns, "check", column) for text, column in plan.checks]
+        self.setters = [_setter(self.emu, given) for given in plan.inputs]
+        self.getters = [_getter(self.emu, wanted) for wanted in plan.outputs]
 
     def run(self, first: int, stop: int) -> list[tuple]:
         """Rows ``first``…``stop - 1``: (input values, output values, whether every check passed, status)."""
         results = []
-        plan, emu, rows, start, columns, checks = self.plan, self.emu, self.rows, self.start, self.columns, self.checks
-        inputs, outputs, program, machine = plan.inputs, plan.outputs, plan.program, self.machine
-        for number in range(first, stop):
-            values = rows[number]
+        plan, emu, start, columns, checks = self.plan, self.emu, self.start, self.columns, self.checks
+        setters, getters, program, machine = self.setters, self.getters, plan.program, self.machine
+        for values in self.rows.slice(first, stop):
             emu.rewind(start)
-            for given, value in zip(inputs, values):
-                _apply(emu, given, value)
+            for setter, value in zip(setters, values):
+                setter(value)
             result = run_loaded(program, machine, max_cycles=plan.max_cycles, emulator=emu, operator=plan.operator)
-            found = tuple([_read(result, wanted) for wanted in outputs])
+            found = tuple([getter(result) for getter in getters])
             ok = True
             if checks:
                 row = dict(zip(columns, values + found))
@@ -120,34 +128,36 @@ class _Runner:
         return results
 
 
-def _apply(emu, given: SweepInput, value) -> None:
-    kind = given.kind
+def _setter(emu, given: SweepInput):
+    """How one input is put into the machine, decided once (the emulator's memory object stays)."""
+    kind, memory, target = given.kind, emu.memory, given.target
+    if kind == "memory" and given.words == 1:
+        return lambda value: memory.__setitem__(target, value)
     if kind == "memory":
         width, mask = emu.machine.data_bits, emu.machine.data_mask
-        for k in range(given.words):
-            emu.memory[given.target + k] = value >> width * k & mask
-    elif kind == "register":
-        emu.set(given.target, value)
-    elif kind == "toggles":
-        emu.switches = value
-    else:
-        emu.input_bytes = value
+        return lambda value: memory.__setitem__(slice(target, target + given.words),
+                                                [value >> width * k & mask for k in range(given.words)])
+    if kind == "register":
+        return lambda value: emu.set(target, value)
+    if kind == "toggles":
+        return lambda value: setattr(emu, "switches", value)
+    return lambda value: setattr(emu, "input_bytes", value)
 
 
-def _read(result, wanted: SweepOutput):
-    emu, kind = result.emulator, wanted.kind
+def _getter(emu, wanted: SweepOutput):
+    """How one output is read from a run's result, decided once."""
+    kind, memory, target = wanted.kind, emu.memory, wanted.target
     if kind == "memory":
         width = emu.machine.data_bits
-        return sum(emu.memory[wanted.target + k] << width * k for k in range(wanted.words))
+        return lambda result: sum(memory[target + k] << width * k for k in range(wanted.words))
     if kind == "register":
-        return emu.get(wanted.target)
+        return lambda result: emu.get(target)
     if kind == "console":
-        return emu.output.decode("latin-1")
+        return lambda result: emu.output.decode("latin-1")
     if kind == "status":
-        return result.status
-    if kind == "toggles":
-        return emu.switches
-    return getattr(emu, kind)     # lamps, cycles, instructions
+        return lambda result: result.status
+    name = "switches" if kind == "toggles" else kind         # lamps, cycles, instructions
+    return lambda result: getattr(emu, name)
 
 
 _machines: dict[str, Machine] = {}

@@ -30,7 +30,7 @@ from ..errors import MachineError
 from ..files import write_atomic
 from ..formatting import address_text
 from ._ports import Ports
-from ._save_points import SavePoint, rewind, save_point
+from ._save_points import StateKeeping
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
 __all__ = ["Emulator", "Observer", "StopReason"]
@@ -63,7 +63,7 @@ class StopReason:
     """For ``halted``: the address of the instruction that drove halt."""
 
 
-class Emulator:
+class Emulator(StateKeeping):
     """One powered-on machine: datapath, memory, ports, clock ring and control unit."""
 
     def __init__(self, machine: Machine):
@@ -117,34 +117,6 @@ class Emulator:
                                    f"past the {size} words of memory of {self.machine.name}")
             mask = self.machine.data_mask
             self.memory[start:start + len(words)] = [w & mask for w in words]
-
-    def reload(self, segments, *, switches: int = 0, input_bytes: bytes = b"") -> None:
-        """Power on again with ``segments`` loaded, keeping the compiled functions.
-
-        The machine is then exactly as a new ``Emulator`` given ``load(segments)``,
-        ``switches`` and ``input_bytes``: registers, memory, ports, ring, latch and
-        counters as at power-on. What is attached to it stays: observers, the
-        clock source (which gives the next turn) and blocks already translated
-        (checked against memory before they run again).
-        """
-        self._s[:] = self._blank_slots
-        self.memory[:] = self._blank_memory
-        self.ports.power_on()
-        self.ring.power_on()
-        self._power_on_control()
-        self.load(segments)
-        self.switches = switches
-        self.input_bytes = input_bytes
-
-    def save_point(self) -> SavePoint:
-        """The whole state kept in memory, for ``rewind`` (cheap; a snapshot file is ``snapshot``)."""
-        return save_point(self)
-
-    def rewind(self, point: SavePoint) -> None:
-        """Back to the state of ``point``, taken from an emulator of the same machine (this one or another)."""
-        if point.machine is not self.machine:
-            raise MachineError(f"the save point is of machine '{point.machine.name}', not '{self.machine.name}'")
-        rewind(self, point)
 
     def get(self, name: str) -> int:
         """A register, register group (its parts side by side, first most significant) or flag by name."""

@@ -14,7 +14,9 @@ from __future__ import annotations
 from collections import Counter
 from dataclasses import dataclass
 
-__all__ = ["SavePoint", "rewind", "save_point"]
+from ..errors import MachineError
+
+__all__ = ["SavePoint", "StateKeeping"]
 
 
 @dataclass(frozen=True)
@@ -28,22 +30,49 @@ class SavePoint:
     ports: tuple
 
 
-def save_point(emu) -> SavePoint:
-    memory = emu.memory
-    return SavePoint(emu.machine, tuple(emu._s), bytes(memory) if isinstance(memory, bytearray) else tuple(memory),
-                     emu.ring.state(),
-                     (emu.switch_run, emu.halt_latch, emu.halt_address, emu.frozen, emu._released, emu._seq,
-                      emu._instruction_address, emu.cycles, emu.instructions, tuple(emu._undefined.items())),
-                     emu.ports.kept())
+class StateKeeping:
+    """The ``Emulator`` methods that put a whole state back in place: a save point, or power-on."""
 
+    def reload(self, segments, *, switches: int = 0, input_bytes: bytes = b"") -> None:
+        """Power on again with ``segments`` loaded, keeping the compiled functions.
 
-def rewind(emu, point: SavePoint) -> None:
-    """Put ``point`` back into the emulator's own list, memory and ports, so bound code stays valid."""
-    emu._s[:] = point.slots
-    emu.memory[:] = point.memory
-    emu.ring.restore(point.ring)
-    (emu.switch_run, emu.halt_latch, emu.halt_address, emu.frozen, emu._released, emu._seq,
-     emu._instruction_address, emu.cycles, emu.instructions, undefined) = point.control
-    if undefined or emu._undefined:
-        emu._undefined = Counter(dict(undefined))
-    emu.ports.put_back(point.ports)
+        The machine is then exactly as a new ``Emulator`` given ``load(segments)``,
+        ``switches`` and ``input_bytes``: registers, memory, ports, ring, latch and
+        counters as at power-on. What is attached to it stays: observers, the
+        clock source (which gives the next turn) and blocks already translated
+        (checked against memory before they run again).
+        """
+        self._s[:] = self._blank_slots
+        self.memory[:] = self._blank_memory
+        self.ports.power_on()
+        self.ring.power_on()
+        self._power_on_control()
+        self.load(segments)
+        self.switches = switches
+        self.input_bytes = input_bytes
+
+    def save_point(self) -> SavePoint:
+        """The whole state kept in memory, for ``rewind`` (cheap; a snapshot file is ``snapshot``)."""
+        memory = self.memory
+        return SavePoint(self.machine, tuple(self._s),
+                         bytes(memory) if isinstance(memory, bytearray) else tuple(memory), self.ring.state(),
+                         (self.switch_run, self.halt_latch, self.halt_address, self.frozen, self._released,
+                          self._seq, self._instruction_address, self.cycles, self.instructions,
+                          tuple(self._undefined.items())),
+                         self.ports.kept())
+
+    def rewind(self, point: SavePoint) -> None:
+        """Back to the state of ``point``, taken from an emulator of the same machine (this one or another).
+
+        Everything goes back into this emulator's own list, memory and ports, so bound code stays valid.
+        """
+        if point.machine is not self.machine:
+            raise MachineError(f"the save point is of machine '{point.machine.name}', not '{self.machine.name}'")
+        self._s[:] = point.slots
+        self.memory[:] = point.memory
+        self.ring.restore(point.ring)
+        (self.switch_run, self.halt_latch, self.halt_address, self.frozen, self._released, self._seq,
+         self._instruction_address, self.cycles, self.instructions, undefined) = point.control
+        if undefined or self._undefined:
+            self._undefined = Counter(dict(undefined))
+        self.ports.put_back(point.ports)

@@ -16,10 +16,15 @@ import subprocess
 import sys
 import time
 
+from pathlib import Path
+
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from emu import load_machine
-from emu.runs import SweepRows, load_program, parse_input
+from emu.runs import (SweepPlan, SweepRows, load_program, parse_input, parse_output, run_loaded, start_emulator,
+                      sweep_locally)
 
 from cli_support import ACC12, PROGRAMS, ROOT, cli, write
 
@@ -250,3 +255,26 @@ def test_a_local_dask_cluster_gives_the_rows_of_a_local_sweep(processes, tmp_pat
 def test_an_unreachable_cluster_is_an_error(capsys):
     code, _out, err = cli(capsys, "sweep", TOLLS, "--each", "load=1", "--cluster", "tcp://127.0.0.1:9")
     assert code == 1 and "cannot reach the cluster at tcp://127.0.0.1:9" in err and "Traceback" not in err
+
+
+@settings(max_examples=15, deadline=None)
+@given(loads=st.lists(st.integers(0, 255), min_size=1, max_size=4, unique=True),
+       rates=st.lists(st.integers(0, 255), min_size=1, max_size=4, unique=True))
+def test_each_row_is_what_a_new_emulator_gives_for_its_inputs(loads, rates):
+    """A worker reuses one emulator; each row must still be a run from power-on."""
+    machine = load_machine("ref8")
+    program = load_program(TOLLS, machine)
+    inputs = (parse_input(f"load={','.join(map(str, loads))}", machine, program, 0),
+              parse_input(f"rate={','.join(map(str, rates))}", machine, program, 0))
+    outputs = tuple(parse_output(name, machine, program, set()) for name in ("toll:2", "cycles", "console"))
+    plan = SweepPlan.made(machine, Path(machine.path).read_text(encoding="utf-8"), program, switches=0,
+                          input_bytes=b"", inputs=inputs, outputs=outputs)
+    rows = sweep_locally(plan, 1)
+    for (values, found, ok, status), (load, rate) in zip(rows, [(a, b) for a in loads for b in rates]):
+        emulator = start_emulator(program, machine)
+        emulator.memory[program.labels["load"]], emulator.memory[program.labels["rate"]] = load, rate
+        fresh = run_loaded(program, machine, emulator=emulator)
+        toll = emulator.memory[program.labels["toll"]] | emulator.memory[program.labels["toll"] + 1] << 8
+        assert values == (load, rate) and ok and status == fresh.status == "halted"
+        assert found == (toll, emulator.cycles, emulator.output.decode("latin-1"))
+        assert toll == load * rate      # Python's product

@@ -8,12 +8,16 @@ a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase
 by phase and calls one compiled function per falling edge; it serves
-observers, panel stepping, halts and every position that is not a clean
+observers, panel stepping and every position that is not a clean
 instruction boundary. The fast path runs fused instructions while nothing
 can happen that the stepping path would place differently: no observer,
 hold line low, sequencer at the first fetch step, ring just after a falling
-edge, and a cycle budget that the next instruction cannot overrun. Both
-paths come from the same compiled description, so they agree (P6).
+edge, and a cycle budget that the next instruction cannot overrun. An
+instruction it cannot fuse (a halt, an undefined word, a loop) runs there
+one compiled micro-step a cycle, the ring skipping whole cycles, up to the
+falling edge that sets the halt latch; only the way from there to the hold
+point is walked phase by phase. Both paths come from the same compiled
+description, so they agree (P6).
 """
 
 from __future__ import annotations

@@ -278,3 +278,12 @@ def test_each_row_is_what_a_new_emulator_gives_for_its_inputs(loads, rates):
         assert values == (load, rate) and ok and status == fresh.status == "halted"
         assert found == (toll, emulator.cycles, emulator.output.decode("latin-1"))
         assert toll == load * rate      # Python's product
+
+
+@needs_dask
+def test_a_cluster_without_workers_is_an_error(capsys, monkeypatch):
+    import emu.commands.sweep as sweep_command
+    monkeypatch.setattr(sweep_command, "CLUSTER_WORKER_WAIT", 0.5)
+    with distributed.LocalCluster(processes=False, n_workers=0, dashboard_address=None) as cluster:
+        code, _out, err = cli(capsys, "sweep", TOLLS, "--each", "load=1", "--cluster", cluster.scheduler_address)
+    assert code == 1 and "has no workers (waited 0.5 s for one)" in err and "Traceback" not in err

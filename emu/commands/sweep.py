@@ -32,6 +32,8 @@ SUMMARY = "run a program over many inputs and check every result"
 EXIT_PASSED, EXIT_FAILED, EXIT_CYCLE_LIMIT, EXIT_INTERRUPTED = 0, 1, 3, 130
 DEFAULT_RUN_CYCLES = 1_000_000
 SHOWN_FAILURES = 10
+CLUSTER_WORKER_WAIT = 10.0
+"""Seconds to wait for a cluster's first worker before giving up."""
 
 
 def add_arguments(parser) -> None:
@@ -167,6 +169,12 @@ class _client:
             self.client = Client(self.args.cluster, timeout="5s")
         except (OSError, TimeoutError, ValueError) as exc:
             raise RelaybenchError(f"cannot reach the cluster at {self.args.cluster} ({exc})") from None
+        try:
+            self.client.wait_for_workers(1, timeout=CLUSTER_WORKER_WAIT)
+        except TimeoutError:
+            self.client.close()
+            raise RelaybenchError(f"the cluster at {self.args.cluster} has no workers "
+                                  f"(waited {CLUSTER_WORKER_WAIT:g} s for one)") from None
         return self.client
 
     def __exit__(self, *exc):

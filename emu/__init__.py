@@ -9,11 +9,11 @@ clock as parts, waveforms and wear; ``emu.commands`` the sub-commands.
 
 from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,
                           RegisterGroup, Step, load_machine, machine_from_text, shipped_machines)
-from .engine import Emulator, Observer, StopReason
+from .engine import Emulator, Lookout, Observer, StopReason
 from .errors import MachineError
 
 __all__ = [
-    "Emulator", "Field", "Flag", "Instruction", "Machine", "MachineError", "OperandKind",
+    "Emulator", "Field", "Flag", "Instruction", "Lookout", "Machine", "MachineError", "OperandKind",
     "Observer", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step", "StopReason",
     "load_machine", "machine_from_text", "shipped_machines",
 ]

@@ -23,6 +23,7 @@ from collections import Counter
 from dataclasses import dataclass
 
 from ._blocks import BlockRunner
+from ._lookout import Lookout, stop_words, stores_memory
 from ._clock_ring import Ring
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
@@ -77,6 +78,8 @@ class Emulator:
         self._groups = {index: (group, [machine.registers[r].slot for r in group.holders])
                         for index, group in machine.decode_groups.items()}
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
+        self._run_free_stopping = bound.run_free_stopping
+        self._stop_tables: dict[tuple, bytes] = {}
         self._max_fused = compiled.max_fused_cycles
         self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
                                   bound.fused, self._run_free)
@@ -367,12 +370,16 @@ class Emulator:
 
         ``until(emu)`` and breakpoints (addresses) are checked at every
         instruction boundary reached during the run; ``until`` sees counters,
-        ring and time up to date. ``chunk(emu)`` is called
+        ring and time up to date. An ``until`` with a ``lookout(emu)`` method
+        (returning a ``Lookout``) is asked only where that says it can become
+        true, so the run keeps block translation. ``chunk(emu)`` is called
         about every ``chunk_cycles`` cycles, with counters and time up to
         date; it may flip the run switch (the debugger's Ctrl-C does that).
         """
         target = None if max_cycles is None else self.cycles + max_cycles
         points = frozenset(breakpoints)
+        if until is not None and hasattr(until, "lookout"):
+            return self._run_looking(target, points, until, chunk, chunk_cycles)
         applied = [0, 0]
         watch = self._watcher(points, until, applied) if points or until is not None else None
         next_chunk = self.cycles + chunk_cycles
@@ -407,6 +414,68 @@ class Emulator:
             self.advance_phase()
             if self.instructions != done and watch is not None and watch():
                 return self._watch_reason(points)
+
+    def _run_looking(self, target, points, until, chunk, chunk_cycles: int) -> StopReason:
+        """``run`` with a condition that has a lookout: asked only at its stop words, its
+        watched stores, its ``within`` and after each instruction of the stepping path."""
+        next_chunk = self.cycles + chunk_cycles
+        lookout, stops = self._lookout(until)
+        shortest = max(len(self.machine.fetch), 1)
+        while True:
+            if self.frozen:
+                return self._frozen_reason()
+            if target is not None and self.cycles >= target:
+                return StopReason("cycle_limit", self.pc)
+            if chunk is not None and self.cycles >= next_chunk:
+                chunk(self)
+                next_chunk = self.cycles + chunk_cycles
+                continue
+            if self._fast_path_open():
+                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
+                if target is not None:
+                    budget = min(budget, target - self.cycles)
+                if lookout.within is not None:
+                    budget = min(budget, lookout.within * shortest)
+                limit = budget - self._max_fused
+                if limit >= 0:
+                    if self.blocks.enabled:
+                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory)
+                    else:
+                        cycles, count, hit = self._run_free_stopping(limit, stops, points)
+                    self._account(cycles, count)
+                    if hit or lookout.within is not None:
+                        if self.pc in points:
+                            return StopReason("breakpoint", self.pc)
+                        if until(self):
+                            return StopReason("condition", self.pc)
+                        lookout, stops = self._lookout(until)
+                    if hit or cycles > limit:
+                        continue
+            done = self.instructions
+            self.advance_phase()
+            if self.instructions != done:
+                if self.pc in points:
+                    return StopReason("breakpoint", self.pc)
+                if until(self):
+                    return StopReason("condition", self.pc)
+                lookout, stops = self._lookout(until)
+
+    def _lookout(self, until) -> tuple[Lookout, bytes]:
+        """The condition's lookout now, and its stop words (made once per emulator and set).
+
+        Without blocks, stores are not watched word by word: every
+        instruction that may store is a stop word when memory is watched.
+        """
+        lookout = until.lookout(self)
+        stores = bool(lookout.memory) and not self.blocks.enabled
+        key = (lookout.instructions, lookout.registers, stores)
+        table = self._stop_tables.get(key)
+        if table is None:
+            table = stop_words(self.machine, lookout)
+            if stores:
+                table = bytes(a | b for a, b in zip(table, stores_memory(self.machine)))
+            self._stop_tables[key] = table
+        return lookout, table
 
     def _watcher(self, points, until, applied):
         """The check made after every instruction of a watched run.

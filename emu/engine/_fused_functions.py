@@ -175,11 +175,18 @@ class _FusedFunctions:
         return text
 
     def free_runners(self, peek: str):
-        """The hot loops: nothing in them but dispatch, cycle and instruction counts."""
+        """The hot loops: nothing in them but dispatch, cycle and instruction counts.
+
+        ``run_free_watching`` asks ``watch`` after every instruction;
+        ``run_free_stopping`` returns at the boundaries around an instruction
+        whose first word ``stops`` marks (not at the one it started from)
+        and at a breakpoint.
+        """
         out = self.out
-        for name, watching in (("run_free", False), ("run_free_watching", True)):
+        pc = self.machine.registers[self.machine.program_counter].slot
+        for name, args in (("run_free", "limit"), ("run_free_watching", "limit, watch"),
+                           ("run_free_stopping", "limit, stops, points")):
             out.line()
-            args = "limit, watch" if watching else "limit"
             out.line(f"def {name}({args}):")
             with out.indent():
                 out.line('"""Run whole instructions while the cycle count stays at or below limit."""')
@@ -189,12 +196,20 @@ class _FusedFunctions:
                 with out.indent():
                     out.line("while cycles <= limit:")
                     with out.indent():
-                        out.line(f"cycles += table[{peek}]()")
+                        if name == "run_free_stopping":
+                            out.line(f"word = {peek}")
+                            out.line("if stops[word] and cycles:")
+                            out.line("    return cycles, instructions, True")
+                            out.line("cycles += table[word]()")
+                        else:
+                            out.line(f"cycles += table[{peek}]()")
                         out.line("instructions += 1")
-                        if watching:
+                        if name == "run_free_watching":
                             out.line("if watch(cycles, instructions):")
-                            with out.indent():
-                                out.line("return cycles, instructions, True")
+                            out.line("    return cycles, instructions, True")
+                        elif name == "run_free_stopping":
+                            out.line(f"if stops[word] or s[{pc}] in points:")
+                            out.line("    return cycles, instructions, True")
                 out.line("except Fallback:")
                 with out.indent():
                     out.line("pass")

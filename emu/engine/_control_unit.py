@@ -443,7 +443,7 @@ class Emulator:
                     else:
                         cycles, count, hit = self._run_free_stopping(limit, stops, points)
                     self._account(cycles, count)
-                    if hit or lookout.within is not None:
+                    if hit or lookout.within is not None and count:
                         if self.pc in points:
                             return StopReason("breakpoint", self.pc)
                         if until(self):

@@ -15,6 +15,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+import asm
 from emu.debugger import AnyOf, CallDepth, Count, Watch, Watches, call_shape
 
 from engine_support import MACHINES, boot, full_state, programs, skip_unless_properties_run
@@ -86,3 +87,30 @@ def test_a_watched_run_stops_where_the_check_after_every_instruction_does(machin
     watched.blocks.threshold, watched.blocks.warm_up = 1, 0
     assert drive(watched, wanted, points, every_instruction=False) == \
         drive(reference, wanted, points, every_instruction=True)
+
+
+TALLY = """\
+; a turnstile tally: count passengers in r0 and post the count to a word each time
+start:  li r0, 0
+pass:   inc r0
+        st [0x40], r0
+        jmp pass
+"""
+
+
+def test_a_store_to_a_watched_word_stops_a_hot_block_right_after_it():
+    machine = MACHINES["ref8"]
+    image = asm.assemble_text(TALLY, machine).segments
+    seen = []
+    for every_instruction in (False, True):
+        emu = boot(machine, [])
+        emu.load(image)
+        emu.blocks.threshold, emu.blocks.warm_up = 1, 0
+        ends = []
+        for _ in range(4):
+            until = AnyOf([Watches([Watch(1, address=0x40)], emu)])
+            stop = emu.run(max_cycles=5000, until=(lambda e: until(e)) if every_instruction else until)
+            ends.append((stop.kind, emu.cycles, until.fired.hit[1:]))
+        seen.append(ends)
+    assert seen[0] == seen[1]
+    assert [hit for _kind, _cycles, hit in seen[0]] == [(0, 1), (1, 2), (2, 3), (3, 4)]

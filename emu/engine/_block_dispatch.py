@@ -91,10 +91,11 @@ def dispatcher_source(machine: Machine, max_fused: int) -> str:
 
 
 def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool) -> None:
-    """The watching loop returns (hit) at a breakpoint, at the boundaries around an instruction
-    whose first word ``stops`` marks (not the one it started from), and after a store that
-    set ``stored[0]`` (a watched word); a block ends after such an instruction (``asks``)."""
-    stop_before = ["if stops[word] and cycles:", "    return cycles, count, True"] if watching else []
+    """The watching loop returns (hit) at a breakpoint, where ``stops`` says (after an
+    instruction it marks, before one marked ``BEFORE``: see ``_lookout.stop_words``), and after
+    a store that set ``stored[0]`` (a watched word); a block that ends with a marked
+    instruction says so (``asks``)."""
+    stop_before = ["if stops[word] & 2 and cycles:", "    return cycles, count, True"] if watching else []
     out.line("cycles = count = 0")
     out.line(f"limit = budget - {max_fused}")
     out.line("try:")

@@ -157,12 +157,13 @@ class BlockRunner:
                              self._translate, Fallback)
 
     def run(self, budget: int, points: frozenset, stops: bytes | None = None,
-            watched: frozenset[int] = frozenset()) -> tuple[int, int, bool]:
+            watched: frozenset[int] = frozenset(), unchanged: bool = False) -> tuple[int, int, bool]:
         """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, hit).
 
         ``hit``: stopped at a breakpoint, at a boundary around an instruction
         that ``stops`` marks (see ``Lookout``), or after a store to a
-        ``watched`` word.
+        ``watched`` word. ``unchanged``: nothing but this runner has run since
+        its last call, so its blocks still match memory without a look.
         """
         watching = bool(points) or stops is not None or bool(watched)
         if self._ran < self.warm_up and not watching:
@@ -171,7 +172,8 @@ class BlockRunner:
             return cycles, count, hit
         if self._loops is None:
             self._start()
-        self._check_blocks(points, stops, watched)
+        if not unchanged:
+            self._check_blocks(points, stops, watched)
         if not watching:
             return self._loops[0](budget, points, self._fused(), self.threshold)
         self.stored[0] = False
@@ -245,7 +247,8 @@ class BlockRunner:
             self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
 
     def _plan(self, start: int) -> BlockPlan | None:
-        """The block at ``start``: it ends before a breakpoint, and around a stop word."""
+        """The block at ``start``: it ends before a breakpoint; a stop word is a block of its own
+        (so a block that loops or leaves early never passes one, and one that ends after it says so)."""
         machine, memory, shared = self.machine, self._state[1], self._shared
         decode, size, stops = machine.decode_table, machine.memory_words, self._stops
         address, instructions = start, []

@@ -421,6 +421,7 @@ class Emulator:
         next_chunk = self.cycles + chunk_cycles
         lookout, stops = self._lookout(until)
         shortest = max(len(self.machine.fetch), 1)
+        unchanged = False
         while True:
             if self.frozen:
                 return self._frozen_reason()
@@ -429,6 +430,7 @@ class Emulator:
             if chunk is not None and self.cycles >= next_chunk:
                 chunk(self)
                 next_chunk = self.cycles + chunk_cycles
+                unchanged = False
                 continue
             if self._fast_path_open():
                 budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
@@ -439,7 +441,8 @@ class Emulator:
                 limit = budget - self._max_fused
                 if limit >= 0:
                     if self.blocks.enabled:
-                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory)
+                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory, unchanged)
+                        unchanged = True
                     else:
                         cycles, count, hit = self._run_free_stopping(limit, stops, points)
                     self._account(cycles, count)
@@ -448,9 +451,12 @@ class Emulator:
                             return StopReason("breakpoint", self.pc)
                         if until(self):
                             return StopReason("condition", self.pc)
-                        lookout, stops = self._lookout(until)
+                        if lookout.within is not None:
+                            lookout, stops = self._lookout(until)
+                            unchanged = False
                     if hit or cycles > limit:
                         continue
+            unchanged = False
             done = self.instructions
             self.advance_phase()
             if self.instructions != done:
@@ -458,7 +464,8 @@ class Emulator:
                     return StopReason("breakpoint", self.pc)
                 if until(self):
                     return StopReason("condition", self.pc)
-                lookout, stops = self._lookout(until)
+                if lookout.within is not None:
+                    lookout, stops = self._lookout(until)
 
     def _lookout(self, until) -> tuple[Lookout, bytes]:
         """The condition's lookout now, and its stop words (made once per emulator and set).

@@ -178,9 +178,9 @@ class _FusedFunctions:
         """The hot loops: nothing in them but dispatch, cycle and instruction counts.
 
         ``run_free_watching`` asks ``watch`` after every instruction;
-        ``run_free_stopping`` returns at the boundaries around an instruction
-        whose first word ``stops`` marks (not at the one it started from)
-        and at a breakpoint.
+        ``run_free_stopping`` returns at a breakpoint and where ``stops``
+        (``_lookout.stop_words``) says: after an instruction whose first word
+        it marks, before one marked ``BEFORE`` (not where it started).
         """
         out = self.out
         pc = self.machine.registers[self.machine.program_counter].slot
@@ -198,7 +198,7 @@ class _FusedFunctions:
                     with out.indent():
                         if name == "run_free_stopping":
                             out.line(f"word = {peek}")
-                            out.line("if stops[word] and cycles:")
+                            out.line("if stops[word] & 2 and cycles:")
                             out.line("    return cycles, instructions, True")
                             out.line("cycles += table[word]()")
                         else:

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from ..description import Instruction, Machine
 from ..description.notation import Assign, FlagsOnly, Mem, Name
 
-__all__ = ["Lookout", "stop_words", "stores_memory"]
+__all__ = ["AFTER", "BEFORE", "Lookout", "stop_words", "stores_memory"]
 
 
 @dataclass(frozen=True)
@@ -31,6 +31,10 @@ class Lookout:
     asked after each instruction that may write one. ``memory``: addresses;
     it is asked after each instruction that stores to one. ``within``: it is
     asked again after at most this many instructions (None: no such bound).
+
+    A lookout with ``within`` is asked for anew after each ask; one without
+    it holds until the run ends, so a condition whose lookout changes as it
+    is asked (a first answer due at once) gives a ``within`` until then.
     """
     instructions: frozenset[int] = frozenset()
     registers: frozenset[str] = frozenset()
@@ -43,8 +47,13 @@ class Lookout:
                        self.memory | other.memory, min(withins) if withins else None)
 
 
+AFTER, BEFORE = 1, 2
+"""Bits of a stop word: ask at the boundary after the instruction; and at the one before it."""
+
+
 def stop_words(machine: Machine, lookout: Lookout) -> bytes:
-    """Per first word: 1 where the fast path must stop around the instruction, else 0.
+    """Per first word: ``AFTER`` where the fast path must stop after the instruction,
+    ``AFTER | BEFORE`` where before it too, else 0.
 
     Memory is not in it: the block runner watches stores to ``memory``
     word by word; the plain fused path (``stores_memory``) stops after
@@ -55,8 +64,10 @@ def stop_words(machine: Machine, lookout: Lookout) -> bytes:
     fetch = _names_written(machine, machine.fetch, None, None)
     everywhere = bool(names & fetch)
     for word, index in enumerate(machine.decode_table):
-        if everywhere or index in lookout.instructions:
-            table[word] = 1
+        if index in lookout.instructions:
+            table[word] = AFTER | BEFORE
+        elif everywhere:
+            table[word] = AFTER
         elif names and index >= 0:
             group = machine.decode_groups.get(index)
             members = group.members if group is not None else (index,)

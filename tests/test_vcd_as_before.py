@@ -127,3 +127,53 @@ def test_the_dump_holds_the_changes_pyvcd_wrote(name, seed, spread, tmp_path):
     got, wanted = changes(ours), changes(theirs)
     assert len(wanted) > 20 and sum(len(v) for v in wanted.values()) > 500
     assert got == wanted
+
+
+class PyvcdWindow(Observer):
+    """The reference window: watching the whole run, it passes over events outside
+    cycles ``start`` … ``end - 1`` and opens its recorder at the first event inside."""
+
+    def __init__(self, emu, stream, start, end):
+        self.stream, self.start, self.end, self.recorder = stream, start, end, None
+
+    def _due(self, emu):
+        if not self.start <= emu.cycles < self.end:
+            return None
+        if self.recorder is None:
+            self.recorder = PyvcdRecorder(emu, self.stream)
+        return self.recorder
+
+    def close(self, emu):
+        if self.recorder is None:
+            self.recorder = PyvcdRecorder(emu, self.stream)
+        self.recorder.writer.close(emu.time_ns)
+
+
+for _hook in ("phase", "edge", "microstep", "hold", "latch", "panel"):
+    def _forward(self, emu, *args, _hook=_hook):
+        recorder = self._due(emu)
+        if recorder is not None:
+            getattr(recorder, _hook)(emu, *args)
+    setattr(PyvcdWindow, _hook, _forward)
+
+
+@pytest.mark.parametrize("name", sorted(MACHINES))
+@pytest.mark.parametrize("seed", [4, 5, 6, 7])
+def test_a_window_holds_the_changes_of_a_dump_watching_the_whole_run(name, seed, tmp_path):
+    """The window's observer is attached only when its first cycle comes (the run before
+    it keeps the fast path) and taken off after its last; the reference watches throughout."""
+    machine = MACHINES[name]
+    rnd = random.Random(seed)
+    start, cycles = rnd.randrange(1, 600), rnd.randrange(1, 200)
+    ours, theirs = tmp_path / "ours.vcd", tmp_path / "theirs.vcd"
+    watched = Emulator(machine)
+    with open(theirs, "w") as stream:
+        reference = PyvcdWindow(watched, stream, start, start + cycles)
+        watched.observe(reference)
+        drive(watched, seed)
+        reference.close(watched)
+    emu = Emulator(machine)
+    with record_vcd(emu, ours, start=start, cycles=cycles):
+        drive(emu, seed)
+    assert not emu._observers
+    assert changes(ours) == changes(theirs)

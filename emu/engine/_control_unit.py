@@ -101,6 +101,9 @@ class Emulator:
         self.instructions = 0
         self._undefined: Counter[int] = Counter()
         self._observers: list[Observer] = []
+        self._scheduled: list[tuple[int, bool, Observer]] = []
+        """(cycle, attach or detach, observer) for observers of a window of cycles, by cycle."""
+        self._next_scheduled: int | None = None
 
     # ----- loading and looking --------------------------------------------
 
@@ -227,11 +230,38 @@ class Emulator:
 
     # ----- observers --------------------------------------------------------
 
-    def observe(self, observer: Observer) -> None:
-        self._observers.append(observer)
+    def observe(self, observer: Observer, *, start: int | None = None, end: int | None = None) -> None:
+        """Attach ``observer``; with ``start`` only once the cycle count reaches it, with ``end``
+        until it does. Until then (and after) the run keeps the fast path, which stops short of
+        ``start`` so that the observer sees every event from the moment the count reaches it."""
+        if start is not None and start > self.cycles:
+            self._schedule(start, True, observer)
+        else:
+            self._observers.append(observer)
+        if end is not None:
+            self._schedule(max(end, self.cycles), False, observer)
+        self._attend()
 
     def unobserve(self, observer: Observer) -> None:
-        self._observers.remove(observer)
+        self._scheduled = [entry for entry in self._scheduled if entry[2] is not observer]
+        self._next_scheduled = self._scheduled[0][0] if self._scheduled else None
+        if observer in self._observers:
+            self._observers.remove(observer)
+
+    def _schedule(self, cycle: int, attach: bool, observer: Observer) -> None:
+        self._scheduled.append((cycle, attach, observer))
+        self._scheduled.sort(key=lambda entry: (entry[0], entry[1]))
+        self._next_scheduled = self._scheduled[0][0]
+
+    def _attend(self) -> None:
+        """Attach and detach the observers whose cycle has come."""
+        while self._scheduled and self._scheduled[0][0] <= self.cycles:
+            _cycle, attach, observer = self._scheduled.pop(0)
+            if attach:
+                self._observers.append(observer)
+            elif observer in self._observers:
+                self._observers.remove(observer)
+        self._next_scheduled = self._scheduled[0][0] if self._scheduled else None
 
     def _notify(self, event: str, *args) -> None:
         for observer in self._observers:
@@ -342,6 +372,8 @@ class Emulator:
             self._seq = (index, following) if index >= 0 and following < len(self._instruction_steps[index]) \
                 else _FETCH_START
         self.cycles += 1
+        if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
+            self._attend()
         if halted:
             self.halt_address = self._instruction_address
             self._set_latch(True)
@@ -356,6 +388,8 @@ class Emulator:
         self._undefined[address] += 1
 
     def _fast_path_open(self) -> bool:
+        if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
+            self._attend()
         return (not self._observers and self._seq == _FETCH_START and not self.frozen
                 and not self.hold_line and self.ring.at_boundary)
 
@@ -396,6 +430,8 @@ class Emulator:
                 budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
                 if target is not None:
                     budget = min(budget, target - self.cycles)
+                if self._next_scheduled is not None:
+                    budget = min(budget, self._next_scheduled - self.cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
                     if self.blocks.enabled and until is None:
@@ -436,6 +472,8 @@ class Emulator:
                 budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
                 if target is not None:
                     budget = min(budget, target - self.cycles)
+                if self._next_scheduled is not None:
+                    budget = min(budget, self._next_scheduled - self.cycles)
                 if lookout.within is not None:
                     budget = min(budget, lookout.within * shortest)
                 limit = budget - self._max_fused

@@ -360,7 +360,7 @@ def record_vcd(emu: Emulator, path, *, start: int = 0, cycles: int | None = None
     """
     with atomic_output(path, text=True, keep_on_error=True) as stream:
         window = VcdWindow(emu, stream, start=start, cycles=cycles, warn=warn, unit_ns=unit_ns)
-        emu.observe(window)
+        emu.observe(window, start=window.start, end=window.end)
         try:
             yield window
         finally:

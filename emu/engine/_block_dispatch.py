@@ -82,7 +82,7 @@ def dispatcher_source(machine: Machine, max_fused: int) -> str:
     out.line("def build(s, m, table, hits, ends, translate, Fallback):")
     with out.indent():
         for name, watching in (("run_blocks", False), ("run_blocks_watching", True)):
-            arguments = ", stops, stored" if watching else ""
+            arguments = ", stops, stored, changed" if watching else ""
             out.line(f"def {name}(budget, points, fused, threshold{arguments}):")
             with out.indent():
                 _dispatch_loop(out, pc, peek, max_fused, watching)
@@ -91,10 +91,10 @@ def dispatcher_source(machine: Machine, max_fused: int) -> str:
 
 
 def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool) -> None:
-    """The watching loop returns (hit) at a breakpoint, where ``stops`` says (after an
-    instruction it marks, before one marked ``BEFORE``: see ``_lookout.stop_words``), and after
-    a store that set ``stored[0]`` (a watched word); a block that ends with a marked
-    instruction says so (``asks``)."""
+    """The watching loop returns (hit) at a breakpoint, where ``stops`` says (see
+    ``_lookout.stop_words``: after an instruction marked ``AFTER``, or ``WRITES`` once
+    ``changed()``; before one marked ``BEFORE``), and after a store that set ``stored[0]``
+    (a watched word); a block made of a marked instruction carries its mark (``asks``)."""
     stop_before = ["if stops[word] & 2 and cycles:", "    return cycles, count, True"] if watching else []
     out.line("cycles = count = 0")
     out.line(f"limit = budget - {max_fused}")
@@ -118,7 +118,7 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
                     out.line("cycles += done")
                     out.line("count += ran")
                     if watching:
-                        out.line(f"if asks or stored[0] or s[{pc}] in points:")
+                        out.line(f"if asks & 1 or asks & 4 and changed() or stored[0] or s[{pc}] in points:")
                         out.line("    return cycles, count, True")
                     out.line("continue")
             out.line("else:")
@@ -139,7 +139,8 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
                 out.line("cycles += fused[word]()")
                 out.line("count += 1")
                 if watching:
-                    out.line(f"if stops[word] or stored[0] or s[{pc}] in points:")
+                    out.line("stop = stops[word]")
+                    out.line(f"if stop & 1 or stop & 4 and changed() or stored[0] or s[{pc}] in points:")
                     out.line("    return cycles, count, True")
                 out.line("if ends[word]:")
                 out.line("    break")

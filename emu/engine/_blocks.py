@@ -157,7 +157,8 @@ class BlockRunner:
                              self._translate, Fallback)
 
     def run(self, budget: int, points: frozenset, stops: bytes | None = None,
-            watched: frozenset[int] = frozenset(), unchanged: bool = False) -> tuple[int, int, bool]:
+            watched: frozenset[int] = frozenset(), unchanged: bool = False,
+            changed=None) -> tuple[int, int, bool]:
         """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, hit).
 
         ``hit``: stopped at a breakpoint, at a boundary around an instruction
@@ -177,7 +178,8 @@ class BlockRunner:
         if not watching:
             return self._loops[0](budget, points, self._fused(), self.threshold)
         self.stored[0] = False
-        return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.stored)
+        return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.stored,
+                              changed or _never)
 
     def _fused(self) -> list:
         """Fused instructions, with stores checked once any block is in place or a word is watched."""
@@ -282,7 +284,7 @@ class BlockRunner:
             return self._fused()
         s, memory, read_port, write_port = self._state
         self._code_map()
-        asks = self._stops is not None and bool(self._stops[plan.words[0]])
+        asks = 0 if self._stops is None else self._stops[plan.words[0]]
         code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points and not asks)
         self.compiled += fresh
         block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
@@ -296,6 +298,10 @@ class BlockRunner:
                 self._hits[address] = 0    # covered now: a count from before would translate it needlessly
         self.built += 1
         return self._checked
+
+
+def _never() -> bool:
+    return False
 
 
 def _fixed_sequence(ins) -> bool:

@@ -23,7 +23,7 @@ from collections import Counter
 from dataclasses import dataclass
 
 from ._blocks import BlockRunner
-from ._lookout import Lookout, stop_words, stores_memory
+from ._lookout import Lookout, change_test, stop_words, stores_memory
 from ._clock_ring import Ring
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
@@ -455,7 +455,7 @@ class Emulator:
         """``run`` with a condition that has a lookout: asked only at its stop words, its
         watched stores, its ``within`` and after each instruction of the stepping path."""
         next_chunk = self.cycles + chunk_cycles
-        lookout, stops = self._lookout(until)
+        lookout, stops, changed = self._lookout(until)
         shortest = max(len(self.machine.fetch), 1)
         unchanged = False
         while True:
@@ -479,10 +479,11 @@ class Emulator:
                 limit = budget - self._max_fused
                 if limit >= 0:
                     if self.blocks.enabled:
-                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory, unchanged)
+                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory, unchanged,
+                                                             changed)
                         unchanged = True
                     else:
-                        cycles, count, hit = self._run_free_stopping(limit, stops, points)
+                        cycles, count, hit = self._run_free_stopping(limit, stops, points, changed)
                     self._account(cycles, count)
                     if hit or lookout.within is not None and count:
                         if self.pc in points:
@@ -490,7 +491,7 @@ class Emulator:
                         if until(self):
                             return StopReason("condition", self.pc)
                         if lookout.within is not None:
-                            lookout, stops = self._lookout(until)
+                            lookout, stops, changed = self._lookout(until)
                             unchanged = False
                     if hit or cycles > limit:
                         continue
@@ -503,10 +504,11 @@ class Emulator:
                 if until(self):
                     return StopReason("condition", self.pc)
                 if lookout.within is not None:
-                    lookout, stops = self._lookout(until)
+                    lookout, stops, changed = self._lookout(until)
 
-    def _lookout(self, until) -> tuple[Lookout, bytes]:
-        """The condition's lookout now, and its stop words (made once per emulator and set).
+    def _lookout(self, until):
+        """The condition's lookout now, its stop words (made once per emulator and set) and
+        the test of its registers against their values now.
 
         Without blocks, stores are not watched word by word: every
         instruction that may store is a stop word when memory is watched.
@@ -520,7 +522,7 @@ class Emulator:
             if stores:
                 table = bytes(a | b for a, b in zip(table, stores_memory(self.machine)))
             self._stop_tables[key] = table
-        return lookout, table
+        return lookout, table, change_test(self.machine, self._s, lookout)
 
     def _watcher(self, points, until, applied):
         """The check made after every instruction of a watched run.

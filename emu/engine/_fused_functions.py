@@ -179,13 +179,14 @@ class _FusedFunctions:
 
         ``run_free_watching`` asks ``watch`` after every instruction;
         ``run_free_stopping`` returns at a breakpoint and where ``stops``
-        (``_lookout.stop_words``) says: after an instruction whose first word
-        it marks, before one marked ``BEFORE`` (not where it started).
+        (``_lookout.stop_words``) says: after an instruction marked ``AFTER``,
+        or ``WRITES`` once ``changed()``; before one marked ``BEFORE`` (not
+        where it started).
         """
         out = self.out
         pc = self.machine.registers[self.machine.program_counter].slot
         for name, args in (("run_free", "limit"), ("run_free_watching", "limit, watch"),
-                           ("run_free_stopping", "limit, stops, points")):
+                           ("run_free_stopping", "limit, stops, points, changed")):
             out.line()
             out.line(f"def {name}({args}):")
             with out.indent():
@@ -208,7 +209,8 @@ class _FusedFunctions:
                             out.line("if watch(cycles, instructions):")
                             out.line("    return cycles, instructions, True")
                         elif name == "run_free_stopping":
-                            out.line(f"if stops[word] or s[{pc}] in points:")
+                            out.line("stop = stops[word]")
+                            out.line(f"if stop & 1 or stop & 4 and changed() or s[{pc}] in points:")
                             out.line("    return cycles, instructions, True")
                 out.line("except Fallback:")
                 with out.indent():

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from ..description import Instruction, Machine
 from ..description.notation import Assign, FlagsOnly, Mem, Name
 
-__all__ = ["AFTER", "BEFORE", "Lookout", "stop_words", "stores_memory"]
+__all__ = ["AFTER", "BEFORE", "WRITES", "Lookout", "change_test", "stop_words", "stores_memory"]
 
 
 @dataclass(frozen=True)
@@ -28,7 +28,8 @@ class Lookout:
     ``instructions``: indices (as ``Machine.decode_table`` gives them) of
     instructions around which it is asked, at the boundary before and the
     one after each. ``registers``: register, group or flag names; it is
-    asked after each instruction that may write one. ``memory``: addresses;
+    asked after an instruction that may write one once one of them holds a
+    value other than when the lookout was given. ``memory``: addresses;
     it is asked after each instruction that stores to one. ``within``: it is
     asked again after at most this many instructions (None: no such bound).
 
@@ -47,13 +48,14 @@ class Lookout:
                        self.memory | other.memory, min(withins) if withins else None)
 
 
-AFTER, BEFORE = 1, 2
-"""Bits of a stop word: ask at the boundary after the instruction; and at the one before it."""
+AFTER, BEFORE, WRITES = 1, 2, 4
+"""Bits of a stop word: ask at the boundary after the instruction; at the one before it;
+after it when a watched register no longer holds its value (``change_test``)."""
 
 
 def stop_words(machine: Machine, lookout: Lookout) -> bytes:
-    """Per first word: ``AFTER`` where the fast path must stop after the instruction,
-    ``AFTER | BEFORE`` where before it too, else 0.
+    """Per first word: ``AFTER | BEFORE`` for the lookout's instructions, ``WRITES`` where
+    the instruction may write a watched register or flag, else 0.
 
     Memory is not in it: the block runner watches stores to ``memory``
     word by word; the plain fused path (``stores_memory``) stops after
@@ -66,14 +68,36 @@ def stop_words(machine: Machine, lookout: Lookout) -> bytes:
     for word, index in enumerate(machine.decode_table):
         if index in lookout.instructions:
             table[word] = AFTER | BEFORE
-        elif everywhere:
-            table[word] = AFTER
+        if everywhere:
+            table[word] |= WRITES
         elif names and index >= 0:
             group = machine.decode_groups.get(index)
             members = group.members if group is not None else (index,)
-            table[word] = any(names & _names_written(machine, machine.instructions[i].steps,
-                                                     machine.instructions[i], word) for i in members)
+            if any(names & _names_written(machine, machine.instructions[i].steps, machine.instructions[i], word)
+                   for i in members):
+                table[word] |= WRITES
     return bytes(table)
+
+
+_change_tests: dict[tuple, object] = {}
+
+
+def change_test(machine: Machine, state: list, lookout: Lookout):
+    """A function true once a watched register or flag holds a value other than it does now.
+
+    Its code is made once per machine and set of names; the values are bound at each call.
+    """
+    slots = sorted({machine.registers[n].slot if n in machine.registers else machine.flags[n].slot
+                    for n in _expanded(machine, lookout.registers)})
+    key = (id(machine), tuple(slots))
+    factory = _change_tests.get(key)
+    if factory is None:
+        test = " or ".join(f"s[{slot}] != v{k}" for k, slot in enumerate(slots)) or "False"
+        values = "".join(f", v{k}" for k in range(len(slots)))
+        namespace: dict = {}
+        exec(f"def factory(s{values}):\n    return lambda: {test}\n", namespace)
+        factory = _change_tests[key] = namespace["factory"]
+    return factory(state, *(state[slot] for slot in slots))
 
 
 def stores_memory(machine: Machine) -> bytes:

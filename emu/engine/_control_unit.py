@@ -20,6 +20,8 @@ from __future__ import annotations
 
 import json
 from collections import Counter
+from collections.abc import Callable
+from operator import itemgetter
 from dataclasses import dataclass
 
 from ._blocks import BlockRunner
@@ -180,6 +182,29 @@ class Emulator:
     def current_step(self) -> Step:
         index, step = self._seq
         return self.machine.fetch[step] if index < 0 else self.machine.instructions[index].steps[step]
+
+    @property
+    def driven_lines(self) -> tuple[str, ...]:
+        """The control lines the micro-step in progress drives in this cycle (see ``_lines_of``)."""
+        return self._lines_of(self.current_step)
+
+    @staticmethod
+    def _lines_of(step: Step) -> tuple[str, ...]:
+        """The one place that says which lines a micro-step drives in its cycle: observers get
+        them from here (the ``microstep`` hook, ``driven_lines`` at the rising edge)."""
+        return step.control_lines
+
+    def reader(self, names) -> "Callable[[], tuple[int, ...]]":
+        """A function returning the present values of these registers and flags (not groups)
+        as a tuple: for observers that look at them every cycle, where ``get`` costs too much."""
+        slots = [self._slots[name][0] for name in names]
+        if not slots:
+            return tuple
+        pick = itemgetter(*slots)
+        state = self._s
+        if len(slots) == 1:
+            return lambda: (pick(state),)
+        return lambda: pick(state)
 
     @property
     def instruction_address(self) -> int:
@@ -380,7 +405,7 @@ class Emulator:
         if self._seq == _FETCH_START:
             self.instructions += 1
         if self._observers:
-            self._notify("microstep", step_info, step_info.control_lines)
+            self._notify("microstep", step_info, self._lines_of(step_info))
             if self._seq == _FETCH_START:
                 self._notify("instruction")
 

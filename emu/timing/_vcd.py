@@ -81,6 +81,7 @@ class _DumpWriter:
         self.values: list[int] = []
         self.wide: list[bool] = []
         self.codes: list[str] = []
+        self.scalars: list[tuple[str, str]] = []
         self.now = 0
         self.written_now: int | None = None
         self.started = False
@@ -98,10 +99,13 @@ class _DumpWriter:
         self.values.append(int(init))
         self.wide.append(size > 1)
         self.codes.append(code)
+        self.scalars.append((f"0{code}", f"1{code}"))
         return index
 
     def _text(self, var: int, value: int) -> str:
-        return f"b{value:b} {self.codes[var]}" if self.wide[var] else f"{value}{self.codes[var]}"
+        if self.wide[var]:
+            return f"b{value:b} {self.codes[var]}"
+        return self.scalars[var][value]
 
     def _start(self) -> None:
         self.started = True
@@ -195,6 +199,10 @@ class VcdRecorder(Observer):
         self.registers = {name: writer.var(f"{top}.registers", name, "wire", reg.width, emu.get(name))
                           for name, reg in machine.registers.items()}
         self.flags = {name: wire(f"{top}.flags", name, emu.get(name)) for name in machine.flags}
+        self.read = emu.reader([*machine.registers, *machine.flags])
+        self.datapath_vars = [*self.registers.values(), *self.flags.values()]
+        self.seen = self.read()
+        self.phase_lit = [frozenset(p.ring) for p in machine.phases]
 
     def close(self, emu: Emulator) -> None:
         self.writer.close(emu.time_ns)
@@ -202,18 +210,21 @@ class VcdRecorder(Observer):
     # -- what changed
 
     def _ring(self, emu: Emulator) -> None:
-        lit = set(self.machine.phases[emu.phase_index].ring)
-        t = emu.time_ns
-        for stage in self.lit ^ lit:
-            self.writer.change(self.stages[stage - 1], t, int(stage in lit))
-        self.lit = lit
+        lit = self.phase_lit[emu.phase_index]
+        if lit != self.lit:
+            t = emu.time_ns
+            for stage in self.lit ^ lit:
+                self.writer.change(self.stages[stage - 1], t, int(stage in lit))
+            self.lit = lit
 
     def _datapath(self, emu: Emulator) -> None:
         t, change = emu.time_ns, self.writer.change
-        for name, var in self.registers.items():
-            change(var, t, emu.get(name))
-        for name, var in self.flags.items():
-            change(var, t, emu.get(name))
+        values = self.read()
+        if values != self.seen:
+            for var, old, new in zip(self.datapath_vars, self.seen, values):
+                if old != new:
+                    change(var, t, new)
+            self.seen = values
         change(self.step, t, emu.sequencer[1])
 
     def _hold(self, emu: Emulator) -> None:
@@ -230,7 +241,7 @@ class VcdRecorder(Observer):
         t = emu.time_ns
         self.writer.change(self.clock, t, level)
         if level:
-            self.driving = emu.current_step.control_lines
+            self.driving = emu.driven_lines
             self.writer.change(self.step, t, emu.sequencer[1])
         for line in self.driving:
             self.writer.change(self.lines[line], t, level)

@@ -9,7 +9,8 @@ and free runners; ``_blocks`` translates hot straight-line code
 into one function a block (``_block_translator``, ``_block_dispatch``,
 ``_dead_assignments``). ``_control_unit`` is the hold line, the halt
 latch, STEP, RESUME and RESET, and the two paths that run the compiled
-steps; ``_lookout`` where a watched run must stop; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
+steps (``run`` itself in ``_run_loop``); ``_lookout`` where a watched run
+must stop; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
 devices on the I/O bus; ``_snapshots`` the whole state as a file.
 """
 

@@ -22,10 +22,9 @@ import json
 from collections import Counter
 from collections.abc import Callable
 from operator import itemgetter
-from dataclasses import dataclass
 
 from ._blocks import BlockRunner
-from ._lookout import Lookout, change_test, stop_words, stores_memory
+from ._run_loop import StopReason, _Running
 from ._clock_ring import Ring
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
@@ -56,17 +55,10 @@ class Observer:
     def instruction(self, emu: "Emulator") -> None: ...
 
 
-@dataclass(frozen=True)
-class StopReason:
-    """Why a run ended: halted, stopped, cycle_limit, breakpoint or condition."""
-    kind: str
-    pc: int
-    address: int | None = None
-    """For ``halted``: the address of the instruction that drove halt."""
+class Emulator(_Running):
+    """One powered-on machine: datapath, memory, ports, clock ring and control unit.
 
-
-class Emulator:
-    """One powered-on machine: datapath, memory, ports, clock ring and control unit."""
+    ``run`` (letting the generator go, on the fast path where it can) is in ``_run_loop``."""
 
     def __init__(self, machine: Machine):
         self.machine = machine
@@ -194,7 +186,7 @@ class Emulator:
         them from here (the ``microstep`` hook, ``driven_lines`` at the rising edge)."""
         return step.control_lines
 
-    def reader(self, names) -> "Callable[[], tuple[int, ...]]":
+    def reader(self, names) -> Callable[[], tuple[int, ...]]:
         """A function returning the present values of these registers and flags (not groups)
         as a tuple: for observers that look at them every cycle, where ``get`` costs too much."""
         slots = [self._slots[name][0] for name in names]
@@ -422,162 +414,6 @@ class Emulator:
         if self.halt_latch:
             return StopReason("halted", self.pc, self.halt_address)
         return StopReason("stopped", self.pc)
-
-    def run(self, max_cycles: int | None = None, until=None, breakpoints=(), chunk=None,
-            chunk_cycles: int = 100_000) -> StopReason:
-        """Let the generator run until it freezes, a limit, a breakpoint or a condition.
-
-        ``until(emu)`` and breakpoints (addresses) are checked at every
-        instruction boundary reached during the run; ``until`` sees counters,
-        ring and time up to date. An ``until`` with a ``lookout(emu)`` method
-        (returning a ``Lookout``) is asked only where that says it can become
-        true, so the run keeps block translation. ``chunk(emu)`` is called
-        about every ``chunk_cycles`` cycles, with counters and time up to
-        date; it may flip the run switch (the debugger's Ctrl-C does that).
-        """
-        target = None if max_cycles is None else self.cycles + max_cycles
-        points = frozenset(breakpoints)
-        if until is not None and hasattr(until, "lookout"):
-            return self._run_looking(target, points, until, chunk, chunk_cycles)
-        applied = [0, 0]
-        watch = self._watcher(points, until, applied) if points or until is not None else None
-        next_chunk = self.cycles + chunk_cycles
-        while True:
-            if self.frozen:
-                return self._frozen_reason()
-            if target is not None and self.cycles >= target:
-                return StopReason("cycle_limit", self.pc)
-            if chunk is not None and self.cycles >= next_chunk:
-                chunk(self)
-                next_chunk = self.cycles + chunk_cycles
-                continue
-            if self._fast_path_open():
-                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
-                if target is not None:
-                    budget = min(budget, target - self.cycles)
-                if self._next_scheduled is not None:
-                    budget = min(budget, self._next_scheduled - self.cycles)
-                limit = budget - self._max_fused
-                if limit >= 0:
-                    if self.blocks.enabled and until is None:
-                        cycles, count, hit = self.blocks.run(budget, points)
-                    elif watch is None:
-                        cycles, count, hit = self._run_free(limit)
-                    else:
-                        cycles, count, hit = self._run_free_watching(limit, watch)
-                    self._account(cycles - applied[0], count - applied[1])
-                    applied[:] = 0, 0
-                    if hit:
-                        return self._watch_reason(points)
-                    if cycles > limit:
-                        continue
-            done = self.instructions
-            self.advance_phase()
-            if self.instructions != done and watch is not None and watch():
-                return self._watch_reason(points)
-
-    def _run_looking(self, target, points, until, chunk, chunk_cycles: int) -> StopReason:
-        """``run`` with a condition that has a lookout: asked only at its stop words, its
-        watched stores, its ``within`` and after each instruction of the stepping path."""
-        next_chunk = self.cycles + chunk_cycles
-        lookout, stops, changed = self._lookout(until)
-        shortest = max(len(self.machine.fetch), 1)
-        unchanged = False
-        while True:
-            if self.frozen:
-                return self._frozen_reason()
-            if target is not None and self.cycles >= target:
-                return StopReason("cycle_limit", self.pc)
-            if chunk is not None and self.cycles >= next_chunk:
-                chunk(self)
-                next_chunk = self.cycles + chunk_cycles
-                unchanged = False
-                continue
-            if self._fast_path_open():
-                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
-                if target is not None:
-                    budget = min(budget, target - self.cycles)
-                if self._next_scheduled is not None:
-                    budget = min(budget, self._next_scheduled - self.cycles)
-                if lookout.within is not None:
-                    budget = min(budget, lookout.within * shortest)
-                limit = budget - self._max_fused
-                if limit >= 0:
-                    if self.blocks.enabled:
-                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory, unchanged,
-                                                             changed)
-                        unchanged = True
-                    else:
-                        cycles, count, hit = self._run_free_stopping(limit, stops, points, changed)
-                    self._account(cycles, count)
-                    if hit or lookout.within is not None and count:
-                        if self.pc in points:
-                            return StopReason("breakpoint", self.pc)
-                        if until(self):
-                            return StopReason("condition", self.pc)
-                        if lookout.within is not None:
-                            lookout, stops, changed = self._lookout(until)
-                            unchanged = False
-                    if hit or cycles > limit:
-                        continue
-            unchanged = False
-            done = self.instructions
-            self.advance_phase()
-            if self.instructions != done:
-                if self.pc in points:
-                    return StopReason("breakpoint", self.pc)
-                if until(self):
-                    return StopReason("condition", self.pc)
-                if lookout.within is not None:
-                    lookout, stops, changed = self._lookout(until)
-
-    def _lookout(self, until):
-        """The condition's lookout now, its stop words (made once per emulator and set) and
-        the test of its registers against their values now.
-
-        Without blocks, stores are not watched word by word: every
-        instruction that may store is a stop word when memory is watched.
-        """
-        lookout = until.lookout(self)
-        stores = bool(lookout.memory) and not self.blocks.enabled
-        key = (lookout.instructions, lookout.registers, stores)
-        table = self._stop_tables.get(key)
-        if table is None:
-            table = stop_words(self.machine, lookout)
-            if stores:
-                table = bytes(a | b for a, b in zip(table, stores_memory(self.machine)))
-            self._stop_tables[key] = table
-        return lookout, table, change_test(self.machine, self._s, lookout)
-
-    def _watcher(self, points, until, applied):
-        """The check made after every instruction of a watched run.
-
-        On the fast path it is called with the run's own counts so far;
-        ``applied`` remembers how much of them the counters already hold, so
-        ``until`` sees cycles, ring and time up to date.
-        """
-        s, pc = self._s, self._pc
-
-        def watch(cycles=0, count=0):
-            if s[pc] in points:
-                return True
-            if until is None:
-                return False
-            self._account(cycles - applied[0], count - applied[1])
-            applied[:] = cycles, count
-            return until(self)
-        return watch
-
-    def _account(self, cycles: int, count: int) -> None:
-        """Bring counters and the ring up to date with work the fast path has done."""
-        if cycles:
-            self.cycles += cycles
-            self.instructions += count
-            self.ring.skip_cycles(cycles)
-            self._released = False
-
-    def _watch_reason(self, points) -> StopReason:
-        return StopReason("breakpoint" if self.pc in points else "condition", self.pc)
 
     def advance_instruction(self) -> StopReason:
         """Run the generator to the next instruction boundary (or until it freezes)."""

@@ -50,20 +50,15 @@ class _Running:
         watch = self._watcher(points, until, applied) if points or until is not None else None
         next_chunk = self.cycles + chunk_cycles
         while True:
-            if self.frozen:
-                return self._frozen_reason()
-            if target is not None and self.cycles >= target:
-                return StopReason("cycle_limit", self.pc)
+            ended = self._ended(target)
+            if ended is not None:
+                return ended
             if chunk is not None and self.cycles >= next_chunk:
                 chunk(self)
                 next_chunk = self.cycles + chunk_cycles
                 continue
             if self._fast_path_open():
-                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
-                if target is not None:
-                    budget = min(budget, target - self.cycles)
-                if self._next_scheduled is not None:
-                    budget = min(budget, self._next_scheduled - self.cycles)
+                budget = self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
                     if self.blocks.enabled and until is None:
@@ -83,6 +78,22 @@ class _Running:
             if self.instructions != done and watch is not None and watch():
                 return self._watch_reason(points)
 
+    def _ended(self, target: int | None) -> StopReason | None:
+        if self.frozen:
+            return self._frozen_reason()
+        if target is not None and self.cycles >= target:
+            return StopReason("cycle_limit", self.pc)
+        return None
+
+    def _budget(self, target: int | None, next_chunk: int | None, chunk_cycles: int) -> int:
+        """Cycles the fast path may run now: to the next chunk, the limit, a scheduled observer."""
+        budget = chunk_cycles if next_chunk is None else next_chunk - self.cycles
+        if target is not None:
+            budget = min(budget, target - self.cycles)
+        if self._next_scheduled is not None:
+            budget = min(budget, self._next_scheduled - self.cycles)
+        return budget
+
     def _run_looking(self, target, points, until, chunk, chunk_cycles: int) -> StopReason:
         """``run`` with a condition that has a lookout: asked only at its stop words, its
         watched stores, its ``within`` and after each instruction of the stepping path."""
@@ -91,21 +102,16 @@ class _Running:
         shortest = max(len(self.machine.fetch), 1)
         unchanged = False
         while True:
-            if self.frozen:
-                return self._frozen_reason()
-            if target is not None and self.cycles >= target:
-                return StopReason("cycle_limit", self.pc)
+            ended = self._ended(target)
+            if ended is not None:
+                return ended
             if chunk is not None and self.cycles >= next_chunk:
                 chunk(self)
                 next_chunk = self.cycles + chunk_cycles
                 unchanged = False
                 continue
             if self._fast_path_open():
-                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
-                if target is not None:
-                    budget = min(budget, target - self.cycles)
-                if self._next_scheduled is not None:
-                    budget = min(budget, self._next_scheduled - self.cycles)
+                budget = self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)
                 if lookout.within is not None:
                     budget = min(budget, lookout.within * shortest)
                 limit = budget - self._max_fused

@@ -176,6 +176,20 @@ def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
     return words
 
 
+def one_instruction(machine, words, path: str, at: int, values=None) -> Emulator:
+    """An emulator that has run exactly one instruction: ``words`` loaded at ``at`` and
+    started there, with ``values`` set first, on the ``path`` asked for."""
+    emulator = Emulator(machine)
+    if path == "stepped":
+        emulator.observe(Observer())
+    emulator.load([(at, words)])
+    for name, value in {machine.program_counter: at, **(values or {})}.items():
+        emulator.set(name, value)
+    emulator.advance_instruction()
+    assert emulator.instructions == 1
+    return emulator
+
+
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",
                 max_cycles=200) -> Run:
     """Load, set ``values`` (registers, groups, flags by name), run on the ``path`` asked for."""

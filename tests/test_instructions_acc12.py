@@ -29,7 +29,7 @@ from hypothesis import strategies as st
 
 import emu
 
-from engine_support import Run, encode_forms, run_program
+from engine_support import Run, encode_forms, one_instruction, run_program
 
 ACC12 = emu.load_machine(Path(__file__).parent / "machines" / "acc12.toml")
 FORMS = {ins.display: ins for ins in ACC12.instructions}
@@ -309,11 +309,5 @@ def test_undefined_word_runs_as_a_no_op_with_a_warning(path, word):
 @pytest.mark.parametrize("display", list(FORMS))
 def test_cycle_count_is_fetch_plus_steps(path, display):
     ins = FORMS[display]
-    machine = emu.Emulator(ACC12)
-    if path == "stepped":
-        machine.observe(emu.Observer())
-    machine.load([(0x10, ins.encode({name: 0x40 for name in ins.fields}))])
-    machine.set("pc", 0x10)
-    machine.advance_instruction()
-    assert machine.instructions == 1
+    machine = one_instruction(ACC12, ins.encode({name: 0x40 for name in ins.fields}), path, at=0x10)
     assert machine.cycles == len(ACC12.fetch) + len(ins.steps)

@@ -27,7 +27,7 @@ from hypothesis import strategies as st
 import emu
 
 from cli_support import cli
-from engine_support import Run, encode_forms, run_program
+from engine_support import Run, encode_forms, one_instruction, run_program
 
 SKEP = emu.load_machine("skep")
 FORMS = {ins.display: ins for ins in SKEP.instructions}
@@ -332,11 +332,5 @@ def test_isa_prints_the_cost_of_every_instruction(capsys):
 @pytest.mark.parametrize("display", sorted(COSTS))
 def test_cycle_count_of_each_fixed_cost_instruction(path, display):
     ins = FORMS[display]
-    machine = emu.Emulator(SKEP)
-    if path == "stepped":
-        machine.observe(emu.Observer())
-    machine.load([(0x10, ins.encode({name: 0x40 if name != "p" else 3 for name in ins.fields}))])
-    machine.set("pc", 0x10)
-    machine.advance_instruction()
-    assert machine.instructions == 1
-    assert machine.cycles == COSTS[display]
+    words = ins.encode({name: 0x40 if name != "p" else 3 for name in ins.fields})
+    assert one_instruction(SKEP, words, path, at=0x10).cycles == COSTS[display]

@@ -1,4 +1,4 @@
-"""The example programs: their console output against models written in Python.
+"""ref8's example programs: their console output against models written in Python.
 
 Each model below computes what a program must print from the program's data
 alone, independently of the assembler and the emulator, so a wrong routine

@@ -168,6 +168,18 @@ class Run:
     stop: object
 
 
+def assert_only_changes(run: Run, names: list[str], expected: dict[str, int], memory_changes=None) -> None:
+    """Each of ``names`` holds its ``expected`` value, every memory word its value from
+    before the run but for ``memory_changes`` ({address: value})."""
+    machine = run.emu
+    for name in names:
+        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
+    expected_memory = list(run.memory_before)
+    for address, value in (memory_changes or {}).items():
+        expected_memory[address] = value
+    assert list(machine.memory) == expected_memory
+
+
 def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
     """Words of the instruction forms given as (display, field values)."""
     words = []

@@ -29,7 +29,7 @@ from hypothesis import strategies as st
 
 import emu
 
-from engine_support import Run, encode_forms, one_instruction, run_program
+from engine_support import Run, assert_only_changes, encode_forms, one_instruction, run_program
 
 ACC12 = emu.load_machine(Path(__file__).parent / "machines" / "acc12.toml")
 FORMS = {ins.display: ins for ins in ACC12.instructions}
@@ -97,13 +97,8 @@ def check(run: Run, ran: list[str | None], changes: dict[str, int],
     to_stop = cycles_of(*ran)
     extra = to_stop % 2
     assert machine.cycles == to_stop + extra
-    expected = {**run.before, "pc": (stop_at + 1 + extra) % 256, **changes}
-    for name in VISIBLE + FLAGS:
-        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
-    expected_memory = list(run.memory_before)
-    for address, value in (memory_changes or {}).items():
-        expected_memory[address] = value
-    assert list(machine.memory) == expected_memory
+    assert_only_changes(run, VISIBLE + FLAGS, {**run.before, "pc": (stop_at + 1 + extra) % 256, **changes},
+                        memory_changes)
 
 
 # ----- transfers ------------------------------------------------------------------------

@@ -27,7 +27,7 @@ from hypothesis import strategies as st
 import emu
 
 from cli_support import cli
-from engine_support import Run, encode_forms, one_instruction, run_program
+from engine_support import Run, assert_only_changes, encode_forms, one_instruction, run_program
 
 SKEP = emu.load_machine("skep")
 FORMS = {ins.display: ins for ins in SKEP.instructions}
@@ -100,13 +100,7 @@ def check(ran: tuple[Run, int], cycles: int, changes: dict[str, int], memory_cha
     stop_at = appended_stop if stop_at is None else stop_at
     assert (run.stop.kind, run.stop.address) == ("halted", stop_at)
     assert machine.cycles == cycles
-    expected = {**run.before, "pc": stop_at + 1, **changes}
-    for name in VISIBLE + FLAGS:
-        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
-    expected_memory = list(run.memory_before)
-    for address, value in (memory_changes or {}).items():
-        expected_memory[address] = value
-    assert list(machine.memory) == expected_memory
+    assert_only_changes(run, VISIBLE + FLAGS, {**run.before, "pc": stop_at + 1, **changes}, memory_changes)
 
 
 def flags_of(result: int, carry: int) -> dict[str, int]:

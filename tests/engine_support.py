@@ -168,12 +168,38 @@ class Run:
     stop: object
 
 
+def assert_only_changes(run: Run, names: list[str], expected: dict[str, int], memory_changes=None) -> None:
+    """Each of ``names`` holds its ``expected`` value, every memory word its value from
+    before the run but for ``memory_changes`` ({address: value})."""
+    machine = run.emu
+    for name in names:
+        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
+    expected_memory = list(run.memory_before)
+    for address, value in (memory_changes or {}).items():
+        expected_memory[address] = value
+    assert list(machine.memory) == expected_memory
+
+
 def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
     """Words of the instruction forms given as (display, field values)."""
     words = []
     for display, values in parts:
         words += forms[display].encode(values)
     return words
+
+
+def one_instruction(machine, words, path: str, at: int, values=None) -> Emulator:
+    """An emulator that has run exactly one instruction: ``words`` loaded at ``at`` and
+    started there, with ``values`` set first, on the ``path`` asked for."""
+    emulator = Emulator(machine)
+    if path == "stepped":
+        emulator.observe(Observer())
+    emulator.load([(at, words)])
+    for name, value in {machine.program_counter: at, **(values or {})}.items():
+        emulator.set(name, value)
+    emulator.advance_instruction()
+    assert emulator.instructions == 1
+    return emulator
 
 
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",

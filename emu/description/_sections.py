@@ -235,7 +235,7 @@ def _make_before_break_events(top: Table, ring_stages: int, phases: tuple[Phase,
             top.fail_at(f"[[clock.phase]] {i + 1} ('{phase.name}')", ("clock", "phase", i, "ring"),
                         f"a timed make-before-break ring changes one stage from each phase to the next "
                         f"(one picks up, or one drops out), but from {sorted(lit)} to {sorted(next_lit)} "
-                        f"in '{following.name}' {_changes(gained, lost)}")
+                        f"(in '{following.name}') {_changes(gained, lost)}")
         stage = next(iter(gained or lost))
         timing.add(stage)
         result_stage.append(stage - 1)
@@ -248,9 +248,15 @@ def _make_before_break_events(top: Table, ring_stages: int, phases: tuple[Phase,
 
 
 def _changes(gained: set, lost: set) -> str:
-    parts = [f"{sorted(gained)} pick up" if gained else "", f"{sorted(lost)} drop out" if lost else ""]
-    said = " and ".join(p for p in parts if p)
-    return said if said else "nothing changes"
+    """"stage 1 picks up and stage 3 drops out", "stages 1 and 3 pick up", "nothing changes"."""
+    def stages(numbers: set, one: str, many: str) -> str:
+        listed = sorted(numbers)
+        if len(listed) == 1:
+            return f"stage {listed[0]} {one}"
+        return f"stages {', '.join(map(str, listed[:-1]))} and {listed[-1]} {many}"
+    parts = ([stages(gained, "picks up", "pick up")] if gained else []) + \
+            ([stages(lost, "drops out", "drop out")] if lost else [])
+    return " and ".join(parts) or "nothing changes"
 
 
 def read_wear(spec: Table, relays: list[str]) -> WearRatings:

@@ -155,6 +155,7 @@ def test_the_debugger_lists_each_pulse_of_a_press(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     program = PAUSED_SUM.replace('        .machine "duo4.toml"\n        halt\n', "")
     session = session_for(tmp_path, program, machine=DUO4, name="sum.asm")
+    assert "phase C, clock low, frozen at a hold point; STEP runs 2 pulses to the next" in session.execute("panel")
     listing = session.execute("pulse 2").splitlines()
     assert [line.split(":")[0] for line in listing[:4]] == [
         "press 1, pulse 1", "press 1, pulse 2", "press 2, pulse 3", "press 2, pulse 4"]

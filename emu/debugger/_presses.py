@@ -11,9 +11,13 @@ and the ``pulse`` command can list every micro-step, whichever the press.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
 from emu import Observer
+from emu.description import Instruction, Step
+
+if TYPE_CHECKING:
+    from ._stopping import Stop
 
 __all__ = ["PressWatch", "PressedStep", "Presses", "press_count_text"]
 
@@ -22,19 +26,20 @@ __all__ = ["PressWatch", "PressedStep", "Presses", "press_count_text"]
 class PressedStep:
     """One micro-step a press ran: the press's number, where the sequencer stood, the bus."""
     press: int
-    instruction: object
+    instruction: Instruction | None
     """The instruction running, None while fetching."""
     index: int
     """The step's index counted from 0 (fetch steps first), as ``Emulator.sequencer`` gives it."""
-    step: object
+    step: Step
     bus: object
+    """What the bus carried (the recorder's ``Bus``), None when it was dark."""
 
 
 @dataclass
 class Presses:
     """What a series of presses gave: why it ended early (None if it did not), how many
     presses and pulses, and the first micro-steps they ran."""
-    stop: object
+    stop: Stop | None
     presses: int
     pulses: int
     first_steps: list[PressedStep] = field(default_factory=list)
@@ -48,14 +53,14 @@ class PressWatch(Observer):
     latched; the first ``keep`` micro-steps are kept for the listing.
     """
 
-    def __init__(self, rule: Callable[[], object] | None, bus: Callable[[], object], keep: int):
+    def __init__(self, rule: Callable[[], Stop | None] | None, bus: Callable[[], object], keep: int):
         self.rule = rule
         self.bus = bus
         self.keep = keep
         self.steps: list[PressedStep] = []
         self.press = 0
         self.halted = False
-        self.fired = None
+        self.fired: Stop | None = None
         self._place = (None, 0)
 
     def start_press(self) -> None:
@@ -80,7 +85,7 @@ class PressWatch(Observer):
 
 def press_count_text(machine, given: Presses) -> str:
     """"3 STEP pulses", or where a press runs to the hold point "2 STEP presses, 4 pulses"."""
-    pulses = f"{given.pulses:,} pulse{'s' if given.pulses != 1 else ''}"
     if machine.step_press == "pulse":
         return f"{given.presses:,} STEP pulse{'s' if given.presses != 1 else ''}"
+    pulses = f"{given.pulses:,} pulse{'s' if given.pulses != 1 else ''}"
     return f"{given.presses:,} STEP press{'es' if given.presses != 1 else ''}, {pulses}"

@@ -126,6 +126,19 @@ def programs(draw, machine, max_instructions: int = 24):
     return words
 
 
+def after_step_press(machine, index: int) -> tuple[int, int]:
+    """(pulses given, phase index after) of one STEP press with the ring frozen at ``index``,
+    as the description says: one panel pulse with the ring standing still, or
+    (``step = "hold"``) the ring's own pulses up to the hold point it reaches next."""
+    if machine.step_press == "pulse":
+        return 1, index
+    pulses = machine.pulses_per_step_press()[machine.phases[index].name]
+    index = (index + 1) % len(machine.phases)
+    while not machine.phases[index].hold:
+        index = (index + 1) % len(machine.phases)
+    return pulses, index
+
+
 def boot(machine, words, switches: int = 0, input_bytes: bytes = b"") -> Emulator:
     emu = Emulator(machine)
     emu.load([(0, words)])

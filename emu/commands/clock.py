@@ -142,8 +142,9 @@ def _text(report: dict, samples) -> str:
     for i, row in enumerate(report["phases"]):
         line = f"  {row['name']:<8}{'high' if row['level'] else 'low':<7}{row['table_ms']:>7.1f} ms"
         if timed:
-            stage = samples.model.stages[samples.model.phase_stage[i]]
-            how = "charging to pick-up" if stage.mode == "charge" else "discharging to drop-out"
+            model = samples.model
+            stage = model.stages[model.phase_stage[i]]
+            how = "charging to pick-up" if model.phase_event[i] == "charge" else "discharging to drop-out"
             line += f"{row['parts_ms']:>8.1f} ms  stage {stage.number}, {how}"
         if row["hold"]:
             line += "  (hold point)"

@@ -181,6 +181,9 @@ def panel_text(emu, state: str, view=None, bus=None) -> str:
     clock = "high" if phase.level else "low"
     if emu.frozen:
         clock += ", frozen at a hold point"
+        if m.step_press == "hold":
+            pulses = m.pulses_per_step_press()[phase.name]
+            clock += f"; STEP runs {pulses} pulse{'s' if pulses != 1 else ''} to the next"
     instruction, index = emu.sequencer
     total = instruction.cycles(m) if instruction else len(m.fetch)
     if instruction is None:

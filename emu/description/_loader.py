@@ -20,6 +20,7 @@ from ..errors import MachineError
 from ._alu import RESERVED_OPERATION_NAMES, builtin_alu_ops, read_alu_op
 from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
+from ._clock_panel import read_clock_panel
 from ._decoding import decode_groups
 from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
@@ -127,7 +128,7 @@ class _Loader:
 
         kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
-        stages, phases = self.clock()
+        stages, phases, step_press, power_on = self.clock()
         fetch = self.fetch(names)
         instructions = self.instructions(names, kinds, len(fetch))
         assembler = top.table("assembler", "[assembler]", required=False)
@@ -146,7 +147,8 @@ class _Loader:
             registers=registers, groups=groups, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
-            instruction_register=ir, pause=pause.lower(), decode_groups=decoding, alu_ops=names.alu_ops,
+            instruction_register=ir, pause=pause.lower(), step_press=step_press, power_on_phase=power_on,
+            decode_groups=decoding, alu_ops=names.alu_ops,
         )
         if "timing" in top:
             machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
@@ -274,7 +276,7 @@ class _Loader:
 
     def clock(self):
         clock = self.top.table("clock", "[clock]")
-        clock.known_keys(("stages", "phase"))
+        clock.known_keys(("stages", "step", "power_on", "phase"))
         stages = clock.integer("stages", low=1, high=64)
         table = clock.get("phase")
         if not isinstance(table, list) or len(table) < 2:
@@ -311,7 +313,8 @@ class _Loader:
         if not any(p.hold for p in phases):
             clock.fail("the phase table has no hold point (hold = true): "
                        "a stop or a halt could never freeze the clock", "phase")
-        return stages, tuple(phases)
+        phases = tuple(phases)
+        return (stages, phases) + read_clock_panel(clock, phases)
 
     # -- micro-steps
 

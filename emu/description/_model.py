@@ -383,6 +383,11 @@ class Machine:
     program_counter: str
     instruction_register: str
     pause: str
+    step_press: str
+    """What one STEP press gives (``[clock] step``): ``"pulse"``, one pulse from the panel with the
+    ring standing still, or ``"hold"``, the ring running every pulse up to the next hold point."""
+    power_on_phase: int
+    """The index of the phase the ring stands in at power-on (``[clock] power_on``)."""
     timing: TimingSection | None = None
     """The checked ``[timing]`` section (the clock ring's parts), None when the file has none."""
     wear: WearRatings = field(default_factory=WearRatings)
@@ -443,6 +448,24 @@ class Machine:
     def pulses_per_turn(self) -> int:
         return sum(1 for i, p in enumerate(self.phases)
                    if p.level == 1 and self.phases[i - 1].level == 0)
+
+    def pulses_per_step_press(self) -> dict[str, int]:
+        """Hold point name → the pulses (micro-steps) one STEP press gives while the ring stands there."""
+        phases = self.phases
+        if self.step_press == "pulse":
+            return {p.name: 1 for p in phases if p.hold}
+        counts = {}
+        for start, phase in enumerate(phases):
+            if phase.hold:
+                pulses, i = 0, start
+                while True:
+                    following = (i + 1) % len(phases)
+                    pulses += phases[i].level == 1 and phases[following].level == 0
+                    i = following
+                    if phases[i].hold:
+                        break
+                counts[phase.name] = pulses
+        return counts
 
     @property
     def nominal_hz(self) -> float:

@@ -40,15 +40,15 @@ class Ring:
         self.phases_per_cycle = tuple(
             (starts[(k + 1) % len(starts)] - start) % self.count or self.count
             for k, start in enumerate(starts))
-        self.index = starts[0]
-        high_run, i = 0, starts[0]
+        self.index = machine.power_on_phase
+        high_run, i = 0, self.index
         while phases[i].level == 0:
             i = (i + 1) % self.count
         while phases[i].level == 1:
             high_run += phases[i].duration_ns
             i = (i + 1) % self.count
         self.manual_pulse_ns = high_run
-        """A STEP pulse from the panel lasts as long as the generator's first high pulse."""
+        """A STEP pulse from the panel lasts as long as the generator's first high pulse after power-on."""
 
     @property
     def at_boundary(self) -> bool:

@@ -3,7 +3,9 @@
 The control unit is "Clock, halts and the panel" of emu/machines/ref8.md made
 executable: the generator runs the phase table; the hold line is (switch at
 stop) OR (halt latch); the generator looks at the hold line only on
-*entering* a hold point, so it never cuts a pulse short; STEP gives one panel pulse only while the generator is frozen;
+*entering* a hold point, so it never cuts a pulse short; STEP acts only while the
+generator is frozen, giving one panel pulse or (``[clock] step = "hold"``)
+letting the ring run to the next hold point;
 a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase
@@ -243,10 +245,24 @@ class Emulator:
         self._hold_changed()
 
     def press_step(self) -> bool:
-        """STEP: one panel pulse while the generator is frozen; ignored while it runs."""
+        """STEP while the generator is frozen (ignored while it runs); True when it did something.
+
+        What a press gives is the machine's ``step_press``: ``"pulse"``, one
+        pulse from the panel as long as the generator's first pulse, the ring
+        standing still; ``"hold"``, the hold let go for one stretch, so the
+        ring runs its own pulses, at their own lengths, up to the next hold
+        point, where the hold line (still up) stops it again.
+        """
         self._notify("panel", "step")
         if not self.frozen:
             return False
+        if self.machine.step_press == "hold":
+            self.frozen = False
+            self._released = True
+            self._notify("hold", False)
+            while self.advance_phase():
+                pass
+            return True
         self._notify("edge", 1)
         self.ring.time_ns += self.ring.manual_pulse_ns
         self._notify("edge", 0)
@@ -441,16 +457,6 @@ class Emulator:
     def advance_instruction(self) -> StopReason:
         """Run the generator to the next instruction boundary (or until it freezes)."""
         return self.run(until=lambda emu: True)
-
-    def step_instruction(self, max_pulses: int | None = None) -> int:
-        """STEP pulses until the next instruction boundary, or ``max_pulses`` of them;
-        returns the pulses given (0 if running)."""
-        pulses = 0
-        while (max_pulses is None or pulses < max_pulses) and self.press_step():
-            pulses += 1
-            if self._seq == _FETCH_START:
-                break
-        return pulses
 
     # ----- snapshots ------------------------------------------------------------
 

@@ -7,5 +7,8 @@ the answer). Each compares runs through ``_outcomes``.
 """
 
 from ._program_checks import DEFAULT_EXAMPLES, ProgramCheck, check_program_timing
+from ._program_command import check_program_command
+from ._program_report import report_json, report_lines
 
-__all__ = ["DEFAULT_EXAMPLES", "ProgramCheck", "check_program_timing"]
+__all__ = ["DEFAULT_EXAMPLES", "ProgramCheck", "check_program_command", "check_program_timing", "report_json",
+           "report_lines"]

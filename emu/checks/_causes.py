@@ -61,7 +61,7 @@ def _table_across_a_page(planting: asm.Planting, machine: Machine) -> str | None
 
 
 def _address_as_number(planting: asm.Planting, machine: Machine) -> str | None:
-    moved = {m.old: m for m in planting.moved if m.kind in ("code", "data") and m.shift}
+    moved = _moved_places(planting)
     if not moved:
         return None
     old_image, new_image = planting.original.image(), planting.program.image()
@@ -73,16 +73,41 @@ def _address_as_number(planting: asm.Planting, machine: Machine) -> str | None:
         same = all(old_image.get(entry.address + i) == new_image.get(new_address + i) for i in range(entry.length))
         if not same:
             continue
-        for number in _numbers(_operands(text)):
-            target = moved.get(number)
-            if target is None:
+        for number in _address_numbers(machine, entry.kind, text):
+            if number not in moved:
                 continue
             role = ("a table of addresses written as numbers" if entry.kind == "data" else
                     "a jump to an address written as a number" if _writes_pc(machine, _mnemonic(text))
                     else "an address written as a number")
-            return (f"{entry.file}:{entry.line}: `{text}` holds {target.name}'s address as the number "
-                    f"{number:#x}, and {target.name} moved to {target.new:#x}: {role}")
+            return (f"{entry.file}:{entry.line}: `{text}` holds the address of {moved[number]} as the number "
+                    f"{number:#x}, which moved to {planting.relocate(number):#x}: {role}")
     return None
+
+
+def _address_numbers(machine: Machine, kind: str, text: str) -> list[int]:
+    """The numbers of a statement that may be addresses: in data, as many words as an address
+    takes, low word first; in an instruction, only where it jumps, reaches memory (``[...]``)
+    or loads a register group (a pointer)."""
+    numbers = list(_numbers(_operands(text)))
+    if kind == "data":
+        words = -(-machine.address_bits // machine.data_bits)
+        return [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
+                for start in range(len(numbers) - words + 1)]
+    operands = _operands(text)
+    pointer = any(re.search(rf"\b{re.escape(name)}\b", operands) for name in machine.groups)
+    return numbers if "[" in operands or pointer or _writes_pc(machine, _mnemonic(text)) else []
+
+
+def _moved_places(planting: asm.Planting) -> dict[int, str]:
+    """Old address → what stood there (a label, else the statement's ``FILE:LINE``), for what moved."""
+    places = {}
+    for entry in planting.original.lines:
+        if entry.length and planting.relocate(entry.address) != entry.address:
+            places.setdefault(entry.address, f"{entry.file}:{entry.line}")
+    for name, address in planting.original.labels.items():
+        if address in places and ":" in places[address]:
+            places[address] = name
+    return places
 
 
 def _reads_own_words(planting: asm.Planting, machine: Machine) -> str | None:

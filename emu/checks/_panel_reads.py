@@ -34,6 +34,8 @@ class PanelRead:
     """An instruction that reads the toggles or the input-ready port while the machine runs."""
     address: int
     place: tuple[str, int] | None
+    statement: str
+    """The statement as written (empty for an image)."""
     device: str
     reads: int
     most_between_halts: int
@@ -80,5 +82,8 @@ def panel_reads(subject) -> list[PanelRead]:
     found = []
     for (address, device), intervals in sorted(reads.items()):
         most = max(intervals.count(i) for i in set(intervals))
-        found.append(PanelRead(address, subject.loaded.source_map.get(address), device, len(intervals), most))
+        place = subject.loaded.source_map.get(address)
+        lines = subject.loaded.sources.get(place[0], ()) if place else ()
+        statement = lines[place[1] - 1].split(";")[0].strip() if place and place[1] <= len(lines) else ""
+        found.append(PanelRead(address, place, statement, device, len(intervals), most))
     return found

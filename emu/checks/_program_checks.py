@@ -74,6 +74,7 @@ def check_program_timing(path: str, machine: Machine, *, examples: int = DEFAULT
     report = ProgramCheck(path, machine.name, free.status, free.emulator.cycles, free.emulator.sim_seconds)
     if free.status != "halted":
         return report
+    subject.bound_by(free)
     report.panel_reads = panel_reads(subject)
     report.scripts = examples
     report.interleavings = operator_interleavings(subject, free_outcome, free.emulator.cycles, examples, seed,
@@ -84,7 +85,7 @@ def check_program_timing(path: str, machine: Machine, *, examples: int = DEFAULT
     else:
         places = planting_places(subject.program, sample, seed)
         report.statements = len(planting_places(subject.program, None, seed))
-        report.placements = halt_placement(path, machine.path, places, dumps=dumps, max_cycles=max_cycles,
+        report.placements = halt_placement(path, machine.path, places, dumps=dumps, max_cycles=subject.max_cycles,
                                            workers=workers,
                                            done=lambda n: tell("halt placement", n, len(places)))
     report.clock = clock_spread(subject, free_outcome, free.emulator.sim_seconds, examples, seed,

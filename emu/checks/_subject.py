@@ -16,7 +16,9 @@ from ..runs import (DEFAULT_MAX_CYCLES, LoadedProgram, PanelSettings, RunResult,
                     loaded_from_program, panel_path_for, read_panel_file, run_loaded, start_emulator)
 from ._outcomes import CheckRecorder, Outcome, Watched, outcome_of, watched_memory
 
-__all__ = ["Subject", "load_subject"]
+__all__ = ["COMPARED_RUN_FACTOR", "Subject", "load_subject"]
+
+COMPARED_RUN_FACTOR = 4
 
 
 @dataclass
@@ -52,6 +54,12 @@ class Subject:
                             emulator=emulator or self.power_on(loaded), operator=self.panel.at_halt,
                             on_halt=halted, planted=planted)
         return result, outcome_of(result, self.watched if watched is None else watched, recorder)
+
+    def bound_by(self, free: RunResult) -> None:
+        """Limit the runs compared with ``free`` to what they can honestly need: a planted halt
+        adds a few cycles per pass and an operator a few STEP pulses, so a run four times as
+        long as the free one has gone astray (and is reported as ending at the limit)."""
+        self.max_cycles = min(self.max_cycles, free.emulator.cycles * COMPARED_RUN_FACTOR + 10_000)
 
     def planted_program(self, planting: asm.Planting) -> LoadedProgram:
         return loaded_from_program(self.path, planting.program)

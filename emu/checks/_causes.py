@@ -29,7 +29,7 @@ from ..description import Machine
 from ..description.notation import parse_number
 from ._outcomes import data_tables
 
-__all__ = ["nearest_cause"]
+__all__ = ["nearest_cause", "statement_text"]
 
 _NUMBER = re.compile(r"(?<![\w$])(0x[0-9a-f_]+|0b[01_]+|\d[\d_]*)(?![\w])", re.IGNORECASE)
 _NAME = re.compile(r"[A-Za-z_.][\w.]*")
@@ -93,9 +93,20 @@ def _address_numbers(machine: Machine, kind: str, text: str) -> list[int]:
         words = -(-machine.address_bits // machine.data_bits)
         return [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
                 for start in range(len(numbers) - words + 1)]
-    operands = _operands(text)
+    return numbers if _may_hold_address(machine, text) else []
+
+
+def _may_hold_address(machine: Machine, text: str) -> bool:
+    """Whether an instruction's number may be an address: every form of its mnemonic takes an
+    address-wide number, or this one jumps, reaches memory (``[...]``) or loads a pointer."""
+    mnemonic, operands = _mnemonic(text), _operands(text)
+    forms = [i for i in machine.instructions if i.mnemonic == mnemonic]
+    wide = [any(f.kind.bits >= machine.address_bits and not f.kind.registers for f in i.fields.values())
+            for i in forms]
+    if not any(wide):
+        return False
     pointer = any(re.search(rf"\b{re.escape(name)}\b", operands) for name in machine.groups)
-    return numbers if "[" in operands or pointer or _writes_pc(machine, _mnemonic(text)) else []
+    return all(wide) or "[" in operands or pointer or _writes_pc(machine, mnemonic)
 
 
 def _moved_places(planting: asm.Planting) -> dict[int, str]:
@@ -138,14 +149,18 @@ def _computed_jump(planting: asm.Planting, machine: Machine) -> str | None:
 
 
 def _statement_text(program: asm.Program, entry) -> str | None:
-    """The statement as written, without its label and comment; None when the line has none."""
-    lines = program.sources.get(entry.file)
-    if lines is None or not 0 < entry.line <= len(lines):
-        return None
-    text = lines[entry.line - 1].split(";")[0].strip()
+    return statement_text(program.sources, entry.file, entry.line) or None
+
+
+def statement_text(sources: dict, file: str, line: int) -> str:
+    """The statement at ``file:line`` as written, without its label and comment ("" when none)."""
+    lines = sources.get(file)
+    if lines is None or not 0 < line <= len(lines):
+        return ""
+    text = lines[line - 1].split(";")[0].strip()
     if re.match(r"^[A-Za-z_.][\w.]*:", text):
         text = text.split(":", 1)[1].strip()
-    return text or None
+    return text
 
 
 def _mnemonic(text: str) -> str:

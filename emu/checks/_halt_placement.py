@@ -26,7 +26,7 @@ import asm
 
 from ..description import load_machine
 from ..runs import ProgramError
-from ._causes import nearest_cause
+from ._causes import nearest_cause, statement_text
 from ._outcomes import difference_text, first_difference, labelled_data, watched_memory
 from ._subject import load_subject
 
@@ -106,7 +106,7 @@ def _start_worker(path: str, machine_source: str, dumps, max_cycles) -> None:
 def _plant_one(place: tuple[str, int]) -> Placement:
     subject, plain, plain_outcome = _worker["subject"], _worker["plain"], _worker["outcome"]
     file, line = place
-    statement = subject.program.sources[file][line - 1].split(";")[0].strip()
+    statement = statement_text(subject.program.sources, file, line)
     try:
         planting = asm.plant_halts(subject.program, [place])
         loaded = subject.planted_program(planting)

@@ -20,6 +20,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..engine import Observer
+from ._causes import statement_text
 
 __all__ = ["PanelRead", "panel_reads"]
 
@@ -83,7 +84,6 @@ def panel_reads(subject) -> list[PanelRead]:
     for (address, device), intervals in sorted(reads.items()):
         most = max(intervals.count(i) for i in set(intervals))
         place = subject.loaded.source_map.get(address)
-        lines = subject.loaded.sources.get(place[0], ()) if place else ()
-        statement = lines[place[1] - 1].split(";")[0].strip() if place and place[1] <= len(lines) else ""
+        statement = statement_text(subject.loaded.sources, *place) if place else ""
         found.append(PanelRead(address, place, statement, device, len(intervals), most))
     return found

@@ -121,6 +121,6 @@ def _plant_one(place: tuple[str, int]) -> Placement:
                                    planted=frozenset(planting.halt_places))
     extra = planted.emulator.cycles - plain.emulator.cycles
     difference = first_difference(plain_outcome, outcome, moved=planting.relocate)
-    changed = None if difference is None else difference_text(difference, "without the halt", "with it")
+    changed = None if difference is None else difference_text(difference, "as written", "with the halt planted")
     cause = nearest_cause(planting, subject.machine) if changed is not None else None
     return Placement(file, line, statement, changed, cause, extra)

@@ -162,10 +162,10 @@ def _moved_addresses(expected: Outcome, got: Outcome, moved) -> set[str]:
 
 
 def difference_text(difference: tuple[str, object, object], expected_run: str, other_run: str) -> str:
-    """``register r1 is 0x3 without the halt, 0x4 with it``."""
+    """``register r1 is 0x3 as written, 0x4 with the halt planted``."""
     what, expected, got = difference
     if what == "status":
-        return f"the run {_shown(expected)} {expected_run}, {_shown(got)} {other_run}"
+        return f"the run ended at {_ENDINGS[expected]} {expected_run}, at {_ENDINGS[got]} {other_run}"
     return f"{what} is {_shown(expected)} {expected_run}, {_shown(got)} {other_run}"
 
 
@@ -173,8 +173,6 @@ _ENDINGS = {"halted": "a halt", "cycle_limit": "the cycle limit"}
 
 
 def _shown(value) -> str:
-    if value in _ENDINGS:
-        return f"ended at {_ENDINGS[value]}"
     if isinstance(value, tuple) and len(value) == 2 and isinstance(value[0], str):
         return f"{value[0]}:{value[1]}"
     return f"{value:#x}" if isinstance(value, int) and not isinstance(value, bool) else repr(value)

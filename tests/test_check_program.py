@@ -98,28 +98,30 @@ start:  load 4        ; total, written as its address
 total:  .byte 9
 """
 
-ACC12_POTS = """\
-; pots hauled 3 + 2 + 1, a pause after each haul
+ACC12_BALES = """\
+; bales on the cart: rows of 4, three rows, a pause after each row
         set 3
-        store left
-haul:   load total
-        plus left
-        store total
+        store rows
+row:    load cart
+        plus four
+        store cart
         put 1
-        load left
+        load rows
         minus one
-        store left
+        store rows
         stop
-        gozero done
-        go haul
-done:   load total
+        gozero full
+        go row
+full:   load cart
         put 0
         stop
-        .expect lamps == 6
+        .expect lamps == 12
+four:   .word 4
 one:    .word 1
-left:   .word 0
-total:  .word 0
+rows:   .word 0
+cart:   .word 0
 """
+"""3 rows × 4 bales: the lamps show 4, 8 and 12."""
 
 ACC12_READY = """\
         get 2         ; input ready?
@@ -212,7 +214,7 @@ def test_an_acc12_address_written_as_a_number_is_named(tmp_path):
 
 
 def test_an_acc12_program_with_names_only_passes_on_operators_and_clocks(tmp_path):
-    check = checked(tmp_path, ACC12_POTS, ACC12_MACHINE, examples=4)
+    check = checked(tmp_path, ACC12_BALES, ACC12_MACHINE, examples=4)
     assert check.passed, report_lines(check)
     clock = check.clock
     assert clock.clocks == 4 and clock.differing == ()

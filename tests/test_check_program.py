@@ -10,6 +10,7 @@ names must pass every part, on ref8 and on acc12.
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 
@@ -257,6 +258,14 @@ def test_two_workers_find_what_one_finds(tmp_path):
     one = checked(tmp_path, HARD_JUMP, workers=1)
     two = checked(tmp_path, HARD_JUMP, workers=2)
     assert two.placements == one.placements
+
+
+def test_a_machine_made_from_text_is_checked_in_this_process(tmp_path):
+    """Worker processes load the machine from its file; one made from text has none."""
+    from emu import machine_from_text
+    machine = machine_from_text(Path(ACC12).read_text(encoding="utf-8"))
+    check = checked(tmp_path, ACC12_ADDRESS_AS_NUMBER, machine, workers=2)
+    assert sorted(changed_lines(check)) == [1, 2, 3]
 
 
 def test_the_command_exits_0_on_a_pass_and_1_on_a_failure_with_json(tmp_path, capsys):

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import asm
 
-from ..description import load_machine
+from ..description import Machine, load_machine
 from ..runs import ProgramError
 from ._causes import nearest_cause, statement_text
 from ._outcomes import difference_text, first_difference, labelled_data, watched_memory
@@ -62,28 +62,32 @@ def planting_places(program: asm.Program, sample: int | None, seed: int) -> list
     return places
 
 
-def halt_placement(path: str, machine_source: str, places, *, dumps=(), max_cycles=None,
+def halt_placement(path: str, machine: Machine, places, *, dumps=(), max_cycles=None,
                    workers: int | None = None, done=None) -> list[Placement]:
-    """Plant a halt in front of each place, in worker processes; ``done(n)`` after each."""
+    """Plant a halt in front of each place, in worker processes (one per core unless
+    ``workers`` says otherwise); ``done(n)`` after each. Workers load the machine from its
+    file, so a machine made from text alone is checked in this process."""
     workers = max(1, min(workers or os.cpu_count() or 1, len(places)))
-    setup = (path, machine_source, tuple(dumps), max_cycles)
-    if workers == 1:
-        _start_worker(*setup)
-        results = []
-        for place in places:
-            results.append(_plant_one(place))
-            if done:
-                done(len(results))
-        return results
-    pool = ProcessPoolExecutor(max_workers=workers, initializer=_start_pool_worker, initargs=setup)
+    if not os.path.isfile(machine.path):
+        workers = 1
     results = []
+    pool = None
     try:
-        for result in pool.map(_plant_one, places, chunksize=max(1, len(places) // (workers * 8))):
+        if workers == 1:
+            _start_worker(path, machine, dumps, max_cycles)
+            planted = map(_plant_one, places)
+        else:
+            pool = ProcessPoolExecutor(max_workers=workers, initializer=_start_pool_worker,
+                                       initargs=(path, machine.path, tuple(dumps), max_cycles))
+            planted = pool.map(_plant_one, places, chunksize=max(1, len(places) // (workers * 8)))
+        for result in planted:
             results.append(result)
             if done:
                 done(len(results))
     finally:
-        pool.shutdown(cancel_futures=True)     # Ctrl-C: the statements not begun are dropped
+        _worker.clear()
+        if pool is not None:
+            pool.shutdown(cancel_futures=True)     # Ctrl-C: the statements not begun are dropped
     return results
 
 
@@ -96,8 +100,9 @@ def _start_pool_worker(*setup) -> None:
     _start_worker(*setup)
 
 
-def _start_worker(path: str, machine_source: str, dumps, max_cycles) -> None:
-    subject = load_subject(path, load_machine(machine_source), dumps=dumps, max_cycles=max_cycles)
+def _start_worker(path: str, machine: Machine | str, dumps, max_cycles) -> None:
+    machine = machine if isinstance(machine, Machine) else load_machine(machine)
+    subject = load_subject(path, machine, dumps=dumps, max_cycles=max_cycles)
     watched = watched_memory(subject.loaded, subject.dumps, checks=False) + labelled_data(subject.program)
     plain, outcome = subject.run(watched=watched)
     _worker.update(subject=subject, plain=plain, outcome=outcome)

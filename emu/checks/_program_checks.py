@@ -85,7 +85,7 @@ def check_program_timing(path: str, machine: Machine, *, examples: int = DEFAULT
     else:
         places = planting_places(subject.program, sample, seed)
         report.statements = len(planting_places(subject.program, None, seed))
-        report.placements = halt_placement(path, machine.path, places, dumps=dumps, max_cycles=subject.max_cycles,
+        report.placements = halt_placement(path, machine, places, dumps=dumps, max_cycles=subject.max_cycles,
                                            workers=workers,
                                            done=lambda n: tell("halt placement", n, len(places)))
     report.clock = clock_spread(subject, free_outcome, free.emulator.sim_seconds, examples, seed,

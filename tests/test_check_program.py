@@ -183,8 +183,13 @@ def test_a_program_that_uses_names_only_passes_every_part(tmp_path):
     assert check.statements == len(check.placements) == 15
     assert check.scripts == 3 and not check.interleavings
     assert check.panel_reads == []
-    # each placement only adds the halt's two cycles per pass: 1 pass outside the loops
-    assert {p.line: p.extra_cycles for p in check.placements}[2] == 2
+    # each placement only adds the halt's two cycles per pass: 1 pass outside the loops,
+    # 3 rounds × 4 steps = 12 passes inside the inner loop, which is where it delays most
+    extra = {p.line: p.extra_cycles for p in check.placements}
+    assert (extra[2], extra[5], extra[6]) == (2, 6, 24)
+    assert (f"the longest delay: in front of {tmp_path}/prog.asm:6 (add r0, r2) the halt adds 24 cycles ≈ 4.8 s "
+            f"to the run") in "\n".join(report_lines(check))
+    assert report_json(check)["halt_placement"]["longest_delay"]["line"] == 6
 
 
 def test_a_loop_reading_the_toggles_is_reported_with_its_instruction(tmp_path):

@@ -44,6 +44,8 @@ class Placement:
     cause: str | None = None
     extra_cycles: int = 0
     """How much longer the run took (the halt's own cycles, once per pass)."""
+    extra_seconds: float = 0.0
+    """The same in real time: what a halt in a timing loop does to the loop's duration."""
     error: str | None = None
     """Why the program with a halt there could not be assembled or loaded."""
 
@@ -125,7 +127,8 @@ def _plant_one(place: tuple[str, int]) -> Placement:
     planted, outcome = subject.run(loaded=loaded, emulator=emulator, watched=watched,
                                    planted=frozenset(planting.halt_places))
     extra = planted.emulator.cycles - plain.emulator.cycles
+    extra_seconds = planted.emulator.sim_seconds - plain.emulator.sim_seconds
     difference = first_difference(plain_outcome, outcome, moved=planting.relocate)
     changed = None if difference is None else difference_text(difference, "as written", "with the halt planted")
     cause = nearest_cause(planting, subject.machine) if changed is not None else None
-    return Placement(file, line, statement, changed, cause, extra)
+    return Placement(file, line, statement, changed, cause, extra, extra_seconds)

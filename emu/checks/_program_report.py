@@ -65,7 +65,7 @@ def _placement_lines(check: ProgramCheck) -> list[str]:
         if checked < check.statements else count_text(checked, "statement")
     unsafe = check.unsafe_placements
     if not unsafe:
-        return [_row("halt placement", True, f"{sampled}: a halt may go in front of each")]
+        return [_row("halt placement", True, f"{sampled}: a halt may go in front of each"), *_longest_delay(check)]
     rows = [_row("halt placement", False, f"{sampled}: a halt changes the result in front of {len(unsafe)}:")]
     width = max(len(f"{p.file}:{p.line}") for p in unsafe)
     for placement in unsafe:
@@ -77,6 +77,16 @@ def _placement_lines(check: ProgramCheck) -> list[str]:
         rows.append(f"      {'':<{width}}    changes: {placement.changed}")
         rows.append(f"      {'':<{width}}    cause:   {placement.cause or 'none found in the program text'}")
     return rows
+
+
+def _longest_delay(check: ProgramCheck) -> list[str]:
+    """Where a planted halt stretches the run most: passed on every turn of a loop, it
+    lengthens the loop's real duration (a timing loop's purpose) as much as the program's."""
+    longest = max(check.placements, key=lambda p: p.extra_cycles, default=None)
+    if longest is None or longest.extra_cycles <= 0:
+        return []
+    return [f"{'':<25}the longest delay: in front of {longest.file}:{longest.line} ({longest.statement}) the halt "
+            f"adds {count_text(longest.extra_cycles, 'cycle')} ≈ {duration_text(longest.extra_seconds)} to the run"]
 
 
 def _clock_lines(check: ProgramCheck) -> list[str]:
@@ -110,8 +120,10 @@ def report_json(check: ProgramCheck) -> dict:
         "halt_placement": {
             "statements": check.statements, "checked": len(check.placements or ()),
             "skipped": check.placement_skipped,
+            "longest_delay": _delay_json(check),
             "changed": [{"file": p.file, "line": p.line, "statement": p.statement, "changes": p.changed,
-                         "cause": p.cause, "error": p.error, "extra_cycles": p.extra_cycles}
+                         "cause": p.cause, "error": p.error, "extra_cycles": p.extra_cycles,
+                         "extra_seconds": p.extra_seconds}
                         for p in check.unsafe_placements]},
         "clock": None if clock is None else {
             "clocks": clock.clocks, "skipped": clock.skipped, "nominal_seconds": clock.nominal_seconds,
@@ -119,6 +131,14 @@ def report_json(check: ProgramCheck) -> dict:
             "spread": clock.spread,
             "changed": [{"seed": seed, **_difference(d)} for seed, d in clock.differing]},
     }
+
+
+def _delay_json(check: ProgramCheck) -> dict | None:
+    longest = max(check.placements or (), key=lambda p: p.extra_cycles, default=None)
+    if longest is None:
+        return None
+    return {"file": longest.file, "line": longest.line, "statement": longest.statement,
+            "extra_cycles": longest.extra_cycles, "extra_seconds": longest.extra_seconds}
 
 
 def _difference(difference) -> dict:

@@ -204,7 +204,7 @@ def test_a_loop_reading_the_toggles_is_reported_with_its_instruction(tmp_path):
 
 def test_toggles_read_once_after_each_halt_are_the_panels_protocol(tmp_path):
     """crane.asm asks two questions at pauses and reads the toggles once after each."""
-    check = check_program_timing("programs/crane.asm", REF8, examples=2, sample=6, workers=1)
+    check = check_program_timing("programs/ref8/crane.asm", REF8, examples=2, sample=6, workers=1)
     assert [(r.place[1], r.reads, r.depends_on_timing) for r in check.panel_reads] == [(27, 1, False),
                                                                                        (33, 1, False)]
     assert check.passed

@@ -132,9 +132,9 @@ def test_programs_in_testpaths_are_collected_only_when_the_project_asks(tmp_path
 def test_the_panel_files_operator_script_is_honoured(tmp_path):
     """crane.asm asks for two numbers at two pauses; its panel file answers them."""
     for name in ("crane.asm", "crane.panel.toml"):
-        (tmp_path / name).write_text((ROOT / "programs" / name).read_text(encoding="utf-8"), encoding="utf-8")
+        (tmp_path / name).write_text((ROOT / "programs" / "ref8" / name).read_text(encoding="utf-8"), encoding="utf-8")
     (tmp_path / "lib").mkdir()
-    for inc in (ROOT / "programs" / "lib").iterdir():
+    for inc in (ROOT / "programs" / "ref8" / "lib").iterdir():
         (tmp_path / "lib" / inc.name).write_text(inc.read_text(encoding="utf-8"), encoding="utf-8")
     run = pytest_in(tmp_path, "-rA")
     assert "PASSED crane.asm::crane" in run.stdout
@@ -144,7 +144,7 @@ def test_the_panel_files_operator_script_is_honoured(tmp_path):
 
 
 def test_the_fixture_gives_a_powered_on_program_with_its_panel(powered_on):
-    board = powered_on(ROOT / "programs" / "tickets.asm")
+    board = powered_on(ROOT / "programs" / "ref8" / "tickets.asm")
     assert board.emulator.switches == 0x82 and board.emulator.cycles == 0
     assert board.run().status == "halted"
 

@@ -1,4 +1,4 @@
-"""Benchmark: halt placement over every statement of programs/fares.asm.
+"""Benchmark: halt placement over every statement of programs/ref8/fares.asm.
 
 Run with ``python tests/bench/bench_check.py``. The goal is the whole
 placement in under 30 s on two cores. Measured in one run, wall time:
@@ -24,7 +24,7 @@ from emu import load_machine  # noqa: E402
 from emu.checks import check_program_timing  # noqa: E402
 from emu.runs import check_planting  # noqa: E402
 
-PROGRAM = ROOT / "programs" / "fares.asm"
+PROGRAM = ROOT / "programs" / "ref8" / "fares.asm"
 
 
 def baseline(machine) -> tuple[float, int]:

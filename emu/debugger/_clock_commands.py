@@ -65,11 +65,11 @@ def do_pulse(session, args):
         raise DebugError("STEP has no effect while the clock runs; 'throw stop' first")
     rows, given, stop = [], 0, None
     while stop is None and given < min(n, PULSE_REPORT):
-        step, (instruction, index) = e.current_step, e.sequencer
+        step, (instruction, index), driven = e.current_step, e.sequencer, e.driven_lines()
         stop, _one = session.pulses(count=1, spent=given)
         given += 1
         doing = "fetch" if instruction is None else instruction.mnemonic
-        lines = ", ".join(step.control_lines) or "no lines"
+        lines = ", ".join(driven) or "no lines"
         rows.append(f"pulse {given}: {doing} step {index + 1}: {step.text}   [{lines}]   "
                     f"bus {bus_text(session.machine, session.recorder.last_bus)}")
     if stop is None and n > given:

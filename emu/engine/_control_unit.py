@@ -24,6 +24,8 @@ from dataclasses import dataclass
 
 from ._blocks import BlockRunner
 from ._clock_ring import Ring
+from ._line_gates import LineGates
+from ._line_tally import LineTally
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
@@ -98,6 +100,8 @@ class Emulator:
         self.instructions = 0
         self._undefined: Counter[int] = Counter()
         self._observers: list[Observer] = []
+        self._gates = LineGates(machine, self._s, self.memory)
+        self._tally: LineTally | None = None
 
     # ----- loading and looking --------------------------------------------
 
@@ -175,6 +179,11 @@ class Emulator:
         index, step = self._seq
         return self.machine.fetch[step] if index < 0 else self.machine.instructions[index].steps[step]
 
+    def driven_lines(self) -> tuple[str, ...]:
+        """The control lines the next micro-step drives in the present state (its gated lines
+        whose condition holds now, on the state before the step, among them)."""
+        return self._gates.driven(*self._seq)
+
     @property
     def instruction_address(self) -> int:
         """Address of the instruction in progress (pc itself at a boundary)."""
@@ -229,6 +238,16 @@ class Emulator:
 
     def unobserve(self, observer: Observer) -> None:
         self._observers.remove(observer)
+
+    def count_lines(self) -> LineTally:
+        """Count the operations of every relay from now on, on both paths (see ``LineTally``)."""
+        self._tally = LineTally(self, self._s, self._count_undefined)
+        return self._tally
+
+    def stop_counting_lines(self) -> None:
+        if self._tally is not None:
+            self._tally.stop()
+            self._tally = None
 
     def _notify(self, event: str, *args) -> None:
         for observer in self._observers:
@@ -310,6 +329,7 @@ class Emulator:
     def _microstep(self) -> None:
         """The falling edge: the datapath latches the current micro-step."""
         index, step = self._seq
+        lines = self._gates.driven(index, step) if self._observers or self._tally is not None else ()
         if index < 0:
             if step == 0:
                 self._instruction_address = self._s[self._pc]
@@ -344,8 +364,10 @@ class Emulator:
             self._set_latch(True)
         if self._seq == _FETCH_START:
             self.instructions += 1
+        if self._tally is not None:
+            self._tally.add(lines)
         if self._observers:
-            self._notify("microstep", step_info, step_info.control_lines)
+            self._notify("microstep", step_info, lines)
             if self._seq == _FETCH_START:
                 self._notify("instruction")
 
@@ -391,12 +413,14 @@ class Emulator:
                     budget = min(budget, target - self.cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    if self.blocks.enabled and until is None:
+                    tally = self._tally
+                    if self.blocks.enabled and until is None and tally is None:
                         cycles, count, hit = self.blocks.run(budget, points)
                     elif watch is None:
-                        cycles, count, hit = self._run_free(limit)
+                        cycles, count, hit = (self._run_free if tally is None else tally.run_free)(limit)
                     else:
-                        cycles, count, hit = self._run_free_watching(limit, watch)
+                        runner = self._run_free_watching if tally is None else tally.run_free_watching
+                        cycles, count, hit = runner(limit, watch)
                     self._account(cycles - applied[0], count - applied[1])
                     applied[:] = 0, 0
                     if hit:

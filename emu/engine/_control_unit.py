@@ -414,8 +414,9 @@ class Emulator:
                 limit = budget - self._max_fused
                 if limit >= 0:
                     tally = self._tally
-                    if self.blocks.enabled and until is None and tally is None:
-                        cycles, count, hit = self.blocks.run(budget, points)
+                    blocks = self.blocks if tally is None else tally.blocks
+                    if blocks.enabled and until is None:
+                        cycles, count, hit = blocks.run(budget, points)
                     elif watch is None:
                         cycles, count, hit = (self._run_free if tally is None else tally.run_free)(limit)
                     else:

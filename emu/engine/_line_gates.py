@@ -18,7 +18,7 @@ from ._naming import _ident
 from ._state_access import _SlotAccess
 from ._step_translator import _StepTranslator
 
-__all__ = ["LineGates", "gated_steps", "per_machine"]
+__all__ = ["LineGates", "TallyLayout", "count_gates", "gated_steps", "per_machine"]
 
 
 def gated_steps(machine: Machine):
@@ -31,6 +31,44 @@ def gated_steps(machine: Machine):
         for k, step in enumerate(ins.steps):
             if step.gated_lines:
                 yield (ins.index, k), step, ins
+
+
+class TallyLayout:
+    """Where generated code that counts lines for wear puts each count: ``sites_[n]`` for each
+    own step of an instruction (counted where a fused function's steps vary) and each gated line,
+    ``words_[w]`` for each run of first word ``w``'s fused function or of its instruction in a block."""
+
+    def __init__(self, machine: Machine):
+        self.step_site: dict[tuple[int, int], int] = {}
+        for ins in machine.instructions:
+            for k in range(len(ins.steps)):
+                self.step_site[(ins.index, k)] = len(self.step_site)
+        self.gate_site: dict[tuple[tuple[int, int], str], int] = {}
+        for place, step, _ins in gated_steps(machine):
+            for line in step.gated_lines:
+                self.gate_site[(place, line.name)] = len(self.step_site) + len(self.gate_site)
+        self.size = len(self.step_site) + len(self.gate_site)
+        self.word_lines = [self._word_lines(machine, index) for index in machine.decode_table]
+
+    @staticmethod
+    def _word_lines(machine: Machine, index: int) -> tuple[str, ...]:
+        """The plain lines one run of a first word's instruction drives for sure: the fetch's,
+        and all of its own when its steps run straight through (no jumps, no decode group)."""
+        lines = [line for step in machine.fetch for line in step.control_lines]
+        if index >= 0 and index not in machine.decode_groups and not machine.instructions[index].has_jumps:
+            lines += [line for step in machine.instructions[index].steps for line in step.control_lines]
+        return tuple(lines)
+
+
+def count_gates(out: Emitter, translator: _StepTranslator, step: Step, place: tuple[int, int],
+                layout: TallyLayout, counted: bool = False) -> None:
+    """Count each gated line of ``step`` whose condition holds, before the step's statements run;
+    ``counted``: the step itself too (one a fused function does not take on every run)."""
+    if counted:
+        out.line(f"sites_[{layout.step_site[place]}] += 1")
+    for line in step.gated_lines:
+        out.line(f"if {translator.condition(line.condition)}:")
+        out.line(f"    sites_[{layout.gate_site[(place, line.name)]}] += 1")
 
 
 def per_machine(make):

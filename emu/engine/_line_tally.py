@@ -25,64 +25,36 @@ from __future__ import annotations
 from collections import Counter
 
 from ..description import Machine
+from ._blocks import BlockRunner
 from ._emitter import compile_generated
-from ._line_gates import gated_steps, per_machine
+from ._line_gates import TallyLayout, count_gates, per_machine
 from ._machine_compiler import _MachineCompiler
 from ._microstep_compiler import BoundFunctions, Fallback
 
 __all__ = ["LineTally"]
 
 
-class _Layout:
-    """Where each counted thing sits in the tally list of the generated code."""
-
-    def __init__(self, machine: Machine):
-        self.step_site: dict[tuple[int, int], int] = {}
-        for ins in machine.instructions:
-            for k in range(len(ins.steps)):
-                self.step_site[(ins.index, k)] = len(self.step_site)
-        self.gate_site: dict[tuple[tuple[int, int], str], int] = {}
-        for place, step, _ins in gated_steps(machine):
-            for line in step.gated_lines:
-                self.gate_site[(place, line.name)] = len(self.step_site) + len(self.gate_site)
-        self.size = len(self.step_site) + len(self.gate_site)
-        self.word_lines = [self._word_lines(machine, index) for index in machine.decode_table]
-
-    @staticmethod
-    def _word_lines(machine: Machine, index: int) -> tuple[str, ...]:
-        """The plain lines one run of a first word's fused function drives for sure."""
-        lines = [line for step in machine.fetch for line in step.control_lines]
-        if index >= 0 and index not in machine.decode_groups and not machine.instructions[index].has_jumps:
-            lines += [line for step in machine.instructions[index].steps for line in step.control_lines]
-        return tuple(lines)
-
-
 class _TallyingCompiler(_MachineCompiler):
     """The machine's generated source with counters in the fused functions and free runners."""
 
-    build_parameters = "s, m, in_, out_, Fallback, undefined_, t, words"
+    build_parameters = "s, m, in_, out_, Fallback, undefined_, sites_, words_"
 
-    def __init__(self, machine: Machine, layout: _Layout):
+    def __init__(self, machine: Machine, layout: TallyLayout):
         super().__init__(machine)
         self.layout = layout
 
     def count_step(self, translator, step, place, counted) -> None:
-        out = self.out
-        if counted:
-            out.line(f"t[{self.layout.step_site[place]}] += 1")
-        for line in step.gated_lines:
-            out.line(f"if {translator.condition(line.condition)}:")
-            out.line(f"    t[{self.layout.gate_site[(place, line.name)]}] += 1")
+        count_gates(self.out, translator, step, place, self.layout, counted)
 
     def call_fused(self, peek: str) -> None:
         self.out.line(f"word = {peek}")
         self.out.line("cycles += table[word]()")
-        self.out.line("words[word] += 1")
+        self.out.line("words_[word] += 1")
 
 
 @per_machine
 def _tallying(machine: Machine):
-    layout = _Layout(machine)
+    layout = TallyLayout(machine)
     source, _cycles = _TallyingCompiler(machine, layout).source()
     return layout, compile_generated(source, machine.name, f"{machine.name}_tallying")
 
@@ -108,6 +80,8 @@ class LineTally:
         bound = BoundFunctions(*namespace["build"](slots, emu.memory, emu.ports.read, emu.ports.write, Fallback,
                                                    undefined, self.sites, self.words))
         self.run_free, self.run_free_watching = bound.run_free, bound.run_free_watching
+        self.blocks = BlockRunner(machine, slots, emu.memory, emu.ports.read, emu.ports.write, bound.fused,
+                                  bound.run_free, counters=(self.layout, self.sites, self.words))
         self._emu = emu
         self._end: tuple | None = None
         self._start = self._position()

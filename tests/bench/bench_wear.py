@@ -11,9 +11,10 @@ as ``relaybench run`` does (a new emulator, load, run, RESUME at each pause):
   the way ``run --wear`` counted before the fast path could), over the
   first ``--stepped-cycles`` cycles only, scaled to the whole run.
 
-The counted and the plain run must end in the same state, and the counts
-of the fast run must equal those of a phase-by-phase run over the same
-first cycles. Timings are the best of N CPU times, taken in turn each
+The counted and the plain run must end in the same state, the counts of
+the fast run must equal those of a phase-by-phase run over the same first
+cycles, and over the whole run the counts kept in translated blocks must
+equal those of the fused functions alone. Timings are the best of N CPU times, taken in turn each
 round. Target: wear within 1.5× of plain.
 """
 
@@ -52,11 +53,12 @@ def plain(program):
     return emu
 
 
-def counted(program, cycles=CYCLE_CAP, stepped=False):
+def counted(program, cycles=CYCLE_CAP, stepped=False, blocks=True):
     emu = fresh(program)
     if stepped:
         emu.observe(Observer())
     with count_wear(emu) as wear:
+        wear.tally.blocks.enabled = blocks
         run_loaded(program, MACHINE, emulator=emu, max_cycles=cycles)
     return emu, wear.counts
 
@@ -73,6 +75,9 @@ def main() -> int:
     _emu, fast_counts = counted(program, cycles=first)
     _emu, stepped_counts = counted(program, cycles=first, stepped=True)
     assert fast_counts == stepped_counts, "fast and phase-by-phase wear counts differ"
+    _emu, with_blocks = counted(program)
+    _emu, without_blocks = counted(program, blocks=False)
+    assert with_blocks == without_blocks, "wear counted in blocks differs from the fused functions' count"
 
     best = {"plain": float("inf"), "wear": float("inf")}
     for _ in range(args.repeat):

@@ -172,12 +172,12 @@ def test_the_waveform_names_stages_and_lines_and_pulses_a_gated_line_when_it_fir
     with record_vcd(emu, path):
         emu.run(max_cycles=1000)
     vcd = VCDVCD(str(path))
-    rises = {name: sum(1 for t, v in vcd[f"wire8.lines.{name.replace('-', '_')}"].tv if t > 0 and v == "1")
-             for name in ("lamp_strobe", "carry_in", "ld_pc", "pc_inc", "seq_end")}
-    assert rises == {"lamp_strobe": 1, "carry_in": 1, "ld_pc": 1, "pc_inc": 20, "seq_end": 1}
+    rises = {name: sum(1 for t, v in vcd[f"wire8.lines.{name}"].tv if t > 0 and v == "1")
+             for name in ("lamp-strobe", "carry-in", "ld-pc", "pc-inc", "seq-end", "load_b")}
+    assert rises == {"lamp-strobe": 1, "carry-in": 1, "ld-pc": 1, "pc-inc": 20, "seq-end": 1, "load_b": 0}
     assert {"wire8.ring.A", "wire8.ring.B", "wire8.ring.C"} <= set(vcd.signals)
     # the strobe is up for the pulse of out 1's second own step: cycles 12 and 13 are out 1's
-    strobe = [(t, v) for t, v in vcd["wire8.lines.lamp_strobe"].tv if t > 0]
+    strobe = [(t, v) for t, v in vcd["wire8.lines.lamp-strobe"].tv if t > 0]
     cycle_ns = WIRE8.cycle_ns
     assert strobe == [(12 * cycle_ns + 20_000_000, "1"), (13 * cycle_ns, "0")]
 

@@ -374,6 +374,10 @@ class Emulator:
     def _count_undefined(self, address: int) -> None:
         self._undefined[address] += 1
 
+    def _paths(self) -> tuple:
+        """The fast path's runners: blocks, and the free runners of fused instructions."""
+        return self.blocks, self._run_free, self._run_free_watching
+
     def _fast_path_open(self) -> bool:
         return (not self._observers and self._seq == _FETCH_START and not self.frozen
                 and not self.hold_line and self.ring.at_boundary)
@@ -413,15 +417,13 @@ class Emulator:
                     budget = min(budget, target - self.cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    tally = self._tally
-                    blocks = self.blocks if tally is None else tally.blocks
+                    blocks, run_free, run_free_watching = self._paths() if self._tally is None else self._tally.paths
                     if blocks.enabled and until is None:
                         cycles, count, hit = blocks.run(budget, points)
                     elif watch is None:
-                        cycles, count, hit = (self._run_free if tally is None else tally.run_free)(limit)
+                        cycles, count, hit = run_free(limit)
                     else:
-                        runner = self._run_free_watching if tally is None else tally.run_free_watching
-                        cycles, count, hit = runner(limit, watch)
+                        cycles, count, hit = run_free_watching(limit, watch)
                     self._account(cycles - applied[0], count - applied[1])
                     applied[:] = 0, 0
                     if hit:

@@ -79,12 +79,17 @@ class LineTally:
         exec(code, namespace)
         bound = BoundFunctions(*namespace["build"](slots, emu.memory, emu.ports.read, emu.ports.write, Fallback,
                                                    undefined, self.sites, self.words))
-        self.run_free, self.run_free_watching = bound.run_free, bound.run_free_watching
-        self.blocks = BlockRunner(machine, slots, emu.memory, emu.ports.read, emu.ports.write, bound.fused,
-                                  bound.run_free, counters=(self.layout, self.sites, self.words))
+        blocks = BlockRunner(machine, slots, emu.memory, emu.ports.read, emu.ports.write, bound.fused,
+                             bound.run_free, counters=(self.layout, self.sites, self.words))
+        self.paths = (blocks, bound.run_free, bound.run_free_watching)
+        """The counting fast path: as the emulator's own (``Emulator._paths``), counting."""
         self._emu = emu
         self._end: tuple | None = None
         self._start = self._position()
+
+    @property
+    def blocks(self) -> BlockRunner:
+        return self.paths[0]
 
     def stop(self) -> None:
         """Counting ends here: the emulator may run on, the counts stay."""

@@ -39,8 +39,9 @@ def control_lines(machine: Machine) -> list[str]:
 
 
 def signal_name(text: str) -> str:
-    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``."""
-    return re.sub(r"\W+", "_", text).strip("_")
+    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``; a builder's name
+    (letters, digits, ``-``, ``_``: ``ld-a``) stays as it is."""
+    return re.sub(r"[^\w-]+", "_", text).strip("_")
 
 
 class VcdRecorder(Observer):

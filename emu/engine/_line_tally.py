@@ -11,7 +11,9 @@ the count is kept the way each path runs:
   own step it takes; every gated line counts in the generated code when
   its condition holds, read from the description like the step's choices.
   A first word's count stands for its fetch steps and, for an instruction
-  that runs straight through, all of its own steps;
+  that runs straight through, all of its own steps. Translated blocks, their
+  dispatch loop and the store-checked instructions count the same way
+  (``BlockRunner`` with ``counters``), so counting keeps the block speed;
 * the ring stages follow from how many phases the ring ran since counting
   began (the ring goes round in table order, so that number says which
   stages lit and how often).

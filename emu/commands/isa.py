@@ -125,7 +125,8 @@ def port_lines(machine: Machine) -> list[str]:
 
 def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     def steps(seq):
-        return [{"text": s.text, "control_lines": list(s.control_lines)} for s in seq]
+        return [{"text": s.text, "control_lines": list(s.control_lines),
+                 "gated_lines": [{"line": g.name, "if": g.text} for g in s.gated_lines]} for s in seq]
     return {
         "machine": machine.name, "title": machine.title, "data_bits": machine.data_bits,
         "address_bits": machine.address_bits, "memory_words": machine.memory_words,
@@ -179,7 +180,7 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         *datapath_text(machine),
         f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
     ]
-    lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(machine.fetch, 1)]
+    lines += [step_row(i, step) for i, step in enumerate(machine.fetch, 1)]
     ports = port_lines(machine)
     if ports:
         lines += ["ports:"] + ports
@@ -193,8 +194,14 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         lines.append(f"{ins.display:<{syntax_width}}  {encodings[ins.index]:<{encoding_width}}  "
                      f"{str(ins.cycles(machine)):>6}  {flags}")
         if not brief:
-            lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(ins.steps, fetch + 1)]
+            lines += [step_row(i, step) for i, step in enumerate(ins.steps, fetch + 1)]
     return "\n".join(lines) + "\n"
+
+
+def step_row(number: int, step) -> str:
+    """A micro-step as the table lists it: its number, its text and the control lines it drives."""
+    driven = f"   [{', '.join(step.listed_lines)}]" if step.listed_lines else ""
+    return f"  {number:>2}  {step.text}{driven}"
 
 
 def main(args) -> int:

@@ -72,7 +72,7 @@ def do_pulse(session, args):
     rows = []
     for k, pressed in enumerate(given.first_steps, 1):
         doing = "fetch" if pressed.instruction is None else pressed.instruction.mnemonic
-        lines = ", ".join(pressed.step.control_lines) or "no lines"
+        lines = ", ".join(pressed.lines) or "no lines"
         label = f"press {pressed.press}, pulse {k}" if by_press else f"pulse {k}"
         rows.append(f"{label}: {doing} step {pressed.index + 1}: {pressed.step.text}   [{lines}]   "
                     f"bus {bus_text(m, pressed.bus)}")

@@ -31,6 +31,8 @@ class PressedStep:
     index: int
     """The step's index counted from 0 (fetch steps first), as ``Emulator.sequencer`` gives it."""
     step: Step
+    lines: tuple[str, ...]
+    """The control lines it drove (a gated line only where its condition held)."""
     bus: object
     """What the bus carried (the recorder's ``Bus``), None when it was dark."""
 
@@ -76,7 +78,7 @@ class PressWatch(Observer):
         self.halted = self.halted or step.drives_halt
         if len(self.steps) < self.keep:
             instruction, index = self._place
-            self.steps.append(PressedStep(self.press, instruction, index, step, self.bus()))
+            self.steps.append(PressedStep(self.press, instruction, index, step, lines, self.bus()))
 
     def instruction(self, emu) -> None:
         if self.rule is not None and self.fired is None:

@@ -1,4 +1,4 @@
-"""The ``[timing]`` and ``[wear]`` sections, read into typed parts of the machine.
+"""The ``[timing]`` and ``[wear]`` sections and the ring's stage names, read into typed parts.
 
 The engine does not use them, but a bad one must stop every command, not
 only ``clock`` or ``--wear``; so they are read and checked when the machine
@@ -12,11 +12,13 @@ much armature times vary from one operation to the next (``jitter``); each
 ``[[timing.stage]]`` the parts of one ring stage, any of which may stand in
 ``[timing]`` itself as the default for all stages. ``[wear]`` holds the rated
 mechanical life of every relay (``rated_operations``) and of those that
-differ (``[wear.relays]``).
+differ (``[wear.relays]``), named as ``[clock] stage_names`` names the ring's
+stages (a named stage is a relay of that name).
 """
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -26,8 +28,13 @@ from ._schema import Table, kind_of
 if TYPE_CHECKING:
     from ._model import Phase
 
-__all__ = ["MECHANICAL", "MODES", "PARTS", "SPREADS", "MAX_TOLERANCE", "SILICON_DIODE_DROP_V", "Part", "StageParts",
-           "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section"]
+__all__ = ["LINE_NAME", "MECHANICAL", "MODES", "PARTS", "SPREADS", "MAX_TOLERANCE", "SILICON_DIODE_DROP_V", "Part",
+           "StageParts", "TimingSection", "WearRatings", "check_stage_names", "read_stage_names", "read_timing",
+           "read_wear", "timing_section", "wear_section"]
+
+LINE_NAME = re.compile(r"[A-Za-z0-9_-]+")
+"""The name a builder gives a control line or a ring stage: letters, digits, ``-`` and ``_`` (it is
+also the name of a waveform's signal)."""
 
 SILICON_DIODE_DROP_V = 0.7
 """Forward drop of a small-signal silicon diode (common practice)."""
@@ -257,6 +264,27 @@ def _changes(gained: set, lost: set) -> str:
     parts = ([stages(gained, "picks up", "pick up")] if gained else []) + \
             ([stages(lost, "drops out", "drop out")] if lost else [])
     return " and ".join(parts) or "nothing changes"
+
+
+def read_stage_names(clock: Table, stages: int) -> tuple[str, ...]:
+    """``[clock] stage_names``: one name per ring stage, each different (none: the stages are numbered)."""
+    names = clock.list_of("stage_names", lambda n: isinstance(n, str) and LINE_NAME.fullmatch(n), default=[],
+                          expected=f"a list of {stages} stage names (letters, digits, '-', '_'), one per ring stage")
+    if names and len(names) != stages:
+        clock.fail(f"'stage_names' names {len(names)} stages, but the ring has {stages} ('stages')", "stage_names")
+    twice = next((n for n in names if names.count(n) > 1), None)
+    if twice is not None:
+        clock.fail(f"'stage_names' names two stages '{twice}'; each stage needs a name of its own", "stage_names")
+    return tuple(names)
+
+
+def check_stage_names(machine, fail) -> None:
+    """A named stage is a relay of its own: it may not share its name with a control line."""
+    lines = set(machine.control_lines())
+    clash = next((n for n in machine.stage_names if n in lines), None)
+    if clash is not None:
+        fail(f"'stage_names' names a stage '{clash}', which is also a control line of the machine "
+             f"(wear and waveforms name relays by these names)")
 
 
 def read_wear(spec: Table, relays: list[str]) -> WearRatings:

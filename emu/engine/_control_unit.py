@@ -26,6 +26,8 @@ from dataclasses import dataclass
 
 from ._blocks import BlockRunner
 from ._clock_ring import Ring
+from ._line_gates import LineGates
+from ._line_tally import LineTally
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
@@ -100,6 +102,8 @@ class Emulator:
         self.instructions = 0
         self._undefined: Counter[int] = Counter()
         self._observers: list[Observer] = []
+        self._gates = LineGates(machine, self._s, self.memory)
+        self._tally: LineTally | None = None
 
     # ----- loading and looking --------------------------------------------
 
@@ -177,6 +181,11 @@ class Emulator:
         index, step = self._seq
         return self.machine.fetch[step] if index < 0 else self.machine.instructions[index].steps[step]
 
+    def driven_lines(self) -> tuple[str, ...]:
+        """The control lines the next micro-step drives in the present state (its gated lines
+        whose condition holds now, on the state before the step, among them)."""
+        return self._gates.driven(*self._seq)
+
     @property
     def instruction_address(self) -> int:
         """Address of the instruction in progress (pc itself at a boundary)."""
@@ -231,6 +240,16 @@ class Emulator:
 
     def unobserve(self, observer: Observer) -> None:
         self._observers.remove(observer)
+
+    def count_lines(self) -> LineTally:
+        """Count the operations of every relay from now on, on both paths (see ``LineTally``)."""
+        self._tally = LineTally(self, self._s, self._count_undefined)
+        return self._tally
+
+    def stop_counting_lines(self) -> None:
+        if self._tally is not None:
+            self._tally.stop()
+            self._tally = None
 
     def _notify(self, event: str, *args) -> None:
         for observer in self._observers:
@@ -326,6 +345,7 @@ class Emulator:
     def _microstep(self) -> None:
         """The falling edge: the datapath latches the current micro-step."""
         index, step = self._seq
+        lines = self._gates.driven(index, step) if self._observers or self._tally is not None else ()
         if index < 0:
             if step == 0:
                 self._instruction_address = self._s[self._pc]
@@ -360,13 +380,19 @@ class Emulator:
             self._set_latch(True)
         if self._seq == _FETCH_START:
             self.instructions += 1
+        if self._tally is not None:
+            self._tally.add(lines)
         if self._observers:
-            self._notify("microstep", step_info, step_info.control_lines)
+            self._notify("microstep", step_info, lines)
             if self._seq == _FETCH_START:
                 self._notify("instruction")
 
     def _count_undefined(self, address: int) -> None:
         self._undefined[address] += 1
+
+    def _paths(self) -> tuple:
+        """The fast path's runners: blocks, and the free runners of fused instructions."""
+        return self.blocks, self._run_free, self._run_free_watching
 
     def _fast_path_open(self) -> bool:
         return (not self._observers and self._seq == _FETCH_START and not self.frozen
@@ -407,12 +433,13 @@ class Emulator:
                     budget = min(budget, target - self.cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    if self.blocks.enabled and until is None:
-                        cycles, count, hit = self.blocks.run(budget, points)
+                    blocks, run_free, run_free_watching = self._paths() if self._tally is None else self._tally.paths
+                    if blocks.enabled and until is None:
+                        cycles, count, hit = blocks.run(budget, points)
                     elif watch is None:
-                        cycles, count, hit = self._run_free(limit)
+                        cycles, count, hit = run_free(limit)
                     else:
-                        cycles, count, hit = self._run_free_watching(limit, watch)
+                        cycles, count, hit = run_free_watching(limit, watch)
                     self._account(cycles - applied[0], count - applied[1])
                     applied[:] = 0, 0
                     if hit:

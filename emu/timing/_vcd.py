@@ -3,8 +3,9 @@
 The dump is in simulated time (1 ns steps) and shows what a builder would
 put a logic analyser on: the clock, each ring stage, the hold line, the
 halt latch, the RUN/STOP switch, the sequencer step, every control line of
-the machine (high while the pulse that drives it lasts) and every register
-and flag. The file is written beside its final name and renamed into place
+the machine (high while the pulse that drives it lasts; a gated line only
+on a pulse where its condition let it through) and every register and
+flag, named as the machine file names them. The file is written beside its final name and renamed into place
 when the recording ends, so a failure never leaves half of one.
 
 A full dump of a long program runs to gigabytes, so a recording can be a
@@ -38,8 +39,9 @@ def control_lines(machine: Machine) -> list[str]:
 
 
 def signal_name(text: str) -> str:
-    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``."""
-    return re.sub(r"\W+", "_", text).strip("_")
+    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``; a builder's name
+    (letters, digits, ``-``, ``_``: ``ld-a``) stays as it is."""
+    return re.sub(r"[^\w-]+", "_", text).strip("_")
 
 
 class VcdRecorder(Observer):
@@ -63,7 +65,7 @@ class VcdRecorder(Observer):
         self.run_switch = wire(top, "run_switch", int(emu.switch_run))
         self.step = writer.register_var(top, "step", "integer", size=8, init=emu.sequencer[1])
         self.lit = set(machine.phases[emu.phase_index].ring)
-        self.stages = [wire(f"{top}.ring", f"stage{s}", int(s in self.lit))
+        self.stages = [wire(f"{top}.ring", machine.stage_signal(s), int(s in self.lit))
                        for s in range(1, machine.ring_stages + 1)]
         self.lines = {line: wire(f"{top}.lines", signal_name(line)) for line in control_lines(machine)}
         self.driving: tuple[str, ...] = ()
@@ -106,7 +108,7 @@ class VcdRecorder(Observer):
         t = emu.time_ns
         self.writer.change(self.clock, t, level)
         if level:
-            self.driving = emu.current_step.control_lines
+            self.driving = emu.driven_lines()
             self.writer.change(self.step, t, emu.sequencer[1])
         for line in self.driving:
             self.writer.change(self.lines[line], t, level)

@@ -126,6 +126,19 @@ def programs(draw, machine, max_instructions: int = 24):
     return words
 
 
+def after_step_press(machine, index: int) -> tuple[int, int]:
+    """(pulses given, phase index after) of one STEP press with the ring frozen at ``index``,
+    as the description says: one panel pulse with the ring standing still, or
+    (``step = "hold"``) the ring's own pulses up to the hold point it reaches next."""
+    if machine.step_press == "pulse":
+        return 1, index
+    pulses = machine.pulses_per_step_press()[machine.phases[index].name]
+    index = (index + 1) % len(machine.phases)
+    while not machine.phases[index].hold:
+        index = (index + 1) % len(machine.phases)
+    return pulses, index
+
+
 def boot(machine, words, switches: int = 0, input_bytes: bytes = b"") -> Emulator:
     emu = Emulator(machine)
     emu.load([(0, words)])
@@ -168,12 +181,38 @@ class Run:
     stop: object
 
 
+def assert_only_changes(run: Run, names: list[str], expected: dict[str, int], memory_changes=None) -> None:
+    """Each of ``names`` holds its ``expected`` value, every memory word its value from
+    before the run but for ``memory_changes`` ({address: value})."""
+    machine = run.emu
+    for name in names:
+        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
+    expected_memory = list(run.memory_before)
+    for address, value in (memory_changes or {}).items():
+        expected_memory[address] = value
+    assert list(machine.memory) == expected_memory
+
+
 def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
     """Words of the instruction forms given as (display, field values)."""
     words = []
     for display, values in parts:
         words += forms[display].encode(values)
     return words
+
+
+def one_instruction(machine, words, path: str, at: int, values=None) -> Emulator:
+    """An emulator that has run exactly one instruction: ``words`` loaded at ``at`` and
+    started there, with ``values`` set first, on the ``path`` asked for."""
+    emulator = Emulator(machine)
+    if path == "stepped":
+        emulator.observe(Observer())
+    emulator.load([(at, words)])
+    for name, value in {machine.program_counter: at, **(values or {})}.items():
+        emulator.set(name, value)
+    emulator.advance_instruction()
+    assert emulator.instructions == 1
+    return emulator
 
 
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",

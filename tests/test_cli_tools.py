@@ -183,7 +183,7 @@ def test_isa_python_source(capsys):
 
 
 def test_shipped_programs_assemble(capsys, tmp_path):
-    for program in sorted(PROGRAMS.glob("*.asm")):
+    for program in sorted(PROGRAMS.rglob("*.asm")):
         code, _out, err = cli(capsys, "asm", program, "--check")
         assert code == 0, err
 

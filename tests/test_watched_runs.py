@@ -16,7 +16,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import asm
+from emu import Observer
 from emu.debugger import AnyOf, CallDepth, Count, Watch, Watches, call_shape
+from emu.timing import count_wear
 
 from engine_support import MACHINES, boot, full_state, programs, skip_unless_properties_run
 
@@ -58,6 +60,14 @@ def condition(emu, goals):
     return AnyOf(parts)
 
 
+def case(machine, data) -> tuple[list[int], list, frozenset[int]]:
+    """A program, goals and breakpoints (up to two) to run it under."""
+    words = data.draw(programs(machine))
+    span = len(words) + 4
+    return (words, data.draw(goals(machine, span)),
+            frozenset(data.draw(st.lists(st.integers(0, span), max_size=2))))
+
+
 def drive(emu, goals, points, *, every_instruction: bool) -> list:
     """Several watched runs in a row (RESUME after a halt); what each ended with."""
     ends = []
@@ -78,15 +88,36 @@ def drive(emu, goals, points, *, every_instruction: bool) -> list:
 def test_a_watched_run_stops_where_the_check_after_every_instruction_does(machine_name, data):
     machine = MACHINES[machine_name]
     skip_unless_properties_run(machine)
-    words = data.draw(programs(machine))
-    span = len(words) + 4
-    wanted = data.draw(goals(machine, span))
-    points = frozenset(data.draw(st.lists(st.integers(0, span), max_size=2)))
+    words, wanted, points = case(machine, data)
     reference = boot(machine, words)
     watched = boot(machine, words)
     watched.blocks.threshold, watched.blocks.warm_up = 1, 0
     assert drive(watched, wanted, points, every_instruction=False) == \
         drive(reference, wanted, points, every_instruction=True)
+
+
+class _Watching(Observer):
+    """Any observer: attached, it makes the engine step phase by phase."""
+
+
+@pytest.mark.parametrize("machine_name", sorted(MACHINES))
+@settings(SETTINGS, max_examples=25)
+@given(data=st.data(), hot=st.booleans())
+def test_wear_counted_during_a_watched_run_equals_the_count_phase_by_phase(machine_name, data, hot):
+    """Wear's counting runners watch as the plain ones do: same stops, and the same counts as
+    an observer stepping every phase with the condition asked after every instruction."""
+    machine = MACHINES[machine_name]
+    skip_unless_properties_run(machine)
+    words, wanted, points = case(machine, data)
+    fast, stepped = boot(machine, words), boot(machine, words)
+    stepped.observe(_Watching())
+    with count_wear(fast) as fast_wear, count_wear(stepped) as stepped_wear:
+        if hot:
+            fast_wear.tally.blocks.threshold, fast_wear.tally.blocks.warm_up = 1, 0
+        assert drive(fast, wanted, points, every_instruction=False) == \
+            drive(stepped, wanted, points, every_instruction=True)
+    assert fast_wear.counts == stepped_wear.counts
+    assert fast_wear.pulses == stepped_wear.pulses
 
 
 TALLY = """\

@@ -56,12 +56,19 @@ _BLOCK_HERE = -1
 
 
 class _MachineBlocks:
-    """What every emulator of one machine shares: the loops, checked instructions, compiled blocks."""
+    """What every emulator of one machine shares: the loops, checked instructions, compiled blocks.
 
-    def __init__(self, machine: Machine):
+    With a ``TallyLayout`` (``layout``) all of them count what they run, for wear; the
+    counting code is shared apart from the plain one.
+    """
+
+    def __init__(self, machine: Machine, layout=None):
         self.machine = machine
+        self.layout = layout
         self.max_fused = compile_machine(machine).max_fused_cycles
-        self.dispatcher = compile_generated(dispatcher_source(machine, self.max_fused), f"{machine.name}_block_loops")
+        counting = layout is not None
+        self.dispatcher = compile_generated(dispatcher_source(machine, self.max_fused, counting),
+                                            f"{machine.name}_block_loops{'_counting' if counting else ''}")
         self.successor = [successor(machine, ins) for ins in machine.instructions]
         self.ends = [index < 0 or machine.instructions[index].drives_halt or self.successor[index] != NEXT
                      for index in machine.decode_table]
@@ -72,7 +79,9 @@ class _MachineBlocks:
     def checked(self):
         """Compiled when the first block of this machine is: runs without blocks never need it."""
         if self._checked is None:
-            self._checked = compile_generated(checked_fused_source(self.machine), f"{self.machine.name}_checked_fused")
+            counting = "" if self.layout is None else "_counting"
+            self._checked = compile_generated(checked_fused_source(self.machine, self.layout),
+                                              f"{self.machine.name}_checked_fused{counting}")
         return self._checked
 
     def compiled_block(self, plan: BlockPlan, loops: bool) -> tuple:
@@ -84,22 +93,23 @@ class _MachineBlocks:
         entry = self.code.get(key)
         if entry is not None:
             return (*entry, False)
-        source, most = block_source(self.machine, plan, loops)
-        name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}"
+        source, most = block_source(self.machine, plan, loops, self.layout)
+        name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}" \
+               f"{'' if self.layout is None else '_counting'}"
         entry = self.code[key] = (compile_generated(source, name), most)
         if len(self.code) > CACHE_BLOCKS:
             self.code.popitem(last=False)
         return (*entry, True)
 
 
-_shared: dict[int, _MachineBlocks] = {}
+_shared: dict[tuple[int, bool], _MachineBlocks] = {}
 
 
-def _machine_blocks(machine: Machine) -> _MachineBlocks:
-    key = id(machine)
+def _machine_blocks(machine: Machine, layout=None) -> _MachineBlocks:
+    key = (id(machine), layout is not None)
     shared = _shared.get(key)
     if shared is None:
-        shared = _shared[key] = _MachineBlocks(machine)
+        shared = _shared[key] = _MachineBlocks(machine, layout)
         weakref.finalize(machine, _shared.pop, key, None)
     return shared
 
@@ -120,8 +130,11 @@ class BlockRunner:
     others came from the machine's cache), ``dropped`` those taken out again.
     """
 
-    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free):
+    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free,
+                 counters: tuple | None = None):
+        """``counters``: (``TallyLayout``, sites, words) to run the counting code that wear uses."""
         self.machine = machine
+        self._counters = counters
         self.enabled = blocks_cover(machine)
         """Off where blocks cannot be exact yet: see ``blocks_cover``."""
         self.warm_up = WARM_UP_CYCLES
@@ -140,7 +153,7 @@ class BlockRunner:
         """Tables made at the first run, so an emulator that never runs pays nothing for them."""
         machine = self.machine
         s, memory, _read, _write = self._state
-        self._shared = _machine_blocks(machine)
+        self._shared = _machine_blocks(machine, None if self._counters is None else self._counters[0])
         self._table: dict[int, tuple] = {}
         self._hits = [0] * machine.memory_words
         self._cmap = None
@@ -154,7 +167,7 @@ class BlockRunner:
         """Set by a store to a watched word; the watching loop returns after that instruction."""
         self._no_stops = bytes(len(machine.decode_table))
         self._loops = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._shared.ends,
-                             self._translate, Fallback)
+                             self._translate, Fallback, *self._counted(words=True, sites=False))
 
     def run(self, budget: int, points: frozenset, stops: bytes | None = None,
             watched: frozenset[int] = frozenset(), unchanged: bool = False,
@@ -180,6 +193,13 @@ class BlockRunner:
         self.stored[0] = False
         return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.stored,
                               changed or _never)
+
+    def _counted(self, words: bool, sites: bool) -> tuple:
+        """The count lists a piece of counting code takes (none for plain code)."""
+        if self._counters is None:
+            return ()
+        _layout, site_counts, word_counts = self._counters
+        return (site_counts,) * sites + (word_counts,) * words
 
     def _fused(self) -> list:
         """Fused instructions, with stores checked once any block is in place or a word is watched."""
@@ -245,7 +265,8 @@ class BlockRunner:
         if self._cmap is None:
             s, memory, read_port, write_port = self._state
             self._cmap = [0] * self.machine.memory_words
-            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
+            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate,
+                             *self._counted(words=False, sites=True))
             self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
 
     def _plan(self, start: int) -> BlockPlan | None:
@@ -287,7 +308,8 @@ class BlockRunner:
         asks = 0 if self._stops is None else self._stops[plan.words[0]]
         code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points and not asks)
         self.compiled += fresh
-        block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
+        block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate,
+                       *self._counted(words=True, sites=True))
         self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])

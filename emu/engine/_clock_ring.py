@@ -33,6 +33,8 @@ class Ring:
         self.turn = list(self.nominal)
         self.source = None
         self.time_ns = 0
+        self.phases_run = 0
+        """Phases run since power-on, whichever path ran them (wear counts ring stages from it)."""
         starts = [i for i in range(self.count)
                   if phases[i - 1].level == 1 and phases[i].level == 0]
         self.boundaries = tuple(starts)
@@ -40,15 +42,15 @@ class Ring:
         self.phases_per_cycle = tuple(
             (starts[(k + 1) % len(starts)] - start) % self.count or self.count
             for k, start in enumerate(starts))
-        self.index = starts[0]
-        high_run, i = 0, starts[0]
+        self.index = machine.power_on_phase
+        high_run, i = 0, self.index
         while phases[i].level == 0:
             i = (i + 1) % self.count
         while phases[i].level == 1:
             high_run += phases[i].duration_ns
             i = (i + 1) % self.count
         self.manual_pulse_ns = high_run
-        """A STEP pulse from the panel lasts as long as the generator's first high pulse."""
+        """A STEP pulse from the panel lasts as long as the generator's first high pulse after power-on."""
 
     @property
     def at_boundary(self) -> bool:
@@ -62,6 +64,7 @@ class Ring:
     def run_phase(self) -> None:
         """The generator spends the current phase's duration, then moves on."""
         self.time_ns += self.turn[self.index]
+        self.phases_run += 1
         self.index += 1
         if self.index == self.count:
             self.index = 0
@@ -82,6 +85,7 @@ class Ring:
         self._consume(phases)
 
     def _consume(self, phases: int) -> None:
+        self.phases_run += phases
         left_in_turn = self.count - self.index
         if phases < left_in_turn:
             self.time_ns += sum(self.turn[self.index:self.index + phases])

@@ -3,7 +3,9 @@
 The control unit is "Clock, halts and the panel" of emu/machines/ref8.md made
 executable: the generator runs the phase table; the hold line is (switch at
 stop) OR (halt latch); the generator looks at the hold line only on
-*entering* a hold point, so it never cuts a pulse short; STEP gives one panel pulse only while the generator is frozen;
+*entering* a hold point, so it never cuts a pulse short; STEP acts only while the
+generator is frozen, giving one panel pulse or (``[clock] step = "hold"``)
+letting the ring run to the next hold point;
 a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase
@@ -24,8 +26,11 @@ from collections.abc import Callable
 from operator import itemgetter
 
 from ._blocks import BlockRunner
+from ._observing import Observer, _Observing
 from ._run_loop import StopReason, _Running
 from ._clock_ring import Ring
+from ._line_gates import LineGates
+from ._line_tally import LineTally
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
@@ -34,28 +39,12 @@ from ..formatting import address_text
 from ._ports import Ports
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
-__all__ = ["Emulator", "Observer", "StopReason"]
+__all__ = ["Emulator", "StopReason"]
 
 _FETCH_START = (-1, 0)
 
 
-class Observer:
-    """Hooks for traces, waveforms and wear counts; override what you need.
-
-    Attaching any observer makes the engine take the stepping path, so a
-    run that nobody watches pays nothing for this.
-    """
-
-    def phase(self, emu: "Emulator", index: int) -> None: ...
-    def edge(self, emu: "Emulator", level: int) -> None: ...
-    def microstep(self, emu: "Emulator", step: Step, lines: tuple[str, ...]) -> None: ...
-    def hold(self, emu: "Emulator", frozen: bool) -> None: ...
-    def latch(self, emu: "Emulator", is_set: bool) -> None: ...
-    def panel(self, emu: "Emulator", action: str) -> None: ...
-    def instruction(self, emu: "Emulator") -> None: ...
-
-
-class Emulator(_Running):
+class Emulator(_Observing, _Running):
     """One powered-on machine: datapath, memory, ports, clock ring and control unit.
 
     ``run`` (letting the generator go, on the fast path where it can) is in ``_run_loop``."""
@@ -98,6 +87,8 @@ class Emulator(_Running):
         self._scheduled: list[tuple[int, bool, Observer]] = []
         """(cycle, attach or detach, observer) for observers of a window of cycles, by cycle."""
         self._next_scheduled: int | None = None
+        self._gates = LineGates(machine, self._s, self.memory)
+        self._tally: LineTally | None = None
 
     # ----- loading and looking --------------------------------------------
 
@@ -175,16 +166,10 @@ class Emulator(_Running):
         index, step = self._seq
         return self.machine.fetch[step] if index < 0 else self.machine.instructions[index].steps[step]
 
-    @property
     def driven_lines(self) -> tuple[str, ...]:
-        """The control lines the micro-step in progress drives in this cycle (see ``_lines_of``)."""
-        return self._lines_of(self.current_step)
-
-    @staticmethod
-    def _lines_of(step: Step) -> tuple[str, ...]:
-        """The one place that says which lines a micro-step drives in its cycle: observers get
-        them from here (the ``microstep`` hook, ``driven_lines`` at the rising edge)."""
-        return step.control_lines
+        """The control lines the next micro-step drives in the present state (its gated lines
+        whose condition holds now, on the state before the step, among them)."""
+        return self._gates.driven(*self._seq)
 
     def reader(self, names) -> Callable[[], tuple[int, ...]]:
         """A function returning the present values of these registers and flags (not groups)
@@ -245,44 +230,17 @@ class Emulator(_Running):
     def clock_source(self, source) -> None:
         self.ring.set_source(source)
 
-    # ----- observers --------------------------------------------------------
+    # ----- counting wear --------------------------------------------------
 
-    def observe(self, observer: Observer, *, start: int | None = None, end: int | None = None) -> None:
-        """Attach ``observer``; with ``start`` only once the cycle count reaches it, with ``end``
-        until it does. Until then (and after) the run keeps the fast path, which stops short of
-        ``start`` so that the observer sees every event from the moment the count reaches it."""
-        if start is not None and start > self.cycles:
-            self._schedule(start, True, observer)
-        else:
-            self._observers.append(observer)
-        if end is not None:
-            self._schedule(max(end, self.cycles), False, observer)
-        self._attend()
+    def count_lines(self) -> LineTally:
+        """Count the operations of every relay from now on, on both paths (see ``LineTally``)."""
+        self._tally = LineTally(self, self._s, self._count_undefined)
+        return self._tally
 
-    def unobserve(self, observer: Observer) -> None:
-        self._scheduled = [entry for entry in self._scheduled if entry[2] is not observer]
-        self._next_scheduled = self._scheduled[0][0] if self._scheduled else None
-        if observer in self._observers:
-            self._observers.remove(observer)
-
-    def _schedule(self, cycle: int, attach: bool, observer: Observer) -> None:
-        self._scheduled.append((cycle, attach, observer))
-        self._scheduled.sort(key=lambda entry: (entry[0], entry[1]))
-        self._next_scheduled = self._scheduled[0][0]
-
-    def _attend(self) -> None:
-        """Attach and detach the observers whose cycle has come."""
-        while self._scheduled and self._scheduled[0][0] <= self.cycles:
-            _cycle, attach, observer = self._scheduled.pop(0)
-            if attach:
-                self._observers.append(observer)
-            elif observer in self._observers:
-                self._observers.remove(observer)
-        self._next_scheduled = self._scheduled[0][0] if self._scheduled else None
-
-    def _notify(self, event: str, *args) -> None:
-        for observer in self._observers:
-            getattr(observer, event)(self, *args)
+    def stop_counting_lines(self) -> None:
+        if self._tally is not None:
+            self._tally.stop()
+            self._tally = None
 
     # ----- the panel --------------------------------------------------------
 
@@ -293,10 +251,24 @@ class Emulator(_Running):
         self._hold_changed()
 
     def press_step(self) -> bool:
-        """STEP: one panel pulse while the generator is frozen; ignored while it runs."""
+        """STEP while the generator is frozen (ignored while it runs); True when it did something.
+
+        What a press gives is the machine's ``step_press``: ``"pulse"``, one
+        pulse from the panel as long as the generator's first pulse, the ring
+        standing still; ``"hold"``, the hold let go for one stretch, so the
+        ring runs its own pulses, at their own lengths, up to the next hold
+        point, where the hold line (still up) stops it again.
+        """
         self._notify("panel", "step")
         if not self.frozen:
             return False
+        if self.machine.step_press == "hold":
+            self.frozen = False
+            self._released = True
+            self._notify("hold", False)
+            while self.advance_phase():
+                pass
+            return True
         self._notify("edge", 1)
         self.ring.time_ns += self.ring.manual_pulse_ns
         self._notify("edge", 0)
@@ -360,6 +332,8 @@ class Emulator(_Running):
     def _microstep(self) -> None:
         """The falling edge: the datapath latches the current micro-step."""
         index, step = self._seq
+        watched = self._observers or self._tally is not None or self._next_scheduled is not None
+        lines = self._gates.driven(index, step) if watched else ()
         if index < 0:
             if step == 0:
                 self._instruction_address = self._s[self._pc]
@@ -396,13 +370,22 @@ class Emulator(_Running):
             self._set_latch(True)
         if self._seq == _FETCH_START:
             self.instructions += 1
+        if self._tally is not None:
+            self._tally.add(lines)
         if self._observers:
-            self._notify("microstep", step_info, self._lines_of(step_info))
+            self._notify("microstep", step_info, lines)
             if self._seq == _FETCH_START:
                 self._notify("instruction")
 
     def _count_undefined(self, address: int) -> None:
         self._undefined[address] += 1
+
+    def _paths(self) -> tuple:
+        """The fast path's runners now: blocks, and the free runners of fused instructions (plain,
+        watching, stopping); the counting ones of ``LineTally`` while lines are counted."""
+        if self._tally is not None:
+            return self._tally.paths
+        return self.blocks, self._run_free, self._run_free_watching, self._run_free_stopping
 
     def _fast_path_open(self) -> bool:
         if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
@@ -418,16 +401,6 @@ class Emulator(_Running):
     def advance_instruction(self) -> StopReason:
         """Run the generator to the next instruction boundary (or until it freezes)."""
         return self.run(until=lambda emu: True)
-
-    def step_instruction(self, max_pulses: int | None = None) -> int:
-        """STEP pulses until the next instruction boundary, or ``max_pulses`` of them;
-        returns the pulses given (0 if running)."""
-        pulses = 0
-        while (max_pulses is None or pulses < max_pulses) and self.press_step():
-            pulses += 1
-            if self._seq == _FETCH_START:
-                break
-        return pulses
 
     # ----- snapshots ------------------------------------------------------------
 

@@ -61,8 +61,7 @@ class _FusedFunctions:
         with out.indent():
             out.line(f'"""{ins.display} — {cycles} cycle{"s" if str(cycles) != "1" else ""}"""')
             access = _LocalAccess(out, machine)
-            for step in machine.fetch:
-                _StepTranslator(machine, out, access, None).step(step)
+            self.fetch_steps(access)
             if not ins.has_jumps:
                 self.fused_steps(ins, fixed, access, 0, counting=False)
                 access.write_back()
@@ -91,8 +90,7 @@ class _FusedFunctions:
                      f'step {len(machine.fetch) + group.decode_step + 1}"""')
             out.line(f"start = s[{machine.registers[machine.program_counter].slot}]")
             access = _LocalAccess(out, machine)
-            for step in machine.fetch:
-                _StepTranslator(machine, out, access, None).step(step)
+            self.fetch_steps(access)
             out.line(f"c = {len(machine.fetch)}")
             self.fused_steps(first, _first_word_fixed(first, word), access, 0, counting=True,
                              stop=group.decode_step + 1)
@@ -136,6 +134,7 @@ class _FusedFunctions:
             out.line(f"# {step.text}")
             translator = _StepTranslator(machine, out, access, ins, fixed)
             if not counting:
+                self.count_step(translator, step, (ins.index, k), counted=False)
                 translator.step(step)
                 continue
             if guarded:
@@ -145,12 +144,30 @@ class _FusedFunctions:
                     out.line(f"at = {translator.next_step(step, k)}")
                 elif guarded:
                     out.line(f"at = {k + 1}")
+                self.count_step(translator, step, (ins.index, k), counted=True)
                 translator.step(step)
                 out.line("c += 1")
                 if guarded or step.jump is not None:
                     access.write_back()
                     access.loaded.clear()
             guarded = guarded or step.jump is not None
+
+    def fetch_steps(self, access) -> None:
+        """The fetch steps inline, at the start of a fused function."""
+        for j, step in enumerate(self.machine.fetch):
+            translator = _StepTranslator(self.machine, self.out, access, None)
+            self.count_step(translator, step, (-1, j), counted=False)
+            translator.step(step)
+
+    def count_step(self, translator: _StepTranslator, step, place: tuple[int, int], counted: bool) -> None:
+        """Where a fused function may count the step it is about to run (``place``: instruction
+        index or -1 for the fetch, and step index); ``counted``: the step is not one every run
+        of the function takes. Plain runs count nothing; ``_line_tally`` counts."""
+
+    def call_fused(self, word: str) -> None:
+        """The free runner's call of the next instruction's fused function; ``word``: the first
+        word as an expression, or ``"word"`` where the loop already holds it in that local."""
+        self.out.line(f"cycles += table[{word}]()")
 
     def fallback_function(self):
         out = self.out
@@ -201,9 +218,9 @@ class _FusedFunctions:
                             out.line(f"word = {peek}")
                             out.line("if stops[word] & 2 and cycles:")
                             out.line("    return cycles, instructions, True")
-                            out.line("cycles += table[word]()")
+                            self.call_fused("word")
                         else:
-                            out.line(f"cycles += table[{peek}]()")
+                            self.call_fused(peek)
                         out.line("instructions += 1")
                         if name == "run_free_watching":
                             out.line("if watch(cycles, instructions):")

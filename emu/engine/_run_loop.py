@@ -61,12 +61,13 @@ class _Running:
                 budget = self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    if self.blocks.enabled and until is None:
-                        cycles, count, hit = self.blocks.run(budget, points)
+                    blocks, run_free, run_free_watching, _stopping = self._paths()
+                    if blocks.enabled and until is None:
+                        cycles, count, hit = blocks.run(budget, points)
                     elif watch is None:
-                        cycles, count, hit = self._run_free(limit)
+                        cycles, count, hit = run_free(limit)
                     else:
-                        cycles, count, hit = self._run_free_watching(limit, watch)
+                        cycles, count, hit = run_free_watching(limit, watch)
                     self._account(cycles - applied[0], count - applied[1])
                     applied[:] = 0, 0
                     if hit:
@@ -116,12 +117,12 @@ class _Running:
                     budget = min(budget, lookout.within * shortest)
                 limit = budget - self._max_fused
                 if limit >= 0:
-                    if self.blocks.enabled:
-                        cycles, count, hit = self.blocks.run(budget, points, stops, lookout.memory, unchanged,
-                                                             changed)
+                    blocks, _free, _watching, run_free_stopping = self._paths()
+                    if blocks.enabled:
+                        cycles, count, hit = blocks.run(budget, points, stops, lookout.memory, unchanged, changed)
                         unchanged = True
                     else:
-                        cycles, count, hit = self._run_free_stopping(limit, stops, points, changed)
+                        cycles, count, hit = run_free_stopping(limit, stops, points, changed)
                     self._account(cycles, count)
                     if hit or lookout.within is not None and count:
                         if self.pc in points:

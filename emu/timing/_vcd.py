@@ -5,8 +5,9 @@ The dump is in simulated time, in the largest unit the standard allows
 number of (``fitted_unit_ns``), and shows what a builder would
 put a logic analyser on: the clock, each ring stage, the hold line, the
 halt latch, the RUN/STOP switch, the sequencer step, every control line of
-the machine (high while the pulse that drives it lasts) and every register
-and flag. The file is written beside its final name and renamed into place
+the machine (high while the pulse that drives it lasts; a gated line only
+on a pulse where its condition let it through) and every register and
+flag, named as the machine file names them. The file is written beside its final name and renamed into place
 when the recording ends, so a failure never leaves half of one.
 
 A full dump of a long program runs to gigabytes, so a recording can be a
@@ -167,8 +168,9 @@ class _DumpWriter:
 
 
 def signal_name(text: str) -> str:
-    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``."""
-    return re.sub(r"\W+", "_", text).strip("_")
+    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``; a builder's name
+    (letters, digits, ``-``, ``_``: ``ld-a``) stays as it is."""
+    return re.sub(r"[^\w-]+", "_", text).strip("_")
 
 
 class VcdRecorder(Observer):
@@ -192,7 +194,7 @@ class VcdRecorder(Observer):
         self.run_switch = wire(top, "run_switch", int(emu.switch_run))
         self.step = writer.var(top, "step", "integer", 8, emu.sequencer[1])
         self.lit = set(machine.phases[emu.phase_index].ring)
-        self.stages = [wire(f"{top}.ring", f"stage{s}", int(s in self.lit))
+        self.stages = [wire(f"{top}.ring", machine.stage_signal(s), int(s in self.lit))
                        for s in range(1, machine.ring_stages + 1)]
         self.lines = {line: wire(f"{top}.lines", signal_name(line)) for line in control_lines(machine)}
         self.driving: tuple[str, ...] = ()
@@ -241,7 +243,7 @@ class VcdRecorder(Observer):
         t = emu.time_ns
         self.writer.change(self.clock, t, level)
         if level:
-            self.driving = emu.driven_lines
+            self.driving = emu.driven_lines()
             self.writer.change(self.step, t, emu.sequencer[1])
         for line in self.driving:
             self.writer.change(self.lines[line], t, level)

@@ -2,7 +2,7 @@
 
 Run:  python tests/bench/bench_vcd.py
 
-programs/ledger.asm is run headless (the `relaybench run` path) three ways,
+programs/ref8/ledger.asm is run headless (the `relaybench run` path) three ways,
 interleaved round by round, best of each kept:
 
 1. plain, to its final halt (about 12 million cycles);
@@ -49,7 +49,7 @@ def timed(program, cycles=None, vcd=None, start=0, window=None) -> tuple[float, 
 
 
 def main() -> int:
-    os.chdir(ROOT / "programs")
+    os.chdir(ROOT / "programs" / "ref8")
     program = load_program("ledger.asm", REF8)
     best: dict[str, float] = {}
     sizes: dict[str, int] = {}

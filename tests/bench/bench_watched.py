@@ -2,7 +2,7 @@
 
 Run:  python tests/bench/bench_watched.py
 
-programs/ledger.asm (about 12 million cycles) is run to its final halt by
+programs/ref8/ledger.asm (about 12 million cycles) is run to its final halt by
 the debugger, resuming at its pauses, once plain and once under each of:
 a breakpoint, a watchpoint on a memory word, an instruction-count goal and
 a call-depth goal (the `leave` of the top level, asked around every call
@@ -114,7 +114,7 @@ def table(title, variants, run, plain_name) -> bool:
 
 
 def main() -> int:
-    os.chdir(ROOT / "programs")
+    os.chdir(ROOT / "programs" / "ref8")
     ok = table("the debugger, go to the end:", VARIANTS, lambda v: to_the_end(*v), "plain go")
     program = load_program("ledger.asm", REF8)
     ok &= table("the engine alone, watched registers:", ENGINE_WATCHES, lambda v: engine_run(program, v),

@@ -19,7 +19,7 @@ from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, End, 
 from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parse_errors import error_column
-from ._parser import parse_step
+from ._parser import parse_line_gate, parse_step
 from ._widths import WORD_SELECTORS, name_width, top_word_shift, value_width
 
 __all__ = [
@@ -27,7 +27,7 @@ __all__ = [
     "parse_alu_expression", "error_column",
     "Assign", "Call", "Choose", "Condition", "Const", "Expr", "Expression", "Extend", "FlagsOnly", "Halt", "Idle",
     "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
-    "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
+    "Statement", "StatementNode", "parse_line_gate", "parse_step", "unknown_node", "walk",
     "End", "Goto", "Sequencing", "WaitUntil",
     "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number",

@@ -1,0 +1,3 @@
+"""The assembler's fixture programs are inputs of its tests, not programs to run as tests."""
+
+collect_ignore = ["asm_fixtures"]

@@ -21,8 +21,9 @@ from hypothesis import strategies as st
 from hypothesis.stateful import RuleBasedStateMachine, initialize, invariant, precondition, rule
 
 from emu import Emulator, Observer
+from emu.testing import programs
 
-from engine_support import MACHINES, boot, datapath_state, programs, skip_unless_properties_run
+from engine_support import MACHINES, boot, datapath_state, skip_unless_properties_run
 
 SETTINGS = settings(max_examples=40, stateful_step_count=40, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])

@@ -1,0 +1,16 @@
+"""Checks a builder runs before wiring: ``relaybench check --machine FILE``.
+
+``MACHINE_PROPERTIES`` are the clock and control-unit properties (P1–P7)
+and the assembler round trip, each checked on random programs and panel
+schedules drawn with ``emu.testing``; ``check_property`` runs one with
+hypothesis; ``render_failure`` puts a shrunk counterexample in the
+builder's terms; ``design_report`` lists what the phase table makes of
+halts, STOP and STEP.
+"""
+
+from ._machine_properties import MACHINE_PROPERTIES, Example, MachineProperty
+from ._machine_state import PropertyFailed
+from ._property_runner import PropertyResult, check_property, new_seed
+
+__all__ = ["MACHINE_PROPERTIES", "Example", "MachineProperty", "PropertyFailed", "PropertyResult",
+           "check_property", "new_seed"]

@@ -15,7 +15,7 @@ import sys
 
 from .errors import RelaybenchError
 
-COMMANDS = ("run", "test", "asm", "dis", "isa", "debug", "clock")
+COMMANDS = ("run", "test", "asm", "dis", "isa", "debug", "clock", "check")
 
 
 def _load_commands():

@@ -3,14 +3,20 @@
 ``MACHINE_PROPERTIES`` are the clock and control-unit properties (P1–P7)
 and the assembler round trip, each checked on random programs and panel
 schedules drawn with ``emu.testing``; ``check_property`` runs one with
-hypothesis; ``render_failure`` puts a shrunk counterexample in the
+hypothesis; ``failure_lines`` puts a shrunk counterexample in the
 builder's terms; ``design_report`` lists what the phase table makes of
 halts, STOP and STEP.
 """
 
+from ._counterexamples import failure_json, failure_lines, reproduce_command
+from ._design_report import DesignReport, HaltFreeze, design_report, design_report_lines
 from ._machine_properties import MACHINE_PROPERTIES, Example, MachineProperty
 from ._machine_state import PropertyFailed
-from ._property_runner import PropertyResult, check_property, new_seed
+from ._property_runner import FAILED, NOT_APPLICABLE, PASSED, PropertyResult, check_property, new_seed
 
-__all__ = ["MACHINE_PROPERTIES", "Example", "MachineProperty", "PropertyFailed", "PropertyResult",
-           "check_property", "new_seed"]
+__all__ = [
+    "MACHINE_PROPERTIES", "Example", "MachineProperty", "PropertyFailed",
+    "PASSED", "FAILED", "NOT_APPLICABLE", "PropertyResult", "check_property", "new_seed",
+    "failure_json", "failure_lines", "reproduce_command",
+    "DesignReport", "HaltFreeze", "design_report", "design_report_lines",
+]

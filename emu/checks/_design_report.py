@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from ..description import Machine
 from ..engine import Emulator, Observer, Ring
 
-__all__ = ["DesignReport", "HaltFreeze", "design_report"]
+__all__ = ["DesignReport", "HaltFreeze", "design_report", "design_report_lines"]
 
 
 @dataclass(frozen=True)
@@ -160,3 +160,47 @@ def _step_press(machine: Machine) -> str:
     pulse_ms = Ring(machine).manual_pulse_ns / 1e6
     return (f"one micro-step: a single panel pulse of {pulse_ms:g} ms; the ring stays in the phase "
             f"it froze in")
+
+
+# ----- in words ----------------------------------------------------------------------------
+
+def _count(n: int, what: str) -> str:
+    return f"{n} {what}{'' if n == 1 else 's'}"
+
+
+def _halt_line(halt: HaltFreeze) -> str:
+    where = f"`{halt.instruction}` with its halt step on pulse {halt.pulse}: freezes in {halt.freezes_in} "
+    if halt.pulses_after == 0:
+        where += "right after that pulse"
+    else:
+        where += f"{_count(halt.pulses_after, 'pulse')} later (ran: {'; '.join(halt.steps_after)})"
+    if not halt.finished:
+        return where + "; the halting instruction has NOT finished: the rest of it runs after RESUME"
+    if halt.pc_past_end == 0:
+        return where + "; pc points just past the halt instruction"
+    return (where + f"; pc points {_count(halt.pc_past_end, 'word')} past the halt instruction "
+                    f"(the next instruction has begun)")
+
+
+def design_report_lines(report: DesignReport) -> list[str]:
+    holds = ", ".join(report.hold_points)
+    lines = [f"clock: {_count(report.pulses_per_turn, 'pulse')} a turn, hold point{'s' if len(report.hold_points) > 1 else ''} "
+             f"at {holds}"]
+    if report.halts:
+        lines.append("where a halt freezes the clock:")
+        lines += [f"  {_halt_line(halt)}" for halt in report.halts]
+    else:
+        lines.append("where a halt freezes the clock: no instruction drives halt")
+    lines.append(f"longest from throwing STOP to the freeze: {report.stop_worst_ns / 1e6:g} ms, "
+                 f"{_count(report.stop_worst_pulses, 'pulse')} (STOP thrown just as the generator passes "
+                 f"{report.stop_worst_after})")
+    if report.repeating_steps:
+        lines.append("micro-steps that take more than one pulse (they repeat; a hold point can fall inside, "
+                     "so STOP can freeze the clock while one waits):")
+        lines += [f"  {step}" for step in report.repeating_steps]
+    else:
+        lines.append("micro-steps that take more than one pulse: none, so no hold point falls inside one")
+    fewest, most = report.instruction_presses
+    span = f"{fewest}" if fewest == most else f"{fewest} to {'no limit' if most is None else most}"
+    lines.append(f"one STEP press: {report.step_press}; an instruction takes {span} presses")
+    return lines

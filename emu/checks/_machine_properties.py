@@ -48,6 +48,8 @@ class MachineProperty:
     """machine → a strategy of ``Example``."""
     check: object
     """(machine, example) → None, or raises ``PropertyFailed``."""
+    procedure: object
+    """example → what was done after the panel actions, in words, for a counterexample."""
     needs: object = None
     """machine → why the property cannot apply to it, or None."""
 
@@ -268,6 +270,28 @@ def _words(words, machine) -> str:
     return " ".join(f"{w:0{digits}X}" for w in words)
 
 
+def _after_panel(example) -> str:
+    return (f"then the switch to run, RESUME, and {example.counts['tail']} more cycles "
+            f"(RESUME at every halt)")
+
+
+def _both_paths(example) -> str:
+    return (f"run {example.counts['cycles']} cycles from power-on (RESUME at every halt), "
+            f"once fused and once stepping")
+
+
+def _snapshot_steps(example) -> str:
+    counts = example.counts
+    stopping = ", STOP and let the clock freeze" if counts["stop"] else ""
+    restarting = ", STEP, the switch to run" if counts["stop"] else ""
+    return (f"run {counts['before']} cycles from power-on (RESUME at every halt){stopping}; snapshot, "
+            f"restore into a fresh machine{restarting}; {counts['after']} more cycles on both")
+
+
+def _disassembly(example) -> str:
+    return "assemble the listing, disassemble the result, assemble that again"
+
+
 def _needs_hold_point(machine) -> str | None:
     return None if any(p.hold for p in machine.phases) else "the phase table has no hold point"
 
@@ -279,15 +303,18 @@ def _needs_halt(machine) -> str | None:
 
 
 MACHINE_PROPERTIES = (
-    MachineProperty("P1", "no clipped or stretched pulse", _panel_examples(), _pulses),
+    MachineProperty("P1", "no clipped or stretched pulse", _panel_examples(), _pulses, _after_panel),
     MachineProperty("P2", "STOP freezes the clock at the first hold point", _panel_examples(), _stop_freezes,
-                    _needs_hold_point),
+                    _after_panel, _needs_hold_point),
     MachineProperty("P3", "one STEP press gives one micro-step", _panel_examples(), _one_microstep,
-                    _needs_hold_point),
+                    _after_panel, _needs_hold_point),
     MachineProperty("P4", "stop, step, run and resume change nothing the program computes",
-                    _panel_examples(PANEL_ACTIONS[:4]), _same_as_free_running),
-    MachineProperty("P5", "halt and RESUME behave as the latch does", _panel_examples(), _latch, _needs_halt),
-    MachineProperty("P6", "the fused and the stepping path agree", _cycles_examples, _paths_agree),
-    MachineProperty("P7", "a snapshot continues exactly", _snapshot_examples, _snapshot_continues),
-    MachineProperty("round trip", "assemble, disassemble, assemble again", _program_examples, _round_trip),
+                    _panel_examples(PANEL_ACTIONS[:4]), _same_as_free_running, _after_panel),
+    MachineProperty("P5", "halt and RESUME behave as the latch does", _panel_examples(), _latch, _after_panel,
+                    _needs_halt),
+    MachineProperty("P6", "the fused and the stepping path agree", _cycles_examples, _paths_agree, _both_paths),
+    MachineProperty("P7", "a snapshot continues exactly", _snapshot_examples, _snapshot_continues,
+                    _snapshot_steps),
+    MachineProperty("round trip", "assemble, disassemble, assemble again", _program_examples, _round_trip,
+                    _disassembly),
 )

@@ -17,7 +17,7 @@ from hypothesis.errors import NoSuchExample
 from ._machine_properties import Example, MachineProperty
 from ._machine_state import PropertyFailed
 
-__all__ = ["PropertyResult", "check_property", "new_seed"]
+__all__ = ["PASSED", "FAILED", "NOT_APPLICABLE", "PropertyResult", "check_property", "new_seed"]
 
 PASSED, FAILED, NOT_APPLICABLE = "passed", "failed", "not applicable"
 

@@ -128,11 +128,9 @@ class LatchWatch(Observer):
     def hold(self, emu, frozen):
         if frozen and self.latched_in is not None and emu.halt_latch:
             if emu.instructions <= self.latched_in:
-                instruction, step = emu.sequencer
-                inside = f"before step {step} of {instruction.display}" if instruction else f"at fetch step {step}"
                 raise PropertyFailed("the clock to freeze after the halting instruction has finished",
-                                     f"it froze inside it, {inside}: the rest of the instruction "
-                                     f"runs only after RESUME", emu)
+                                     f"it froze inside it, before its step '{emu.current_step.text}', "
+                                     f"which runs only after RESUME", emu)
             self.latched_in = None
 
     def after_panel(self, emu, action: str, was_frozen: bool, was_latched: bool) -> None:

@@ -11,7 +11,7 @@ from __future__ import annotations
 import random
 from dataclasses import dataclass
 
-from hypothesis import HealthCheck, find, settings
+from hypothesis import HealthCheck, Phase, find, settings
 from hypothesis.errors import NoSuchExample
 
 from ._machine_properties import Example, MachineProperty
@@ -20,6 +20,9 @@ from ._machine_state import PropertyFailed
 __all__ = ["PASSED", "FAILED", "NOT_APPLICABLE", "PropertyResult", "check_property", "new_seed"]
 
 PASSED, FAILED, NOT_APPLICABLE = "passed", "failed", "not applicable"
+SHRINK_BUDGET = 300
+"""Examples tried while shrinking a failure; past it the smallest failing one so far is shown.
+A count, not a time, so that a seed gives the same counterexample on any computer."""
 
 
 @dataclass
@@ -56,20 +59,28 @@ def check_property(prop: MachineProperty, machine, examples: int, seed: int, pro
     reason = prop.not_applicable(machine)
     if reason is not None:
         return PropertyResult(prop, NOT_APPLICABLE, reason=reason)
-    drawn, first_failure = 0, None
+    drawn, first_failure, failing, shrinks = 0, None, [], 0
 
     def breaks(example: Example) -> bool:
-        nonlocal drawn, first_failure
+        nonlocal drawn, first_failure, shrinks
         if first_failure is None:
             drawn += 1
             if progress is not None:
                 progress(drawn)
+        elif example in failing:
+            return True
+        else:
+            shrinks += 1
+            if shrinks > SHRINK_BUDGET:
+                return False
         failed = _failure_of(prop, machine, example) is not None
-        if failed and first_failure is None:
-            first_failure = drawn
+        if failed:
+            failing.append(example)
+            if first_failure is None:
+                first_failure = drawn
         return failed
 
-    search = settings(max_examples=examples, database=None, deadline=None,
+    search = settings(max_examples=examples, database=None, deadline=None, phases=(Phase.generate, Phase.shrink),
                       suppress_health_check=list(HealthCheck))
     try:
         found = find(prop.examples(machine), breaks, settings=search, random=random.Random(f"{seed}:{prop.key}"))

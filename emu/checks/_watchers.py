@@ -56,6 +56,11 @@ class PulseWatch(Observer):
                                  f"for as long as it stays frozen", emu)
 
 
+def _hold_line(emu) -> bool:
+    """The hold line as the rule has it, not as the engine computes it: switch at stop OR halt latch."""
+    return not emu.switch_run or emu.halt_latch
+
+
 class HoldWatch(Observer):
     """P2: with the hold line up the generator freezes at the first hold point it enters, and only there."""
 
@@ -65,7 +70,7 @@ class HoldWatch(Observer):
 
     def phase(self, emu, index):
         phase = self.machine.phases[index]
-        if phase.hold and emu.hold_line and not self.released:
+        if phase.hold and _hold_line(emu) and not self.released:
             why = "the switch at stop" if not emu.switch_run else "the halt latch set"
             raise PropertyFailed(f"the generator to freeze on entering hold point {phase.name} ({why})",
                                  f"it ran phase {phase.name} on", emu)
@@ -79,13 +84,13 @@ class HoldWatch(Observer):
         if not phase.hold:
             raise PropertyFailed("the generator to freeze only at a hold point",
                                  f"it froze entering phase {phase.name}, which is not one", emu)
-        if not emu.hold_line:
+        if not _hold_line(emu):
             raise PropertyFailed("the generator to freeze only while the hold line is up",
                                  "it froze with the switch at run and the latch clear", emu)
 
     def still_frozen(self, emu) -> None:
         """Checked after each panel action: a frozen generator starts the moment the hold line drops."""
-        if emu.frozen and not emu.hold_line:
+        if emu.frozen and not _hold_line(emu):
             raise PropertyFailed("the clock to start when the hold line drops",
                                  "it stays frozen with the switch at run and the latch clear", emu)
 

@@ -52,14 +52,20 @@ def main(args) -> int:
         print(f"checking {machine.name} ({machine.path}): {args.examples} examples a property, seed {chosen_seed}",
               flush=True)
     results = []
-    with Progress(enabled=terminal_attached() and not args.json) as progress:
-        for prop in MACHINE_PROPERTIES:
-            bar = progress.line(f"{prop.key} {prop.title}", args.examples, unit="examples", remove_when_done=True)
-            result = check_property(prop, machine, args.examples, chosen_seed, progress=bar.update)
-            bar.finish()
-            results.append(result)
-            if not args.json:
-                print("\n".join(_result_lines(result, machine, reproduce)), flush=True)
+    try:
+        with Progress(enabled=terminal_attached() and not args.json) as progress:
+            for prop in MACHINE_PROPERTIES:
+                bar = progress.line(f"{prop.key} {prop.title}", args.examples, unit="examples",
+                                    remove_when_done=True)
+                result = check_property(prop, machine, args.examples, chosen_seed, progress=bar.update)
+                bar.finish()
+                results.append(result)
+                if not args.json:
+                    print("\n".join(_result_lines(result, machine, reproduce)), flush=True)
+    except KeyboardInterrupt:
+        print(f"relaybench: interrupted after {len(results)} of {len(MACHINE_PROPERTIES)} properties",
+              file=sys.stderr)
+        return 130
     report = design_report(machine)
     counts = {status: sum(r.status == status for r in results) for status in (PASSED, FAILED, NOT_APPLICABLE)}
     if args.json:

@@ -261,3 +261,9 @@ def test_a_schedule_acts_at_its_cycle_and_phase_or_at_once_when_frozen():
     # so STEP is pressed at once, at cycle 6, not at cycle 30.
     assert seen == [("stop", 5, 0, False), ("step", 6, 2, True)]
     assert emu.cycles == 7 and emu.frozen
+
+
+def test_the_readme_shows_acc12s_design_report_as_the_command_prints_it():
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    shown = readme.split("design report (facts of the machine as described, not pass/fail):\n")[1].split("\n\n")[0]
+    assert shown.splitlines() == ["  " + line for line in design_report_lines(design_report(ACC12_MACHINE))]

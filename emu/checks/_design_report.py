@@ -158,8 +158,7 @@ def _repeating_steps(machine: Machine):
 
 def _step_press(machine: Machine) -> str:
     pulse_ms = Ring(machine).manual_pulse_ns / 1e6
-    return (f"one micro-step: a single panel pulse of {pulse_ms:g} ms; the ring stays in the phase "
-            f"it froze in")
+    return f"gives one micro-step (a panel pulse of {pulse_ms:g} ms) and leaves the ring in the phase it froze in"
 
 
 # ----- in words ----------------------------------------------------------------------------
@@ -202,5 +201,5 @@ def design_report_lines(report: DesignReport) -> list[str]:
         lines.append("micro-steps that take more than one pulse: none, so no hold point falls inside one")
     fewest, most = report.instruction_presses
     span = f"{fewest}" if fewest == most else f"{fewest} to {'no limit' if most is None else most}"
-    lines.append(f"one STEP press: {report.step_press}; an instruction takes {span} presses")
+    lines.append(f"one STEP press {report.step_press}; an instruction takes {span} presses")
     return lines

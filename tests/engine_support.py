@@ -118,17 +118,6 @@ def full_state(emu: Emulator) -> tuple:
             emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
 
 
-def run_resuming(emu: Emulator, cycles: int) -> list[str]:
-    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
-    target, reasons = emu.cycles + cycles, []
-    while emu.cycles < target:
-        reason = emu.run(max_cycles=target - emu.cycles)
-        reasons.append(reason.kind)
-        if reason.kind == "halted":
-            emu.press_resume()
-    return reasons
-
-
 # ----- one-program runs for the instruction tests ---------------------------------------
 
 @dataclass

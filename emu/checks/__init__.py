@@ -5,7 +5,8 @@ and the assembler round trip, each checked on random programs and panel
 schedules drawn with ``emu.testing``; ``check_property`` runs one with
 hypothesis; ``failure_lines`` puts a shrunk counterexample in the
 builder's terms; ``design_report`` lists what the phase table makes of
-halts, STOP and STEP.
+halts, STOP and STEP. ``PulseWatch`` (P1 as an observer) serves other
+tests too.
 """
 
 from ._counterexamples import failure_json, failure_lines, reproduce_command
@@ -13,10 +14,11 @@ from ._design_report import DesignReport, HaltFreeze, design_report, design_repo
 from ._machine_properties import MACHINE_PROPERTIES, Example, MachineProperty
 from ._machine_state import PropertyFailed
 from ._property_runner import FAILED, NOT_APPLICABLE, PASSED, PropertyResult, check_property, new_seed
+from ._watchers import PulseWatch
 
 __all__ = [
     "MACHINE_PROPERTIES", "Example", "MachineProperty", "PropertyFailed",
     "PASSED", "FAILED", "NOT_APPLICABLE", "PropertyResult", "check_property", "new_seed",
     "failure_json", "failure_lines", "reproduce_command",
-    "DesignReport", "HaltFreeze", "design_report", "design_report_lines",
+    "DesignReport", "HaltFreeze", "design_report", "design_report_lines", "PulseWatch",
 ]

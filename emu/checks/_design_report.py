@@ -200,6 +200,9 @@ def design_report_lines(report: DesignReport) -> list[str]:
     else:
         lines.append("micro-steps that take more than one pulse: none, so no hold point falls inside one")
     fewest, most = report.instruction_presses
-    span = f"{fewest}" if fewest == most else f"{fewest} to {'no limit' if most is None else most}"
-    lines.append(f"one STEP press {report.step_press}; an instruction takes {span} presses")
+    if most is None:
+        span = f"{fewest} or more presses (a repeating step has no limit)"
+    else:
+        span = f"{fewest} presses" if fewest == most else f"{fewest} to {most} presses"
+    lines.append(f"one STEP press {report.step_press}; an instruction takes {span}")
     return lines

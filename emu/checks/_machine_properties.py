@@ -20,8 +20,8 @@ import asm
 
 from ..engine import Emulator, Observer
 from ..errors import RelaybenchError
-from ..testing import PANEL_ACTIONS, panel_schedules, play_schedule, programs
-from ._machine_state import PropertyFailed, datapath_state, differences, machine_state, run_resuming
+from ..testing import PANEL_ACTIONS, panel_schedules, play_schedule, programs, run_resuming
+from ._machine_state import PropertyFailed, datapath_state, differences, machine_state
 from ._watchers import HoldWatch, LatchWatch, MicrostepCount, PulseWatch
 
 __all__ = ["Example", "MachineProperty", "MACHINE_PROPERTIES"]

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from ..formatting import address_text
 
-__all__ = ["PropertyFailed", "datapath_state", "machine_state", "differences", "run_resuming"]
+__all__ = ["PropertyFailed", "datapath_state", "machine_state", "differences"]
 
 
 class PropertyFailed(AssertionError):
@@ -62,15 +62,3 @@ def differences(machine, ours: dict, theirs: dict, limit: int = 4) -> str:
     shown = ", ".join(found[:limit])
     return shown + (f" and {len(found) - limit} more" if len(found) > limit else "")
 
-
-def run_resuming(emu, cycles: int) -> list[str]:
-    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
-    target, reasons = emu.cycles + cycles, []
-    while emu.cycles < target:
-        reason = emu.run(max_cycles=target - emu.cycles)
-        reasons.append(reason.kind)
-        if reason.kind == "halted":
-            emu.press_resume()
-        elif reason.kind == "stopped":
-            break
-    return reasons

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from hypothesis import HealthCheck, Phase, find, settings
 from hypothesis.errors import NoSuchExample
 
+from ..errors import RelaybenchError
 from ._machine_properties import Example, MachineProperty
 from ._machine_state import PropertyFailed
 
@@ -48,7 +49,8 @@ def _failure_of(prop: MachineProperty, machine, example: Example) -> PropertyFai
         prop.check(machine, example)
     except PropertyFailed as failure:
         return failure
-    except (ArithmeticError, LookupError, TypeError, ValueError, AttributeError, RecursionError) as exc:
+    except (RelaybenchError, ArithmeticError, LookupError, TypeError, ValueError, AttributeError,
+            RecursionError) as exc:
         return PropertyFailed("the machine to run the example", f"the emulator raised {type(exc).__name__}: {exc}")
     return None
 

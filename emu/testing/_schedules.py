@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 
 from ..description import Machine
 
-__all__ = ["PANEL_ACTIONS", "PanelAction", "panel_schedules", "play_schedule", "apply_panel_action"]
+__all__ = ["PANEL_ACTIONS", "PanelAction", "panel_schedules", "play_schedule", "apply_panel_action", "run_resuming"]
 
 PANEL_ACTIONS = ("stop", "run", "step", "resume", "reset")
 """Throw the switch to stop or run; press STEP, RESUME or RESET."""
@@ -30,9 +30,6 @@ class PanelAction:
     """Wait until at least this many pulses have run since power-on …"""
     phase: int
     """… and the ring is about to run this phase (an index into the phase table)."""
-
-    def text(self, machine: Machine) -> str:
-        return f"cycle {self.cycle}, phase {machine.phases[self.phase].name}: {self.action}"
 
 
 @st.composite
@@ -87,3 +84,20 @@ def play_schedule(emu, schedule, before=None, after=None) -> None:
         apply_panel_action(emu, planned.action)
         if after is not None:
             after(planned)
+
+
+def run_resuming(emu, cycles: int) -> list[str]:
+    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order.
+
+    A program with pauses runs through them as a free run does; the switch
+    at stop ends the run early (RESUME would not restart the clock).
+    """
+    target, reasons = emu.cycles + cycles, []
+    while emu.cycles < target:
+        reason = emu.run(max_cycles=target - emu.cycles)
+        reasons.append(reason.kind)
+        if reason.kind == "halted":
+            emu.press_resume()
+        elif reason.kind == "stopped":
+            break
+    return reasons

@@ -172,6 +172,17 @@ def test_a_machine_without_a_halt_gets_not_applicable_with_the_reason(capsys, mo
     assert check_property(PROPERTY["P5"], _without_halts(REF8), 3, 1).status == NOT_APPLICABLE
 
 
+def test_a_phase_table_without_a_hold_point_makes_stop_step_and_halt_not_applicable():
+    """The loader refuses such a table; a machine built in code can still have one."""
+    machine = dataclasses.replace(REF8, phases=tuple(dataclasses.replace(p, hold=False) for p in REF8.phases))
+    statuses = {key: check_property(PROPERTY[key], machine, 3, 1) for key in ("P2", "P3", "P5")}
+    assert {key: (r.status, r.reason) for key, r in statuses.items()} == {
+        key: (NOT_APPLICABLE, "the phase table has no hold point") for key in ("P2", "P3", "P5")}
+    lines = design_report_lines(design_report(machine))
+    assert lines[0] == "clock: 1 pulse a turn, no hold point"
+    assert "STOP never freezes the clock: the phase table has no hold point" in lines
+
+
 def test_a_machine_file_that_does_not_load_is_a_located_error_exit_1(capsys, tmp_path):
     path = tmp_path / "bad.toml"
     path.write_text('[machine]\nname = "bad"\ndata_bits = "eight"\n', encoding="utf-8")

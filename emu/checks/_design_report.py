@@ -84,7 +84,7 @@ def _pulse_name(machine: Machine, after_edge: int) -> str:
 
 def _longest_stop(machine: Machine) -> tuple[int, int, str]:
     """Worst case of STOP thrown the moment the generator has passed a hold point: the time and
-    pulses until it enters the next one."""
+    pulses until it enters the next one (nothing when there is no hold point)."""
     phases, worst = machine.phases, (0, 0, "")
     for start, phase in enumerate(phases):
         if not phase.hold:
@@ -182,17 +182,20 @@ def _halt_line(halt: HaltFreeze) -> str:
 
 
 def design_report_lines(report: DesignReport) -> list[str]:
-    holds = ", ".join(report.hold_points)
-    lines = [f"clock: {_count(report.pulses_per_turn, 'pulse')} a turn, hold point{'s' if len(report.hold_points) > 1 else ''} "
-             f"at {holds}"]
+    plural = "s" if len(report.hold_points) > 1 else ""
+    holds = f"hold point{plural} at {', '.join(report.hold_points)}" if report.hold_points else "no hold point"
+    lines = [f"clock: {_count(report.pulses_per_turn, 'pulse')} a turn, {holds}"]
     if report.halts:
         lines.append("where a halt freezes the clock:")
         lines += [f"  {_halt_line(halt)}" for halt in report.halts]
     else:
         lines.append("where a halt freezes the clock: no instruction drives halt")
-    lines.append(f"longest from throwing STOP to the freeze: {report.stop_worst_ns / 1e6:g} ms, "
-                 f"{_count(report.stop_worst_pulses, 'pulse')} (STOP thrown just as the generator passes "
-                 f"{report.stop_worst_after})")
+    if report.hold_points:
+        lines.append(f"longest from throwing STOP to the freeze: {report.stop_worst_ns / 1e6:g} ms, "
+                     f"{_count(report.stop_worst_pulses, 'pulse')} (STOP thrown just as the generator passes "
+                     f"{report.stop_worst_after})")
+    else:
+        lines.append("STOP never freezes the clock: the phase table has no hold point")
     if report.repeating_steps:
         lines.append("micro-steps that take more than one pulse (they repeat; a hold point can fall inside, "
                      "so STOP can freeze the clock while one waits):")

@@ -33,7 +33,7 @@ def _examples(text: str) -> int:
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    add_machine_option(parser)
+    add_machine_option(parser, default=None)
     parser.add_argument("--examples", type=_examples, default=100, metavar="N",
                         help="random examples per property (default 100)")
     parser.add_argument("--seed", type=seed, default=None, metavar="S",

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 from ..description import Machine
 from ..engine import Emulator, Observer, Ring
+from ._step_press import after_step_press, step_press_kind
 
 __all__ = ["DesignReport", "HaltFreeze", "design_report", "design_report_lines"]
 
@@ -49,8 +50,12 @@ class DesignReport:
     repeating_steps: tuple[str, ...]
     """Micro-steps that can take more than one pulse (they repeat), as ``instruction: step``."""
     step_press: str
+    """What one STEP press gives, in words."""
+    step_press_kind: str
+    """``"pulse"`` (one micro-step, the ring standing still) or ``"hold"`` (the ring runs to the next hold point)."""
     instruction_presses: tuple[int, int | None]
-    """STEP presses for one instruction: fewest and most (None: a step can repeat without end)."""
+    """Micro-steps of one instruction, fewest and most (None: a step can repeat without end): with
+    ``"pulse"`` presses, the STEP presses it takes."""
 
 
 def design_report(machine: Machine) -> DesignReport:
@@ -63,7 +68,7 @@ def design_report(machine: Machine) -> DesignReport:
         pulses_per_turn=machine.pulses_per_turn,
         stop_worst_ns=worst_ns, stop_worst_pulses=worst_pulses, stop_worst_after=worst_after,
         repeating_steps=tuple(_repeating_steps(machine)),
-        step_press=_step_press(machine),
+        step_press=_step_press(machine), step_press_kind=step_press_kind(machine),
         instruction_presses=(min(c.shortest for c in cycles), most))
 
 
@@ -157,8 +162,15 @@ def _repeating_steps(machine: Machine):
 
 
 def _step_press(machine: Machine) -> str:
-    pulse_ms = Ring(machine).manual_pulse_ns / 1e6
-    return f"gives one micro-step (a panel pulse of {pulse_ms:g} ms) and leaves the ring in the phase it froze in"
+    if step_press_kind(machine) == "pulse":
+        pulse_ms = Ring(machine).manual_pulse_ns / 1e6
+        return f"gives one micro-step (a panel pulse of {pulse_ms:g} ms) and leaves the ring in the phase it froze in"
+    runs = []
+    for index, phase in enumerate(machine.phases):
+        if phase.hold:
+            pulses, after = after_step_press(machine, index)
+            runs.append(f"from {phase.name} {_count(pulses, 'micro-step')} to {machine.phases[after].name}")
+    return f"lets the ring run its own pulses to the next hold point ({', '.join(runs)})"
 
 
 # ----- in words ----------------------------------------------------------------------------
@@ -202,6 +214,9 @@ def design_report_lines(report: DesignReport) -> list[str]:
         lines += [f"  {step}" for step in report.repeating_steps]
     else:
         lines.append("micro-steps that take more than one pulse: none, so no hold point falls inside one")
+    if report.step_press_kind != "pulse":
+        lines.append(f"one STEP press {report.step_press}")
+        return lines
     fewest, most = report.instruction_presses
     if most is None:
         span = f"{fewest} or more presses (a repeating step has no limit)"

@@ -22,6 +22,7 @@ from ..engine import Emulator, Observer
 from ..errors import RelaybenchError
 from ..testing import PANEL_ACTIONS, panel_schedules, play_schedule, programs, run_resuming
 from ._machine_state import PropertyFailed, datapath_state, differences, machine_state
+from ._step_press import after_step_press
 from ._watchers import HoldWatch, LatchWatch, MicrostepCount, PulseWatch
 
 __all__ = ["Example", "MachineProperty", "MACHINE_PROPERTIES"]
@@ -125,11 +126,15 @@ def _one_microstep(machine, example):
                                      f"it ran {ran} micro-step(s) and changed "
                                      f"{differences(machine, machine_state(emu), seen['state'])}", emu)
             return
-        if ran != 1:
-            raise PropertyFailed("one STEP press to give exactly one micro-step", f"it gave {ran}", emu)
-        if emu.phase_index != seen["index"] or not emu.frozen:
-            raise PropertyFailed("STEP to leave the clock frozen where it stood",
-                                 f"the ring moved from phase {machine.phases[seen['index']].name}", emu)
+        wanted, index = after_step_press(machine, seen["index"])
+        if ran != wanted:
+            exactly = "exactly one micro-step" if wanted == 1 else f"{wanted} micro-steps"
+            raise PropertyFailed(f"one STEP press to give {exactly}", f"it gave {ran}", emu)
+        if emu.phase_index != index or not emu.frozen:
+            where = "where it stood" if index == seen["index"] else f"at the next hold point {machine.phases[index].name}"
+            raise PropertyFailed(f"STEP to leave the clock frozen {where}",
+                                 f"it stands in phase {machine.phases[emu.phase_index].name}, "
+                                 f"{'frozen' if emu.frozen else 'running'}", emu)
     _play(emu, example, before, after)
 
 
@@ -306,7 +311,7 @@ MACHINE_PROPERTIES = (
     MachineProperty("P1", "no clipped or stretched pulse", _panel_examples(), _pulses, _after_panel),
     MachineProperty("P2", "STOP freezes the clock at the first hold point", _panel_examples(), _stop_freezes,
                     _after_panel, _needs_hold_point),
-    MachineProperty("P3", "one STEP press gives one micro-step", _panel_examples(), _one_microstep,
+    MachineProperty("P3", "one STEP press gives what the description says", _panel_examples(), _one_microstep,
                     _after_panel, _needs_hold_point),
     MachineProperty("P4", "stop, step, run and resume change nothing the program computes",
                     _panel_examples(PANEL_ACTIONS[:4]), _same_as_free_running, _after_panel),

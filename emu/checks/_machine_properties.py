@@ -91,6 +91,8 @@ def _play(emu, example: Example, before=None, after=None, until=None) -> None:
     while emu.cycles < target:
         if emu.run(max_cycles=target - emu.cycles, until=until).kind == "halted":
             emu.press_resume()
+        if emu.frozen:
+            raise PropertyFailed("the clock to run with the switch at run after RESUME", "it stays frozen", emu)
 
 
 # ----- P1, P2, P3, P5: rules watched while the panel is used ----------------------------

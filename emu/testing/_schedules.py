@@ -89,8 +89,8 @@ def play_schedule(emu, schedule, before=None, after=None) -> None:
 def run_resuming(emu, cycles: int) -> list[str]:
     """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order.
 
-    A program with pauses runs through them as a free run does; the switch
-    at stop ends the run early (RESUME would not restart the clock).
+    A program with pauses runs through them as a free run does; a clock
+    that RESUME does not restart (the switch at stop) ends the run early.
     """
     target, reasons = emu.cycles + cycles, []
     while emu.cycles < target:
@@ -98,6 +98,6 @@ def run_resuming(emu, cycles: int) -> list[str]:
         reasons.append(reason.kind)
         if reason.kind == "halted":
             emu.press_resume()
-        elif reason.kind == "stopped":
+        if emu.frozen:
             break
     return reasons

@@ -137,6 +137,14 @@ def test_an_engine_whose_resume_skips_a_word_fails_p4(monkeypatch):
     assert result.failure.happened.startswith("it differs (here vs free run): ")
 
 
+def test_an_engine_whose_resume_never_clears_the_latch_fails_and_does_not_hang(monkeypatch):
+    monkeypatch.setattr(Emulator, "press_resume", lambda emu: None)
+    result = check_property(PROPERTY["P5"], REF8, 30, 1)
+    assert result.status == FAILED
+    assert (result.failure.expected, result.failure.happened) == (
+        "the clock to run with the switch at run after RESUME", "it stays frozen")
+
+
 def test_a_disassembler_that_drops_the_last_instruction_fails_the_round_trip(monkeypatch):
     lines = asm.disassemble
     monkeypatch.setattr(asm, "disassemble", lambda *args: lines(*args)[:-1])

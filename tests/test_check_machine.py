@@ -19,7 +19,7 @@ from emu import Emulator, load_machine
 from emu.checks import (FAILED, MACHINE_PROPERTIES, NOT_APPLICABLE, PASSED, check_property, design_report,
                         design_report_lines)
 from emu.commands import check as check_command
-from emu.testing import PanelAction, play_schedule
+from emu.testing import PanelAction, apply_panel_action, play_schedule
 
 from cli_support import ACC12, cli
 from engine_support import MACHINES, ROOT
@@ -286,3 +286,8 @@ def test_the_readme_shows_acc12s_design_report_as_the_command_prints_it():
     readme = (ROOT / "README.md").read_text(encoding="utf-8")
     shown = readme.split("design report (facts of the machine as described, not pass/fail):\n")[1].split("\n\n")[0]
     assert shown.splitlines() == ["  " + line for line in design_report_lines(design_report(ACC12_MACHINE))]
+
+
+def test_an_unknown_panel_action_is_refused_with_the_known_ones():
+    with pytest.raises(ValueError, match=r"no panel action 'halt' \(one of stop, run, step, resume, reset\)"):
+        apply_panel_action(Emulator(REF8), "halt")

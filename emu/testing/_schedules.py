@@ -48,20 +48,22 @@ def panel_schedules(draw, machine: Machine, actions=PANEL_ACTIONS[:4], max_actio
     return schedule
 
 
+_PRESS = {
+    "stop": lambda emu: emu.set_switch_run(False),
+    "run": lambda emu: emu.set_switch_run(True),
+    "step": lambda emu: emu.press_step(),
+    "resume": lambda emu: emu.press_resume(),
+    "reset": lambda emu: emu.press_reset(),
+}
+
+
 def apply_panel_action(emu, action: str) -> None:
     """One panel action on an ``emu.Emulator``."""
-    if action == "stop":
-        emu.set_switch_run(False)
-    elif action == "run":
-        emu.set_switch_run(True)
-    elif action == "step":
-        emu.press_step()
-    elif action == "resume":
-        emu.press_resume()
-    elif action == "reset":
-        emu.press_reset()
-    else:
-        raise ValueError(f"no panel action '{action}' (one of {', '.join(PANEL_ACTIONS)})")
+    try:
+        press = _PRESS[action]
+    except KeyError:
+        raise ValueError(f"no panel action '{action}' (one of {', '.join(PANEL_ACTIONS)})") from None
+    press(emu)
 
 
 def wait_for(emu, cycle: int, phase: int) -> None:

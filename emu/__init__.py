@@ -4,7 +4,9 @@
 rules, notation); ``emu.engine`` is where it runs (micro-step compiler,
 control unit, clock ring, ports); ``emu.runs`` loads and runs programs
 headless; ``emu.debugger`` is the panel in a terminal; ``emu.timing`` the
-clock as parts, waveforms and wear; ``emu.commands`` the sub-commands.
+clock as parts, waveforms and wear; ``emu.checks`` the properties a machine
+description must have and its design report; ``emu.testing`` hypothesis
+strategies for anyone's tests; ``emu.commands`` the sub-commands.
 """
 
 from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,

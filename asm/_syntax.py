@@ -11,13 +11,12 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from functools import cache
-from importlib import resources
 
 import lark
 from lark import v_args
 
 from ._errors import Diagnostic
-from emu.description.notation import GRAMMAR_IMPORTS, char_value, decode_escapes, literal_value
+from emu.description.notation import char_value, decode_escapes, literal_value, packaged_parser
 
 from ._expr import Binary, Call, Expr, Group, Here, Invalid, Name, Number, Unary
 
@@ -180,9 +179,7 @@ class _Build(lark.Transformer):
 
 @cache
 def _parser() -> lark.Lark:
-    grammar = resources.files("asm").joinpath("grammar/assembly.lark").read_text(encoding="utf-8")
-    return lark.Lark(grammar, parser="lalr", transformer=_Build(), maybe_placeholders=True,
-                     cache=False, import_paths=[GRAMMAR_IMPORTS])
+    return packaged_parser("asm", "grammar/assembly.lark", transformer=_Build(), maybe_placeholders=True)
 
 
 _TOKEN_WORDS = {

@@ -23,6 +23,7 @@ from ._call_marks import CALL_KEYS, read_call_marks
 from ._decoding import decode_groups
 from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
+from ._saved_machines import saved_machine
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Flag, Instruction,
                      Machine, MachineNames, OperandKind, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
 from ._schema import Table, is_integer
@@ -52,7 +53,7 @@ def load_machine(name_or_path: str | Path = "ref8") -> Machine:
         raise MachineError(f"no such machine file (shipped machines: {names})", path=str(path)) from None
     except (OSError, UnicodeDecodeError) as exc:
         raise MachineError(f"cannot read machine file: {exc}", path=str(path)) from None
-    return machine_from_text(text, str(path))
+    return saved_machine(text, str(path), machine_from_text)
 
 
 def machine_from_text(text: str, path: str = "<machine>") -> Machine:

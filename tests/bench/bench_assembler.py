@@ -21,17 +21,39 @@ import asm  # noqa: E402
 from emu import load_machine  # noqa: E402
 
 TARGET_S = 1.0
+_WORDS_PER_LINE = 2.1
+"""A little above the mean words of an instruction line (with its data lines) on ref8."""
+
+
+def _filler(index: int, rng) -> str:
+    """A line that takes no memory: a constant, a comment or a blank line."""
+    kind = index % 3
+    if kind == 0:
+        return f"K{index} = COUNT * {rng.randint(1, 9)} + {rng.randint(0, 99)}"
+    if kind == 1:
+        return f"; note {index}: nothing is stored here"
+    return ""
 
 
 def generate(machine, lines: int, seed: int = 1) -> str:
-    """A valid program of ``lines`` lines; address operands point at labels."""
+    """A valid program of ``lines`` lines; address operands point at labels.
+
+    When the machine's memory cannot hold that many instructions, lines that
+    take no memory (comments, constants, blank lines) fill the gaps between
+    them, as in a long, well-commented program.
+    """
     rng = random.Random(seed)
     out = ["; generated benchmark program", "COUNT = 12"]
     labels = [f"l{i}" for i in range(lines // 10 + 1)]
     next_label = 0
     budget = machine.memory_words
     used = 0
+    code_share = min(1.0, 0.9 * budget / (lines * _WORDS_PER_LINE))
+    fillers = 0
     while len(out) < lines:
+        while rng.random() > code_share and len(out) < lines - 1:
+            fillers += 1
+            out.append(_filler(fillers, rng))
         ins = rng.choice(machine.instructions)
         if used + ins.word_count + 4 > budget:
             break

@@ -71,11 +71,18 @@ def sources_fingerprint(*packages: str) -> str:
     """
     digest = hashlib.sha256()
     for package in packages:
-        root = Path(str(resources.files(package)))
-        for path in sorted(p for p in root.rglob("*") if p.suffix in (".py", ".lark")):
-            digest.update(str(path.relative_to(root)).encode("utf-8") + b"\0")
-            digest.update(path.read_bytes())
+        for name, data in _source_files(resources.files(package), ""):
+            digest.update(name.encode("utf-8") + b"\0" + len(data).to_bytes(8, "little") + data)
     return digest.hexdigest()
+
+
+def _source_files(folder, prefix: str):
+    """(relative name, content) of each ``.py`` and ``.lark`` file below ``folder``, in name order."""
+    for entry in sorted(folder.iterdir(), key=lambda e: e.name):
+        if entry.is_dir():
+            yield from _source_files(entry, f"{prefix}{entry.name}/")
+        elif entry.name.endswith((".py", ".lark")):
+            yield prefix + entry.name, entry.read_bytes()
 
 
 def cached(kind: str, key: str, make: Callable[[], T], dump: Callable[[T], bytes],

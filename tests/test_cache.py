@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 
 import emu.cache
-from emu.cache import CACHE_VARIABLE, cache_folder, cached, entry_key
+from emu.cache import CACHE_VARIABLE, cache_folder, cached, entry_key, sources_fingerprint
 
 
 @pytest.fixture
@@ -105,6 +105,28 @@ def test_the_key_changes_with_the_version_and_each_part(monkeypatch):
     assert entry_key("machinet", "ext") != key          # parts are kept apart
     monkeypatch.setattr(emu.cache, "__version__", "99.0")
     assert entry_key("machine", "text") != key
+
+
+def test_the_fingerprint_of_a_package_changes_with_any_of_its_source_files(tmp_path, monkeypatch):
+    """What keeps a changed code generator from reading code an older one wrote."""
+    package = tmp_path / "made_up_generator"
+    (package / "inner").mkdir(parents=True)
+    (package / "__init__.py").write_text("")
+    (package / "inner" / "__init__.py").write_text("")
+    (package / "inner" / "rules.lark").write_text("start: 'a'\n")
+    monkeypatch.syspath_prepend(str(tmp_path))
+    seen = set()
+    for change in ["", "start: 'b'\n", "x = 1\n"]:
+        if change.startswith("start"):
+            (package / "inner" / "rules.lark").write_text(change)
+        elif change:
+            (package / "inner" / "new.py").write_text(change)
+        sources_fingerprint.cache_clear()
+        seen.add(sources_fingerprint("made_up_generator"))
+    (package / "notes.txt").write_text("not source")
+    sources_fingerprint.cache_clear()
+    assert sources_fingerprint("made_up_generator") in seen
+    assert len(seen) == 3
 
 
 def test_the_cache_turned_off_makes_every_time_and_writes_nothing(folder, monkeypatch):

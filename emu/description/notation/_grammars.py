@@ -12,6 +12,7 @@ class, so a changed transformer is used as soon as it changes.
 from __future__ import annotations
 
 import io
+from functools import cache
 from importlib import resources
 
 import lark
@@ -26,6 +27,7 @@ GRAMMAR_IMPORTS = FromPackageLoader(_IMPORTED_GRAMMARS)
 """Where a grammar finds ``%import numbers (NUMBER, CHAR)`` (pass it in ``import_paths``)."""
 
 
+@cache
 def _grammar_files_text() -> str:
     folder = resources.files(_IMPORTED_GRAMMARS)
     return "".join(sorted(p.read_text(encoding="utf-8") for p in folder.iterdir() if p.name.endswith(".lark")))

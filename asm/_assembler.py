@@ -47,7 +47,8 @@ def assemble_file(path, machine: Machine) -> Program:
 
 def assemble_text(text: str, machine: Machine, filename: str = "<input>") -> Program:
     """Assemble source text; raise AsmError with every problem found."""
-    return _Assembly(machine).run(text, filename)
+    with _collector_paused():   # on again only once the assembly's own records are gone
+        return _Assembly(machine).run(text, filename)
 
 
 @contextmanager
@@ -61,6 +62,9 @@ def _collector_paused():
     square of the length: half the time of a 100,000-line program. Off, the
     time per line stays flat; what the assembly leaves behind is freed by
     reference counting as usual, and the collector runs again afterwards.
+    Its first run then walks whatever is still alive, so it is turned on
+    again only after the records of the passes are dropped (paused twice,
+    the inner pause leaves it to the outer one).
     """
     if not gc.isenabled():
         yield

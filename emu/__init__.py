@@ -8,7 +8,8 @@ clock as parts, waveforms and wear; ``emu.commands`` the sub-commands.
 """
 
 __version__ = "0.1.0"
-"""The one place the version is written (``pyproject.toml`` reads it from here)."""
+"""The one place the version is written (``pyproject.toml`` reads it from here); set before
+the imports below, since ``emu.cache`` reads it while they run."""
 
 from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,
                           RegisterGroup, Step, load_machine, machine_from_text, shipped_machines)

@@ -2,6 +2,7 @@
 both test machines: numbers, expressions, directives, forward references, operand forms, .expect."""
 
 import ast
+import gc
 from pathlib import Path
 
 import pytest
@@ -95,6 +96,28 @@ def test_unbracketed_expressions_group_by_precedence_as_in_python(first, rest):
     expected = _python_value(text)
     assume(expected is not None)
     assert value_of(text) == expected
+
+
+def test_the_cycle_collector_rests_while_a_long_program_is_assembled():
+    """Its walks over the assembly's many live objects made long programs cost more per line.
+    Each collection counts (the interpreter's gc.callbacks); the caller's setting comes back."""
+    program = "".join(f"k{i} = {i} + 1\n" for i in range(20_000)) + "nop\n"
+    collections = []
+
+    def count(phase, _info):
+        if phase == "start":
+            collections.append(1)
+    gc.callbacks.append(count)
+    try:
+        asm.assemble_text(program, REF8)
+        assert gc.isenabled() and len(collections) <= 2      # one as it comes back on, at most
+        gc.disable()
+        collections.clear()
+        asm.assemble_text(program, REF8)
+        assert not gc.isenabled() and collections == []
+    finally:
+        gc.enable()
+        gc.callbacks.remove(count)
 
 
 def test_forward_references_and_dollar():

@@ -76,6 +76,16 @@ def _collector_paused():
         gc.enable()
 
 
+_DIRECTIVES = {
+    ".org": _Directives.do_org, ".byte": _Directives.do_byte, ".word": _Directives.do_word,
+    ".zero": _Directives.do_zero, ".equ": _Directives.do_equ, ".include": _Directives.do_include,
+    ".expect": _Directives.do_expect, MACHINE_DIRECTIVE: _Directives.do_machine,
+}
+"""Directive → the function that runs it, given the assembly. Not a table of bound methods on the
+assembly: that would be a reference cycle, keeping every record of both passes alive after the
+assembly until the cycle collector came round."""
+
+
 @dataclass
 class _Assembly(_Directives, _Values, _ExpectChecks):
     """One assembly: the state both passes share; directives, values and checks are its mixins."""
@@ -117,11 +127,6 @@ class _Assembly(_Directives, _Values, _ExpectChecks):
         self.char_words_each = -(-8 // bits) if bits < 8 else 1
         """Words of one ``.byte`` character: one, or on a machine narrower than 8 bits as many as a
         character code 0…255 needs (least significant first)."""
-        self.directives = {
-            ".org": self.do_org, ".byte": self.do_byte, ".word": self.do_word, ".zero": self.do_zero,
-            ".equ": self.do_equ, ".include": self.do_include, ".expect": self.do_expect,
-            MACHINE_DIRECTIVE: self.do_machine,
-        }
 
     # ----- driving
 
@@ -201,13 +206,13 @@ class _Assembly(_Directives, _Values, _ExpectChecks):
         if isinstance(body, Assignment):
             self.define_constant(body.name, body.expr, _Place(file, body.line, body.column))
         elif isinstance(body, Directive):
-            handler = self.directives.get(body.name)
+            handler = _DIRECTIVES.get(body.name)
             if handler is None:
-                close = difflib.get_close_matches(body.name, list(self.directives), n=1)
+                close = difflib.get_close_matches(body.name, list(_DIRECTIVES), n=1)
                 hint = f" (did you mean '{close[0]}'?)" if close else ""
                 self.error(file, body.line, body.column, f"unknown directive '{body.name}'{hint}")
                 return None
-            entry = handler(body, file)
+            entry = handler(self, body, file)
             if entry is not None:
                 return entry
         if line.label is not None or isinstance(body, Directive):

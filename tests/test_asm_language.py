@@ -120,6 +120,21 @@ def test_the_cycle_collector_rests_while_a_long_program_is_assembled():
         gc.callbacks.remove(count)
 
 
+def test_an_assembly_leaves_no_reference_cycle_that_grows_with_the_program():
+    """Freed by reference counting as soon as it ends, not kept (with every record of both
+    passes) until the cycle collector comes round; gc.collect() counts what only it can free."""
+    def cyclic_garbage(lines):
+        program = "".join(f"l{i}: ld r1, [l{i}]\n.byte {i % 200}\n" for i in range(lines)) + "halt\n"
+        gc.collect()
+        gc.disable()
+        try:
+            asm.assemble_text(program, REF8)
+            return gc.collect()
+        finally:
+            gc.enable()
+    assert cyclic_garbage(2000) == cyclic_garbage(10)
+
+
 def test_forward_references_and_dollar():
     program = asm.assemble_text("""
         jmp end

@@ -22,7 +22,7 @@ import pytest
 from emu.cache import CACHE_VARIABLE
 from emu.cli import COMMANDS
 
-from cli_support import PROGRAMS, ROOT, cli_process
+from cli_support import ROOT, cli_process
 
 PROBE = r"""
 import contextlib, io, json, sys
@@ -54,7 +54,7 @@ print(json.dumps({"parsers_built": len(built), "steps_parsed": steps_parsed,
                   "status": status, "report": json.loads(out.getvalue())}))
 """
 
-PROGRAM = PROGRAMS / "berths.asm"
+PROGRAM = ROOT / "tests" / "asm_fixtures" / "blink.asm"       # with an include: two files to assemble
 
 
 def probe(cache, machine="ref8", program=PROGRAM) -> dict:

@@ -51,7 +51,8 @@ def _timed(command: list[str], cwd: Path, env: dict) -> tuple[float, float]:
 
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--program", default=str(ROOT / "programs" / "berths.asm"))
+    parser.add_argument("--program", default=str(next((ROOT / "programs").rglob("berths.asm"))),
+                        help="the program to run (default: the example berths.asm)")
     parser.add_argument("--repeat", type=int, default=7)
     parser.add_argument("--baseline", metavar="TREE", type=Path,
                         help="another source tree to compare with (it needs emu/ and asm/)")

@@ -2,8 +2,8 @@
 
 The suite never reads or writes the user's own cache folder: every test,
 and every ``relaybench`` process a test starts, uses one temporary folder
-made for this run (set before any test module imports ``emu``, since
-importing it already builds a parser through the cache).
+made for this run, set as pytest starts. (Importing ``emu`` uses no cache,
+so a plugin that imports it before this file is read changes nothing.)
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ import shutil
 import tempfile
 
 CACHE_VARIABLE = "RELAYBENCH_CACHE"
-"""``emu.cache.CACHE_VARIABLE``, written out: importing ``emu`` here would use the cache too early."""
+"""``emu.cache.CACHE_VARIABLE``, written out: this file imports nothing of relaybench."""
 
 _made: list[str] = []
 

@@ -156,6 +156,15 @@ def imported_after(*argv) -> set[str]:
     return set(done.stderr.rsplit("MODULES ", 1)[1].split())
 
 
+def test_importing_relaybench_reads_and_writes_no_cache(tmp_path, monkeypatch):
+    """So a pytest plugin (or any program) that imports it early never touches the user's cache."""
+    monkeypatch.setenv(CACHE_VARIABLE, str(tmp_path / "cache"))
+    done = subprocess.run([sys.executable, "-c", "import emu, emu.cli, emu.commands.run, asm"],
+                          env={**os.environ, "PYTHONPATH": str(ROOT)}, capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0, done.stderr
+    assert not (tmp_path / "cache").exists()
+
+
 def test_the_overview_lists_every_command_without_importing_one():
     done = cli_process("--help")
     assert done.returncode == 0

@@ -18,7 +18,7 @@ from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, End, 
                   Goto, Halt, Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Sequencing, Slice,
                   Statement, StatementNode, WaitUntil,
                   unknown_node, walk)
-from ._grammars import GRAMMAR_IMPORTS, packaged_parser
+from ._grammars import packaged_parser
 from ._numbers import (ESCAPES, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parse_errors import error_column
@@ -32,7 +32,7 @@ __all__ = [
     "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
     "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
     "End", "Goto", "Sequencing", "WaitUntil",
-    "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
+    "ESCAPES", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
     "parse_number", "packaged_parser",
     "WORD_SELECTORS", "name_width", "top_word_shift", "value_width",
 ]

@@ -20,11 +20,11 @@ from lark.load_grammar import FromPackageLoader
 
 from ...cache import cached, entry_key
 
-__all__ = ["GRAMMAR_IMPORTS", "packaged_parser"]
+__all__ = ["packaged_parser"]
 
 _IMPORTED_GRAMMARS = "emu.description.notation"
-GRAMMAR_IMPORTS = FromPackageLoader(_IMPORTED_GRAMMARS)
-"""Where a grammar finds ``%import numbers (NUMBER, CHAR)`` (pass it in ``import_paths``)."""
+_GRAMMAR_IMPORTS = FromPackageLoader(_IMPORTED_GRAMMARS)
+"""Where a grammar finds ``%import numbers (NUMBER, CHAR)``."""
 
 
 @cache
@@ -42,7 +42,7 @@ def packaged_parser(package: str, grammar_file: str, **options) -> lark.Lark:
     key = entry_key("lark parser", lark.__version__, package, grammar_file, grammar, _grammar_files_text(),
                     repr(described))
     return cached("parsers", key,
-                  lambda: lark.Lark(grammar, parser="lalr", import_paths=[GRAMMAR_IMPORTS], **options),
+                  lambda: lark.Lark(grammar, parser="lalr", import_paths=[_GRAMMAR_IMPORTS], **options),
                   _saved, lambda data: lark.Lark.load(io.BytesIO(data)))
 
 

@@ -9,13 +9,17 @@ description must have and its design report; ``emu.testing`` hypothesis
 strategies for anyone's tests; ``emu.commands`` the sub-commands.
 """
 
+__version__ = "0.1.0"
+"""The one place the version is written (``pyproject.toml`` reads it from here); set before
+the imports below, since ``emu.cache`` reads it while they run."""
+
 from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,
                           RegisterGroup, Step, load_machine, machine_from_text, shipped_machines)
 from .engine import Emulator, Observer, StopReason
 from .errors import MachineError
 
 __all__ = [
-    "Emulator", "Field", "Flag", "Instruction", "Machine", "MachineError", "OperandKind",
+    "__version__", "Emulator", "Field", "Flag", "Instruction", "Machine", "MachineError", "OperandKind",
     "Observer", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step", "StopReason",
     "load_machine", "machine_from_text", "shipped_machines",
 ]

@@ -20,7 +20,6 @@ from ._options import (add_machine_option, check_range, cycle_count, keep_parser
                        memory_range, number, seed, usage_error)
 from ._progress import Progress, terminal_attached
 
-SUMMARY = "check a machine's halt, stop, step and resume, or that halts and stepping leave a program's result alone"
 MAX_EXAMPLES = 100_000
 
 

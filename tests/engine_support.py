@@ -1,8 +1,7 @@
-"""Shared helpers for engine tests: every machine file of the project, and random programs.
+"""Shared helpers for engine tests: every machine file of the project, booting and running.
 
-Programs are built with the machine's own encoder, not the assembler, so
-the engine tests stand on the description alone. Address-like fields draw
-small values so that jumps, loads and stores land inside the program.
+Random programs come from the public strategies in ``emu.testing`` (drawn from
+the machine's own instruction table), which ``relaybench check`` uses too.
 """
 
 from __future__ import annotations
@@ -11,7 +10,6 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
-from hypothesis import strategies as st
 
 from emu import Emulator, Observer, load_machine
 
@@ -99,33 +97,6 @@ def encode(machine, display: str, **values) -> list[int]:
     return instruction_named(machine, display).encode(values)
 
 
-@st.composite
-def instructions(draw, machine, span: int):
-    """One encoded instruction; halting ones drawn about one time in ten."""
-    halting = [i for i in machine.instructions if i.drives_halt]
-    others = [i for i in machine.instructions if not i.drives_halt]
-    ins = draw(st.sampled_from(halting)) if draw(st.integers(0, 9)) == 0 else draw(st.sampled_from(others))
-    values = {}
-    for name, fld in ins.fields.items():
-        kind = fld.kind
-        if kind.is_register:
-            values[name] = draw(st.integers(0, len(kind.registers) - 1))
-        elif kind.high >= span:
-            values[name] = draw(st.integers(0, span))
-        else:
-            values[name] = draw(st.integers(kind.low, kind.high))
-    return ins.encode(values)
-
-
-@st.composite
-def programs(draw, machine, max_instructions: int = 24):
-    count = draw(st.integers(1, max_instructions))
-    words: list[int] = []
-    for _ in range(count):
-        words.extend(draw(instructions(machine, span=3 * count)))
-    return words
-
-
 def after_step_press(machine, index: int) -> tuple[int, int]:
     """(pulses given, phase index after) of one STEP press with the ring frozen at ``index``,
     as the description says: one panel pulse with the ring standing still, or
@@ -158,17 +129,6 @@ def full_state(emu: Emulator) -> tuple:
     """The datapath and everything the control unit and the clock hold."""
     return (datapath_state(emu), emu.cycles, emu.instructions, emu.time_ns, emu.phase_index,
             emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
-
-
-def run_resuming(emu: Emulator, cycles: int) -> list[str]:
-    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
-    target, reasons = emu.cycles + cycles, []
-    while emu.cycles < target:
-        reason = emu.run(max_cycles=target - emu.cycles)
-        reasons.append(reason.kind)
-        if reason.kind == "halted":
-            emu.press_resume()
-    return reasons
 
 
 # ----- one-program runs for the instruction tests ---------------------------------------

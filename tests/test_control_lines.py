@@ -19,11 +19,12 @@ from hypothesis import strategies as st
 from vcdvcd import VCDVCD
 
 from emu import Emulator, MachineError, Observer, machine_from_text
+from emu.testing import programs, run_resuming
 from emu.timing import count_wear, format_wear, record_vcd
 
 from cli_support import cli
 from debugger_programs import session_for
-from engine_support import MACHINES, boot, programs, run_resuming, skip_unless_properties_run
+from engine_support import MACHINES, boot, skip_unless_properties_run
 
 WIRE8_PATH = Path(__file__).parent / "machines" / "wire8.toml"
 WIRE8_TEXT = WIRE8_PATH.read_text()

@@ -9,8 +9,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from emu import Emulator, MachineError, Observer
+from emu.testing import programs, run_resuming
 
-from engine_support import (MACHINES, after_step_press, boot, encode, full_state, plain_words, programs, run_resuming,
+from engine_support import (MACHINES, after_step_press, boot, encode, full_state, plain_words,
                             skip_unless_properties_run)
 
 EVERY_MACHINE = pytest.mark.parametrize("machine_name", MACHINES)

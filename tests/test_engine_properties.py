@@ -20,9 +20,11 @@ from hypothesis import HealthCheck, settings
 from hypothesis import strategies as st
 from hypothesis.stateful import RuleBasedStateMachine, initialize, invariant, precondition, rule
 
-from emu import Emulator, Observer
+from emu import Emulator
+from emu.checks import PulseWatch
+from emu.testing import programs
 
-from engine_support import MACHINES, after_step_press, boot, datapath_state, programs, skip_unless_properties_run
+from engine_support import MACHINES, after_step_press, boot, datapath_state, skip_unless_properties_run
 
 SETTINGS = settings(max_examples=40, stateful_step_count=40, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
@@ -53,28 +55,18 @@ class _Reference:
         return self.states[count]
 
 
-class _PulseWatch(Observer):
-    """Checks P1 as it happens: every generator pulse lasts its nominal time.
-
-    Also counts the generator's pulses since the halt latch was set, for P5.
-    """
+class _PulseWatch(PulseWatch):
+    """P1 as it happens (the watch ``relaybench check`` uses): every generator pulse lasts
+    its nominal time. Also counts the generator's pulses since the halt latch was set, for P5."""
 
     def __init__(self, machine):
-        self.machine = machine
-        self.rise = None
+        super().__init__(machine)
         self.pulses_since_latch = None
 
     def edge(self, emu, level):
-        if emu.frozen:          # a panel STEP pulse, not the generator's (a "hold" STEP runs the ring)
-            return
-        if level == 1:
-            self.rise = (emu.time_ns, emu.phase_index)
-        elif self.rise is not None:
-            start, index = self.rise
-            assert emu.time_ns - start == _nominal_high_run(self.machine, index)
-            self.rise = None
-            if self.pulses_since_latch is not None:
-                self.pulses_since_latch += 1
+        super().edge(emu, level)
+        if level == 0 and not emu.frozen and self.pulses_since_latch is not None:
+            self.pulses_since_latch += 1
 
     def latch(self, emu, is_set):
         self.pulses_since_latch = 0 if is_set else None
@@ -82,14 +74,6 @@ class _PulseWatch(Observer):
     def panel(self, emu, action):
         if action == "step" and emu.frozen:
             self.pulses_since_latch = None     # the panel moved the machine on: no claim
-
-
-def _nominal_high_run(machine, index: int) -> int:
-    total, phases = 0, machine.phases
-    while phases[index].level == 1:
-        total += phases[index].duration_ns
-        index = (index + 1) % len(phases)
-    return total
 
 
 def _phases_to_hold(machine, index: int, released: bool) -> int:

@@ -13,7 +13,7 @@ import math
 import pytest
 
 import emu
-from emu.timing import timing_model
+from emu.timing import count_wear, timing_model
 
 from cli_support import cli
 from engine_support import boot, encode
@@ -69,3 +69,28 @@ def test_relaybench_clock_reports_both_hold_points(capsys):
     code, out, _err = cli(capsys, "clock", "--machine", "skep", "--samples", "5000", "--json")
     report = json.loads(out)
     assert report["nominal"]["turn_ms"] == 153.0 and report["nominal"]["period_ms"] == 76.5
+
+
+class _EveryPhase(emu.Observer):
+    """Attached only to send the run down the phase-by-phase path."""
+
+
+@pytest.mark.parametrize("stepped", [False, True], ids=["fast path", "phase by phase"])
+def test_the_carry_in_relay_counts_only_on_pulses_where_carry_is_set(stepped):
+    """adc's result step drives "c-in if c": of two adc's, one after sec and one after
+    clc, only the first operates the relay. Counted by hand from skep.toml: the fetch
+    drives adr-pc on each of the 5 instructions and each adc #k reads its constant with
+    adr-pc once more (7 in all); sec, clc and stop take 2 cycles, adc #k 4, so 14 pulses,
+    7 turns of the ring, each operating every ring relay once."""
+    words = (encode(SKEP, "sec") + encode(SKEP, "adc #k", k=1) + encode(SKEP, "clc")
+             + encode(SKEP, "adc #k", k=1) + encode(SKEP, "stop"))
+    machine = boot(SKEP, words)
+    if stepped:
+        machine.observe(_EveryPhase())
+    with count_wear(machine) as wear:
+        assert machine.run(max_cycles=100).kind == "halted"
+    assert machine.get("a") == 3
+    counts = wear.counts
+    assert counts["c-in"] == 1 and counts["alu-add"] == 2 and counts["adr-pc"] == 7
+    assert counts["c-set"] == 1 and counts["c-clr"] == 1 and counts["halt-set"] == 1
+    assert wear.pulses == 14 and [counts[k] for k in ("K1", "K2", "K3", "K4")] == [7, 7, 7, 7]

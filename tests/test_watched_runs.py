@@ -18,9 +18,10 @@ from hypothesis import strategies as st
 import asm
 from emu import Observer
 from emu.debugger import AnyOf, CallDepth, Count, Watch, Watches, call_shape
+from emu.testing import programs
 from emu.timing import count_wear
 
-from engine_support import MACHINES, boot, full_state, programs, skip_unless_properties_run
+from engine_support import MACHINES, boot, full_state, skip_unless_properties_run
 
 SETTINGS = settings(max_examples=60, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])

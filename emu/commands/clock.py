@@ -23,7 +23,6 @@ from ._progress import Progress, terminal_attached
 from ..timing import METRICS, PERCENTILES, has_timing, monte_carlo, timing_model
 from ._options import add_machine_option, keep_parser, machine_from, number, seed, usage_error
 
-SUMMARY = "clock timing: nominal rate, and the spread that tolerances of the parts give"
 MAX_SAMPLES = 5_000_000
 HISTOGRAM_BINS = 16
 HISTOGRAM_WIDTH = 40

@@ -17,7 +17,6 @@ from ..description.notation import Call, walk
 from ..formatting import rate_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
-SUMMARY = "print the instruction table (encoding, micro-steps, cycles, flags) of a machine"
 
 
 def add_arguments(parser) -> None:

@@ -24,6 +24,7 @@ from ._clock_panel import read_clock_panel
 from ._decoding import decode_groups
 from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
+from ._saved_machines import saved_machine
 from ._step_lines import STEP_EXPECTED, is_step_entry, read_named_lines, step_entry
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Flag, Instruction,
                      Machine, MachineNames, OperandKind, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
@@ -54,7 +55,7 @@ def load_machine(name_or_path: str | Path = "ref8") -> Machine:
         raise MachineError(f"no such machine file (shipped machines: {names})", path=str(path)) from None
     except (OSError, UnicodeDecodeError) as exc:
         raise MachineError(f"cannot read machine file: {exc}", path=str(path)) from None
-    return machine_from_text(text, str(path))
+    return saved_machine(text, str(path), machine_from_text)
 
 
 def machine_from_text(text: str, path: str = "<machine>") -> Machine:

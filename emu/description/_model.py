@@ -493,23 +493,23 @@ class Machine:
         return sum(1 for i, p in enumerate(self.phases)
                    if p.level == 1 and self.phases[i - 1].level == 0)
 
+    def after_step_press(self, index: int) -> tuple[int, int]:
+        """(pulses given, phase index after) of one STEP press with the ring frozen at phase ``index``:
+        one panel pulse with the ring standing still, or (``step = "hold"``) the ring's own
+        pulses up to the next hold point it reaches."""
+        if self.step_press == "pulse":
+            return 1, index
+        phases, pulses = self.phases, 0
+        while True:
+            following = (index + 1) % len(phases)
+            pulses += phases[index].level == 1 and phases[following].level == 0
+            index = following
+            if phases[index].hold:
+                return pulses, index
+
     def pulses_per_step_press(self) -> dict[str, int]:
         """Hold point name → the pulses (micro-steps) one STEP press gives while the ring stands there."""
-        phases = self.phases
-        if self.step_press == "pulse":
-            return {p.name: 1 for p in phases if p.hold}
-        counts = {}
-        for start, phase in enumerate(phases):
-            if phase.hold:
-                pulses, i = 0, start
-                while True:
-                    following = (i + 1) % len(phases)
-                    pulses += phases[i].level == 1 and phases[following].level == 0
-                    i = following
-                    if phases[i].hold:
-                        break
-                counts[phase.name] = pulses
-        return counts
+        return {phase.name: self.after_step_press(i)[0] for i, phase in enumerate(self.phases) if phase.hold}
 
     @property
     def nominal_hz(self) -> float:

@@ -9,7 +9,8 @@ import lark
 from ...errors import MachineError
 from ._ir import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join, Logic,
                   Mem, Name, Not, Offset, Output, Slice, Statement, WaitUntil)
-from ._numbers import GRAMMAR_IMPORTS, char_value, literal_value
+from ._grammars import packaged_parser
+from ._numbers import char_value, literal_value
 
 __all__ = ["parse_line_gate", "parse_step"]
 
@@ -145,9 +146,8 @@ def _token_word(name: str) -> str:
 
 @cache
 def _parser() -> lark.Lark:
-    return lark.Lark.open_from_package("emu.description.notation", "microstep.lark", start=["step", "line_gate"],
-                                       parser="lalr", maybe_placeholders=False,
-                                       import_paths=[GRAMMAR_IMPORTS])
+    return packaged_parser("emu.description.notation", "microstep.lark", start=["step", "line_gate"],
+                           maybe_placeholders=False)
 
 
 @cache

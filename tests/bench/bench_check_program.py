@@ -1,6 +1,6 @@
 """Benchmark: halt placement over every statement of programs/ref8/fares.asm.
 
-Run with ``python tests/bench/bench_check.py``. The goal is the whole
+Run with ``python tests/bench/bench_check_program.py``. The goal is the whole
 placement in under 30 s on two cores. Measured in one run, wall time:
 
 * baseline: each statement on its own with ``emu.runs.check_planting``

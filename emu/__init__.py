@@ -15,11 +15,11 @@ the imports below, since ``emu.cache`` reads it while they run."""
 
 from .description import (Field, Flag, Instruction, Machine, OperandKind, OperandPattern, Phase, Register,
                           RegisterGroup, Step, load_machine, machine_from_text, shipped_machines)
-from .engine import Emulator, Observer, StopReason
+from .engine import Emulator, Lookout, Observer, StopReason
 from .errors import MachineError
 
 __all__ = [
-    "__version__", "Emulator", "Field", "Flag", "Instruction", "Machine", "MachineError", "OperandKind",
+    "__version__", "Emulator", "Field", "Flag", "Instruction", "Lookout", "Machine", "MachineError", "OperandKind",
     "Observer", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step", "StopReason",
     "load_machine", "machine_from_text", "shipped_machines",
 ]

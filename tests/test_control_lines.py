@@ -178,7 +178,8 @@ def test_the_waveform_names_stages_and_lines_and_pulses_a_gated_line_when_it_fir
     assert rises == {"lamp-strobe": 1, "carry-in": 1, "ld-pc": 1, "pc-inc": 20, "seq-end": 1, "load_b": 0}
     assert {"wire8.ring.A", "wire8.ring.B", "wire8.ring.C"} <= set(vcd.signals)
     # the strobe is up for the pulse of out 1's second own step: cycles 12 and 13 are out 1's
-    strobe = [(t, v) for t, v in vcd["wire8.lines.lamp-strobe"].tv if t > 0]
+    unit_ns = round(vcd.timescale["timescale"] * 10 ** 9)   # the dump's own $timescale
+    strobe = [(t * unit_ns, v) for t, v in vcd["wire8.lines.lamp-strobe"].tv if t > 0]
     cycle_ns = WIRE8.cycle_ns
     assert strobe == [(12 * cycle_ns + 20_000_000, "1"), (13 * cycle_ns, "0")]
 

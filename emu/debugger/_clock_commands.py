@@ -169,7 +169,7 @@ def do_go(session, args):
 
 @command("instr [N]", "Execute N whole instructions (STEP pulses while frozen).", repeats=True)
 def do_instr(session, args):
-    return session.step(Count(count(args, 1, "instruction count")))
+    return session.step(Count(count(args, 1, "instruction count"), session.emu))
 
 
 @command("over", "Execute one instruction; a call runs until it has returned.", repeats=True)

@@ -86,8 +86,10 @@ def dispatcher_source(machine: Machine, max_fused: int, counting: bool = False) 
     until one that may change pc (``ends``); only the pc reached then, or
     after a block, is looked up and counted, so straight-line code that is
     not hot costs one table look-up per instruction more than the fused path.
-    ``hits[pc]`` is negative where a block is in place. ``counting``: each fused
-    instruction's first word is counted into ``words_`` (for wear).
+    ``hits[pc]`` is negative where a block is in place; ``table[pc]`` then
+    holds (block, its longest cycles, whether a watched run must stop after it).
+    ``counting``: each fused instruction's first word is counted into ``words_``
+    (for wear; a counting block counts its own).
     """
     pc = machine.registers[machine.program_counter].slot
     peek = _MachineCompiler(machine).peek_expression()
@@ -95,7 +97,8 @@ def dispatcher_source(machine: Machine, max_fused: int, counting: bool = False) 
     out.line(f"def build(s, m, table, hits, ends, translate, Fallback{', words_' if counting else ''}):")
     with out.indent():
         for name, watching in (("run_blocks", False), ("run_blocks_watching", True)):
-            out.line(f"def {name}(budget, points, fused, threshold):")
+            arguments = ", stops, stored, changed" if watching else ""
+            out.line(f"def {name}(budget, points, fused, threshold{arguments}):")
             with out.indent():
                 _dispatch_loop(out, pc, peek, max_fused, watching, counting)
         out.line("return run_blocks, run_blocks_watching")
@@ -103,7 +106,11 @@ def dispatcher_source(machine: Machine, max_fused: int, counting: bool = False) 
 
 
 def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool, counting: bool) -> None:
-    stop_at_breakpoint = [f"if s[{pc}] in points:", "    return cycles, count, True"] if watching else []
+    """The watching loop returns (hit) at a breakpoint, where ``stops`` says (see
+    ``_lookout.stop_words``: after an instruction marked ``AFTER``, or ``WRITES`` once
+    ``changed()``; before one marked ``BEFORE``), and after a store that set ``stored[0]``
+    (a watched word); a block made of a marked instruction carries its mark (``asks``)."""
+    stop_before = ["if stops[word] & 2 and cycles:", "    return cycles, count, True"] if watching else []
     out.line("cycles = count = 0")
     out.line(f"limit = budget - {max_fused}")
     out.line("try:")
@@ -111,18 +118,23 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
         out.line("while True:")
         with out.indent():
             out.line(f"pc = s[{pc}]")
+            if watching:
+                out.line(f"word = {peek}")
+                for line in stop_before:
+                    out.line(line)
             out.line("hit = hits[pc]")
             out.line("if hit < 0:")
             with out.indent():
-                out.line("block, most = table[pc]")
+                out.line("block, most, asks = table[pc]")
                 out.line("room = budget - cycles")
                 out.line("if most <= room:")
                 with out.indent():
                     out.line("done, ran = block(room)")
                     out.line("cycles += done")
                     out.line("count += ran")
-                    for line in stop_at_breakpoint:
-                        out.line(line)
+                    if watching:
+                        out.line(f"if asks & 1 or asks & 4 and changed() or stored[0] or s[{pc}] in points:")
+                        out.line("    return cycles, count, True")
                     out.line("continue")
             out.line("else:")
             with out.indent():
@@ -137,12 +149,16 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
                 out.line("if cycles > limit:")
                 out.line("    return cycles, count, False")
                 out.line(f"word = {peek}")
+                for line in stop_before:
+                    out.line(line)
                 out.line("cycles += fused[word]()")
                 if counting:
                     out.line("words_[word] += 1")
                 out.line("count += 1")
-                for line in stop_at_breakpoint:
-                    out.line(line)
+                if watching:
+                    out.line("stop = stops[word]")
+                    out.line(f"if stop & 1 or stop & 4 and changed() or stored[0] or s[{pc}] in points:")
+                    out.line("    return cycles, count, True")
                 out.line("if ends[word]:")
                 out.line("    break")
     out.line("except Fallback:")

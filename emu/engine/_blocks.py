@@ -7,6 +7,9 @@ branch, a halting or undefined instruction, a breakpoint or a length cap,
 translated into one function (``_block_translator``). The dispatch loop
 runs a block only when its full cycle count fits the budget, so cycle
 limits, breakpoints and every panel event land where stepping puts them.
+A watched run (``Lookout``) also splits blocks around its stop words and
+counts its watched words in the code map, so a block leaves right after a
+store to one.
 
 Compiled blocks are cached per machine, keyed by their start and their
 words, so the same image loaded again (in this emulator or another) binds
@@ -158,20 +161,38 @@ class BlockRunner:
         self._active: dict[int, tuple[int, object]] = {}
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
+        self._stops: bytes | None = None
+        self._watched: frozenset[int] = frozenset()
+        self.stored = [False]
+        """Set by a store to a watched word; the watching loop returns after that instruction."""
+        self._no_stops = bytes(len(machine.decode_table))
         self._loops = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._shared.ends,
                              self._translate, Fallback, *self._counted(words=True, sites=False))
 
-    def run(self, budget: int, points: frozenset) -> tuple[int, int, bool]:
-        """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, breakpoint hit)."""
-        if self._ran < self.warm_up and not points:
+    def run(self, budget: int, points: frozenset, stops: bytes | None = None,
+            watched: frozenset[int] = frozenset(), unchanged: bool = False,
+            changed=None) -> tuple[int, int, bool]:
+        """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, hit).
+
+        ``hit``: stopped at a breakpoint, at a boundary around an instruction
+        that ``stops`` marks (see ``Lookout``), or after a store to a
+        ``watched`` word. ``unchanged``: nothing but this runner has run since
+        its last call, so its blocks still match memory without a look.
+        """
+        watching = bool(points) or stops is not None or bool(watched)
+        if self._ran < self.warm_up and not watching:
             cycles, count, hit = self._run_free(budget - self._max_fused)
             self._ran += cycles
             return cycles, count, hit
         if self._loops is None:
             self._start()
-        self._check_blocks(points)
-        loop = self._loops[1] if points else self._loops[0]
-        return loop(budget, points, self._fused(), self.threshold)
+        if not unchanged:
+            self._check_blocks(points, stops, watched)
+        if not watching:
+            return self._loops[0](budget, points, self._fused(), self.threshold)
+        self.stored[0] = False
+        return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.stored,
+                              changed or _never)
 
     def _counted(self, words: bool, sites: bool) -> tuple:
         """The count lists a piece of counting code takes (none for plain code)."""
@@ -181,16 +202,19 @@ class BlockRunner:
         return (site_counts,) * sites + (word_counts,) * words
 
     def _fused(self) -> list:
-        """Fused instructions, with stores checked once any block is in place."""
-        return self._checked if self._active else self._plain
+        """Fused instructions, with stores checked once any block is in place or a word is watched."""
+        return self._checked if self._active or self._watched else self._plain
 
     # ----- keeping blocks valid
 
-    def _check_blocks(self, points: frozenset) -> None:
-        """Drop blocks whose words memory no longer holds, and all of them when breakpoints changed."""
+    def _check_blocks(self, points: frozenset, stops: bytes | None, watched: frozenset[int]) -> None:
+        """Drop blocks whose words memory no longer holds, and all of them when breakpoints or
+        stop words changed (blocks are split at them); mark watched words in the code map."""
         memory = self._state[1]
-        if points != self._points:
-            self._points = points
+        if watched != self._watched:
+            self._watch_words(watched)
+        if points != self._points or stops != self._stops:
+            self._points, self._stops = points, stops
             for start in list(self._active):
                 self._drop(start, soon=True)
             return
@@ -198,17 +222,29 @@ class BlockRunner:
             if memory[start:end] != words:
                 self._drop(start, soon=False)
 
-    def _invalidate(self, addresses, low: int, high: int) -> bool:
-        """Called by a store that hit translated words: drop the blocks covering them.
+    def _watch_words(self, watched: frozenset[int]) -> None:
+        """Count watched words in the code map, so that a store to one calls ``_invalidate``."""
+        self._code_map()
+        for address in self._watched:
+            self._cmap[address] -= 1
+        for address in watched:
+            self._cmap[address] += 1
+        self._watched = watched
 
-        True when one of the words lies in ``[low, high)``, the rest of the running block.
+    def _invalidate(self, addresses, low: int, high: int) -> bool:
+        """Called by a store that hit translated or watched words: drop the blocks covering them.
+
+        True when one of the words lies in ``[low, high)``, the rest of the running
+        block, or is watched: the block then leaves after the current instruction.
         """
+        if self._watched and not self._watched.isdisjoint(addresses):
+            self.stored[0] = True
         for address in addresses:
             if self._cmap[address]:
                 for start in [b for b, (end, _w) in self._active.items() if b <= address < end]:
                     self._invalidations[start] += 1
                     self._drop(start, soon=False)
-        return any(low <= address < high for address in addresses)
+        return self.stored[0] or any(low <= address < high for address in addresses)
 
     def _drop(self, start: int, soon: bool) -> None:
         end, _words = self._active.pop(start)
@@ -224,14 +260,26 @@ class BlockRunner:
 
     # ----- translating
 
+    def _code_map(self) -> None:
+        """The per-word map of translated (and watched) words, and the fused instructions that check it."""
+        if self._cmap is None:
+            s, memory, read_port, write_port = self._state
+            self._cmap = [0] * self.machine.memory_words
+            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate,
+                             *self._counted(words=False, sites=True))
+            self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
+
     def _plan(self, start: int) -> BlockPlan | None:
+        """The block at ``start``: it ends before a breakpoint; a stop word is a block of its own
+        (so a block that loops or leaves early never passes one, and one that ends after it says so)."""
         machine, memory, shared = self.machine, self._state[1], self._shared
-        decode, size = machine.decode_table, machine.memory_words
+        decode, size, stops = machine.decode_table, machine.memory_words, self._stops
         address, instructions = start, []
         while len(instructions) < MAX_BLOCK_INSTRUCTIONS and address < size:
-            if address != start and address in self._points:
+            word = memory[address]
+            if address != start and (address in self._points or stops is not None and stops[word]):
                 break
-            index = decode[memory[address]]
+            index = decode[word]
             if index < 0:
                 break
             ins = machine.instructions[index]
@@ -239,7 +287,7 @@ class BlockRunner:
                 break
             instructions.append((address, ins))
             address += ins.word_count
-            if shared.successor[index] not in (NEXT, MAYBE):
+            if shared.successor[index] not in (NEXT, MAYBE) or stops is not None and stops[word]:
                 break
         if not instructions:
             return None
@@ -256,16 +304,13 @@ class BlockRunner:
         if plan is None:
             return self._fused()
         s, memory, read_port, write_port = self._state
-        if self._cmap is None:
-            self._cmap = [0] * self.machine.memory_words
-            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate,
-                             *self._counted(words=False, sites=True))
-            self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
-        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points)
+        self._code_map()
+        asks = 0 if self._stops is None else self._stops[plan.words[0]]
+        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points and not asks)
         self.compiled += fresh
         block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate,
                        *self._counted(words=True, sites=True))
-        self._table[start] = (block, most)
+        self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
         for address in range(start, plan.end):
@@ -275,6 +320,10 @@ class BlockRunner:
                 self._hits[address] = 0    # covered now: a count from before would translate it needlessly
         self.built += 1
         return self._checked
+
+
+def _never() -> bool:
+    return False
 
 
 def _fixed_sequence(ins) -> bool:

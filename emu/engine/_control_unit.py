@@ -22,9 +22,12 @@ from __future__ import annotations
 
 import json
 from collections import Counter
-from dataclasses import dataclass
+from collections.abc import Callable
+from operator import itemgetter
 
 from ._blocks import BlockRunner
+from ._observing import Observer, _Observing
+from ._run_loop import StopReason, _Running
 from ._clock_ring import Ring
 from ._line_gates import LineGates
 from ._line_tally import LineTally
@@ -36,38 +39,15 @@ from ..formatting import address_text
 from ._ports import Ports
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
-__all__ = ["Emulator", "Observer", "StopReason"]
+__all__ = ["Emulator", "StopReason"]
 
 _FETCH_START = (-1, 0)
 
 
-class Observer:
-    """Hooks for traces, waveforms and wear counts; override what you need.
+class Emulator(_Observing, _Running):
+    """One powered-on machine: datapath, memory, ports, clock ring and control unit.
 
-    Attaching any observer makes the engine take the stepping path, so a
-    run that nobody watches pays nothing for this.
-    """
-
-    def phase(self, emu: "Emulator", index: int) -> None: ...
-    def edge(self, emu: "Emulator", level: int) -> None: ...
-    def microstep(self, emu: "Emulator", step: Step, lines: tuple[str, ...]) -> None: ...
-    def hold(self, emu: "Emulator", frozen: bool) -> None: ...
-    def latch(self, emu: "Emulator", is_set: bool) -> None: ...
-    def panel(self, emu: "Emulator", action: str) -> None: ...
-    def instruction(self, emu: "Emulator") -> None: ...
-
-
-@dataclass(frozen=True)
-class StopReason:
-    """Why a run ended: halted, stopped, cycle_limit, breakpoint or condition."""
-    kind: str
-    pc: int
-    address: int | None = None
-    """For ``halted``: the address of the instruction that drove halt."""
-
-
-class Emulator:
-    """One powered-on machine: datapath, memory, ports, clock ring and control unit."""
+    ``run`` (letting the generator go, on the fast path where it can) is in ``_run_loop``."""
 
     def __init__(self, machine: Machine):
         self.machine = machine
@@ -81,6 +61,8 @@ class Emulator:
         self._groups = {index: (group, [machine.registers[r].slot for r in group.holders])
                         for index, group in machine.decode_groups.items()}
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
+        self._run_free_stopping = bound.run_free_stopping
+        self._stop_tables: dict[tuple, bytes] = {}
         self._max_fused = compiled.max_fused_cycles
         self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
                                   bound.fused, self._run_free)
@@ -102,6 +84,9 @@ class Emulator:
         self.instructions = 0
         self._undefined: Counter[int] = Counter()
         self._observers: list[Observer] = []
+        self._scheduled: list[tuple[int, bool, Observer]] = []
+        """(cycle, attach or detach, observer) for observers of a window of cycles, by cycle."""
+        self._next_scheduled: int | None = None
         self._gates = LineGates(machine, self._s, self.memory)
         self._tally: LineTally | None = None
 
@@ -186,6 +171,18 @@ class Emulator:
         whose condition holds now, on the state before the step, among them)."""
         return self._gates.driven(*self._seq)
 
+    def reader(self, names) -> Callable[[], tuple[int, ...]]:
+        """A function returning the present values of these registers and flags (not groups)
+        as a tuple: for observers that look at them every cycle, where ``get`` costs too much."""
+        slots = [self._slots[name][0] for name in names]
+        if not slots:
+            return tuple
+        pick = itemgetter(*slots)
+        state = self._s
+        if len(slots) == 1:
+            return lambda: (pick(state),)
+        return lambda: pick(state)
+
     @property
     def instruction_address(self) -> int:
         """Address of the instruction in progress (pc itself at a boundary)."""
@@ -233,13 +230,7 @@ class Emulator:
     def clock_source(self, source) -> None:
         self.ring.set_source(source)
 
-    # ----- observers --------------------------------------------------------
-
-    def observe(self, observer: Observer) -> None:
-        self._observers.append(observer)
-
-    def unobserve(self, observer: Observer) -> None:
-        self._observers.remove(observer)
+    # ----- counting wear --------------------------------------------------
 
     def count_lines(self) -> LineTally:
         """Count the operations of every relay from now on, on both paths (see ``LineTally``)."""
@@ -250,10 +241,6 @@ class Emulator:
         if self._tally is not None:
             self._tally.stop()
             self._tally = None
-
-    def _notify(self, event: str, *args) -> None:
-        for observer in self._observers:
-            getattr(observer, event)(self, *args)
 
     # ----- the panel --------------------------------------------------------
 
@@ -345,7 +332,8 @@ class Emulator:
     def _microstep(self) -> None:
         """The falling edge: the datapath latches the current micro-step."""
         index, step = self._seq
-        lines = self._gates.driven(index, step) if self._observers or self._tally is not None else ()
+        watched = self._observers or self._tally is not None or self._next_scheduled is not None
+        lines = self._gates.driven(index, step) if watched else ()
         if index < 0:
             if step == 0:
                 self._instruction_address = self._s[self._pc]
@@ -375,6 +363,8 @@ class Emulator:
             self._seq = (index, following) if index >= 0 and following < len(self._instruction_steps[index]) \
                 else _FETCH_START
         self.cycles += 1
+        if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
+            self._attend()
         if halted:
             self.halt_address = self._instruction_address
             self._set_latch(True)
@@ -391,10 +381,15 @@ class Emulator:
         self._undefined[address] += 1
 
     def _paths(self) -> tuple:
-        """The fast path's runners: blocks, and the free runners of fused instructions."""
-        return self.blocks, self._run_free, self._run_free_watching
+        """The fast path's runners now: blocks, and the free runners of fused instructions (plain,
+        watching, stopping); the counting ones of ``LineTally`` while lines are counted."""
+        if self._tally is not None:
+            return self._tally.paths
+        return self.blocks, self._run_free, self._run_free_watching, self._run_free_stopping
 
     def _fast_path_open(self) -> bool:
+        if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
+            self._attend()
         return (not self._observers and self._seq == _FETCH_START and not self.frozen
                 and not self.hold_line and self.ring.at_boundary)
 
@@ -402,84 +397,6 @@ class Emulator:
         if self.halt_latch:
             return StopReason("halted", self.pc, self.halt_address)
         return StopReason("stopped", self.pc)
-
-    def run(self, max_cycles: int | None = None, until=None, breakpoints=(), chunk=None,
-            chunk_cycles: int = 100_000) -> StopReason:
-        """Let the generator run until it freezes, a limit, a breakpoint or a condition.
-
-        ``until(emu)`` and breakpoints (addresses) are checked at every
-        instruction boundary reached during the run; ``until`` sees counters,
-        ring and time up to date. ``chunk(emu)`` is called
-        about every ``chunk_cycles`` cycles, with counters and time up to
-        date; it may flip the run switch (the debugger's Ctrl-C does that).
-        """
-        target = None if max_cycles is None else self.cycles + max_cycles
-        points = frozenset(breakpoints)
-        applied = [0, 0]
-        watch = self._watcher(points, until, applied) if points or until is not None else None
-        next_chunk = self.cycles + chunk_cycles
-        while True:
-            if self.frozen:
-                return self._frozen_reason()
-            if target is not None and self.cycles >= target:
-                return StopReason("cycle_limit", self.pc)
-            if chunk is not None and self.cycles >= next_chunk:
-                chunk(self)
-                next_chunk = self.cycles + chunk_cycles
-                continue
-            if self._fast_path_open():
-                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
-                if target is not None:
-                    budget = min(budget, target - self.cycles)
-                limit = budget - self._max_fused
-                if limit >= 0:
-                    blocks, run_free, run_free_watching = self._paths() if self._tally is None else self._tally.paths
-                    if blocks.enabled and until is None:
-                        cycles, count, hit = blocks.run(budget, points)
-                    elif watch is None:
-                        cycles, count, hit = run_free(limit)
-                    else:
-                        cycles, count, hit = run_free_watching(limit, watch)
-                    self._account(cycles - applied[0], count - applied[1])
-                    applied[:] = 0, 0
-                    if hit:
-                        return self._watch_reason(points)
-                    if cycles > limit:
-                        continue
-            done = self.instructions
-            self.advance_phase()
-            if self.instructions != done and watch is not None and watch():
-                return self._watch_reason(points)
-
-    def _watcher(self, points, until, applied):
-        """The check made after every instruction of a watched run.
-
-        On the fast path it is called with the run's own counts so far;
-        ``applied`` remembers how much of them the counters already hold, so
-        ``until`` sees cycles, ring and time up to date.
-        """
-        s, pc = self._s, self._pc
-
-        def watch(cycles=0, count=0):
-            if s[pc] in points:
-                return True
-            if until is None:
-                return False
-            self._account(cycles - applied[0], count - applied[1])
-            applied[:] = cycles, count
-            return until(self)
-        return watch
-
-    def _account(self, cycles: int, count: int) -> None:
-        """Bring counters and the ring up to date with work the fast path has done."""
-        if cycles:
-            self.cycles += cycles
-            self.instructions += count
-            self.ring.skip_cycles(cycles)
-            self._released = False
-
-    def _watch_reason(self, points) -> StopReason:
-        return StopReason("breakpoint" if self.pc in points else "condition", self.pc)
 
     def advance_instruction(self) -> StopReason:
         """Run the generator to the next instruction boundary (or until it freezes)."""

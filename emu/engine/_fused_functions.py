@@ -162,11 +162,12 @@ class _FusedFunctions:
     def count_step(self, translator: _StepTranslator, step, place: tuple[int, int], counted: bool) -> None:
         """Where a fused function may count the step it is about to run (``place``: instruction
         index or -1 for the fetch, and step index); ``counted``: the step is not one every run
-        of the function takes. Plain runs count nothing; ``_tally_compiler`` counts."""
+        of the function takes. Plain runs count nothing; ``_line_tally`` counts."""
 
-    def call_fused(self, peek: str) -> None:
-        """The free runner's call of the next instruction's fused function."""
-        self.out.line(f"cycles += table[{peek}]()")
+    def call_fused(self, word: str) -> None:
+        """The free runner's call of the next instruction's fused function; ``word``: the first
+        word as an expression, or ``"word"`` where the loop already holds it in that local."""
+        self.out.line(f"cycles += table[{word}]()")
 
     def fallback_function(self):
         out = self.out
@@ -191,11 +192,19 @@ class _FusedFunctions:
         return text
 
     def free_runners(self, peek: str):
-        """The hot loops: nothing in them but dispatch, cycle and instruction counts."""
+        """The hot loops: nothing in them but dispatch, cycle and instruction counts.
+
+        ``run_free_watching`` asks ``watch`` after every instruction;
+        ``run_free_stopping`` returns at a breakpoint and where ``stops``
+        (``_lookout.stop_words``) says: after an instruction marked ``AFTER``,
+        or ``WRITES`` once ``changed()``; before one marked ``BEFORE`` (not
+        where it started).
+        """
         out = self.out
-        for name, watching in (("run_free", False), ("run_free_watching", True)):
+        pc = self.machine.registers[self.machine.program_counter].slot
+        for name, args in (("run_free", "limit"), ("run_free_watching", "limit, watch"),
+                           ("run_free_stopping", "limit, stops, points, changed")):
             out.line()
-            args = "limit, watch" if watching else "limit"
             out.line(f"def {name}({args}):")
             with out.indent():
                 out.line('"""Run whole instructions while the cycle count stays at or below limit."""')
@@ -205,12 +214,21 @@ class _FusedFunctions:
                 with out.indent():
                     out.line("while cycles <= limit:")
                     with out.indent():
-                        self.call_fused(peek)
+                        if name == "run_free_stopping":
+                            out.line(f"word = {peek}")
+                            out.line("if stops[word] & 2 and cycles:")
+                            out.line("    return cycles, instructions, True")
+                            self.call_fused("word")
+                        else:
+                            self.call_fused(peek)
                         out.line("instructions += 1")
-                        if watching:
+                        if name == "run_free_watching":
                             out.line("if watch(cycles, instructions):")
-                            with out.indent():
-                                out.line("return cycles, instructions, True")
+                            out.line("    return cycles, instructions, True")
+                        elif name == "run_free_stopping":
+                            out.line("stop = stops[word]")
+                            out.line(f"if stop & 1 or stop & 4 and changed() or s[{pc}] in points:")
+                            out.line("    return cycles, instructions, True")
                 out.line("except Fallback:")
                 with out.indent():
                     out.line("pass")

@@ -48,8 +48,9 @@ class _TallyingCompiler(_MachineCompiler):
     def count_step(self, translator, step, place, counted) -> None:
         count_gates(self.out, translator, step, place, self.layout, counted)
 
-    def call_fused(self, peek: str) -> None:
-        self.out.line(f"word = {peek}")
+    def call_fused(self, word: str) -> None:
+        if word != "word":
+            self.out.line(f"word = {word}")
         self.out.line("cycles += table[word]()")
         self.out.line("words_[word] += 1")
 
@@ -83,7 +84,7 @@ class LineTally:
                                                    undefined, self.sites, self.words))
         blocks = BlockRunner(machine, slots, emu.memory, emu.ports.read, emu.ports.write, bound.fused,
                              bound.run_free, counters=(self.layout, self.sites, self.words))
-        self.paths = (blocks, bound.run_free, bound.run_free_watching)
+        self.paths = (blocks, bound.run_free, bound.run_free_watching, bound.run_free_stopping)
         """The counting fast path: as the emulator's own (``Emulator._paths``), counting."""
         self._emu = emu
         self._end: tuple | None = None

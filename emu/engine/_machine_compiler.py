@@ -68,7 +68,8 @@ class _MachineCompiler(_FusedFunctions):
                 for row in range(0, len(fused_by_word), 4):
                     out.line(" ".join(f"{name}," for name in fused_by_word[row:row + 4]))
             out.line("]")
-            out.line("return fetch_steps, instruction_steps, instruction_jumps, fused, run_free, run_free_watching")
+            out.line("return (fetch_steps, instruction_steps, instruction_jumps, fused, run_free, run_free_watching, "
+                     "run_free_stopping)")
         return out.source(), max_cycles
 
     def stepping_function(self, name: str, step: Step, ins: Instruction | None) -> str:

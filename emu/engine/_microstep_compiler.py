@@ -55,6 +55,7 @@ class BoundFunctions(NamedTuple):
     """First word → its fused function; the free runners index it themselves."""
     run_free: Callable
     run_free_watching: Callable
+    run_free_stopping: Callable
 
 
 @dataclass

@@ -2,7 +2,7 @@
 
 Run:  python tests/bench/bench_wear.py [--repeat N] [--program PATH]
 
-Three ways to run programs/ledger.asm on ref8 from power-on to its halt,
+Three ways to run programs/ref8/ledger.asm on ref8 from power-on to its halt,
 as ``relaybench run`` does (a new emulator, load, run, RESUME at each pause):
 
 * **plain** — no counting (the fast path with block translation);
@@ -66,7 +66,7 @@ def counted(program, cycles=CYCLE_CAP, stepped=False, blocks=True):
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=3)
-    parser.add_argument("--program", default=str(ROOT / "programs" / "ledger.asm"))
+    parser.add_argument("--program", default=str(ROOT / "programs" / "ref8" / "ledger.asm"))
     parser.add_argument("--stepped-cycles", type=int, default=300_000)
     args = parser.parse_args()
     program = load_program(args.program, MACHINE)

@@ -69,6 +69,8 @@ class Expr:
 
 def _post_order(root: Expr, visit):
     """``visit(node, results of its children)`` for every node, children first, without recursion."""
+    if not root.children():         # most operands are one number or name: no stack for them
+        return visit(root, [])
     results: list = []
     stack: list[tuple[Expr, bool]] = [(root, False)]
     while stack:

@@ -54,6 +54,11 @@ class MachineSyntax:
         self.reserved = {name.lower(): name for name in visible}
         self.checkable = {**self.reserved, **{f.lower(): f for f in machine.flags}}
         self.register_kinds = [k for k in machine.operand_kinds.values() if k.is_register]
+        self.register_numbers = {k.name: {r.lower(): i for i, r in enumerate(k.registers)}
+                                 for k in self.register_kinds}
+        """Operand kind → register name (lower case) → the number the field holds for it."""
+        self.shortest_cycles = {ins.index: ins.cycles(machine).shortest for ins in machine.instructions}
+        """Instruction index → its clock cycles along the shortest path, for the listing."""
         self.register_patterns = [(p, k) for k in self.register_kinds if (p := _numbered(k))]
 
     def suggest_mnemonic(self, word: str) -> str:
@@ -88,13 +93,15 @@ class MachineSyntax:
             if outcome is not None and register_problem is None:
                 register_problem = outcome
         if register_problem:
-            raise register_problem
+            expr, kind = register_problem
+            raise FormError(self.not_a_register(expr.text(), kind), expr.line, expr.column)
         ways = " | ".join(ins.display for ins in sorted(forms, key=lambda ins: ins.index))
         raise FormError(f"{mnemonic} takes: {ways}", line.line, line.column)
 
-    def _try(self, ins: Instruction, operands: list[Operand]) -> Chosen | FormError | None:
-        """The binding of operands to this form; a FormError when only a
-        register name is wrong; None when the shape does not fit."""
+    def _try(self, ins: Instruction, operands: list[Operand]) -> Chosen | tuple[Expr, OperandKind] | None:
+        """The binding of operands to this form; the first operand and its kind when only a
+        register name is wrong (the message is worded only if no other form fits); None when
+        the shape does not fit."""
         registers, values, problem = {}, {}, None
         for pattern, operand in zip(ins.operands, operands):
             if pattern.field is None:
@@ -107,24 +114,15 @@ class MachineSyntax:
                 return None
             kind = ins.fields[pattern.field].kind
             if kind.is_register:
-                index = _register_index(expr, kind)
+                index = self.register_numbers[kind.name].get(expr.name.lower()) if isinstance(expr, Name) else None
                 if index is None:
-                    problem = problem or FormError(self.not_a_register(expr.text(), kind),
-                                                   expr.line, expr.column)
+                    problem = problem or (expr, kind)
                 registers[pattern.field] = index
             elif isinstance(expr, Name) and expr.name.lower() in self.reserved:
                 return None
             else:
                 values[pattern.field] = expr
         return problem or Chosen(ins, registers, values)
-
-
-def _register_index(expr: Expr, kind: OperandKind) -> int | None:
-    if not isinstance(expr, Name):
-        return None
-    lowered = [r.lower() for r in kind.registers]
-    name = expr.name.lower()
-    return lowered.index(name) if name in lowered else None
 
 
 def _numbered(kind: OperandKind):

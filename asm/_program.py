@@ -91,12 +91,13 @@ class Program:
                     rows.append(f"{head}  {cycles:>3}  {place:<14} {text}")
                 else:
                     rows.append(head.rstrip())
-        if self.symbols:
+        symbols = self.symbols      # made anew on each use: once here, not once per symbol
+        if symbols:
             rows.append("")
             rows.append("; symbols")
-            for name in sorted(self.symbols):
+            for name in sorted(symbols):
                 kind = "label" if name in self.labels else "constant"
-                rows.append(f";   {name:<16} {self.symbols[name]:#0{address_width + 2}x}  {kind}")
+                rows.append(f";   {name:<16} {symbols[name]:#0{address_width + 2}x}  {kind}")
         return "\n".join(rows) + "\n"
 
 

@@ -11,13 +11,12 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from functools import cache
-from importlib import resources
 
 import lark
 from lark import v_args
 
 from ._errors import Diagnostic
-from emu.description.notation import GRAMMAR_IMPORTS, char_value, decode_escapes, literal_value
+from emu.description.notation import char_value, decode_escapes, literal_value, packaged_parser
 
 from ._expr import Binary, Call, Expr, Group, Here, Invalid, Name, Number, Unary
 
@@ -112,6 +111,16 @@ class Line:
     body: InstructionLine | Directive | Assignment | None
 
 
+_BINDING = {"|": 1, "^": 2, "&": 3, "<<": 4, ">>": 4, "+": 5, "-": 5, "*": 6, "/": 6, "%": 6}
+"""How tightly each binary operator binds, as in C; operators that bind alike group from the left."""
+
+
+def _fold(operands: list, operators: list) -> None:
+    """Join the last two operands by the last operator."""
+    right = operands.pop()
+    operands[-1] = Binary(operators.pop(), operands[-1], right)
+
+
 @v_args(inline=True)
 class _Build(lark.Transformer):
     """One method per grammar rule; each builds one statement or expression node."""
@@ -147,8 +156,18 @@ class _Build(lark.Transformer):
         value, problem = decode_escapes(str(token)[1:-1])
         return Text(value, problem, token.line, token.column)
 
-    def binary(self, left, op, right):
-        return Binary(str(op), left, right)
+    def expr(self, *chain):
+        """``a + b * c``: operands and operators in turn, grouped by ``_BINDING`` (shunting-yard)."""
+        operands, operators = [chain[0]], []
+        for index in range(1, len(chain), 2):
+            op = str(chain[index])
+            while operators and _BINDING[operators[-1]] >= _BINDING[op]:
+                _fold(operands, operators)
+            operators.append(op)
+            operands.append(chain[index + 1])
+        while operators:
+            _fold(operands, operators)
+        return operands[0]
 
     def unary(self, op, operand):
         return Unary(str(op), operand, op.line, op.column)
@@ -180,9 +199,7 @@ class _Build(lark.Transformer):
 
 @cache
 def _parser() -> lark.Lark:
-    grammar = resources.files("asm").joinpath("grammar/assembly.lark").read_text(encoding="utf-8")
-    return lark.Lark(grammar, parser="lalr", transformer=_Build(), maybe_placeholders=True,
-                     cache=False, import_paths=[GRAMMAR_IMPORTS])
+    return packaged_parser("asm", "grammar/assembly.lark", transformer=_Build(), maybe_placeholders=True)
 
 
 _TOKEN_WORDS = {

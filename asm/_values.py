@@ -90,6 +90,10 @@ class _Values:
             return None
         base = kind.distance_base(here, word_count)
         distance = target - base
+        wrapped = distance % self.machine.memory_words
+        for around in (wrapped, wrapped - self.machine.memory_words):
+            if not kind.low <= distance <= kind.high and kind.low <= around <= kind.high and 0 <= target:
+                distance = around       # pc wraps at the end of memory, as the disassembler counts
         if not kind.low <= distance <= kind.high:
             counted = "the next instruction" if kind.relative == "next" else "this instruction"
             self.error(file, expr.line, expr.column,

@@ -11,6 +11,7 @@ from emu.cli import main
 
 ROOT = Path(__file__).resolve().parent.parent
 PROGRAMS = ROOT / "programs"
+REF8_PROGRAMS = PROGRAMS / "ref8"
 ACC12 = str(ROOT / "tests" / "machines" / "acc12.toml")
 
 

@@ -1,8 +1,7 @@
-"""Shared helpers for engine tests: every machine file of the project, and random programs.
+"""Shared helpers for engine tests: every machine file of the project, booting and running.
 
-Programs are built with the machine's own encoder, not the assembler, so
-the engine tests stand on the description alone. Address-like fields draw
-small values so that jumps, loads and stores land inside the program.
+Random programs come from the public strategies in ``emu.testing`` (drawn from
+the machine's own instruction table), which ``relaybench check`` uses too.
 """
 
 from __future__ import annotations
@@ -11,7 +10,6 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
-from hypothesis import strategies as st
 
 from emu import Emulator, Observer, load_machine
 
@@ -99,31 +97,17 @@ def encode(machine, display: str, **values) -> list[int]:
     return instruction_named(machine, display).encode(values)
 
 
-@st.composite
-def instructions(draw, machine, span: int):
-    """One encoded instruction; halting ones drawn about one time in ten."""
-    halting = [i for i in machine.instructions if i.drives_halt]
-    others = [i for i in machine.instructions if not i.drives_halt]
-    ins = draw(st.sampled_from(halting)) if draw(st.integers(0, 9)) == 0 else draw(st.sampled_from(others))
-    values = {}
-    for name, fld in ins.fields.items():
-        kind = fld.kind
-        if kind.is_register:
-            values[name] = draw(st.integers(0, len(kind.registers) - 1))
-        elif kind.high >= span:
-            values[name] = draw(st.integers(0, span))
-        else:
-            values[name] = draw(st.integers(kind.low, kind.high))
-    return ins.encode(values)
-
-
-@st.composite
-def programs(draw, machine, max_instructions: int = 24):
-    count = draw(st.integers(1, max_instructions))
-    words: list[int] = []
-    for _ in range(count):
-        words.extend(draw(instructions(machine, span=3 * count)))
-    return words
+def after_step_press(machine, index: int) -> tuple[int, int]:
+    """(pulses given, phase index after) of one STEP press with the ring frozen at ``index``,
+    as the description says: one panel pulse with the ring standing still, or
+    (``step = "hold"``) the ring's own pulses up to the hold point it reaches next."""
+    if machine.step_press == "pulse":
+        return 1, index
+    pulses = machine.pulses_per_step_press()[machine.phases[index].name]
+    index = (index + 1) % len(machine.phases)
+    while not machine.phases[index].hold:
+        index = (index + 1) % len(machine.phases)
+    return pulses, index
 
 
 def boot(machine, words, switches: int = 0, input_bytes: bytes = b"") -> Emulator:
@@ -147,17 +131,6 @@ def full_state(emu: Emulator) -> tuple:
             emu._seq, emu.frozen, emu.halt_latch, emu.halt_address)
 
 
-def run_resuming(emu: Emulator, cycles: int) -> list[str]:
-    """Run a cycle budget, pressing RESUME at every halt; the stop reasons in order."""
-    target, reasons = emu.cycles + cycles, []
-    while emu.cycles < target:
-        reason = emu.run(max_cycles=target - emu.cycles)
-        reasons.append(reason.kind)
-        if reason.kind == "halted":
-            emu.press_resume()
-    return reasons
-
-
 # ----- one-program runs for the instruction tests ---------------------------------------
 
 @dataclass
@@ -168,12 +141,38 @@ class Run:
     stop: object
 
 
+def assert_only_changes(run: Run, names: list[str], expected: dict[str, int], memory_changes=None) -> None:
+    """Each of ``names`` holds its ``expected`` value, every memory word its value from
+    before the run but for ``memory_changes`` ({address: value})."""
+    machine = run.emu
+    for name in names:
+        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
+    expected_memory = list(run.memory_before)
+    for address, value in (memory_changes or {}).items():
+        expected_memory[address] = value
+    assert list(machine.memory) == expected_memory
+
+
 def encode_forms(forms: dict, *parts: tuple[str, dict]) -> list[int]:
     """Words of the instruction forms given as (display, field values)."""
     words = []
     for display, values in parts:
         words += forms[display].encode(values)
     return words
+
+
+def one_instruction(machine, words, path: str, at: int, values=None) -> Emulator:
+    """An emulator that has run exactly one instruction: ``words`` loaded at ``at`` and
+    started there, with ``values`` set first, on the ``path`` asked for."""
+    emulator = Emulator(machine)
+    if path == "stepped":
+        emulator.observe(Observer())
+    emulator.load([(at, words)])
+    for name, value in {machine.program_counter: at, **(values or {})}.items():
+        emulator.set(name, value)
+    emulator.advance_instruction()
+    assert emulator.instructions == 1
+    return emulator
 
 
 def run_program(machine, words, path: str, *, values=None, memory=None, switches=0, input_bytes=b"",

@@ -1,10 +1,12 @@
 """The assembly language ("Assembly language in brief" in emu/machines/ref8.md) on
 both test machines: numbers, expressions, directives, forward references, operand forms, .expect."""
 
+import ast
+import gc
 from pathlib import Path
 
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import assume, given, settings, strategies as st
 
 import asm
 import emu
@@ -69,6 +71,68 @@ def test_expressions_agree_with_python(expr):
     # Outside reference: Python's integer operators, which share C's meaning
     # for + - * & | ^ << >> on these operands (Python Language Reference §6).
     assert value_of(expr) == eval(expr)
+
+
+def _python_value(text):
+    """Python's value of an expression, or None where the assembler rightly refuses it: a shift
+    count outside 0…64, or a value (the whole or a part) of 256 bits or more."""
+    parts = [node for node in ast.walk(ast.parse(text, mode="eval")) if isinstance(node, ast.BinOp)]
+
+    def value(node):
+        return eval(compile(ast.Expression(node), "<part>", "eval"))
+    if any(isinstance(p.op, (ast.LShift, ast.RShift)) and not 0 <= value(p.right) <= 64 for p in parts):
+        return None
+    if any(abs(value(p)) >= 1 << 256 for p in parts):
+        return None
+    return eval(text)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(0, 10_000), st.lists(st.tuples(_ops, st.integers(0, 12)), max_size=7))
+def test_unbracketed_expressions_group_by_precedence_as_in_python(first, rest):
+    # Outside reference: Python ranks these operators as C does (* over + - over << >> over &
+    # over ^ over |, each group from the left; Python Language Reference §6.17, ISO C99 §6.5).
+    text = " ".join([str(first), *(f"{op} {n}" for op, n in rest)])
+    expected = _python_value(text)
+    assume(expected is not None)
+    assert value_of(text) == expected
+
+
+def test_the_cycle_collector_rests_while_a_long_program_is_assembled():
+    """Its walks over the assembly's many live objects made long programs cost more per line.
+    Each collection counts (the interpreter's gc.callbacks); the caller's setting comes back."""
+    program = "".join(f"k{i} = {i} + 1\n" for i in range(20_000)) + "nop\n"
+    collections = []
+
+    def count(phase, _info):
+        if phase == "start":
+            collections.append(1)
+    gc.callbacks.append(count)
+    try:
+        asm.assemble_text(program, REF8)
+        assert gc.isenabled() and len(collections) <= 2      # one as it comes back on, at most
+        gc.disable()
+        collections.clear()
+        asm.assemble_text(program, REF8)
+        assert not gc.isenabled() and collections == []
+    finally:
+        gc.enable()
+        gc.callbacks.remove(count)
+
+
+def test_an_assembly_leaves_no_reference_cycle_that_grows_with_the_program():
+    """Freed by reference counting as soon as it ends, not kept (with every record of both
+    passes) until the cycle collector comes round; gc.collect() counts what only it can free."""
+    def cyclic_garbage(lines):
+        program = "".join(f"l{i}: ld r1, [l{i}]\n.byte {i % 200}\n" for i in range(lines)) + "halt\n"
+        gc.collect()
+        gc.disable()
+        try:
+            asm.assemble_text(program, REF8)
+            return gc.collect()
+        finally:
+            gc.enable()
+    assert cyclic_garbage(2000) == cyclic_garbage(10)
 
 
 def test_forward_references_and_dollar():

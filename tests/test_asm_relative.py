@@ -105,3 +105,14 @@ def test_a_signed_or_relative_key_on_a_register_kind_is_refused():
     with pytest.raises(emu.MachineError) as caught:
         machine_text('imm = { bits = 4 }', 'imm = { registers = ["acc"], signed = true }')
     assert "'signed' is for number operands" in str(caught.value)
+
+
+def test_a_branch_back_past_address_0_wraps_round_the_end_of_memory():
+    """br at 2 (next is 4) to 0xFF: 4 − 5 = −1, which is 0xFF in alu4's 256 words (8-bit pc),
+    so the distance is −5 = 16 − 5 = 0xB; the disassembler writes it back as 0xFF
+    (found by ``relaybench check --machine alu4.toml``, round trip)."""
+    program = asm.assemble_text("stop\nstop\nbr 0xFF\n", ALU4)
+    assert program.flat() == [0, 0, 5, 0xB]
+    assert "br 0xFF" in asm.disassemble(ALU4, program.flat(), 0)[-1]
+    with pytest.raises(asm.AsmError, match="124 words from the next instruction"):
+        asm.assemble_text("stop\nstop\nbr 0x80\n", ALU4)

@@ -14,7 +14,7 @@ import emu.cli
 from emu.runs import load_program, report, run_loaded
 from emu.formatting import duration_text, rate_text
 
-from cli_support import ACC12, PROGRAMS, cli, write
+from cli_support import ACC12, REF8_PROGRAMS, cli, write
 
 SPEC_KEYS = {"status", "pc", "cycles", "instructions", "sim_seconds", "registers", "flags", "lamps",
              "output", "pauses", "warnings", "dumps"}
@@ -274,9 +274,9 @@ def test_no_progress_bar_when_piped(capsys, tmp_path, monkeypatch, attached):
 
 def test_run_takes_the_panel_file_and_options_win_over_it(capsys):
     """tickets.panel.toml gives switches 0x82 and three groups; --input-text replaces the groups."""
-    code, out, _err = cli(capsys, "run", PROGRAMS / "tickets.asm", "--json")
+    code, out, _err = cli(capsys, "run", REF8_PROGRAMS / "tickets.asm", "--json")
     assert code == 0 and "3 groups, 49 passengers, 42140p" in json.loads(out)["output"]
-    code, out, _err = cli(capsys, "run", PROGRAMS / "tickets.asm", "--json", "--input-text", "5\\n")
+    code, out, _err = cli(capsys, "run", REF8_PROGRAMS / "tickets.asm", "--json", "--input-text", "5\\n")
     output = json.loads(out)["output"]
     assert code == 0 and "return to Far Ness" in output          # switches still from the panel file
     assert "group of 5: 4300p\n1 groups, 5 passengers, 4300p" in output

@@ -26,9 +26,9 @@ from emu import load_machine
 from emu.runs import (SweepPlan, SweepRows, load_program, parse_input, parse_output, run_loaded, start_emulator,
                       sweep_locally)
 
-from cli_support import ACC12, PROGRAMS, ROOT, cli, write
+from cli_support import ACC12, REF8_PROGRAMS, ROOT, cli, write
 
-TOLLS = PROGRAMS / "tolls.asm"
+TOLLS = REF8_PROGRAMS / "tolls.asm"
 
 
 def _rows(text: str) -> list[list[str]]:

@@ -46,7 +46,7 @@ def test_generated_source_compiles_and_parses(name):
 @pytest.mark.parametrize("name", list(MACHINES))
 def test_every_micro_step_function_has_its_text_as_docstring(name):
     machine = MACHINES[name]
-    fetch_steps, instruction_steps, _jumps, _fused, _run, _watching = built(machine)
+    fetch_steps, instruction_steps, _jumps, _fused, _run, _watching, _stopping = built(machine)
     assert [f.__doc__ for f in fetch_steps] == [step.text for step in machine.fetch]
     assert [f.__name__ for f in fetch_steps] == [f"fetch_{i + 1}" for i in range(len(machine.fetch))]
     for ins, functions in zip(machine.instructions, instruction_steps, strict=True):
@@ -59,7 +59,7 @@ def test_every_micro_step_function_has_its_text_as_docstring(name):
 @pytest.mark.parametrize("name", list(MACHINES))
 def test_every_form_has_a_fused_function_named_after_it(name):
     machine = MACHINES[name]
-    _fetch, _steps, _jumps, fused, _run, _watching = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching, _stopping = built(machine)
     for word, index in enumerate(machine.decode_table):
         function = fused[word]
         if index < 0 or machine.instructions[index].drives_halt:
@@ -83,7 +83,7 @@ def test_every_form_has_a_fused_function_named_after_it(name):
 def test_fused_function_names(name, display, word_values, expected):
     machine = MACHINES[name]
     ins = next(i for i in machine.instructions if i.display == display)
-    _fetch, _steps, _jumps, fused, _run, _watching = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching, _stopping = built(machine)
     assert fused[ins.encode(word_values)[0]].__name__ == expected
 
 
@@ -272,7 +272,7 @@ def test_carry_and_overflow_are_computed_only_for_flags_the_step_sets(display, w
     """``c_N``/``o_N`` are the compiler's fresh names for carry-out and overflow."""
     machine = MACHINES["ref8"]
     ins = next(i for i in machine.instructions if i.display == display)
-    _fetch, _steps, _jumps, fused, _run, _watching = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching, _stopping = built(machine)
     assert fused[ins.encode(word_values)[0]].__name__ == function
     names = assigned_names(function_defs(compile_machine(machine).source)[function])
     assert {name.split("_")[0] for name in names if name[:2] in ("c_", "o_")} == computed

@@ -14,8 +14,9 @@ from hypothesis import strategies as st
 from hypothesis.stateful import initialize
 
 from emu import Emulator, Observer
+from emu.testing import programs, run_resuming
 
-from engine_support import MACHINES, boot, encode, full_state, programs, run_resuming
+from engine_support import MACHINES, boot, encode, full_state
 from test_engine_properties import SETTINGS, PanelMachine
 
 BOTH = pytest.mark.parametrize("machine_name", ["ref8", "acc12"])

@@ -9,8 +9,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from emu import Emulator, MachineError, Observer
+from emu.testing import programs, run_resuming
 
-from engine_support import (MACHINES, boot, encode, full_state, plain_words, programs, run_resuming,
+from engine_support import (MACHINES, after_step_press, boot, encode, full_state, plain_words,
                             skip_unless_properties_run)
 
 EVERY_MACHINE = pytest.mark.parametrize("machine_name", MACHINES)
@@ -109,9 +110,11 @@ def test_steps_work_while_halted_and_the_latch_stays_set(machine_name):
     emu = boot(machine, encode(machine, machine.pause) + plain_words(after))
     emu.run(max_cycles=100)
     cycles, index = emu.cycles, emu.phase_index
+    first, middle = after_step_press(machine, index)
+    second, last = after_step_press(machine, middle)
     assert emu.press_step() and emu.press_step()
     assert emu.halt_latch and emu.frozen
-    assert emu.cycles == cycles + 2 and emu.phase_index == index
+    assert emu.cycles == cycles + first + second and emu.phase_index == last
     emu.set_switch_run(False)
     emu.press_resume()
     assert emu.frozen and not emu.halt_latch, "RESUME at stop stays frozen"

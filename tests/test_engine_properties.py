@@ -20,9 +20,11 @@ from hypothesis import HealthCheck, settings
 from hypothesis import strategies as st
 from hypothesis.stateful import RuleBasedStateMachine, initialize, invariant, precondition, rule
 
-from emu import Emulator, Observer
+from emu import Emulator
+from emu.checks import PulseWatch
+from emu.testing import programs
 
-from engine_support import MACHINES, boot, datapath_state, programs, skip_unless_properties_run
+from engine_support import MACHINES, after_step_press, boot, datapath_state, skip_unless_properties_run
 
 SETTINGS = settings(max_examples=40, stateful_step_count=40, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
@@ -53,28 +55,18 @@ class _Reference:
         return self.states[count]
 
 
-class _PulseWatch(Observer):
-    """Checks P1 as it happens: every generator pulse lasts its nominal time.
-
-    Also counts the generator's pulses since the halt latch was set, for P5.
-    """
+class _PulseWatch(PulseWatch):
+    """P1 as it happens (the watch ``relaybench check`` uses): every generator pulse lasts
+    its nominal time. Also counts the generator's pulses since the halt latch was set, for P5."""
 
     def __init__(self, machine):
-        self.machine = machine
-        self.rise = None
+        super().__init__(machine)
         self.pulses_since_latch = None
 
     def edge(self, emu, level):
-        if emu.frozen:          # a panel STEP pulse, not the generator's
-            return
-        if level == 1:
-            self.rise = (emu.time_ns, emu.phase_index)
-        elif self.rise is not None:
-            start, index = self.rise
-            assert emu.time_ns - start == _nominal_high_run(self.machine, index)
-            self.rise = None
-            if self.pulses_since_latch is not None:
-                self.pulses_since_latch += 1
+        super().edge(emu, level)
+        if level == 0 and not emu.frozen and self.pulses_since_latch is not None:
+            self.pulses_since_latch += 1
 
     def latch(self, emu, is_set):
         self.pulses_since_latch = 0 if is_set else None
@@ -82,14 +74,6 @@ class _PulseWatch(Observer):
     def panel(self, emu, action):
         if action == "step" and emu.frozen:
             self.pulses_since_latch = None     # the panel moved the machine on: no claim
-
-
-def _nominal_high_run(machine, index: int) -> int:
-    total, phases = 0, machine.phases
-    while phases[index].level == 1:
-        total += phases[index].duration_ns
-        index = (index + 1) % len(phases)
-    return total
 
 
 def _phases_to_hold(machine, index: int, released: bool) -> int:
@@ -100,6 +84,16 @@ def _phases_to_hold(machine, index: int, released: bool) -> int:
     while not phases[index].hold:
         index, count = (index + 1) % len(phases), count + 1
     return count
+
+
+def _nominal_time_to_hold(machine, index: int) -> int:
+    """The nominal time from entering ``index`` to entering the next hold point."""
+    phases, total = machine.phases, 0
+    while True:
+        total += phases[index].duration_ns
+        index = (index + 1) % len(phases)
+        if phases[index].hold:
+            return total
 
 
 def _cycles_after_latch_bound(machine) -> int:
@@ -157,7 +151,7 @@ class PanelMachine(RuleBasedStateMachine):
 
     @rule()
     def press_step(self):
-        """P3, and the latch part of P5."""
+        """P3: one STEP press gives what the description says, and the latch part of P5."""
         emu = self.emu
         before = (_fingerprint(emu), emu.cycles, emu.phase_index, emu.time_ns, emu._seq)
         was_frozen, latch = emu.frozen, emu.halt_latch
@@ -166,12 +160,16 @@ class PanelMachine(RuleBasedStateMachine):
         if not was_frozen:
             assert (_fingerprint(emu), emu.cycles, emu.phase_index, emu.time_ns, emu._seq) == before
             return
-        assert emu.cycles == before[1] + 1
-        assert emu.phase_index == before[2], "a STEP pulse must not move the ring"
         assert emu.frozen
-        assert emu._seq != before[4] or self._single_step_instruction(before[4])
         if latch:
             assert emu.halt_latch, "the latch stays set through steps"
+        pulses, index = after_step_press(self.machine, before[2])
+        assert emu.cycles == before[1] + pulses
+        assert emu.phase_index == index, "the ring stands still, or runs to the next hold point"
+        if self.machine.step_press == "hold":
+            assert emu.time_ns - before[3] == _nominal_time_to_hold(self.machine, before[2])
+            return
+        assert emu._seq != before[4] or self._single_step_instruction(before[4])
 
     def _single_step_instruction(self, seq) -> bool:
         """Whether a STEP may leave the sequencer where it was: a one-step fetch with no

@@ -15,8 +15,9 @@ from hypothesis import strategies as st
 
 from emu import Emulator, MachineError, Observer
 from emu.engine import Ring
+from emu.testing import programs
 
-from engine_support import MACHINES, boot, full_state, programs, skip_unless_properties_run
+from engine_support import MACHINES, boot, full_state, skip_unless_properties_run
 
 SETTINGS = settings(max_examples=30, deadline=None)
 

@@ -29,7 +29,7 @@ from hypothesis import strategies as st
 
 import emu
 
-from engine_support import Run, encode_forms, run_program
+from engine_support import Run, assert_only_changes, encode_forms, one_instruction, run_program
 
 ACC12 = emu.load_machine(Path(__file__).parent / "machines" / "acc12.toml")
 FORMS = {ins.display: ins for ins in ACC12.instructions}
@@ -97,13 +97,8 @@ def check(run: Run, ran: list[str | None], changes: dict[str, int],
     to_stop = cycles_of(*ran)
     extra = to_stop % 2
     assert machine.cycles == to_stop + extra
-    expected = {**run.before, "pc": (stop_at + 1 + extra) % 256, **changes}
-    for name in VISIBLE + FLAGS:
-        assert machine.get(name) == expected[name], f"{name}: {machine.get(name):#x} != {expected[name]:#x}"
-    expected_memory = list(run.memory_before)
-    for address, value in (memory_changes or {}).items():
-        expected_memory[address] = value
-    assert list(machine.memory) == expected_memory
+    assert_only_changes(run, VISIBLE + FLAGS, {**run.before, "pc": (stop_at + 1 + extra) % 256, **changes},
+                        memory_changes)
 
 
 # ----- transfers ------------------------------------------------------------------------
@@ -309,11 +304,5 @@ def test_undefined_word_runs_as_a_no_op_with_a_warning(path, word):
 @pytest.mark.parametrize("display", list(FORMS))
 def test_cycle_count_is_fetch_plus_steps(path, display):
     ins = FORMS[display]
-    machine = emu.Emulator(ACC12)
-    if path == "stepped":
-        machine.observe(emu.Observer())
-    machine.load([(0x10, ins.encode({name: 0x40 for name in ins.fields}))])
-    machine.set("pc", 0x10)
-    machine.advance_instruction()
-    assert machine.instructions == 1
+    machine = one_instruction(ACC12, ins.encode({name: 0x40 for name in ins.fields}), path, at=0x10)
     assert machine.cycles == len(ACC12.fetch) + len(ins.steps)

@@ -472,8 +472,8 @@ def test_micro_step_numbers_read_as_in_the_assembler():
                                  "each phase needs a name of its own"),
     ('syntax = "shr rd:reg"\nencoding = ["10000 rd"]\nsteps = ["rd <- shr(rd) sets z n c"]',
      'syntax = "shr rd:reg"\nencoding = ["10000 rd"]',
-     "ref8.toml:328: error: instruction 'shr rd': 'steps' must be a list of micro-step strings "
-     "(steps = [] for one that only fetches)"),
+     "ref8.toml:328: error: instruction 'shr rd': 'steps' must be a list of micro-step strings, or "
+     "tables { do = \"…\", lines = [\"…\"] } (steps = [] for one that only fetches)"),
 ], ids=["two phases of one name", "an instruction without steps"])
 def test_slips_a_typo_could_make(old, new, message):
     text = (Path(emu.__file__).parent / "machines" / "ref8.toml").read_text()

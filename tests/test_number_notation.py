@@ -81,7 +81,8 @@ def in_machine_file(spelling):
 
 def in_options(spelling):
     try:
-        return build_parser().parse_args(["run", "program.asm", f"--switches={spelling}"]).switches
+        argv = ["run", "program.asm", f"--switches={spelling}"]
+        return build_parser(argv).parse_args(argv).switches
     except SystemExit as exc:
         assert exc.code == 2
         return None

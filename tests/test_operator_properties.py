@@ -20,6 +20,8 @@ the acc12 case.
 
 from __future__ import annotations
 
+import dataclasses
+
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -155,6 +157,19 @@ def test_acc12_stepping_moves_where_later_halts_freeze():
     assert odd.emulator.warnings == ["undefined opcode at 0x0F ran as a no-op"]   # 'one: .word 1', fetched
     assert final_state(odd) == final_state(free)
     assert freeze_point(even) == freeze_point(free) == (15, [])
+
+
+def test_acc12_stepping_to_the_hold_point_leaves_later_halts_where_they_were():
+    """With [clock] step = "hold" one press runs both pulses of acc12's turn back to G1,
+    so any number of presses leaves every later freeze where the free run has it."""
+    machine, program, _pauses = runs("acc12")
+    machine = dataclasses.replace(machine, step_press="hold")
+    free = run_loaded(program, machine)
+    for presses in (1, 3):
+        stepped = run_loaded(program, machine, operator=(HaltAnswer(stop_after=1, steps=presses),))
+        assert [p["pc"] for p in stepped.pauses] == [10, 10, 10]
+        assert freeze_point(stepped) == freeze_point(free) == (15, [])
+        assert final_state(stepped) == final_state(free)
 
 
 class PanelOperator(RuleBasedStateMachine):

@@ -49,3 +49,21 @@ def test_the_setup_commands_make_their_own_virtual_environment():
     assert len(commands) == 2
     for line in commands:
         assert line.startswith("python3 -m venv .venv && .venv/bin/pip install ")
+
+
+def test_the_property_of_your_own_routine_in_the_readme_runs_and_holds(tmp_path):
+    """The ten-line property the README shows a builder, run as written (its fixture given)."""
+    import importlib.util
+    from emu.testing import power_on
+    text = README.read_text(encoding="utf-8")
+    section = text[text.index("### Programs as pytest items"):]
+    example = section[section.index("```python\n") + 10:]
+    example = example[:example.index("```")]
+    assert len(example.strip().splitlines()) == 10
+    module_path = tmp_path / "readme_property.py"
+    module_path.write_text(example, encoding="utf-8")
+    spec = importlib.util.spec_from_file_location("readme_property", module_path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    [test] = [value for name, value in vars(module).items() if name.startswith("test_")]
+    test(powered_on=lambda program: power_on(README.parent / program))

@@ -20,6 +20,7 @@ import pytest
 from asm import assemble_text
 from emu import Emulator, MachineError
 from emu.description import machine_from_text
+from emu.timing import timing_model
 
 REFERENCE = Path(__file__).resolve().parent.parent / "emu" / "machines" / "README.md"
 _EXAMPLE = re.compile(r"<!-- (check|design): ([\w-]+)[^>]*-->\s*```toml\n(.*?)```", re.S)
@@ -178,3 +179,21 @@ def test_every_link_inside_the_reference_reaches_a_heading():
     links = re.findall(r"\]\(#([^)]+)\)", TEXT)
     assert len(links) > 10
     assert [link for link in links if link not in anchors] == []
+
+
+def test_the_two_pulse_clock_example_steps_to_its_hold_point_and_is_timed_by_its_parts():
+    """The clock example: STEP gives both pulses of a turn (60 + 100 ms high), and the
+    parts give the phase table (within the file's default 5 %)."""
+    part = next(body for mark, body in CHECKED if 'power_on = "C"' in body)
+    machine = machine_from_text(with_part("replaces", part), "count8-two-pulse.toml")
+    assert machine.step_press == "hold" and machine.phases[machine.power_on_phase].name == "C"
+    assert machine.pulses_per_step_press() == {"C": 2}
+    assert machine.timing.phase_event == ("charge", "discharge") * 3
+    seconds = timing_model(machine).nominal_phase_seconds()
+    assert seconds == pytest.approx([0.020, 0.060, 0.020, 0.100, 0.030, 0.060], rel=0.01)
+    emu = Emulator(machine)
+    emu.load([(0, [1, 9, 0])])          # lda 9, stop
+    emu.set_switch_run(False)
+    emu.run(max_cycles=10)
+    assert emu.press_step() and (emu.cycles, emu.time_ns) == (2, 290_000_000)
+    assert emu.get("a") == 9

@@ -214,7 +214,7 @@ CLR = 'encoding = ["1111", "0010"]\ndecode_words = 2\nsteps = ["t <- mem[pc]; pc
     (CLR, CLR.replace('"t <- mem[pc]; pc <- pc + 1"', '"t <- mem[pc]; pc <- pc + 1; b <- a"'),
      'encoding = ["1111", "0010"]',
      "instruction 'clr': it is decoded together with instruction 'swap', so their steps up to the one "
-     "fetching the last decoding word must be the same text; they differ"),
+     "fetching the last decoding word must be the same text, driving the same control lines; they differ"),
     ('steps = ["end if !z", "pc <- pc + 1"]', 'steps = ["goto 5 if !z", "pc <- pc + 1"]',
      'steps = ["end if !z", "pc <- pc + 1"]',
      "instruction 'skz' step 2: goto 5: the instruction's own steps are numbered 2…3 (step 1 is "

@@ -10,9 +10,9 @@ import vcdvcd
 from emu import load_machine
 from emu.debugger import Session, load_view
 
-from cli_support import ACC12, PROGRAMS, cli, write
+from cli_support import ACC12, REF8_PROGRAMS, cli, write
 
-FARES = PROGRAMS / "fares.asm"
+FARES = REF8_PROGRAMS / "fares.asm"
 
 
 def _rising_edges(path, name) -> int:

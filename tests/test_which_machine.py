@@ -99,7 +99,7 @@ def test_an_unknown_machine_in_a_directive_is_a_located_error(capsys, bench):
     code, _out, err = cli(capsys, "run", prog)
     assert code == 1
     lines = err.splitlines()
-    assert lines[0] == (f"{prog}:2:11: error: no machine 'lnk8': not a shipped machine (ref8) nor a machine "
+    assert lines[0] == (f"{prog}:2:11: error: no machine 'lnk8': not a shipped machine (ref8, skep) nor a machine "
                         f"file (a path is relative to the program file)")
     assert lines[1:] == ['    .machine  "lnk8"', "              ^"]
 
@@ -110,7 +110,7 @@ def test_an_unknown_machine_in_a_panel_file_names_its_line(capsys, bench):
     assert code == 1
     panel = prog.with_name("typo.panel.toml")
     assert (f"      {panel}:2: error: 'machine': no machine 'machines/link8.toml': not a shipped machine "
-            f"(ref8) nor a machine file (a path is relative to the panel file)") in out.splitlines()
+            f"(ref8, skep) nor a machine file (a path is relative to the panel file)") in out.splitlines()
 
 
 def test_a_panel_machine_that_is_not_a_string_is_refused(capsys, bench):

@@ -1,6 +1,6 @@
 """Sub-commands of ``relaybench``; the table lives in ``emu.cli.COMMANDS``.
 
-Each sub-command is a module of its own with ``SUMMARY``, ``add_arguments``
+Each sub-command is a module of its own with ``add_arguments``
 and ``main``; ``_options`` holds the option types they share and
 ``_progress`` the progress bar shown on a terminal.
 """

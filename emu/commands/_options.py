@@ -23,11 +23,14 @@ __all__ = [
 ]
 
 
-def add_machine_option(parser: argparse.ArgumentParser, *, per_program: bool = False) -> None:
-    default = ("the program's .machine directive, else its panel file's machine, else ref8" if per_program
-               else DEFAULT_MACHINE)
+def add_machine_option(parser: argparse.ArgumentParser, *, per_program: bool = False,
+                       default: str | None = DEFAULT_MACHINE) -> None:
+    """``--machine FILE``; ``default`` is what the help names when it is left out (None: no default)."""
+    if per_program:
+        default = "the program's .machine directive, else its panel file's machine, else ref8"
+    shown = f" (default: {default})" if default is not None else ""
     parser.add_argument("--machine", metavar="FILE", default=None,
-                        help=f"machine description: a shipped name or a .toml file (default: {default})")
+                        help=f"machine description: a shipped name or a .toml file{shown}")
 
 
 def add_panel_options(parser: argparse.ArgumentParser) -> None:

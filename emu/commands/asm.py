@@ -19,7 +19,6 @@ from ..formatting import count_text
 from ..runs import ProgramError
 from ._options import add_machine_option, keep_parser, machine_for_program, usage_error
 
-SUMMARY = "assemble a program into Intel HEX or a raw binary, a listing and a debug file"
 
 _IMAGE_SUFFIX = {"hex": ".hex", "bin": ".bin"}
 _FORMATS = ("bin", "hex")

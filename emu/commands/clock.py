@@ -23,7 +23,6 @@ from ._progress import Progress, terminal_attached
 from ..timing import METRICS, PERCENTILES, has_timing, monte_carlo, timing_model
 from ._options import add_machine_option, keep_parser, machine_from, number, seed, usage_error
 
-SUMMARY = "clock timing: nominal rate, and the spread that tolerances of the parts give"
 MAX_SAMPLES = 5_000_000
 HISTOGRAM_BINS = 16
 HISTOGRAM_WIDTH = 40
@@ -78,7 +77,7 @@ def main(args) -> int:
     if args.json:
         print(json.dumps(report, indent=2))
     elif args.csv != "-":
-        print(_text(report, samples))
+        print(_text(report, samples, machine))
     return 0
 
 
@@ -132,7 +131,7 @@ def _write_csv(samples, target: str) -> None:
 
 # ----- text -------------------------------------------------------------------
 
-def _text(report: dict, samples) -> str:
+def _text(report: dict, samples, machine) -> str:
     nominal = report["nominal"]
     out = [f"{report['title']} ({report['machine']})",
            f"nominal, from the phase table: {rate_text(nominal['rate_hz'])}, period "
@@ -142,9 +141,10 @@ def _text(report: dict, samples) -> str:
     for i, row in enumerate(report["phases"]):
         line = f"  {row['name']:<8}{'high' if row['level'] else 'low':<7}{row['table_ms']:>7.1f} ms"
         if timed:
-            stage = samples.model.stages[samples.model.phase_stage[i]]
-            how = "charging to pick-up" if stage.mode == "charge" else "discharging to drop-out"
-            line += f"{row['parts_ms']:>8.1f} ms  stage {stage.number}, {how}"
+            model = samples.model
+            stage = model.stages[model.phase_stage[i]]
+            how = "charging to pick-up" if model.phase_event[i] == "charge" else "discharging to drop-out"
+            line += f"{row['parts_ms']:>8.1f} ms  {machine.stage_relay(stage.number)}, {how}"
         if row["hold"]:
             line += "  (hold point)"
         out.append(line.rstrip())

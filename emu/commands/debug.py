@@ -9,7 +9,6 @@ from emu.runs import panel_path_for
 
 from ._options import add_machine_option, add_panel_options, keep_parser, machine_for_program, panel_settings
 
-SUMMARY = "debug a program at the machine's panel in the terminal"
 
 
 def add_arguments(parser) -> None:

@@ -17,7 +17,6 @@ from ..files import write_atomic
 from ..runs import ProgramError
 from ._options import add_machine_option, keep_parser, machine_for_program
 
-SUMMARY = "disassemble an Intel HEX or raw binary image, with labels from its debug file"
 
 
 def add_arguments(parser) -> None:

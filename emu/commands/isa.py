@@ -17,7 +17,6 @@ from ..description.notation import Call, walk
 from ..formatting import rate_text
 from ._options import add_machine_option, keep_parser, machine_from, usage_error
 
-SUMMARY = "print the instruction table (encoding, micro-steps, cycles, flags) of a machine"
 
 
 def add_arguments(parser) -> None:
@@ -125,11 +124,13 @@ def port_lines(machine: Machine) -> list[str]:
 
 def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     def steps(seq):
-        return [{"text": s.text, "control_lines": list(s.control_lines)} for s in seq]
+        return [{"text": s.text, "control_lines": list(s.control_lines),
+                 "gated_lines": [{"line": g.name, "if": g.text} for g in s.gated_lines]} for s in seq]
     return {
         "machine": machine.name, "title": machine.title, "data_bits": machine.data_bits,
         "address_bits": machine.address_bits, "memory_words": machine.memory_words,
         "nominal_hz": machine.nominal_hz, "pause": machine.pause, **datapath_json(machine),
+        "panel": panel_json(machine),
         "fetch": steps(machine.fetch),
         "ports": [{"direction": direction, "port": number, "device": name}
                   for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out))
@@ -150,6 +151,22 @@ def _cycles_json(cycles) -> dict:
     return {"cycles": str(cycles), "shortest": cycles.shortest, "longest": cycles.longest}
 
 
+def panel_json(machine: Machine) -> dict:
+    """What one STEP press gives (and, from each hold point, how many pulses), and the power-on phase."""
+    return {"step": machine.step_press, "pulses_per_step_press": machine.pulses_per_step_press(),
+            "power_on": machine.phases[machine.power_on_phase].name}
+
+
+def panel_text(machine: Machine) -> str:
+    power_on = machine.phases[machine.power_on_phase].name
+    if machine.step_press == "pulse":
+        return f"panel: a STEP press gives one pulse (one micro-step), the ring standing still; powers on at {power_on}"
+    reach = ", ".join(f"{n} pulse{'s' if n != 1 else ''} from {name}"
+                      for name, n in machine.pulses_per_step_press().items())
+    return (f"panel: a STEP press lets the ring run to the next hold point ({reach}); "
+            f"powers on at {power_on}")
+
+
 def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -> str:
     holds = ", ".join(p.name for p in machine.phases if p.hold)
     fetch = len(machine.fetch)
@@ -158,10 +175,11 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         f"{machine.data_bits}-bit words, {machine.address_bits}-bit addresses, {machine.memory_words:,} "
         f"words of memory; {rate_text(machine.nominal_hz)} nominal clock, {len(machine.phases)} phases "
         f"(hold at {holds}); one micro-step per cycle",
+        panel_text(machine),
         *datapath_text(machine),
         f"every instruction begins with the fetch ({fetch} cycle{'s' if fetch != 1 else ''}):",
     ]
-    lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(machine.fetch, 1)]
+    lines += [step_row(i, step) for i, step in enumerate(machine.fetch, 1)]
     ports = port_lines(machine)
     if ports:
         lines += ["ports:"] + ports
@@ -175,8 +193,14 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
         lines.append(f"{ins.display:<{syntax_width}}  {encodings[ins.index]:<{encoding_width}}  "
                      f"{str(ins.cycles(machine)):>6}  {flags}")
         if not brief:
-            lines += [f"  {i:>2}  {step.text}" for i, step in enumerate(ins.steps, fetch + 1)]
+            lines += [step_row(i, step) for i, step in enumerate(ins.steps, fetch + 1)]
     return "\n".join(lines) + "\n"
+
+
+def step_row(number: int, step) -> str:
+    """A micro-step as the table lists it: its number, its text and the control lines it drives."""
+    driven = f"   [{', '.join(step.listed_lines)}]" if step.listed_lines else ""
+    return f"  {number:>2}  {step.text}{driven}"
 
 
 def main(args) -> int:

@@ -18,12 +18,10 @@ from ..runs import (DEFAULT_MAX_CYCLES, ProgramError, load_program, operator_scr
                     start_emulator)
 from ..runs import format_summary
 from ..formatting import address_text, count_text, duration_text, rate_text
-from ..timing import count_wear, format_wear, record_vcd, spread_source
 from ._options import (add_machine_option, add_panel_options, check_range, cycle_count, cycle_start, keep_parser,
                        machine_for_program, memory_range, panel_settings, print_program_error, seed,
                        usage_error)
 
-SUMMARY = "run a program headless and report the machine at its halt"
 
 EXIT_HALTED = 0
 EXIT_CYCLE_LIMIT = 3
@@ -55,6 +53,12 @@ def add_arguments(parser) -> None:
 
 
 
+def _timing():
+    """``emu.timing``, imported only for a run that uses it: it brings numpy and the waveform writer."""
+    from .. import timing
+    return timing
+
+
 def _warn(message: str) -> None:
     print(f"relaybench: warning: {message}", file=sys.stderr, flush=True)
 
@@ -75,17 +79,18 @@ def main(args) -> int:
         operator = operator_script_for(args.program, machine)
     except ProgramError as exc:
         return print_program_error(exc)
+    timing = _timing() if args.clock_spread is not None or args.vcd is not None or args.wear else None
     if args.clock_spread is not None:
-        emulator.clock_source = spread_source(machine, args.clock_spread)
+        emulator.clock_source = timing.spread_source(machine, args.clock_spread)
     try:
         with ExitStack() as observers, Progress(enabled=terminal_attached() and not args.json) as progress:
             if args.vcd is not None:
                 try:
-                    observers.enter_context(record_vcd(emulator, args.vcd, start=args.vcd_from,
+                    observers.enter_context(timing.record_vcd(emulator, args.vcd, start=args.vcd_from,
                                                        cycles=args.vcd_cycles, warn=_warn))
                 except OSError as exc:
                     usage_error(args, f"argument --vcd: cannot write '{args.vcd}' ({exc.strerror or exc})")
-            wear = observers.enter_context(count_wear(emulator)) if args.wear else None
+            wear = observers.enter_context(timing.count_wear(emulator)) if args.wear else None
             bar = progress.line(args.program)
             result = run_loaded(program, machine, max_cycles=args.max_cycles,
                                 stop_at_pause=args.stop_at_pause, emulator=emulator, operator=operator,
@@ -117,5 +122,5 @@ def main(args) -> int:
                 (f", {count_text(args.vcd_cycles, 'cycle')})" if args.vcd_cycles else " to the end)")
             print(f"  waveform   {args.vcd}{window}")
         if wear_report is not None:
-            print(format_wear(wear_report))
+            print(timing.format_wear(wear_report))
     return EXIT_CYCLE_LIMIT if result.status == "cycle_limit" else EXIT_HALTED

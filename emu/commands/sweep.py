@@ -27,8 +27,6 @@ from ..files import write_atomic
 from ._options import (add_machine_option, add_panel_options, cycle_count, keep_parser, machine_for_program,
                        panel_settings, print_program_error, seed, usage_error)
 
-SUMMARY = "run a program over many inputs and check every result"
-
 EXIT_PASSED, EXIT_FAILED, EXIT_CYCLE_LIMIT, EXIT_INTERRUPTED = 0, 1, 3, 130
 DEFAULT_RUN_CYCLES = 1_000_000
 SHOWN_FAILURES = 10

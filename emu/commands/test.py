@@ -17,7 +17,6 @@ from ..errors import RelaybenchError
 from ..runs import PROGRAM_SUFFIX, MachineChooser, Verdict, check_program, collect_programs
 from ._options import add_machine_option, cycle_count, keep_parser, machine_from
 
-SUMMARY = "run programs and check their .expect lines; exit 0 when all pass"
 
 
 def add_arguments(parser) -> None:

@@ -8,6 +8,7 @@ it. Keeping the two apart lets every command be tested without a terminal.
 """
 
 from ._calls import CallShape, call_shape, inferred_call_shape
+from ._conditions import AnyOf, CallDepth, Count, Watch, Watches
 from ._panel import duration_text
 from ._live import LiveClock
 from ._program import Places, ProgramView, empty_view, load_view
@@ -20,7 +21,7 @@ from ._repl import (FRAME_SECONDS, HISTORY_VARIABLE, ctrl_c_is_the_stop_switch, 
                     run_repl, run_script)
 from ._trace import Recorder
 
-__all__ = ["inferred_call_shape", "duration_text", "AtBreakpoint", "Breakpoint", "COMMANDS", "CallShape", "ClockRun", "Command",
+__all__ = ["inferred_call_shape", "duration_text", "AnyOf", "AtBreakpoint", "CallDepth", "Count", "Watch", "Watches", "Breakpoint", "COMMANDS", "CallShape", "ClockRun", "Command",
            "CycleLimit", "DebugError", "FRAME_SECONDS", "GoalReached", "HISTORY_VARIABLE", "HaltedByProgram",
            "LiveClock", "Places", "PlantedHalt", "ProgramView", "Recorder", "ReplayMismatch", "RunPolicy", "Session",
            "SteppingInterrupted", "Stop", "StoppedBySwitch", "WatchFired", "call_shape",

@@ -53,33 +53,35 @@ def do_throw(session, args):
     return session.released(was_frozen, "switch at RUN")
 
 
-@command("pulse [N]", "Press STEP N times: N clock pulses, one micro-step each.", repeats=True)
+@command("pulse [N]", "Press STEP N times: each press gives what the machine's [clock] step says.",
+         repeats=True)
 def do_pulse(session, args):
     """Works only while the generator is frozen at a hold point, as on the
-    panel; the ring does not move. Breakpoints are not checked; a halt or
-    pause, the cycle limit and Ctrl-C stop the pulses early. Each line shows
-    the control lines driven and the bus (as 'help panel' defines it)."""
+    panel. A press is one clock pulse, one micro-step, and the ring does not
+    move; on a machine whose [clock] step is "hold" a press lets the ring
+    run its own pulses up to the next hold point. Breakpoints are not
+    checked; a halt or pause, the cycle limit and Ctrl-C stop the presses
+    early. Each line shows a micro-step: the control lines driven and the
+    bus (as 'help panel' defines it)."""
     n = count(args, 1, "pulse count")
-    e = session.emu
+    e, m = session.emu, session.machine
     if not e.frozen:
         raise DebugError("STEP has no effect while the clock runs; 'throw stop' first")
-    rows, given, stop = [], 0, None
-    while stop is None and given < min(n, PULSE_REPORT):
-        step, (instruction, index) = e.current_step, e.sequencer
-        stop, _one = session.pulses(count=1, spent=given)
-        given += 1
-        doing = "fetch" if instruction is None else instruction.mnemonic
-        lines = ", ".join(step.control_lines) or "no lines"
-        rows.append(f"pulse {given}: {doing} step {index + 1}: {step.text}   [{lines}]   "
-                    f"bus {bus_text(session.machine, session.recorder.last_bus)}")
-    if stop is None and n > given:
-        stop, more = session.pulses(count=n - given, spent=given)
-        given += more
-    if given > PULSE_REPORT:
-        rows.append(f"… {given - PULSE_REPORT:,} more pulses")
-    if stop is not None:
-        rows.append(f"{stop.describe(session.places)} (after {given:,} of {n:,} pulses)")
-    latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch and stop is None else ""
+    given = session.pulses(count=n, keep=PULSE_REPORT)
+    by_press = m.step_press == "hold"
+    rows = []
+    for k, pressed in enumerate(given.first_steps, 1):
+        doing = "fetch" if pressed.instruction is None else pressed.instruction.mnemonic
+        lines = ", ".join(pressed.lines) or "no lines"
+        label = f"press {pressed.press}, pulse {k}" if by_press else f"pulse {k}"
+        rows.append(f"{label}: {doing} step {pressed.index + 1}: {pressed.step.text}   [{lines}]   "
+                    f"bus {bus_text(m, pressed.bus)}")
+    if given.pulses > len(given.first_steps):
+        rows.append(f"… {given.pulses - len(given.first_steps):,} more pulses")
+    if given.stop is not None:
+        unit = "presses" if by_press else "pulses"
+        rows.append(f"{given.stop.describe(session.places)} (after {given.presses:,} of {n:,} {unit})")
+    latch = "\nThe halt latch is set (STEP works all the same)." if e.halt_latch and given.stop is None else ""
     return "\n".join(rows) + f"\n{session.here_text()}{latch}"
 
 
@@ -167,7 +169,7 @@ def do_go(session, args):
 
 @command("instr [N]", "Execute N whole instructions (STEP pulses while frozen).", repeats=True)
 def do_instr(session, args):
-    return session.step(Count(count(args, 1, "instruction count")))
+    return session.step(Count(count(args, 1, "instruction count"), session.emu))
 
 
 @command("over", "Execute one instruction; a call runs until it has returned.", repeats=True)

@@ -1,7 +1,10 @@
 """Conditions the engine checks at instruction boundaries during a run.
 
-Each is a small object called as ``condition(emu)`` after every instruction
-the run completes (the engine's ``until``). They carry state (a count, a
+Each is a small object called as ``condition(emu)`` at instruction
+boundaries (the engine's ``until``). Each also says, with ``lookout(emu)``,
+where it can become true (an ``emu.Lookout``), and the engine asks it only
+there, so a watched run keeps the fast path; the stepping drives still ask
+after every instruction, which gives the same answers. They carry state (a
 call depth, the values last seen), so each has ``clone()``: the debugger
 replays the tail of a long run for the timing diagram and must start the
 replay with the condition exactly as it stood at the checkpoint.
@@ -11,25 +14,29 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from emu import Lookout
+
 from ._calls import CallShape
 
 __all__ = ["AnyOf", "CallDepth", "Count", "Watch", "Watches"]
 
 
 class Count:
-    """True after ``n`` instructions."""
+    """True once ``n`` instructions have been done from now (by the emulator's count)."""
 
-    def __init__(self, n: int):
-        self.left = n
+    def __init__(self, n: int, emu):
+        self.target = emu.instructions + n
         self.why = f"{n} instruction{'s' if n != 1 else ''} done"
 
     def __call__(self, emu) -> bool:
-        self.left -= 1
-        return self.left <= 0
+        return emu.instructions >= self.target
+
+    def lookout(self, emu) -> Lookout:
+        return Lookout(within=self.target - emu.instructions)
 
     def clone(self) -> "Count":
         twin = Count.__new__(Count)
-        twin.left, twin.why = self.left, self.why
+        twin.target, twin.why = self.target, self.why
         return twin
 
 
@@ -39,7 +46,11 @@ class CallDepth:
     ``stop_below=1`` steps over: one instruction, or a call and everything
     up to its return. ``stop_below=0`` leaves the routine running now.
     The instruction that just finished is the one that started at the
-    previous boundary, so its kind is read from memory there.
+    boundary where it was last asked, so its kind is read from memory there.
+    That holds when it is asked at the boundaries before and after every
+    call and return (its lookout): between those, no instruction moves the
+    depth. The first answer may be true at once, so it is asked after the
+    first instruction too.
     """
 
     def __init__(self, machine, shape: CallShape, start_address: int, stop_below: int, why: str):
@@ -48,8 +59,10 @@ class CallDepth:
         self.depth = 0
         self.stop_below = stop_below
         self.why = why
+        self.asked = False
 
     def __call__(self, emu) -> bool:
+        self.asked = True
         kind = self.shape.kind(self.machine, emu.memory[self.previous])
         self.previous = emu.pc
         if kind == "call":
@@ -58,9 +71,12 @@ class CallDepth:
             self.depth -= 1
         return self.depth < self.stop_below
 
+    def lookout(self, emu) -> Lookout:
+        return Lookout(instructions=self.shape.calls | self.shape.returns, within=None if self.asked else 1)
+
     def clone(self) -> "CallDepth":
         twin = CallDepth(self.machine, self.shape, self.previous, self.stop_below, self.why)
-        twin.depth = self.depth
+        twin.depth, twin.asked = self.depth, self.asked
         return twin
 
 
@@ -94,6 +110,10 @@ class Watches:
                 return True
         return False
 
+    def lookout(self, emu) -> Lookout:
+        return Lookout(registers=frozenset(w.name for w in self.watches if w.name is not None),
+                       memory=frozenset(w.address for w in self.watches if w.name is None))
+
     def clone(self) -> "Watches":
         twin = Watches.__new__(Watches)
         twin.watches, twin.seen, twin.why, twin.hit = self.watches, list(self.seen), self.why, self.hit
@@ -113,6 +133,12 @@ class AnyOf:
             if condition(emu) and not hit:
                 self.fired, hit = condition, True
         return hit
+
+    def lookout(self, emu) -> Lookout:
+        found = Lookout()
+        for condition in self.conditions:
+            found |= condition.lookout(emu)
+        return found
 
     def clone(self) -> "AnyOf":
         twin = AnyOf([c.clone() for c in self.conditions])

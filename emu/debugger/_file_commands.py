@@ -114,7 +114,7 @@ def do_waves(session, args):
         raise DebugError(f"already recording to {session.waves[0]}; 'waves off' writes it first")
     recording = ExitStack()
     try:
-        recording.enter_context(record_vcd(session.emu, args[0]))
+        recording.enter_context(record_vcd(session.emu, args[0], unit_ns=1))   # 'beat' may change the clock
     except OSError as exc:
         raise DebugError(f"cannot write {args[0]}: {exc.strerror or exc}") from None
     session.waves = (args[0], recording)

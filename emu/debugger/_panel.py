@@ -181,6 +181,9 @@ def panel_text(emu, state: str, view=None, bus=None) -> str:
     clock = "high" if phase.level else "low"
     if emu.frozen:
         clock += ", frozen at a hold point"
+        if m.step_press == "hold":
+            pulses = m.pulses_per_step_press()[phase.name]
+            clock += f"; STEP runs {pulses} pulse{'s' if pulses != 1 else ''} to the next"
     instruction, index = emu.sequencer
     total = instruction.cycles(m) if instruction else len(m.fetch)
     if instruction is None:
@@ -189,7 +192,7 @@ def panel_text(emu, state: str, view=None, bus=None) -> str:
         concrete, _length = asm.disassemble_at(m, emu.memory.__getitem__, emu.instruction_address, view)
         doing = f"{instruction.display} ({concrete} at {address_hex(m, emu.instruction_address)})"
     step = emu.current_step
-    lines = ", ".join(step.control_lines) or "none"
+    lines = ", ".join(emu.driven_lines()) or "none"
     data_bits = m.data_bits
     rows = [
         f"{m.name} panel — {state}",
@@ -216,6 +219,12 @@ _LEGEND = ("clock: ‾ high, _ low; █ a lit ring stage or a control line drive
 
 SCOPE_LABEL_ROOM = 10
 """Least room for the row names at the left of the scope."""
+_SCOPE_ROWS = ("cycle", "clock", "hold", "latch", "idle", "generator", "panel")
+
+
+def _row_name(name: str, kind: str) -> str:
+    """A stage's or line's row name: its own, unless one of the scope's fixed rows has it."""
+    return f"{kind} {name}" if name in _SCOPE_ROWS else name
 
 
 def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = False) -> str:
@@ -229,7 +238,8 @@ def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = Fals
             if line not in lines_seen:
                 lines_seen.append(line)
     any_idle = any(c.idle for c in columns)
-    label = max([SCOPE_LABEL_ROOM] + [len(n) + 1 for n in lines_seen])
+    stages = [_row_name(machine.stage_relay(s), "stage") for s in range(1, machine.ring_stages + 1)]
+    label = max([SCOPE_LABEL_ROOM] + [len(_row_name(n, "line")) + 1 for n in lines_seen + stages])
     per_block = max(width - label, 8)
     blocks = []
     for begin in range(0, len(columns), per_block):
@@ -238,12 +248,12 @@ def scope_text(columns: list[Column], machine, width: int = 80, gap: bool = Fals
             "cycle": _cycle_row(part),
             "clock": "".join(HIGH if c.level else LOW for c in part),
         }
-        for stage in range(1, machine.ring_stages + 1):
-            rows[f"stage {stage}"] = "".join(BAR if stage in c.ring else " " for c in part)
+        for stage, name in enumerate(stages, 1):
+            rows[name] = "".join(BAR if stage in c.ring else " " for c in part)
         rows["hold"] = "".join(HIGH if c.hold else LOW for c in part)
         rows["latch"] = "".join(HIGH if c.latch else LOW for c in part)
         for line in lines_seen:
-            rows[line] = "".join(BAR if line in c.lines else " " for c in part)
+            rows[_row_name(line, "line")] = "".join(BAR if line in c.lines else " " for c in part)
         if any_idle:
             rows["idle"] = "".join(IDLE if c.idle else " " for c in part)
         rows["generator"] = "".join({"frozen": "F", "pulse": "P"}.get(c.kind, " ") for c in part)

@@ -60,7 +60,9 @@ def _plant(session, address: int) -> str:
 @command("watch NAME|[ADDRESS]", "Watchpoint: stop when a register, flag or memory word changes.",
          complete=("target",))
 def do_watch(session, args):
-    """Checked after every instruction while the clock runs."""
+    """Stops at the instruction boundary right after the value changed. A
+    running clock looks only where it can change (after a store to the
+    word, after a write of the register), so the run keeps its speed."""
     if len(args) != 1:
         raise DebugError("usage: watch NAME|[ADDRESS]")
     watched = target(session.places, args[0])

@@ -36,9 +36,10 @@ from ._arguments import no_arguments
 from ._calls import call_shape
 from ._conditions import Watch
 from ._panel import address_hex
+from ._presses import Presses, press_count_text
 from ._program import Places, ProgramView, empty_view
 from ._running import ReplayMismatch
-from ._stopping import STATE_TABLE, Breakpoint, CycleLimit, RunPolicy, Stop, stop_state
+from ._stopping import STATE_TABLE, Breakpoint, RunPolicy, Stop, stop_state
 from ._table import COMMANDS, DebugError, command, find_command, words_of
 from ._trace import Recorder
 
@@ -270,23 +271,21 @@ class Session:
         self.settle()
 
     def step(self, goal) -> str:
-        """An instruction step: STEP pulses while frozen, else the running clock."""
+        """An instruction step: STEP presses while frozen, else the running clock."""
         if not self.emu.frozen:
             return self.let_run(goal)
-        stop, pulses = self.pulses(goal)
-        return f"{stop.describe(self.places)} ({pulses:,} STEP pulse{'s' if pulses != 1 else ''}). {self.here_text()}"
+        given = self.pulses(goal)
+        return f"{given.stop.describe(self.places)} ({press_count_text(self.machine, given)}). {self.here_text()}"
 
-    def pulses(self, goal=None, count: int | None = None, spent: int = 0) -> tuple[Stop | None, int]:
-        """STEP pulses under this session's rules (see ``RunPolicy.pulse``), ``spent`` of the
-        cycle limit already given by the same command; a stop becomes 'why'."""
+    def pulses(self, goal=None, count: int | None = None, keep: int = 0) -> Presses:
+        """STEP presses under this session's rules (see ``RunPolicy.pulse``), the first ``keep``
+        micro-steps listed with their bus; a stop becomes 'why'."""
         self._interrupted = False
-        limit = max(self.max_cycles - spent, 1)
-        stop, pulses = self.policy(goal, limit, self._watch_for_ctrl_c()).pulse(count)
-        if isinstance(stop, CycleLimit):
-            stop = CycleLimit(self.max_cycles, stepping=True)
-        if stop is not None:
-            self.last_stop = stop.describe(self.places)
-        return stop, pulses
+        given = self.policy(goal, self.max_cycles, self._watch_for_ctrl_c()).pulse(
+            count, bus=lambda: self.recorder.last_bus, keep=keep)
+        if given.stop is not None:
+            self.last_stop = given.stop.describe(self.places)
+        return given
 
     def released(self, was_frozen: bool, done: str) -> str:
         """After a panel action: if it let a frozen generator go, the clock now runs."""

@@ -33,6 +33,7 @@ from typing import Callable
 from emu import StopReason
 
 from ._conditions import AnyOf, Watch, Watches
+from ._presses import PressWatch, Presses
 from ._program import Places
 from ._running import run_clock
 
@@ -208,33 +209,45 @@ class RunPolicy:
                           max_cycles=self.limit, interrupted=self.interrupted)
         return self._from_engine(ended.stop, ended.interrupted)
 
-    def pulse(self, count: int | None = None) -> tuple[Stop | None, int]:
-        """STEP pulses until a rule stops them; also the pulses given.
+    def pulse(self, count: int | None = None, bus=lambda: None, keep: int = 0) -> Presses:
+        """STEP presses until a rule stops them, with what they gave.
 
-        Without ``count`` the pulses go on until a rule at an instruction
-        boundary fires (an instruction step); with it, ``count`` pulses are
+        Without ``count`` the presses go on until a rule at an instruction
+        boundary fires (an instruction step); with it, ``count`` presses are
         given (``pulse N``, which checks no breakpoints) and the stop is None
-        when all were. Either way a pulse that drives halt, the limit (it
+        when all were. Either way a press that drives halt, the limit (it
         counts pulses and is needed: a goal may never be reached) and
-        Ctrl-C stop them. The generator must be frozen (STEP does nothing
-        otherwise).
+        Ctrl-C stop them. A press with ``[clock] step = "hold"`` always runs
+        on to its hold point; the rules look at every boundary it passed.
+        The generator must be frozen (STEP does nothing otherwise).
+        ``bus()`` and ``keep`` fill in the first micro-steps (``Presses``).
         """
         e = self.emu
-        pulses = 0
-        while count is None or pulses < count:
-            drives_halt = e.current_step.drives_halt
-            if not e.press_step():
-                raise ValueError("STEP pulses need a frozen generator")
-            pulses += 1
-            if drives_halt:
-                return HaltPassed(e.halt_address), pulses
-            if count is None and e.at_instruction_boundary and (stop := self.at_boundary()) is not None:
-                return stop, pulses
-            if pulses >= self.limit:
-                return CycleLimit(self.limit, stepping=True), pulses
-            if self.interrupted():
-                return SteppingInterrupted(), pulses
-        return None, pulses
+        watch = PressWatch(self.at_boundary if count is None else None, bus, keep)
+        start = e.cycles
+        e.observe(watch)
+        try:
+            while count is None or watch.press < count:
+                watch.start_press()
+                if not e.press_step():
+                    raise ValueError("STEP presses need a frozen generator")
+                stop = self._after_press(watch, e.cycles - start)
+                if stop is not None:
+                    return Presses(stop, watch.press, e.cycles - start, watch.steps)
+        finally:
+            e.unobserve(watch)
+        return Presses(None, watch.press, e.cycles - start, watch.steps)
+
+    def _after_press(self, watch: PressWatch, pulses: int) -> Stop | None:
+        if watch.halted:
+            return HaltPassed(self.emu.halt_address)
+        if watch.fired is not None:
+            return watch.fired
+        if pulses >= self.limit:
+            return CycleLimit(self.limit, stepping=True)
+        if self.interrupted():
+            return SteppingInterrupted()
+        return None
 
     def follow(self, target_ns: Callable[[], float], max_phases: int) -> Stop | None:
         """Phase by phase while each phase ends by ``target_ns()`` (real time); None unless a rule fired.

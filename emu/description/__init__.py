@@ -18,11 +18,12 @@ from ._design_rules import StepChecker
 from ._loader import load_machine, machine_from_text, shipped_machines
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Field, FieldPiece, Flag, Instruction,
                      Machine, MachineNames, OperandKind, OperandPattern, Phase, Register, RegisterGroup,
-                     Step, Jump, Cycles, DecodeGroup, stage_relay)
+                     Step, GatedLine, Jump, Cycles, DecodeGroup, stage_relay)
 from ._schema import REQUIRED, Table, is_integer, is_number, kind_of
 from ._call_marks import CallMark
+from ._clock_panel import STEP_PRESSES
 from ._port_devices import PORT_DEVICES, PortDevice
-from ._sections import (MAX_TOLERANCE, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
+from ._sections import (MAX_TOLERANCE, MECHANICAL, MODES, PARTS, SILICON_DIODE_DROP_V, SPREADS, Part, StageParts,
                         TimingSection, WearRatings, read_timing, read_wear, timing_section,
                         wear_section)
 from ._toml_lines import key_line, toml_syntax_error
@@ -33,10 +34,10 @@ __all__ = [
     "MachineNames", "load_machine", "machine_from_text", "shipped_machines",
     "FLAG_ROLES", "INPUT_DEVICES", "OUTPUT_DEVICES", "Field", "FieldPiece", "Flag", "Instruction",
     "Machine", "OperandKind", "OperandPattern", "Phase", "Register", "RegisterGroup", "Step",
-    "stage_relay", "PORT_DEVICES", "PortDevice", "CallMark",
+    "stage_relay", "GatedLine", "PORT_DEVICES", "PortDevice", "CallMark", "STEP_PRESSES",
     "Jump", "Cycles", "DecodeGroup",
     "REQUIRED", "Table", "is_integer", "is_number", "kind_of",
-    "MAX_TOLERANCE", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",
+    "MAX_TOLERANCE", "MECHANICAL", "MODES", "PARTS", "SILICON_DIODE_DROP_V", "SPREADS", "Part", "StageParts",
     "TimingSection", "WearRatings", "read_timing", "read_wear", "timing_section", "wear_section",
     "key_line", "toml_syntax_error",
 ]

@@ -17,6 +17,7 @@ logic operations; shifts do not produce it).
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import cache
 from typing import Callable
@@ -236,5 +237,27 @@ def builtin_alu_ops() -> dict[str, AluOp]:
     return dict(_builtins())
 
 
-ALU_OPS: dict[str, AluOp] = builtin_alu_ops()
+class _BuiltinOperations(Mapping):
+    """The built-in operations, read from their definitions when first looked at.
+
+    Not at import: importing relaybench then parses nothing, and a run whose
+    machine comes from the cache folder never needs them.
+    """
+
+    def __getitem__(self, name: str) -> AluOp:
+        return _builtin_table()[name]
+
+    def __iter__(self):
+        return iter(_builtin_table())
+
+    def __len__(self) -> int:
+        return len(_builtin_table())
+
+
+@cache
+def _builtin_table() -> dict[str, AluOp]:
+    return dict(_builtins())
+
+
+ALU_OPS: Mapping[str, AluOp] = _BuiltinOperations()
 """The built-in operations; a machine's own table is ``Machine.alu_ops``."""

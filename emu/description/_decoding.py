@@ -68,9 +68,11 @@ def _check_shared_steps(first: Instruction, ins: Instruction, fail) -> None:
     """Members run the first member's steps up to the decoding step, so those must be the same."""
     count = first.decode_step + 1
     if ins.decode_step != first.decode_step or \
-            [s.text for s in ins.steps[:count]] != [s.text for s in first.steps[:count]]:
+            [(s.text, s.listed_lines) for s in ins.steps[:count]] != \
+            [(s.text, s.listed_lines) for s in first.steps[:count]]:
         fail(ins, f"it is decoded together with instruction '{first.display}', so their steps up to "
-                  f"the one fetching the last decoding word must be the same text; they differ")
+                  f"the one fetching the last decoding word must be the same text, driving the same "
+                  f"control lines; they differ")
     named = {node.name for step in first.steps[:count] for st in step.statements for node in walk(st)
              if isinstance(node, Name)}
     named |= {st.target.name for step in first.steps[:count] for st in step.statements

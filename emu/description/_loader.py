@@ -20,13 +20,16 @@ from ..errors import MachineError
 from ._alu import RESERVED_OPERATION_NAMES, builtin_alu_ops, read_alu_op
 from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
+from ._clock_panel import read_clock_panel
 from ._decoding import decode_groups
 from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
+from ._saved_machines import saved_machine
+from ._step_lines import STEP_EXPECTED, is_step_entry, read_named_lines, step_entry
 from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Flag, Instruction,
                      Machine, MachineNames, OperandKind, PLAIN_FLAG, Phase, Register, RegisterGroup, Step)
 from ._schema import Table, is_integer
-from ._sections import read_timing, read_wear
+from ._sections import check_stage_names, read_stage_names, read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
 from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
 
@@ -52,7 +55,7 @@ def load_machine(name_or_path: str | Path = "ref8") -> Machine:
         raise MachineError(f"no such machine file (shipped machines: {names})", path=str(path)) from None
     except (OSError, UnicodeDecodeError) as exc:
         raise MachineError(f"cannot read machine file: {exc}", path=str(path)) from None
-    return machine_from_text(text, str(path))
+    return saved_machine(text, str(path), machine_from_text)
 
 
 def machine_from_text(text: str, path: str = "<machine>") -> Machine:
@@ -127,7 +130,7 @@ class _Loader:
 
         kinds = self.operand_kinds(names)
         ports_out, ports_in = self.ports()
-        stages, phases = self.clock()
+        stages, phases, stage_names, step_press, power_on = self.clock()
         fetch = self.fetch(names)
         instructions = self.instructions(names, kinds, len(fetch))
         assembler = top.table("assembler", "[assembler]", required=False)
@@ -146,8 +149,10 @@ class _Loader:
             registers=registers, groups=groups, flags=flags, operand_kinds=kinds,
             ports_out=ports_out, ports_in=ports_in, ring_stages=stages, phases=phases,
             fetch=fetch, instructions=instructions, program_counter=pc,
-            instruction_register=ir, pause=pause.lower(), decode_groups=decoding, alu_ops=names.alu_ops,
+            instruction_register=ir, pause=pause.lower(), step_press=step_press, power_on_phase=power_on,
+            decode_groups=decoding, alu_ops=names.alu_ops, stage_names=stage_names,
         )
+        check_stage_names(machine, lambda message: self.fail_at("[clock]", ("clock", "stage_names"), message))
         if "timing" in top:
             machine.timing = read_timing(top.table("timing", "[timing]"), stages, phases,
                                          lambda key: key_line(self.text, key))
@@ -274,8 +279,9 @@ class _Loader:
 
     def clock(self):
         clock = self.top.table("clock", "[clock]")
-        clock.known_keys(("stages", "phase"))
+        clock.known_keys(("stages", "stage_names", "step", "power_on", "phase"))
         stages = clock.integer("stages", low=1, high=64)
+        stage_names = read_stage_names(clock, stages)
         table = clock.get("phase")
         if not isinstance(table, list) or len(table) < 2:
             clock.fail("needs at least two [[clock.phase]] entries (one high, one low)", "phase")
@@ -311,20 +317,24 @@ class _Loader:
         if not any(p.hold for p in phases):
             clock.fail("the phase table has no hold point (hold = true): "
                        "a stop or a halt could never freeze the clock", "phase")
-        return stages, tuple(phases)
+        phases = tuple(phases)
+        return (stages, phases, tuple(stage_names)) + read_clock_panel(clock, phases)
 
     # -- micro-steps
 
     def fetch(self, names: MachineNames) -> tuple[Step, ...]:
         spec = self.top.table("fetch", "[fetch]")
         spec.known_keys(("steps",))
-        texts = spec.list_of("steps", lambda t: isinstance(t, str), nonempty=True, default=None,
-                             expected="a non-empty list of micro-step strings")
-        if texts is None:
-            spec.fail("'steps' must be a non-empty list of micro-step strings", "steps")
-        steps = tuple(self.step(names, self.parse(text, f"[fetch] step {i}", ("fetch", "steps", i - 1)),
-                                text, f"[fetch] step {i}", ("fetch", "steps", i - 1), {}, {})
-                      for i, text in enumerate(texts, 1))
+        entries = spec.list_of("steps", is_step_entry, nonempty=True, default=None,
+                               expected=f"a non-empty list of {STEP_EXPECTED}")
+        if entries is None:
+            spec.fail(f"'steps' must be a non-empty list of {STEP_EXPECTED}", "steps")
+        steps = []
+        for i, raw in enumerate(entries, 1):
+            where, at = f"[fetch] step {i}", ("fetch", "steps", i - 1)
+            text, lines = self.entry(raw, where, at)
+            steps.append(self.step(names, self.parse(text, where, at), text, where, at, {}, {}, lines=lines))
+        steps = tuple(steps)
         writes_ir = any(isinstance(st, Assign) and st.target == Name(names.ir)
                         for step in steps for st in step.statements)
         if not writes_ir:
@@ -370,11 +380,14 @@ class _Loader:
             spec.fail(f"'encoding' must be {words}", "encoding")
         fixed, fields = read_encoding(spec, encoding, field_kinds, names.data_bits)
         call, returns = read_call_marks(spec, names.registers, names.groups, names.pc)
-        texts = spec.get("steps")
-        if not isinstance(texts, list) or not all(isinstance(t, str) for t in texts):
-            spec.fail("'steps' must be a list of micro-step strings (steps = [] for one "
+        entries = spec.get("steps")
+        if not isinstance(entries, list) or not all(is_step_entry(t) for t in entries):
+            spec.fail(f"'steps' must be a list of {STEP_EXPECTED} (steps = [] for one "
                       "that only fetches)", "steps")
-        places = [(f"{spec.where} step {fetch_count + i}", key + ("steps", i - 1)) for i in range(1, len(texts) + 1)]
+        places = [(f"{spec.where} step {fetch_count + i}", key + ("steps", i - 1))
+                  for i in range(1, len(entries) + 1)]
+        texts, named = zip(*[self.entry(raw, where, at) for raw, (where, at) in zip(entries, places)]) \
+            if entries else ((), ())
         parsed = [self.parse(text, where, at) for text, (where, at) in zip(texts, places)]
         holders = word_holders(spec, names, parsed, len(encoding))
         decode_words = spec.integer("decode_words", low=1, high=len(encoding), default=1,
@@ -384,18 +397,21 @@ class _Loader:
                       f"step must load it whole into a register (t <- mem[{names.pc}])", "decode_words")
         decode_step = holders[decode_words - 1][0] - 1
         steps = []
-        for i, (text, statements, (where, at)) in enumerate(zip(texts, parsed, places), 1):
+        for i, (text, lines, statements, (where, at)) in enumerate(zip(texts, named, parsed, places), 1):
             fetched_words = {w for w, (step_no, _reg) in holders.items() if step_no < i}
             available = {name: f for name, f in fields.items()
                          if all(p.word in fetched_words for p in f.pieces)}
             steps.append(self.step(names, statements, text, where, at, fields, available,
-                                   (i - 1, fetch_count, len(texts), decode_step)))
+                                   (i - 1, fetch_count, len(texts), decode_step), lines))
         return Instruction(
             index=index, syntax=syntax, mnemonic=mnemonic, operands=operands, fields=fields,
             word_count=len(encoding), fixed=fixed, steps=tuple(steps),
             holders={w: reg for w, (_s, reg) in holders.items()}, call=call, returns=returns,
             decode_words=decode_words, decode_step=decode_step,
         )
+
+    def entry(self, raw, where: str, key: tuple) -> tuple[str, list[str] | None]:
+        return step_entry(raw, lambda message: self.fail_at(where, key, message))
 
     def parse(self, text: str, where: str, key: tuple):
         try:
@@ -404,9 +420,10 @@ class _Loader:
             self.fail_at(where, key, exc.message)
 
     def step(self, names: MachineNames, statements, text: str, where: str, key: tuple,
-             fields, available, position=None) -> Step:
+             fields, available, position=None, lines: list[str] | None = None) -> Step:
         """One checked step; ``position`` is (own index, fetch steps, own steps, decode step)
-        for an instruction's step, None for a fetch step."""
+        for an instruction's step, None for a fetch step; ``lines`` the builder's names of its
+        control lines (None: the names its statements imply)."""
         checker = StepChecker(names, where, fields, available,
                               lambda at, message: self.fail_at(at, key, message))
         for st in statements:
@@ -416,7 +433,9 @@ class _Loader:
             checker.fail("fetch steps run in order: no end, goto or wait until (they belong to an "
                          "instruction's own steps)")
         jump = None if checker.sequencing is None else resolve_jump(checker.sequencing, position, checker.fail)
-        return Step(text.strip() or "idle", statements, tuple(checker.lines), checker.halts, jump)
+        plain, gated = (tuple(checker.lines), ()) if lines is None else \
+            read_named_lines(lines, checker, names, fields, available)
+        return Step(text.strip() or "idle", statements, plain, checker.halts, jump, gated)
 
 
 def _computed(steps: tuple[Step, ...], register: str) -> bool:

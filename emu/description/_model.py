@@ -20,7 +20,7 @@ from ._sections import TimingSection, WearRatings
 from .notation import Assign, Condition, FlagsOnly, Name, Statement
 
 __all__ = [
-    "Machine", "MachineNames", "Instruction", "Step", "Jump", "Cycles", "DecodeGroup", "Register", "RegisterGroup",
+    "Machine", "MachineNames", "Instruction", "Step", "GatedLine", "Jump", "Cycles", "DecodeGroup", "Register", "RegisterGroup",
     "Flag",
     "OperandKind", "OperandPattern", "Field", "FieldPiece", "Phase",
     "FLAG_ROLES", "PLAIN_FLAG", "INPUT_DEVICES", "OUTPUT_DEVICES", "stage_relay",
@@ -151,13 +151,47 @@ class Jump:
 
 
 @dataclass(frozen=True)
+class GatedLine:
+    """A control line a step drives only in a cycle where ``condition`` holds (``ld-pc if z``).
+
+    The condition reads the state from before the step, like the step's
+    own statements: it says whether the builder's wiring lets the line
+    through while the pulse lasts.
+    """
+    name: str
+    condition: Condition
+    text: str
+    """The condition as written in the machine file."""
+
+    def __str__(self) -> str:
+        return f"{self.name} if {self.text}"
+
+
+@dataclass(frozen=True)
 class Step:
-    """One micro-step: its text, its IR, the control lines it drives, and where it goes next."""
+    """One micro-step: its text, its IR, the control lines it drives, and where it goes next.
+
+    ``control_lines`` are driven on every pulse of the step; ``gated_lines``
+    only on a pulse where their condition holds. The names are the
+    builder's (``lines = [...]`` in the file) or derived from the
+    statements (``load a``, ``alu add``, ``read``).
+    """
     text: str
     statements: tuple[Statement, ...]
     control_lines: tuple[str, ...]
     drives_halt: bool
     jump: Jump | None = None
+    gated_lines: tuple[GatedLine, ...] = ()
+
+    @property
+    def line_names(self) -> tuple[str, ...]:
+        """Every line the step may drive, gated or not."""
+        return self.control_lines + tuple(line.name for line in self.gated_lines)
+
+    @property
+    def listed_lines(self) -> tuple[str, ...]:
+        """The lines as ``isa`` and the debugger list them: a gated one with its condition."""
+        return self.control_lines + tuple(str(line) for line in self.gated_lines)
 
 
 class Cycles(NamedTuple):
@@ -335,7 +369,7 @@ class DecodeGroup:
 
 
 def stage_relay(stage: int) -> str:
-    """The relay of clock-ring stage ``stage`` (from 1), as wear reports and ``[wear.relays]`` name it."""
+    """The relay of clock-ring stage ``stage`` (from 1) of a ring whose stages the file does not name."""
     return f"stage {stage}"
 
 
@@ -383,6 +417,11 @@ class Machine:
     program_counter: str
     instruction_register: str
     pause: str
+    step_press: str
+    """What one STEP press gives (``[clock] step``): ``"pulse"``, one pulse from the panel with the
+    ring standing still, or ``"hold"``, the ring running every pulse up to the next hold point."""
+    power_on_phase: int
+    """The index of the phase the ring stands in at power-on (``[clock] power_on``)."""
     timing: TimingSection | None = None
     """The checked ``[timing]`` section (the clock ring's parts), None when the file has none."""
     wear: WearRatings = field(default_factory=WearRatings)
@@ -391,17 +430,27 @@ class Machine:
     """First member's index → its decode group; ``decode_table`` sends the group's first words there."""
     alu_ops: dict = field(default_factory=builtin_alu_ops)
     """Operation name → ``AluOp``: the built-ins, then the file's own (a file's definition wins)."""
+    stage_names: tuple[str, ...] = ()
+    """The ring stages' names from ``[clock] stage_names``; empty: the stages are numbered."""
 
     def control_lines(self) -> list[str]:
         """Every control line some micro-step of the machine drives, in first-use order."""
         lines: list[str] = []
         for step in list(self.fetch) + [s for ins in self.instructions for s in ins.steps]:
-            lines.extend(line for line in step.control_lines if line not in lines)
+            lines.extend(line for line in step.line_names if line not in lines)
         return lines
 
+    def stage_relay(self, stage: int) -> str:
+        """Ring stage ``stage`` (from 1) as wear, ``[wear.relays]`` and the scope name it."""
+        return self.stage_names[stage - 1] if self.stage_names else stage_relay(stage)
+
+    def stage_signal(self, stage: int) -> str:
+        """Ring stage ``stage`` (from 1) as a waveform names it: its name, else ``stageN``."""
+        return self.stage_names[stage - 1] if self.stage_names else f"stage{stage}"
+
     def relay_names(self) -> list[str]:
-        """The relays whose wear is counted: the ring stages (``stage N``), then the control lines."""
-        return [stage_relay(s) for s in range(1, self.ring_stages + 1)] + self.control_lines()
+        """The relays whose wear is counted: the ring stages, then the control lines."""
+        return [self.stage_relay(s) for s in range(1, self.ring_stages + 1)] + self.control_lines()
 
     @property
     def slot_count(self) -> int:
@@ -443,6 +492,24 @@ class Machine:
     def pulses_per_turn(self) -> int:
         return sum(1 for i, p in enumerate(self.phases)
                    if p.level == 1 and self.phases[i - 1].level == 0)
+
+    def after_step_press(self, index: int) -> tuple[int, int]:
+        """(pulses given, phase index after) of one STEP press with the ring frozen at phase ``index``:
+        one panel pulse with the ring standing still, or (``step = "hold"``) the ring's own
+        pulses up to the next hold point it reaches."""
+        if self.step_press == "pulse":
+            return 1, index
+        phases, pulses = self.phases, 0
+        while True:
+            following = (index + 1) % len(phases)
+            pulses += phases[index].level == 1 and phases[following].level == 0
+            index = following
+            if phases[index].hold:
+                return pulses, index
+
+    def pulses_per_step_press(self) -> dict[str, int]:
+        """Hold point name → the pulses (micro-steps) one STEP press gives while the ring stands there."""
+        return {phase.name: self.after_step_press(i)[0] for i, phase in enumerate(self.phases) if phase.hold}
 
     @property
     def nominal_hz(self) -> float:

@@ -13,7 +13,7 @@ from functools import cache
 
 import lark
 
-from .notation import error_column
+from .notation import error_column, packaged_parser
 
 __all__ = ["FormOperand", "SyntaxFormError", "parse_syntax_form"]
 
@@ -35,8 +35,7 @@ class SyntaxFormError(ValueError):
 
 @cache
 def _parser() -> lark.Lark:
-    return lark.Lark.open_from_package("emu.description.notation", "syntax_form.lark", start="form",
-                                       parser="lalr", maybe_placeholders=True)
+    return packaged_parser("emu.description.notation", "syntax_form.lark", start="form", maybe_placeholders=True)
 
 
 _EXPECTED = {"NAME": "a name", "OPEN": "'[', '#' or '@'", "CLOSE": "']'", "LPAREN": "'('", "RPAREN": "')'",

@@ -12,6 +12,7 @@ from ..description import Instruction, Machine
 from ..description.notation import Assign, Mem
 from ._block_translator import _Context, _KnownAccess, _store_check, _translate_instruction
 from ._emitter import Emitter
+from ._line_gates import count_gates
 from ._machine_compiler import _MachineCompiler
 from ._naming import _ident
 
@@ -25,8 +26,19 @@ def writes_memory(ins: Instruction) -> bool:
 class _CheckedFusedCompiler(_MachineCompiler):
     """The fused back end's choice of forms, each store followed by the code-map check.
 
-    Only forms that write memory get a function; the others stay as fused.
+    Only forms that write memory get a function; the others stay as fused. With a
+    ``TallyLayout`` each counts its gated lines (the dispatch loop counts its first word).
     """
+
+    def __init__(self, machine: Machine, layout=None):
+        super().__init__(machine)
+        self.layout = layout
+
+    def count_step(self, translator, step, place, counted) -> None:
+        """A decode group's function (the only fused form kept here as it is) counts as the
+        tallying fused functions do."""
+        if self.layout is not None:
+            count_gates(self.out, translator, step, place, self.layout, counted)
 
     def fused_function(self, ins: Instruction, fixed: dict[str, int]) -> str:
         if not writes_memory(ins):
@@ -40,7 +52,7 @@ class _CheckedFusedCompiler(_MachineCompiler):
             out.line(f'"""{ins.display}, stores checked against translated code"""')
             access = _KnownAccess(out, machine)
             context = _Context()
-            _translate_instruction(machine, out, access, ins, context, preset=fixed)
+            _translate_instruction(machine, out, access, ins, context, preset=fixed, layout=self.layout)
             _store_check(out, context)
             access.write_back()
             out.line(f"return {ins.cycles(machine).shortest}")
@@ -48,7 +60,8 @@ class _CheckedFusedCompiler(_MachineCompiler):
 
     def checked_source(self) -> str:
         out = self.out
-        out.line("def build(s, m, in_, out_, cmap, invalidate):")
+        counters = "" if self.layout is None else ", sites_"
+        out.line(f"def build(s, m, in_, out_, cmap, invalidate{counters}):")
         with out.indent():
             by_word, _max_cycles = self.fused_functions()
             out.line()
@@ -57,14 +70,14 @@ class _CheckedFusedCompiler(_MachineCompiler):
         return out.source()
 
 
-def checked_fused_source(machine: Machine) -> str:
+def checked_fused_source(machine: Machine, layout=None) -> str:
     """Source of ``build(...)`` returning, per first word, a checked fused function or None."""
-    return _CheckedFusedCompiler(machine).checked_source()
+    return _CheckedFusedCompiler(machine, layout).checked_source()
 
 
 # ----- the dispatch loop ------------------------------------------------------------
 
-def dispatcher_source(machine: Machine, max_fused: int) -> str:
+def dispatcher_source(machine: Machine, max_fused: int, counting: bool = False) -> str:
     """The hot loops with blocks: a block where one is translated and fits, else fused instructions.
 
     A block runs only when its full cycle count fits the budget, a fused
@@ -73,23 +86,31 @@ def dispatcher_source(machine: Machine, max_fused: int) -> str:
     until one that may change pc (``ends``); only the pc reached then, or
     after a block, is looked up and counted, so straight-line code that is
     not hot costs one table look-up per instruction more than the fused path.
-    ``hits[pc]`` is negative where a block is in place.
+    ``hits[pc]`` is negative where a block is in place; ``table[pc]`` then
+    holds (block, its longest cycles, whether a watched run must stop after it).
+    ``counting``: each fused instruction's first word is counted into ``words_``
+    (for wear; a counting block counts its own).
     """
     pc = machine.registers[machine.program_counter].slot
     peek = _MachineCompiler(machine).peek_expression()
     out = Emitter()
-    out.line("def build(s, m, table, hits, ends, translate, Fallback):")
+    out.line(f"def build(s, m, table, hits, ends, translate, Fallback{', words_' if counting else ''}):")
     with out.indent():
         for name, watching in (("run_blocks", False), ("run_blocks_watching", True)):
-            out.line(f"def {name}(budget, points, fused, threshold):")
+            arguments = ", stops, stored, changed" if watching else ""
+            out.line(f"def {name}(budget, points, fused, threshold{arguments}):")
             with out.indent():
-                _dispatch_loop(out, pc, peek, max_fused, watching)
+                _dispatch_loop(out, pc, peek, max_fused, watching, counting)
         out.line("return run_blocks, run_blocks_watching")
     return out.source()
 
 
-def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool) -> None:
-    stop_at_breakpoint = [f"if s[{pc}] in points:", "    return cycles, count, True"] if watching else []
+def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool, counting: bool) -> None:
+    """The watching loop returns (hit) at a breakpoint, where ``stops`` says (see
+    ``_lookout.stop_words``: after an instruction marked ``AFTER``, or ``WRITES`` once
+    ``changed()``; before one marked ``BEFORE``), and after a store that set ``stored[0]``
+    (a watched word); a block made of a marked instruction carries its mark (``asks``)."""
+    stop_before = ["if stops[word] & 2 and cycles:", "    return cycles, count, True"] if watching else []
     out.line("cycles = count = 0")
     out.line(f"limit = budget - {max_fused}")
     out.line("try:")
@@ -97,18 +118,23 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
         out.line("while True:")
         with out.indent():
             out.line(f"pc = s[{pc}]")
+            if watching:
+                out.line(f"word = {peek}")
+                for line in stop_before:
+                    out.line(line)
             out.line("hit = hits[pc]")
             out.line("if hit < 0:")
             with out.indent():
-                out.line("block, most = table[pc]")
+                out.line("block, most, asks = table[pc]")
                 out.line("room = budget - cycles")
                 out.line("if most <= room:")
                 with out.indent():
                     out.line("done, ran = block(room)")
                     out.line("cycles += done")
                     out.line("count += ran")
-                    for line in stop_at_breakpoint:
-                        out.line(line)
+                    if watching:
+                        out.line(f"if asks & 1 or asks & 4 and changed() or stored[0] or s[{pc}] in points:")
+                        out.line("    return cycles, count, True")
                     out.line("continue")
             out.line("else:")
             with out.indent():
@@ -123,10 +149,16 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
                 out.line("if cycles > limit:")
                 out.line("    return cycles, count, False")
                 out.line(f"word = {peek}")
-                out.line("cycles += fused[word]()")
-                out.line("count += 1")
-                for line in stop_at_breakpoint:
+                for line in stop_before:
                     out.line(line)
+                out.line("cycles += fused[word]()")
+                if counting:
+                    out.line("words_[word] += 1")
+                out.line("count += 1")
+                if watching:
+                    out.line("stop = stops[word]")
+                    out.line(f"if stop & 1 or stop & 4 and changed() or stored[0] or s[{pc}] in points:")
+                    out.line("    return cycles, count, True")
                 out.line("if ends[word]:")
                 out.line("    break")
     out.line("except Fallback:")

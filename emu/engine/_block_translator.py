@@ -34,6 +34,7 @@ from ..description import Instruction, Machine
 from ..description.notation import Assign, Choose, Mem, Name, Offset
 from ._dead_assignments import without_dead_assignments
 from ._emitter import Emitter
+from ._line_gates import count_gates
 from ._state_access import _LocalAccess
 from ._step_translator import _StepTranslator
 
@@ -180,13 +181,20 @@ def _fixed_fields(machine, ins: Instruction, access: _KnownAccess, preset: dict[
     return fixed
 
 
-def _translate_instruction(machine, out, access, ins, context, preset=None) -> None:
-    for step in machine.fetch:
-        _BlockTranslator(machine, out, access, None, {}, context).step(step)
-    for step in ins.steps:
+def _translate_instruction(machine, out, access, ins, context, preset=None, layout=None) -> None:
+    """The fetch and the instruction's steps; with a ``TallyLayout``, each gated line counted."""
+    for j, step in enumerate(machine.fetch):
+        translator = _BlockTranslator(machine, out, access, None, {}, context)
+        if layout is not None:
+            count_gates(out, translator, step, (-1, j), layout)
+        translator.step(step)
+    for k, step in enumerate(ins.steps):
         out.line(f"# {step.text}")
         fixed = _fixed_fields(machine, ins, access, preset or {})
-        _BlockTranslator(machine, out, access, ins, fixed, context).step(step)
+        translator = _BlockTranslator(machine, out, access, ins, fixed, context)
+        if layout is not None:
+            count_gates(out, translator, step, (ins.index, k), layout)
+        translator.step(step)
 
 
 def _store_check(out: Emitter, context: _Context, exit_lines=None) -> None:
@@ -259,9 +267,10 @@ class BlockPlan:
         return sum(ins.cycles(machine).shortest for _address, ins in self.instructions)
 
 
-def block_source(machine: Machine, plan: BlockPlan, loops: bool = True) -> tuple[str, int]:
+def block_source(machine: Machine, plan: BlockPlan, loops: bool = True, layout=None) -> tuple[str, int]:
     """The block's source, defining ``build(s, m, in_, out_, cmap, invalidate)``, and the
-    cycles of its longest way through (all its instructions).
+    cycles of its longest way through (all its instructions). With a ``TallyLayout`` the
+    block counts what it runs for wear: ``build`` takes ``sites_, words_`` besides.
 
     A conditional branch back to the block's own start becomes a loop
     inside the function (when ``loops``: not when the start is a breakpoint,
@@ -273,12 +282,12 @@ def block_source(machine: Machine, plan: BlockPlan, loops: bool = True) -> tuple
     index). The loop goes round again only while one more full pass fits
     the room the dispatcher gives.
     """
-    first = _BlockWriter(machine, plan, carried=None)
+    first = _BlockWriter(machine, plan, carried=None, layout=layout)
     if first.access.dynamic or not (loops and first.loops_back or first.skips):
         return first.source(), first.cycles
     written = first.access.written - {first.pc_slot}
     carried = (first.access.read_from_state | written, written)
-    second = _BlockWriter(machine, plan, carried=carried, loops=loops)
+    second = _BlockWriter(machine, plan, carried=carried, loops=loops, layout=layout)
     return second.source(), second.cycles
 
 
@@ -286,9 +295,10 @@ class _BlockWriter:
     """One translation of a block, straight or with its loop."""
 
     def __init__(self, machine: Machine, plan: BlockPlan, carried: tuple[set[int], set[int]] | None,
-                 loops: bool = True):
+                 loops: bool = True, layout=None):
         """``carried``: for the loop, the slots it keeps in locals and those of them it writes."""
         self.machine, self.plan, self.carried, self.loops = machine, plan, carried, loops
+        self.layout = layout
         self.pc_slot = machine.registers[machine.program_counter].slot
         self.loops_back = False
         self.skips = False
@@ -333,7 +343,9 @@ class _BlockWriter:
         while index < last:
             address, ins = plan.instructions[index]
             out.line(f"# {address:#x}: {ins.display}")
-            _translate_instruction(machine, out, access, ins, self.context)
+            _translate_instruction(machine, out, access, ins, self.context, layout=self.layout)
+            if self.layout is not None:
+                out.line(f"words_[{plan.words[address - plan.start]}] += 1")
             self.cycles_so_far += ins.cycles(machine).shortest
             self.count_so_far += 1
             cycles, count = self.cycles_so_far, self.count_so_far
@@ -423,7 +435,8 @@ class _BlockWriter:
 
     def source(self) -> str:
         plan, body = self.plan, self.out.lines
-        lines = ["def build(s, m, in_, out_, cmap, invalidate):",
+        counters = "" if self.layout is None else ", sites_, words_"
+        lines = [f"def build(s, m, in_, out_, cmap, invalidate{counters}):",
                  "    def block(room):",
                  f'        """{len(plan.instructions)} instructions from {plan.start:#x}"""']
         if self.carried is None:

@@ -7,6 +7,9 @@ branch, a halting or undefined instruction, a breakpoint or a length cap,
 translated into one function (``_block_translator``). The dispatch loop
 runs a block only when its full cycle count fits the budget, so cycle
 limits, breakpoints and every panel event land where stepping puts them.
+A watched run (``Lookout``) also splits blocks around its stop words and
+counts its watched words in the code map, so a block leaves right after a
+store to one.
 
 Compiled blocks are cached per machine, keyed by their start and their
 words, so the same image loaded again (in this emulator or another) binds
@@ -27,6 +30,7 @@ from ..description import Machine
 from ._block_dispatch import checked_fused_source, dispatcher_source, writes_memory
 from ._block_translator import MAYBE, NEXT, BlockPlan, block_source, successor
 from ._emitter import compile_generated
+from ._line_gates import per_machine
 from ._microstep_compiler import Fallback, compile_machine
 
 __all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]
@@ -53,12 +57,19 @@ _BLOCK_HERE = -1
 
 
 class _MachineBlocks:
-    """What every emulator of one machine shares: the loops, checked instructions, compiled blocks."""
+    """What every emulator of one machine shares: the loops, checked instructions, compiled blocks.
 
-    def __init__(self, machine: Machine):
+    With a ``TallyLayout`` (``layout``) all of them count what they run, for wear; the
+    counting code is shared apart from the plain one.
+    """
+
+    def __init__(self, machine: Machine, layout=None):
         self.machine = machine
+        self.layout = layout
         self.max_fused = compile_machine(machine).max_fused_cycles
-        self.dispatcher = compile_generated(dispatcher_source(machine, self.max_fused), f"{machine.name}_block_loops")
+        counting = layout is not None
+        self.dispatcher = compile_generated(dispatcher_source(machine, self.max_fused, counting),
+                                            f"{machine.name}_block_loops{'_counting' if counting else ''}")
         self.successor = [successor(machine, ins) for ins in machine.instructions]
         self.ends = [index < 0 or machine.instructions[index].drives_halt or self.successor[index] != NEXT
                      for index in machine.decode_table]
@@ -69,7 +80,9 @@ class _MachineBlocks:
     def checked(self):
         """Compiled when the first block of this machine is: runs without blocks never need it."""
         if self._checked is None:
-            self._checked = compile_generated(checked_fused_source(self.machine), f"{self.machine.name}_checked_fused")
+            counting = "" if self.layout is None else "_counting"
+            self._checked = compile_generated(checked_fused_source(self.machine, self.layout),
+                                              f"{self.machine.name}_checked_fused{counting}")
         return self._checked
 
     def compiled_block(self, plan: BlockPlan, loops: bool) -> tuple:
@@ -81,35 +94,31 @@ class _MachineBlocks:
         entry = self.code.get(key)
         if entry is not None:
             return (*entry, False)
-        source, most = block_source(self.machine, plan, loops)
-        name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}"
+        source, most = block_source(self.machine, plan, loops, self.layout)
+        name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}" \
+               f"{'' if self.layout is None else '_counting'}"
         entry = self.code[key] = (compile_generated(source, name), most)
         if len(self.code) > CACHE_BLOCKS:
             self.code.popitem(last=False)
         return (*entry, True)
 
 
-def _once_per_machine(cache: dict, machine: Machine, make):
-    """``make(machine)``, kept in ``cache`` until the machine object goes."""
-    key = id(machine)
-    value = cache.get(key)
-    if value is None:
-        value = cache[key] = make(machine)
-        weakref.finalize(machine, cache.pop, key, None)
-    return value
+_shared: dict[tuple[int, bool], _MachineBlocks] = {}
 
 
-_shared: dict[int, _MachineBlocks] = {}
-_cover: dict[int, bool] = {}
+def _machine_blocks(machine: Machine, layout=None) -> _MachineBlocks:
+    key = (id(machine), layout is not None)
+    shared = _shared.get(key)
+    if shared is None:
+        shared = _shared[key] = _MachineBlocks(machine, layout)
+        weakref.finalize(machine, _shared.pop, key, None)
+    return shared
 
 
-def _machine_blocks(machine: Machine) -> _MachineBlocks:
-    return _once_per_machine(_shared, machine, _MachineBlocks)
-
-
+@per_machine
 def _covered(machine: Machine) -> bool:
     """``blocks_cover`` once per machine: every new emulator asks, and the answer walks every instruction."""
-    return _once_per_machine(_cover, machine, blocks_cover)
+    return blocks_cover(machine)
 
 
 def _build(code, *arguments):
@@ -128,8 +137,11 @@ class BlockRunner:
     others came from the machine's cache), ``dropped`` those taken out again.
     """
 
-    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free):
+    def __init__(self, machine: Machine, s: list, memory, read_port, write_port, fused: list, run_free,
+                 counters: tuple | None = None):
+        """``counters``: (``TallyLayout``, sites, words) to run the counting code that wear uses."""
         self.machine = machine
+        self._counters = counters
         self.enabled = _covered(machine)
         """Off where blocks cannot be exact yet: see ``blocks_cover``."""
         self.warm_up = WARM_UP_CYCLES
@@ -148,7 +160,7 @@ class BlockRunner:
         """Tables made at the first run, so an emulator that never runs pays nothing for them."""
         machine = self.machine
         s, memory, _read, _write = self._state
-        self._shared = _machine_blocks(machine)
+        self._shared = _machine_blocks(machine, None if self._counters is None else self._counters[0])
         self._table: dict[int, tuple] = {}
         self._hits = [0] * machine.memory_words
         self._cmap = None
@@ -156,32 +168,60 @@ class BlockRunner:
         self._active: dict[int, tuple[int, object]] = {}
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
+        self._stops: bytes | None = None
+        self._watched: frozenset[int] = frozenset()
+        self.stored = [False]
+        """Set by a store to a watched word; the watching loop returns after that instruction."""
+        self._no_stops = bytes(len(machine.decode_table))
         self._loops = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._shared.ends,
-                             self._translate, Fallback)
+                             self._translate, Fallback, *self._counted(words=True, sites=False))
 
-    def run(self, budget: int, points: frozenset) -> tuple[int, int, bool]:
-        """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, breakpoint hit)."""
-        if self._ran < self.warm_up and not points:
+    def run(self, budget: int, points: frozenset, stops: bytes | None = None,
+            watched: frozenset[int] = frozenset(), unchanged: bool = False,
+            changed=None) -> tuple[int, int, bool]:
+        """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, hit).
+
+        ``hit``: stopped at a breakpoint, at a boundary around an instruction
+        that ``stops`` marks (see ``Lookout``), or after a store to a
+        ``watched`` word. ``unchanged``: nothing but this runner has run since
+        its last call, so its blocks still match memory without a look.
+        """
+        watching = bool(points) or stops is not None or bool(watched)
+        if self._ran < self.warm_up and not watching:
             cycles, count, hit = self._run_free(budget - self._max_fused)
             self._ran += cycles
             return cycles, count, hit
         if self._loops is None:
             self._start()
-        self._check_blocks(points)
-        loop = self._loops[1] if points else self._loops[0]
-        return loop(budget, points, self._fused(), self.threshold)
+        if not unchanged:
+            self._check_blocks(points, stops, watched)
+        if not watching:
+            return self._loops[0](budget, points, self._fused(), self.threshold)
+        self.stored[0] = False
+        return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.stored,
+                              changed or _never)
+
+    def _counted(self, words: bool, sites: bool) -> tuple:
+        """The count lists a piece of counting code takes (none for plain code)."""
+        if self._counters is None:
+            return ()
+        _layout, site_counts, word_counts = self._counters
+        return (site_counts,) * sites + (word_counts,) * words
 
     def _fused(self) -> list:
-        """Fused instructions, with stores checked once any block is in place."""
-        return self._checked if self._active else self._plain
+        """Fused instructions, with stores checked once any block is in place or a word is watched."""
+        return self._checked if self._active or self._watched else self._plain
 
     # ----- keeping blocks valid
 
-    def _check_blocks(self, points: frozenset) -> None:
-        """Drop blocks whose words memory no longer holds, and all of them when breakpoints changed."""
+    def _check_blocks(self, points: frozenset, stops: bytes | None, watched: frozenset[int]) -> None:
+        """Drop blocks whose words memory no longer holds, and all of them when breakpoints or
+        stop words changed (blocks are split at them); mark watched words in the code map."""
         memory = self._state[1]
-        if points != self._points:
-            self._points = points
+        if watched != self._watched:
+            self._watch_words(watched)
+        if points != self._points or stops != self._stops:
+            self._points, self._stops = points, stops
             for start in list(self._active):
                 self._drop(start, soon=True)
             return
@@ -189,17 +229,29 @@ class BlockRunner:
             if memory[start:end] != words:
                 self._drop(start, soon=False)
 
-    def _invalidate(self, addresses, low: int, high: int) -> bool:
-        """Called by a store that hit translated words: drop the blocks covering them.
+    def _watch_words(self, watched: frozenset[int]) -> None:
+        """Count watched words in the code map, so that a store to one calls ``_invalidate``."""
+        self._code_map()
+        for address in self._watched:
+            self._cmap[address] -= 1
+        for address in watched:
+            self._cmap[address] += 1
+        self._watched = watched
 
-        True when one of the words lies in ``[low, high)``, the rest of the running block.
+    def _invalidate(self, addresses, low: int, high: int) -> bool:
+        """Called by a store that hit translated or watched words: drop the blocks covering them.
+
+        True when one of the words lies in ``[low, high)``, the rest of the running
+        block, or is watched: the block then leaves after the current instruction.
         """
+        if self._watched and not self._watched.isdisjoint(addresses):
+            self.stored[0] = True
         for address in addresses:
             if self._cmap[address]:
                 for start in [b for b, (end, _w) in self._active.items() if b <= address < end]:
                     self._invalidations[start] += 1
                     self._drop(start, soon=False)
-        return any(low <= address < high for address in addresses)
+        return self.stored[0] or any(low <= address < high for address in addresses)
 
     def _drop(self, start: int, soon: bool) -> None:
         end, _words = self._active.pop(start)
@@ -215,14 +267,26 @@ class BlockRunner:
 
     # ----- translating
 
+    def _code_map(self) -> None:
+        """The per-word map of translated (and watched) words, and the fused instructions that check it."""
+        if self._cmap is None:
+            s, memory, read_port, write_port = self._state
+            self._cmap = [0] * self.machine.memory_words
+            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate,
+                             *self._counted(words=False, sites=True))
+            self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
+
     def _plan(self, start: int) -> BlockPlan | None:
+        """The block at ``start``: it ends before a breakpoint; a stop word is a block of its own
+        (so a block that loops or leaves early never passes one, and one that ends after it says so)."""
         machine, memory, shared = self.machine, self._state[1], self._shared
-        decode, size = machine.decode_table, machine.memory_words
+        decode, size, stops = machine.decode_table, machine.memory_words, self._stops
         address, instructions = start, []
         while len(instructions) < MAX_BLOCK_INSTRUCTIONS and address < size:
-            if address != start and address in self._points:
+            word = memory[address]
+            if address != start and (address in self._points or stops is not None and stops[word]):
                 break
-            index = decode[memory[address]]
+            index = decode[word]
             if index < 0:
                 break
             ins = machine.instructions[index]
@@ -230,7 +294,7 @@ class BlockRunner:
                 break
             instructions.append((address, ins))
             address += ins.word_count
-            if shared.successor[index] not in (NEXT, MAYBE):
+            if shared.successor[index] not in (NEXT, MAYBE) or stops is not None and stops[word]:
                 break
         if not instructions:
             return None
@@ -247,14 +311,13 @@ class BlockRunner:
         if plan is None:
             return self._fused()
         s, memory, read_port, write_port = self._state
-        if self._cmap is None:
-            self._cmap = [0] * self.machine.memory_words
-            checked = _build(self._shared.checked, s, memory, read_port, write_port, self._cmap, self._invalidate)
-            self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
-        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points)
+        self._code_map()
+        asks = 0 if self._stops is None else self._stops[plan.words[0]]
+        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points and not asks)
         self.compiled += fresh
-        block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate)
-        self._table[start] = (block, most)
+        block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate,
+                       *self._counted(words=True, sites=True))
+        self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
         for address in range(start, plan.end):
@@ -264,6 +327,10 @@ class BlockRunner:
                 self._hits[address] = 0    # covered now: a count from before would translate it needlessly
         self.built += 1
         return self._checked
+
+
+def _never() -> bool:
+    return False
 
 
 def _fixed_sequence(ins) -> bool:

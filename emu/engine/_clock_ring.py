@@ -34,6 +34,8 @@ class Ring:
         self._nominal_turn = list(self.nominal)
         """The turn of a regular clock; ``skip_cycles`` takes its shortcut while ``turn`` is this list."""
         self.source = None
+        self.power_on_phase = machine.power_on_phase
+        """The phase the ring stands in at power-on (the machine's ``[clock] power_on``)."""
         starts = [i for i in range(self.count)
                   if phases[i - 1].level == 1 and phases[i].level == 0]
         self.boundaries = tuple(starts)
@@ -44,20 +46,23 @@ class Ring:
         self._nominal_steps = tuple(tuple(self._nominal_span(start, rest) for rest in range(len(starts)))
                                     for start in starts)
         """Per boundary and number of cycles short of a whole turn: (phases, ns) on the nominal clock."""
-        high_run, i = 0, starts[0]
+        high_run, i = 0, self.power_on_phase
         while phases[i].level == 0:
             i = (i + 1) % self.count
         while phases[i].level == 1:
             high_run += phases[i].duration_ns
             i = (i + 1) % self.count
         self.manual_pulse_ns = high_run
-        """A STEP pulse from the panel lasts as long as the generator's first high pulse."""
+        """A STEP pulse from the panel lasts as long as the generator's first high pulse after power-on."""
         self.power_on()
 
     def power_on(self) -> None:
-        """At the first cycle boundary, time 0; an irregular clock (kept) gives the turn from here on."""
-        self.index = self.boundaries[0]
+        """At the power-on phase, time 0, no phase run yet; an irregular clock (kept) gives the turn
+        from here on."""
+        self.index = self.power_on_phase
         self.time_ns = 0
+        self.phases_run = 0
+        """Phases run since power-on, whichever path ran them (wear counts ring stages from it)."""
         self.set_source(self.source)
 
     @property
@@ -72,6 +77,7 @@ class Ring:
     def run_phase(self) -> None:
         """The generator spends the current phase's duration, then moves on."""
         self.time_ns += self.turn[self.index]
+        self.phases_run += 1
         self.index += 1
         if self.index == self.count:
             self.index = 0
@@ -97,12 +103,14 @@ class Ring:
         if self.turn is self._nominal_turn and self.source is None:
             phases, ns = self._nominal_steps[k][rest]
             self.time_ns += turns * self._turn_ns + ns
+            self.phases_run += turns * self.count + phases
             self.index = (self.index + phases) % self.count
             return
         phases = turns * self.count + sum(self.phases_per_cycle[(k + j) % per_turn] for j in range(rest))
         self._consume(phases)
 
     def _consume(self, phases: int) -> None:
+        self.phases_run += phases
         left_in_turn = self.count - self.index
         if phases < left_in_turn:
             self.time_ns += sum(self.turn[self.index:self.index + phases])

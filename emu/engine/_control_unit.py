@@ -3,7 +3,9 @@
 The control unit is "Clock, halts and the panel" of emu/machines/ref8.md made
 executable: the generator runs the phase table; the hold line is (switch at
 stop) OR (halt latch); the generator looks at the hold line only on
-*entering* a hold point, so it never cuts a pulse short; STEP gives one panel pulse only while the generator is frozen;
+*entering* a hold point, so it never cuts a pulse short; STEP acts only while the
+generator is frozen, giving one panel pulse or (``[clock] step = "hold"``)
+letting the ring run to the next hold point;
 a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase
@@ -24,10 +26,15 @@ from __future__ import annotations
 
 import json
 from collections import Counter
-from dataclasses import dataclass
+from collections.abc import Callable
+from operator import itemgetter
 
 from ._blocks import BlockRunner
+from ._observing import Observer, _Observing
+from ._run_loop import StopReason, _Running
 from ._clock_ring import Ring
+from ._line_gates import LineGates
+from ._line_tally import LineTally
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
@@ -37,38 +44,15 @@ from ._ports import Ports
 from ._save_points import StateKeeping
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
-__all__ = ["Emulator", "Observer", "StopReason"]
+__all__ = ["Emulator", "StopReason"]
 
 _FETCH_START = (-1, 0)
 
 
-class Observer:
-    """Hooks for traces, waveforms and wear counts; override what you need.
+class Emulator(_Observing, _Running, StateKeeping):
+    """One powered-on machine: datapath, memory, ports, clock ring and control unit.
 
-    Attaching any observer makes the engine take the stepping path, so a
-    run that nobody watches pays nothing for this.
-    """
-
-    def phase(self, emu: "Emulator", index: int) -> None: ...
-    def edge(self, emu: "Emulator", level: int) -> None: ...
-    def microstep(self, emu: "Emulator", step: Step, lines: tuple[str, ...]) -> None: ...
-    def hold(self, emu: "Emulator", frozen: bool) -> None: ...
-    def latch(self, emu: "Emulator", is_set: bool) -> None: ...
-    def panel(self, emu: "Emulator", action: str) -> None: ...
-    def instruction(self, emu: "Emulator") -> None: ...
-
-
-@dataclass(frozen=True)
-class StopReason:
-    """Why a run ended: halted, stopped, cycle_limit, breakpoint or condition."""
-    kind: str
-    pc: int
-    address: int | None = None
-    """For ``halted``: the address of the instruction that drove halt."""
-
-
-class Emulator(StateKeeping):
-    """One powered-on machine: datapath, memory, ports, clock ring and control unit."""
+    ``run`` (letting the generator go, on the fast path where it can) is in ``_run_loop``."""
 
     def __init__(self, machine: Machine):
         self.machine = machine
@@ -82,6 +66,8 @@ class Emulator(StateKeeping):
         self._groups = {index: (group, [machine.registers[r].slot for r in group.holders])
                         for index, group in machine.decode_groups.items()}
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
+        self._run_free_stopping = bound.run_free_stopping
+        self._stop_tables: dict[tuple, bytes] = {}
         self._max_fused = compiled.max_fused_cycles
         self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
                                   bound.fused, self._run_free)
@@ -93,6 +79,11 @@ class Emulator(StateKeeping):
                        **{n: (f.slot, 1) for n, f in machine.flags.items()}}
         self.ring = Ring(machine)
         self._observers: list[Observer] = []
+        self._scheduled: list[tuple[int, bool, Observer]] = []
+        """(cycle, attach or detach, observer) for observers of a window of cycles, by cycle."""
+        self._next_scheduled: int | None = None
+        self._gates = LineGates(machine, self._s, self.memory)
+        self._tally: LineTally | None = None
         self._blank_slots = tuple(self._s)
         self._blank_memory = bytes(self.memory) if isinstance(self.memory, bytearray) else tuple(self.memory)
         self._power_on_control()
@@ -186,6 +177,23 @@ class Emulator(StateKeeping):
         index, step = self._seq
         return self.machine.fetch[step] if index < 0 else self.machine.instructions[index].steps[step]
 
+    def driven_lines(self) -> tuple[str, ...]:
+        """The control lines the next micro-step drives in the present state (its gated lines
+        whose condition holds now, on the state before the step, among them)."""
+        return self._gates.driven(*self._seq)
+
+    def reader(self, names) -> Callable[[], tuple[int, ...]]:
+        """A function returning the present values of these registers and flags (not groups)
+        as a tuple: for observers that look at them every cycle, where ``get`` costs too much."""
+        slots = [self._slots[name][0] for name in names]
+        if not slots:
+            return tuple
+        pick = itemgetter(*slots)
+        state = self._s
+        if len(slots) == 1:
+            return lambda: (pick(state),)
+        return lambda: pick(state)
+
     @property
     def instruction_address(self) -> int:
         """Address of the instruction in progress (pc itself at a boundary)."""
@@ -233,17 +241,17 @@ class Emulator(StateKeeping):
     def clock_source(self, source) -> None:
         self.ring.set_source(source)
 
-    # ----- observers --------------------------------------------------------
+    # ----- counting wear --------------------------------------------------
 
-    def observe(self, observer: Observer) -> None:
-        self._observers.append(observer)
+    def count_lines(self) -> LineTally:
+        """Count the operations of every relay from now on, on both paths (see ``LineTally``)."""
+        self._tally = LineTally(self, self._s, self._count_undefined)
+        return self._tally
 
-    def unobserve(self, observer: Observer) -> None:
-        self._observers.remove(observer)
-
-    def _notify(self, event: str, *args) -> None:
-        for observer in self._observers:
-            getattr(observer, event)(self, *args)
+    def stop_counting_lines(self) -> None:
+        if self._tally is not None:
+            self._tally.stop()
+            self._tally = None
 
     # ----- the panel --------------------------------------------------------
 
@@ -254,10 +262,24 @@ class Emulator(StateKeeping):
         self._hold_changed()
 
     def press_step(self) -> bool:
-        """STEP: one panel pulse while the generator is frozen; ignored while it runs."""
+        """STEP while the generator is frozen (ignored while it runs); True when it did something.
+
+        What a press gives is the machine's ``step_press``: ``"pulse"``, one
+        pulse from the panel as long as the generator's first pulse, the ring
+        standing still; ``"hold"``, the hold let go for one stretch, so the
+        ring runs its own pulses, at their own lengths, up to the next hold
+        point, where the hold line (still up) stops it again.
+        """
         self._notify("panel", "step")
         if not self.frozen:
             return False
+        if self.machine.step_press == "hold":
+            self.frozen = False
+            self._released = True
+            self._notify("hold", False)
+            while self.advance_phase():
+                pass
+            return True
         self._notify("edge", 1)
         self.ring.time_ns += self.ring.manual_pulse_ns
         self._notify("edge", 0)
@@ -321,6 +343,8 @@ class Emulator(StateKeeping):
     def _microstep(self) -> None:
         """The falling edge: the datapath latches the current micro-step."""
         index, step = self._seq
+        watched = self._observers or self._tally is not None or self._next_scheduled is not None
+        lines = self._gates.driven(index, step) if watched else ()
         if index < 0:
             if step == 0:
                 self._instruction_address = self._s[self._pc]
@@ -350,20 +374,33 @@ class Emulator(StateKeeping):
             self._seq = (index, following) if index >= 0 and following < len(self._instruction_steps[index]) \
                 else _FETCH_START
         self.cycles += 1
+        if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
+            self._attend()
         if halted:
             self.halt_address = self._instruction_address
             self._set_latch(True)
         if self._seq == _FETCH_START:
             self.instructions += 1
+        if self._tally is not None:
+            self._tally.add(lines)
         if self._observers:
-            self._notify("microstep", step_info, step_info.control_lines)
+            self._notify("microstep", step_info, lines)
             if self._seq == _FETCH_START:
                 self._notify("instruction")
 
     def _count_undefined(self, address: int) -> None:
         self._undefined[address] += 1
 
+    def _paths(self) -> tuple:
+        """The fast path's runners now: blocks, and the free runners of fused instructions (plain,
+        watching, stopping); the counting ones of ``LineTally`` while lines are counted."""
+        if self._tally is not None:
+            return self._tally.paths
+        return self.blocks, self._run_free, self._run_free_watching, self._run_free_stopping
+
     def _fast_path_open(self) -> bool:
+        if self._next_scheduled is not None and self.cycles >= self._next_scheduled:
+            self._attend()
         return (not self._observers and self._seq == _FETCH_START and not self.frozen
                 and not self.hold_line and self.ring.at_boundary)
 
@@ -372,121 +409,9 @@ class Emulator(StateKeeping):
             return StopReason("halted", self.pc, self.halt_address)
         return StopReason("stopped", self.pc)
 
-    def run(self, max_cycles: int | None = None, until=None, breakpoints=(), chunk=None,
-            chunk_cycles: int = 100_000) -> StopReason:
-        """Let the generator run until it freezes, a limit, a breakpoint or a condition.
-
-        ``until(emu)`` and breakpoints (addresses) are checked at every
-        instruction boundary reached during the run; ``until`` sees counters,
-        ring and time up to date. ``chunk(emu)`` is called
-        about every ``chunk_cycles`` cycles, with counters and time up to
-        date; it may flip the run switch (the debugger's Ctrl-C does that).
-        """
-        target = None if max_cycles is None else self.cycles + max_cycles
-        points = frozenset(breakpoints)
-        applied = [0, 0]
-        watch = self._watcher(points, until, applied) if points or until is not None else None
-        next_chunk = self.cycles + chunk_cycles
-        while True:
-            if self.frozen:
-                return self._frozen_reason()
-            if target is not None and self.cycles >= target:
-                return StopReason("cycle_limit", self.pc)
-            if chunk is not None and self.cycles >= next_chunk:
-                chunk(self)
-                next_chunk = self.cycles + chunk_cycles
-                continue
-            fast = self._fast_path_open()
-            if fast:
-                budget = next_chunk - self.cycles if chunk is not None else chunk_cycles
-                if target is not None:
-                    budget = min(budget, target - self.cycles)
-                limit = budget - self._max_fused
-                if limit >= 0:
-                    if self.blocks.enabled and until is None:
-                        cycles, count, hit = self.blocks.run(budget, points)
-                    elif watch is None:
-                        cycles, count, hit = self._run_free(limit)
-                    else:
-                        cycles, count, hit = self._run_free_watching(limit, watch)
-                    self._account(cycles - applied[0], count - applied[1])
-                    applied[:] = 0, 0
-                    if hit:
-                        return self._watch_reason(points)
-                    if cycles > limit:
-                        continue
-            done = self.instructions
-            if fast:
-                stop_at = next_chunk if chunk is not None else self.cycles + chunk_cycles
-                self._step_unwatched(stop_at if target is None else min(stop_at, target))
-            else:
-                self.advance_phase()
-            if self.instructions != done and watch is not None and watch():
-                return self._watch_reason(points)
-
-    def _step_unwatched(self, stop_at: int) -> None:
-        """The instruction at hand, one micro-step per cycle, without walking the phase table.
-
-        Where the fused path cannot go (a halt, an undefined word, a step that
-        loops, too little budget left) and nobody watches the phases, each
-        cycle is one compiled micro-step and the ring skips the cycle whole.
-        It ends at the instruction's end, the cycle that sets the halt latch
-        (from there the generator walks to its hold point as usual) or
-        ``stop_at``: exactly where the stepping path's checks, made between
-        phases, would stop it.
-        """
-        start = self.cycles
-        microstep = self._microstep
-        while True:
-            microstep()
-            if self.halt_latch or self._seq == _FETCH_START or self.cycles >= stop_at:
-                break
-        self.ring.skip_cycles(self.cycles - start)
-        self._released = False
-
-    def _watcher(self, points, until, applied):
-        """The check made after every instruction of a watched run.
-
-        On the fast path it is called with the run's own counts so far;
-        ``applied`` remembers how much of them the counters already hold, so
-        ``until`` sees cycles, ring and time up to date.
-        """
-        s, pc = self._s, self._pc
-
-        def watch(cycles=0, count=0):
-            if s[pc] in points:
-                return True
-            if until is None:
-                return False
-            self._account(cycles - applied[0], count - applied[1])
-            applied[:] = cycles, count
-            return until(self)
-        return watch
-
-    def _account(self, cycles: int, count: int) -> None:
-        """Bring counters and the ring up to date with work the fast path has done."""
-        if cycles:
-            self.cycles += cycles
-            self.instructions += count
-            self.ring.skip_cycles(cycles)
-            self._released = False
-
-    def _watch_reason(self, points) -> StopReason:
-        return StopReason("breakpoint" if self.pc in points else "condition", self.pc)
-
     def advance_instruction(self) -> StopReason:
         """Run the generator to the next instruction boundary (or until it freezes)."""
         return self.run(until=lambda emu: True)
-
-    def step_instruction(self, max_pulses: int | None = None) -> int:
-        """STEP pulses until the next instruction boundary, or ``max_pulses`` of them;
-        returns the pulses given (0 if running)."""
-        pulses = 0
-        while (max_pulses is None or pulses < max_pulses) and self.press_step():
-            pulses += 1
-            if self._seq == _FETCH_START:
-                break
-        return pulses
 
     # ----- snapshots ------------------------------------------------------------
 

@@ -61,8 +61,7 @@ class _FusedFunctions:
         with out.indent():
             out.line(f'"""{ins.display} — {cycles} cycle{"s" if str(cycles) != "1" else ""}"""')
             access = _LocalAccess(out, machine)
-            for step in machine.fetch:
-                _StepTranslator(machine, out, access, None).step(step)
+            self.fetch_steps(access)
             if not ins.has_jumps:
                 self.fused_steps(ins, fixed, access, 0, counting=False)
                 access.write_back()
@@ -91,8 +90,7 @@ class _FusedFunctions:
                      f'step {len(machine.fetch) + group.decode_step + 1}"""')
             out.line(f"start = s[{machine.registers[machine.program_counter].slot}]")
             access = _LocalAccess(out, machine)
-            for step in machine.fetch:
-                _StepTranslator(machine, out, access, None).step(step)
+            self.fetch_steps(access)
             out.line(f"c = {len(machine.fetch)}")
             self.fused_steps(first, _first_word_fixed(first, word), access, 0, counting=True,
                              stop=group.decode_step + 1)
@@ -136,6 +134,7 @@ class _FusedFunctions:
             out.line(f"# {step.text}")
             translator = _StepTranslator(machine, out, access, ins, fixed)
             if not counting:
+                self.count_step(translator, step, (ins.index, k), counted=False)
                 translator.step(step)
                 continue
             if guarded:
@@ -145,12 +144,30 @@ class _FusedFunctions:
                     out.line(f"at = {translator.next_step(step, k)}")
                 elif guarded:
                     out.line(f"at = {k + 1}")
+                self.count_step(translator, step, (ins.index, k), counted=True)
                 translator.step(step)
                 out.line("c += 1")
                 if guarded or step.jump is not None:
                     access.write_back()
                     access.loaded.clear()
             guarded = guarded or step.jump is not None
+
+    def fetch_steps(self, access) -> None:
+        """The fetch steps inline, at the start of a fused function."""
+        for j, step in enumerate(self.machine.fetch):
+            translator = _StepTranslator(self.machine, self.out, access, None)
+            self.count_step(translator, step, (-1, j), counted=False)
+            translator.step(step)
+
+    def count_step(self, translator: _StepTranslator, step, place: tuple[int, int], counted: bool) -> None:
+        """Where a fused function may count the step it is about to run (``place``: instruction
+        index or -1 for the fetch, and step index); ``counted``: the step is not one every run
+        of the function takes. Plain runs count nothing; ``_line_tally`` counts."""
+
+    def call_fused(self, word: str) -> None:
+        """The free runner's call of the next instruction's fused function; ``word``: the first
+        word as an expression, or ``"word"`` where the loop already holds it in that local."""
+        self.out.line(f"cycles += table[{word}]()")
 
     def fallback_function(self):
         out = self.out
@@ -175,11 +192,19 @@ class _FusedFunctions:
         return text
 
     def free_runners(self, peek: str):
-        """The hot loops: nothing in them but dispatch, cycle and instruction counts."""
+        """The hot loops: nothing in them but dispatch, cycle and instruction counts.
+
+        ``run_free_watching`` asks ``watch`` after every instruction;
+        ``run_free_stopping`` returns at a breakpoint and where ``stops``
+        (``_lookout.stop_words``) says: after an instruction marked ``AFTER``,
+        or ``WRITES`` once ``changed()``; before one marked ``BEFORE`` (not
+        where it started).
+        """
         out = self.out
-        for name, watching in (("run_free", False), ("run_free_watching", True)):
+        pc = self.machine.registers[self.machine.program_counter].slot
+        for name, args in (("run_free", "limit"), ("run_free_watching", "limit, watch"),
+                           ("run_free_stopping", "limit, stops, points, changed")):
             out.line()
-            args = "limit, watch" if watching else "limit"
             out.line(f"def {name}({args}):")
             with out.indent():
                 out.line('"""Run whole instructions while the cycle count stays at or below limit."""')
@@ -189,12 +214,21 @@ class _FusedFunctions:
                 with out.indent():
                     out.line("while cycles <= limit:")
                     with out.indent():
-                        out.line(f"cycles += table[{peek}]()")
+                        if name == "run_free_stopping":
+                            out.line(f"word = {peek}")
+                            out.line("if stops[word] & 2 and cycles:")
+                            out.line("    return cycles, instructions, True")
+                            self.call_fused("word")
+                        else:
+                            self.call_fused(peek)
                         out.line("instructions += 1")
-                        if watching:
+                        if name == "run_free_watching":
                             out.line("if watch(cycles, instructions):")
-                            with out.indent():
-                                out.line("return cycles, instructions, True")
+                            out.line("    return cycles, instructions, True")
+                        elif name == "run_free_stopping":
+                            out.line("stop = stops[word]")
+                            out.line(f"if stop & 1 or stop & 4 and changed() or s[{pc}] in points:")
+                            out.line("    return cycles, instructions, True")
                 out.line("except Fallback:")
                 with out.indent():
                     out.line("pass")

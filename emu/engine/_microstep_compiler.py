@@ -16,7 +16,8 @@ Two back ends share one statement translator, so they cannot drift:
 All generated functions are closures inside one ``build(s, m, in_, out_,
 Fallback)`` function: ``s`` is the flat list of register and flag slots,
 ``m`` the memory. The code object is compiled once per machine and cached;
-``build`` is called once per emulator. Set ``RELAYBENCH_DUMP_CODE`` to a
+``build`` is called once per emulator (and kept in the user's cache folder
+between runs, see ``_code_cache``). Set ``RELAYBENCH_DUMP_CODE`` to a
 folder to have the source written there, under the file name that
 tracebacks show.
 
@@ -32,6 +33,7 @@ from dataclasses import dataclass
 from typing import Callable, NamedTuple
 
 from ..description import Machine
+from ._code_cache import cached_code
 from ._emitter import compile_generated
 from ._machine_compiler import _MachineCompiler
 
@@ -53,6 +55,7 @@ class BoundFunctions(NamedTuple):
     """First word → its fused function; the free runners index it themselves."""
     run_free: Callable
     run_free_watching: Callable
+    run_free_stopping: Callable
 
 
 @dataclass
@@ -78,14 +81,18 @@ _cache: dict[int, CompiledMachine] = {}
 def compile_machine(machine: Machine) -> CompiledMachine:
     """Compile once per machine object; later calls return the cached result.
 
-    The cache entry goes when the machine object does.
+    The cache entry goes when the machine object does. The code itself is
+    kept between processes too, in the user's cache folder (``_code_cache``).
     """
     key = id(machine)
     cached = _cache.get(key)
     if cached is not None and cached.machine is machine:
         return cached
-    source, max_cycles = _MachineCompiler(machine).source()
-    code = compile_generated(source, machine.name, f"{machine.name}_generated")
+    def generate():
+        source, max_cycles = _MachineCompiler(machine).source()
+        return source, compile_generated(source, machine.name, f"{machine.name}_generated"), max_cycles
+
+    source, code, max_cycles = cached_code(machine, generate)
     compiled = CompiledMachine(machine, source, code, max_cycles)
     _cache[key] = compiled
     weakref.finalize(machine, _cache.pop, key, None)

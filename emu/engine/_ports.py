@@ -55,6 +55,15 @@ class Ports:
             return 0
         return reader(self)
 
+    def listen(self, listener) -> None:
+        """Call ``listener(port, device)`` at every read of a port with a device, before it answers.
+
+        For a check that must know whether a program reads the panel while it
+        runs; the readers are wrapped, so a run without a listener pays nothing.
+        """
+        for port, reader in list(self._readers.items()):
+            self._readers[port] = _heard(reader, port, self.machine.ports_in[port], listener)
+
     def write(self, port: int, value: int) -> None:
         writer = self._writers.get(port)
         if writer is None:
@@ -108,6 +117,13 @@ class Ports:
         self.input_position = state["input_position"]
         self.reads_past_end = state["reads_past_end"]
         self.unmapped = Counter({(d, p): n for d, p, n in state["unmapped"]})
+
+
+def _heard(reader, port: int, device: str, listener):
+    def read(bus) -> int:
+        listener(port, device)
+        return reader(bus)
+    return read
 
 
 def _unmapped_entry(entry) -> bool:

@@ -38,10 +38,13 @@ class StateKeeping:
 
         The machine is then exactly as a new ``Emulator`` given ``load(segments)``,
         ``switches`` and ``input_bytes``: registers, memory, ports, ring, latch and
-        counters as at power-on. What is attached to it stays: observers, the
-        clock source (which gives the next turn) and blocks already translated
-        (checked against memory before they run again).
+        counters as at power-on. What is attached to it stays: observers (those of a
+        window of cycles still waiting count from cycle 0 again), the clock source
+        (which gives the next turn) and blocks already translated (checked against
+        memory before they run again). Counting wear (``count_lines``) ends here;
+        the tally keeps what it counted.
         """
+        self.stop_counting_lines()
         self._s[:] = self._blank_slots
         self.memory[:] = self._blank_memory
         self.ports.power_on()
@@ -65,9 +68,11 @@ class StateKeeping:
         """Back to the state of ``point``, taken from an emulator of the same machine (this one or another).
 
         Everything goes back into this emulator's own list, memory and ports, so bound code stays valid.
+        Counting wear ends here, as at ``reload``: relays do not un-wear going back.
         """
         if point.machine is not self.machine:
             raise MachineError(f"the save point is of machine '{point.machine.name}', not '{self.machine.name}'")
+        self.stop_counting_lines()
         self._s[:] = point.slots
         self.memory[:] = point.memory
         self.ring.restore(point.ring)

@@ -55,7 +55,7 @@ def start_emulator(program: LoadedProgram, machine: Machine, *, switches: int = 
 def run_loaded(program: LoadedProgram, machine: Machine, *, max_cycles: int = DEFAULT_MAX_CYCLES,
                switches: int = 0, input_bytes: bytes = b"", stop_at_pause: bool = False,
                on_halt=None, chunk=None, emulator: Emulator | None = None,
-               operator: tuple[HaltAnswer, ...] = ()) -> RunResult:
+               operator: tuple[HaltAnswer, ...] = (), planted: frozenset[int] = frozenset()) -> RunResult:
     """Run to a halt or the cycle limit, resuming by itself at every pause.
 
     ``operator`` is the script of a panel file: its answers are given, in
@@ -64,7 +64,9 @@ def run_loaded(program: LoadedProgram, machine: Machine, *, max_cycles: int = DE
     and a halt ends the run, as without one.
     ``on_halt(emulator, address)`` is called each time the clock freezes on
     a halt or pause (before it is answered or resumed), ``chunk(emulator)``
-    between chunks of work. ``max_cycles`` counts the whole run, pauses and
+    between chunks of work. Halts at ``planted`` addresses (halts a check
+    planted to see whether one there changes the result) are resumed at
+    once: no pause, no answer of the script, no ``on_halt``. ``max_cycles`` counts the whole run, pauses and
     STEP pulses included. An ``emulator`` may be passed in already set up
     (the debugger, timing observers); otherwise one is powered on here.
     """
@@ -76,6 +78,9 @@ def run_loaded(program: LoadedProgram, machine: Machine, *, max_cycles: int = DE
         stop = emu.run(max_cycles=max(limit - emu.cycles, 0), chunk=chunk)
         if stop.kind != "halted":
             return RunResult(program, emu, "cycle_limit", pauses, None, len(answers))
+        if stop.address in planted:
+            emu.press_resume()
+            continue
         if on_halt is not None:
             on_halt(emu, stop.address)
         is_pause = stop.address in program.pauses

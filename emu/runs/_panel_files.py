@@ -22,7 +22,9 @@ order the run reaches them::
     steps = 3                # press STEP 3 times, then throw RUN again
 
 Every key is optional and they act in the order shown: toggles, input,
-RESUME, then (with ``stop_after``) STOP, ``steps`` STEP pulses and RUN.
+RESUME, then (with ``stop_after``) STOP, ``steps`` STEP presses and RUN;
+each press gives what the machine's ``[clock] step`` says (one pulse, or
+every pulse up to the next hold point).
 The operator stops pressing STEP when the halt lamp lights; that halt, like
 one reached before ``stop_after`` cycles have run, is answered by the next
 table (an answer at the final halt resumes past it, as the operator would).
@@ -61,7 +63,7 @@ class HaltAnswer:
     stop_after: int | None = None
     """Cycles after RESUME at which the switch is thrown to STOP; None: it stays at RUN."""
     steps: int = 0
-    """STEP pulses given at that stop before the switch goes back to RUN."""
+    """STEP presses given at that stop before the switch goes back to RUN."""
 
 @dataclass(frozen=True)
 class PanelSettings:
@@ -159,7 +161,7 @@ def _operator_script(panel: Table, machine: Machine) -> tuple[HaltAnswer, ...]:
         more = table.string("input", default="", expected="a string").encode("utf-8")
         resume = table.boolean("resume", default=True)
         stop_after = table.integer("stop_after", low=1, default=None, expected="a positive number of cycles")
-        steps = table.integer("steps", low=0, default=0, expected="a number of STEP pulses (0 or more)")
+        steps = table.integer("steps", low=0, default=0, expected="a number of STEP presses (0 or more)")
         if stop_after is not None and not resume:
             table.fail("'stop_after' needs 'resume = true': the clock must run before STOP is thrown",
                        "stop_after")

@@ -12,7 +12,7 @@ from ._montecarlo import METRICS, PERCENTILES, ClockSamples, monte_carlo
 from ._rc import (charging_voltage, discharging_voltage, divider, time_constant,
                   time_to_charge, time_to_discharge)
 from ._spread import SpreadClock, spread_source
-from ._vcd import LARGE_BYTES, VcdRecorder, VcdWindow, control_lines, record_vcd, signal_name
+from ._vcd import LARGE_BYTES, VcdRecorder, VcdWindow, control_lines, fitted_unit_ns, record_vcd, signal_name
 from ._wear import WearCounter, count_wear, format_wear, relay_names, wear_ratings
 
 __all__ = [
@@ -21,6 +21,6 @@ __all__ = [
     "charging_voltage", "discharging_voltage", "divider", "time_constant",
     "time_to_charge", "time_to_discharge",
     "SpreadClock", "spread_source",
-    "LARGE_BYTES", "VcdRecorder", "VcdWindow", "control_lines", "record_vcd", "signal_name",
+    "LARGE_BYTES", "VcdRecorder", "VcdWindow", "control_lines", "fitted_unit_ns", "record_vcd", "signal_name",
     "WearCounter", "WearRatings", "count_wear", "format_wear", "relay_names", "wear_ratings",
 ]

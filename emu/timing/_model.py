@@ -12,6 +12,14 @@ ring stays there, in one of two ways:
   voltage, discharges through the coil alone until the coil falls to its
   drop-out voltage, then the armature needs its release time.
 
+In a make-before-break ring (a phase may light two stages) every stage
+does both: the next stage picks up while the one before still holds, and
+the overlap ends when that one drops out. The loader works out from the
+ring which stage's pick-up or drop-out ends each phase
+(``phase_stage``, ``phase_event``); a stage drops out from the full
+divider voltage, having been lit for several time constants since it
+picked up.
+
 Any stage key may also stand in ``[timing]`` itself as the default for all
 stages. ``[timing]`` alone holds the supply (``supply_v``), the datapath's
 minimum high pulse (``min_pulse_ms``), how far the phase table may stray
@@ -30,7 +38,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
-from ..description import Machine, StageParts, TimingSection
+from ..description import MECHANICAL, Machine, StageParts, TimingSection
 from ..errors import MachineError
 from ._rc import divider, time_to_charge, time_to_discharge
 
@@ -41,7 +49,8 @@ __all__ = ["TimingModel", "timing_model", "has_timing"]
 class TimingModel(TimingSection):
     """A machine's clock as parts: the checked ``[timing]`` section with the machine it times.
 
-    ``phase_stage[i]`` is the index of the stage that times phase ``i``.
+    ``phase_stage[i]`` is the index of the stage whose event ends phase
+    ``i``, ``phase_event[i]`` that event (see ``TimingSection``).
     """
     machine: Machine
 
@@ -53,12 +62,15 @@ class TimingModel(TimingSection):
         ``supply`` and the entries of ``values`` are floats or arrays of one
         shape. An infinite time means that stage never operates.
         """
-        per_stage = [_rc_delay(stage, supply, parts) for stage, parts in zip(self.stages, values)]
-        return np.stack([np.asarray(per_stage[s], float) for s in self.phase_stage], axis=-1)
+        delays = {}
+        for s, event in set(zip(self.phase_stage, self.phase_event)):
+            delays[s, event] = _rc_delay(self.stages[s], event, supply, values[s])
+        return np.stack([np.asarray(delays[key], float) for key in zip(self.phase_stage, self.phase_event)],
+                        axis=-1)
 
     def mechanical_times(self, values: list[dict]) -> np.ndarray:
-        per_stage = [parts[stage.mechanical] for stage, parts in zip(self.stages, values)]
-        return np.stack([np.asarray(per_stage[s], float) for s in self.phase_stage], axis=-1)
+        return np.stack([np.asarray(values[s][MECHANICAL[event]], float)
+                         for s, event in zip(self.phase_stage, self.phase_event)], axis=-1)
 
     @property
     def nominal_values(self) -> list[dict]:
@@ -105,10 +117,11 @@ class TimingModel(TimingSection):
         return electrical + mechanical * self.deviations(rng, shape, self.jitter)
 
 
-def _rc_delay(stage: StageParts, supply, parts: dict):
+def _rc_delay(stage: StageParts, event: str, supply, parts: dict):
+    """The RC part of ``event`` (charge: picking up; discharge: dropping out from the held voltage)."""
     feed = supply - stage.diodes * parts["diode"]
     held, r_equivalent = divider(feed, parts["r"], parts["coil"])
-    if stage.mode == "charge":
+    if event == "charge":
         return time_to_charge(held, parts["pick_up"], r_equivalent * parts["c"])
     delay = time_to_discharge(held, parts["drop_out"], parts["coil"] * parts["c"])
     return np.where(held > parts["pick_up"], delay, np.inf)

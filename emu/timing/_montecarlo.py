@@ -3,7 +3,8 @@
 Each sample is one clock built from parts drawn within their tolerances;
 it runs a few turns of its ring, its armatures varying from operation to
 operation (``jitter``), and yields its rate, duty cycle, shortest high and
-low pulse and the largest change between consecutive cycle periods. All
+low pulse and the largest change between consecutive cycle periods,
+each measured against its own position's nominal length in the turn. All
 work is numpy over whole chunks of samples; the chunk size is fixed, so a
 seed gives the same figures whether or not a progress bar is drawn.
 """
@@ -104,7 +105,12 @@ class _PulseShape:
     """Where the high and low pulses of a turn begin, once per model.
 
     The phase table is rotated to start at a rising edge, so every turn is a
-    whole number of cycles: high pulse, low interval, high pulse, …
+    whole number of cycles: high pulse, low interval, high pulse, … A design
+    may give its cycles different lengths on purpose (a short pulse and a
+    long one a turn); irregularity is measured against that design: each
+    cycle is first scaled by the mean nominal cycle over its own position's
+    nominal length (the nominal parts, no jitter), so only what differs from
+    the design counts. On a ring whose cycles are all alike the scale is 1.
     """
 
     def __init__(self, model: TimingModel):
@@ -116,6 +122,9 @@ class _PulseShape:
         run_starts = [0] + [i for i in range(1, count) if rotated[i] != rotated[i - 1]]
         self.run_starts = np.array([t * count + s for t in range(TURNS_PER_SAMPLE) for s in run_starts])
         self.pulses = len(run_starts) // 2 * TURNS_PER_SAMPLE
+        nominal = np.tile(model.nominal_phase_seconds()[self.order], TURNS_PER_SAMPLE)
+        nominal_cycles = np.add.reduceat(nominal, self.run_starts).reshape(-1, 2).sum(axis=1)
+        self.design_scale = nominal_cycles.mean() / nominal_cycles
 
     def figures(self, turns: np.ndarray) -> dict:
         sequence = turns[:, :, self.order].reshape(len(turns), -1)
@@ -123,8 +132,9 @@ class _PulseShape:
         high, low = runs[:, 0::2], runs[:, 1::2]
         cycles = high + low
         total = cycles.sum(axis=1)
-        steps = np.abs(np.diff(cycles, axis=1)).max(axis=1)
+        as_designed = cycles * self.design_scale
+        steps = np.abs(np.diff(as_designed, axis=1)).max(axis=1)
         return {"rate_hz": self.pulses / total, "duty": high.sum(axis=1) / total,
                 "shortest_high_s": high.min(axis=1, initial=np.inf),
                 "shortest_low_s": low.min(axis=1, initial=np.inf),
-                "irregularity": steps / (total / self.pulses), "phase_s": turns[:, 0, :]}
+                "irregularity": steps / as_designed.mean(axis=1), "phase_s": turns[:, 0, :]}

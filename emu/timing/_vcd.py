@@ -1,10 +1,13 @@
 """Waveforms: an observer that writes a value change dump (IEEE 1364) of a run.
 
-The dump is in simulated time (1 ns steps) and shows what a builder would
+The dump is in simulated time, in the largest unit the standard allows
+(1, 10 or 100 of s, ms, us, ns) that every time of the run is a whole
+number of (``fitted_unit_ns``), and shows what a builder would
 put a logic analyser on: the clock, each ring stage, the hold line, the
 halt latch, the RUN/STOP switch, the sequencer step, every control line of
-the machine (high while the pulse that drives it lasts) and every register
-and flag. The file is written beside its final name and renamed into place
+the machine (high while the pulse that drives it lasts; a gated line only
+on a pulse where its condition let it through) and every register and
+flag, named as the machine file names them. The file is written beside its final name and renamed into place
 when the recording ends, so a failure never leaves half of one.
 
 A full dump of a long program runs to gigabytes, so a recording can be a
@@ -14,17 +17,16 @@ estimate, before it grows past ``LARGE_BYTES``.
 
 from __future__ import annotations
 
+import math
 import re
 from contextlib import contextmanager
-
-from vcd import VCDWriter
 
 from .. import Emulator, Observer
 from ..description import Machine
 from ..files import atomic_output
 from ..formatting import size_text
 
-__all__ = ["LARGE_BYTES", "VcdRecorder", "VcdWindow", "record_vcd", "control_lines", "signal_name"]
+__all__ = ["LARGE_BYTES", "VcdRecorder", "VcdWindow", "record_vcd", "control_lines", "fitted_unit_ns", "signal_name"]
 
 LARGE_BYTES = 100_000_000
 """Past about this size a waveform is more than a viewer opens comfortably: say so."""
@@ -37,9 +39,138 @@ def control_lines(machine: Machine) -> list[str]:
     return machine.control_lines()
 
 
+_UNITS = ((10 ** 9, "s"), (10 ** 6, "ms"), (10 ** 3, "us"), (1, "ns"))
+
+
+def fitted_unit_ns(emu: Emulator) -> int:
+    """The time unit of a dump starting now: 1, 10 or 100 of a unit of IEEE 1364-2005
+    §18.2.3.7 (``$timescale``), the largest that divides the present time and every phase
+    of the nominal clock, and so every time the run reaches. 1 ns on an irregular clock,
+    whose draws are whole nanoseconds of any size."""
+    if emu.clock_source is not None:
+        return 1
+    common = math.gcd(emu.time_ns, emu.ring.manual_pulse_ns, *(p.duration_ns for p in emu.machine.phases))
+    for size, _name in _UNITS:
+        for number in (100, 10, 1):
+            if common % (number * size) == 0:
+                return number * size
+    return 1
+
+
+def _timescale_text(unit_ns: int) -> str:
+    for size, name in _UNITS:
+        if unit_ns % size == 0:
+            return f"{unit_ns // size} {name}"
+    raise ValueError(unit_ns)
+
+
+class _DumpWriter:
+    """Value changes as VCD text (IEEE 1364-2005 §18.2), written straight to a stream.
+
+    As a dump is read: the header (``$timescale``, nested ``$scope module``
+    with their ``$var``s, ``$enddefinitions``), then ``#0`` and ``$dumpvars``
+    with every initial value, then each later time ``#t`` followed by the
+    values that changed at it: ``0!``/``1!`` for a 1-bit wire, ``b1010 !``
+    for a wider one. A change to the value a variable already has is left
+    out; changes made at time 0 before any later one set the initial values
+    (as pyvcd, which wrote the dumps before, does).
+    """
+
+    def __init__(self, stream, unit_ns: int, comment: str):
+        self.stream, self.unit, self.comment = stream, unit_ns, comment
+        self.declared: list[tuple[str, str, str, int, str]] = []
+        self.values: list[int] = []
+        self.wide: list[bool] = []
+        self.codes: list[str] = []
+        self.scalars: list[tuple[str, str]] = []
+        self.now = 0
+        self.written_now: int | None = None
+        self.started = False
+        self.out: list[str] = []
+
+    def var(self, scope: str, name: str, kind: str, size: int, init: int) -> int:
+        index = len(self.values)
+        code, number = "", index
+        while True:
+            code += chr(33 + number % 94)
+            number //= 94
+            if not number:
+                break
+        self.declared.append((scope, name, kind, size, code))
+        self.values.append(int(init))
+        self.wide.append(size > 1)
+        self.codes.append(code)
+        self.scalars.append((f"0{code}", f"1{code}"))
+        return index
+
+    def _text(self, var: int, value: int) -> str:
+        if self.wide[var]:
+            return f"b{value:b} {self.codes[var]}"
+        return self.scalars[var][value]
+
+    def _start(self) -> None:
+        self.started = True
+        lines = [f"$comment {self.comment} $end", f"$timescale {_timescale_text(self.unit)} $end"]
+        by_scope: dict[tuple[str, ...], list[str]] = {}
+        for scope, name, kind, size, code in self.declared:
+            by_scope.setdefault(tuple(scope.split(".")), []).append(f"$var {kind} {size} {code} {name} $end")
+        open_scope: tuple[str, ...] = ()
+        for scope in sorted(by_scope):
+            shared = 0
+            while shared < min(len(open_scope), len(scope)) and open_scope[shared] == scope[shared]:
+                shared += 1
+            lines += ["$upscope $end"] * (len(open_scope) - shared)
+            lines += [f"$scope module {part} $end" for part in scope[shared:]]
+            lines += by_scope[scope]
+            open_scope = scope
+        lines += ["$upscope $end"] * len(open_scope)
+        lines += ["$enddefinitions $end", "#0", "$dumpvars"]
+        lines += [self._text(var, value) for var, value in enumerate(self.values)]
+        lines.append("$end")
+        self.written_now = 0
+        self.stream.write("\n".join(lines) + "\n")
+
+    def change(self, var: int, time_ns: int, value: int) -> None:
+        t = time_ns // self.unit
+        if t > self.now:
+            if not self.started:
+                self._start()
+            self.now = t
+        if value == self.values[var]:
+            return
+        self.values[var] = value
+        if not self.started:
+            return
+        if self.written_now != t:
+            self.written_now = t
+            self.out.append(f"#{t}")
+        self.out.append(self._text(var, value))
+        if len(self.out) > 4096:
+            self.flush()
+
+    def flush(self) -> None:
+        if self.out:
+            self.out.append("")
+            self.stream.write("\n".join(self.out))
+            self.out.clear()
+
+    def close(self, time_ns: int) -> None:
+        """Everything written, ending with the time the recording ended at."""
+        t = time_ns // self.unit
+        if not self.started:
+            self._start()
+        if t > self.now:
+            self.now = t
+        if self.written_now != self.now:
+            self.out.append(f"#{self.now}")
+        self.flush()
+        self.stream.flush()
+
+
 def signal_name(text: str) -> str:
-    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``."""
-    return re.sub(r"\W+", "_", text).strip("_")
+    """A control line name as a VCD identifier: ``load pc`` → ``load_pc``; a builder's name
+    (letters, digits, ``-``, ``_``: ``ld-a``) stays as it is."""
+    return re.sub(r"[^\w-]+", "_", text).strip("_")
 
 
 class VcdRecorder(Observer):
@@ -49,28 +180,31 @@ class VcdRecorder(Observer):
     attach it with ``emulator.observe`` (``record_vcd`` does all of that).
     """
 
-    def __init__(self, emu: Emulator, stream):
+    def __init__(self, emu: Emulator, stream, unit_ns: int | None = None):
         machine = emu.machine
         self.machine = machine
-        self.writer = writer = VCDWriter(stream, timescale="1 ns", date="",
-                                         comment=f"relaybench waveform of machine {machine.name}")
+        self.unit_ns = fitted_unit_ns(emu) if unit_ns is None else unit_ns
+        self.writer = writer = _DumpWriter(stream, self.unit_ns, f"relaybench waveform of machine {machine.name}")
         top = machine.name
-        wire = lambda scope, name, init=0: writer.register_var(scope, name, "wire", size=1, init=init)
+        wire = lambda scope, name, init=0: writer.var(scope, name, "wire", 1, init)
         self.clock = wire(top, "clock")
         self.hold_line = wire(top, "hold_line", int(emu.hold_line))
         self.frozen = wire(top, "frozen", int(emu.frozen))
         self.halt_latch = wire(top, "halt_latch", int(emu.halt_latch))
         self.run_switch = wire(top, "run_switch", int(emu.switch_run))
-        self.step = writer.register_var(top, "step", "integer", size=8, init=emu.sequencer[1])
+        self.step = writer.var(top, "step", "integer", 8, emu.sequencer[1])
         self.lit = set(machine.phases[emu.phase_index].ring)
-        self.stages = [wire(f"{top}.ring", f"stage{s}", int(s in self.lit))
+        self.stages = [wire(f"{top}.ring", machine.stage_signal(s), int(s in self.lit))
                        for s in range(1, machine.ring_stages + 1)]
         self.lines = {line: wire(f"{top}.lines", signal_name(line)) for line in control_lines(machine)}
         self.driving: tuple[str, ...] = ()
-        self.registers = {name: writer.register_var(f"{top}.registers", name, "wire", size=reg.width,
-                                                    init=emu.get(name))
+        self.registers = {name: writer.var(f"{top}.registers", name, "wire", reg.width, emu.get(name))
                           for name, reg in machine.registers.items()}
         self.flags = {name: wire(f"{top}.flags", name, emu.get(name)) for name in machine.flags}
+        self.read = emu.reader([*machine.registers, *machine.flags])
+        self.datapath_vars = [*self.registers.values(), *self.flags.values()]
+        self.seen = self.read()
+        self.phase_lit = [frozenset(p.ring) for p in machine.phases]
 
     def close(self, emu: Emulator) -> None:
         self.writer.close(emu.time_ns)
@@ -78,18 +212,21 @@ class VcdRecorder(Observer):
     # -- what changed
 
     def _ring(self, emu: Emulator) -> None:
-        lit = set(self.machine.phases[emu.phase_index].ring)
-        t = emu.time_ns
-        for stage in self.lit ^ lit:
-            self.writer.change(self.stages[stage - 1], t, int(stage in lit))
-        self.lit = lit
+        lit = self.phase_lit[emu.phase_index]
+        if lit != self.lit:
+            t = emu.time_ns
+            for stage in self.lit ^ lit:
+                self.writer.change(self.stages[stage - 1], t, int(stage in lit))
+            self.lit = lit
 
     def _datapath(self, emu: Emulator) -> None:
         t, change = emu.time_ns, self.writer.change
-        for name, var in self.registers.items():
-            change(var, t, emu.get(name))
-        for name, var in self.flags.items():
-            change(var, t, emu.get(name))
+        values = self.read()
+        if values != self.seen:
+            for var, old, new in zip(self.datapath_vars, self.seen, values):
+                if old != new:
+                    change(var, t, new)
+            self.seen = values
         change(self.step, t, emu.sequencer[1])
 
     def _hold(self, emu: Emulator) -> None:
@@ -106,7 +243,7 @@ class VcdRecorder(Observer):
         t = emu.time_ns
         self.writer.change(self.clock, t, level)
         if level:
-            self.driving = emu.current_step.control_lines
+            self.driving = emu.driven_lines()
             self.writer.change(self.step, t, emu.sequencer[1])
         for line in self.driving:
             self.writer.change(self.lines[line], t, level)
@@ -151,8 +288,10 @@ class VcdWindow(Observer):
     cycles give an estimate of the whole; without one, when it gets there.
     """
 
-    def __init__(self, emu: Emulator, stream, *, start: int = 0, cycles: int | None = None, warn=None):
+    def __init__(self, emu: Emulator, stream, *, start: int = 0, cycles: int | None = None, warn=None,
+                 unit_ns: int | None = None):
         self.stream = _CountingStream(stream)
+        self.unit_ns = unit_ns
         self.start = emu.cycles + start
         self.end = None if cycles is None else self.start + cycles
         self.warn = warn
@@ -170,7 +309,7 @@ class VcdWindow(Observer):
         if cycle < self.start or (self.end is not None and cycle >= self.end):
             return False
         if self.recorder is None:
-            self.recorder = VcdRecorder(emu, self.stream)
+            self.recorder = VcdRecorder(emu, self.stream, self.unit_ns)
         return True
 
     def _watch_size(self, emu) -> None:
@@ -191,7 +330,7 @@ class VcdWindow(Observer):
 
     def close(self, emu: Emulator) -> None:
         if self.recorder is None:
-            self.recorder = VcdRecorder(emu, self.stream)   # a window the run never reached: an empty dump
+            self.recorder = VcdRecorder(emu, self.stream, self.unit_ns)   # a window the run never reached: an empty dump
         self.recorder.close(emu)
 
     def phase(self, emu, index):
@@ -222,17 +361,19 @@ class VcdWindow(Observer):
 
 
 @contextmanager
-def record_vcd(emu: Emulator, path, *, start: int = 0, cycles: int | None = None, warn=None):
+def record_vcd(emu: Emulator, path, *, start: int = 0, cycles: int | None = None, warn=None,
+               unit_ns: int | None = None):
     """Record a waveform of whatever the emulator does inside the ``with`` block.
 
     ``start`` and ``cycles`` choose a window, counted from now (see
     ``VcdWindow``). The file appears at ``path`` when the block ends, also
     when it ends by an exception such as Ctrl-C: the waveform up to there
-    is sound.
+    is sound. ``unit_ns`` fixes the time unit (1 for a clock whose beat may change
+    while recording); by default it fits the clock (``fitted_unit_ns``).
     """
     with atomic_output(path, text=True, keep_on_error=True) as stream:
-        window = VcdWindow(emu, stream, start=start, cycles=cycles, warn=warn)
-        emu.observe(window)
+        window = VcdWindow(emu, stream, start=start, cycles=cycles, warn=warn, unit_ns=unit_ns)
+        emu.observe(window, start=window.start, end=window.end)
         try:
             yield window
         finally:

@@ -2,7 +2,9 @@
 
 A ring-stage relay operates each time the ring lights its stage; the relay
 of a control line operates on every pulse whose micro-step drives that
-line. From the counts of one run, the number of operations per clock pulse
+line (a gated line: on every pulse where its condition let it through).
+The engine keeps the counts on both of its paths (``Emulator.count_lines``),
+so a counted run goes as fast as the fast path allows. From the counts of one run, the number of operations per clock pulse
 gives the operations per hour of use at the machine's nominal rate, and
 the rated mechanical life from the ``[wear]`` section gives the hours each
 relay lasts. The relays that wear out first come first in the report.
@@ -13,8 +15,8 @@ from __future__ import annotations
 import math
 from contextlib import contextmanager
 
-from .. import Emulator, Observer
-from ..description import Machine, WearRatings, stage_relay
+from .. import Emulator
+from ..description import Machine, WearRatings
 from ..formatting import hours_text
 
 __all__ = ["WearCounter", "WearRatings", "count_wear", "wear_ratings", "format_wear",
@@ -31,7 +33,7 @@ def wear_ratings(machine: Machine) -> WearRatings:
     return machine.wear
 
 
-class WearCounter(Observer):
+class WearCounter:
     """Counts operations of every relay while attached to an emulator.
 
     Built from the emulator, so a stage already lit when counting starts
@@ -40,34 +42,23 @@ class WearCounter(Observer):
 
     def __init__(self, emu: Emulator):
         self.machine = emu.machine
-        self.counts = dict.fromkeys(relay_names(emu.machine), 0)
-        self.lit = set(self.machine.phases[emu.phase_index].ring)
-        self.pulses = 0
+        self.tally = emu.count_lines()
 
-    def _ring(self, emu):
-        lit = set(self.machine.phases[emu.phase_index].ring)
-        for stage in lit - self.lit:
-            self.counts[stage_relay(stage)] += 1
-        self.lit = lit
+    @property
+    def counts(self) -> dict[str, int]:
+        """Operations per relay: the ring stages, then the control lines."""
+        return self.tally.counts()
 
-    def phase(self, emu, index):
-        self._ring(emu)
-
-    def hold(self, emu, frozen):
-        self._ring(emu)
-
-    def edge(self, emu, level):
-        self.pulses += level
-
-    def microstep(self, emu, step, lines):
-        for line in lines:
-            self.counts[line] += 1
+    @property
+    def pulses(self) -> int:
+        return self.tally.pulses()
 
     def report(self) -> dict:
         """A JSON-able dict: per relay its count, rate and life, soonest worn first."""
         machine = self.machine
         ratings = wear_ratings(machine)
-        per_hour_factor = machine.nominal_hz * 3600 / self.pulses if self.pulses else 0.0
+        pulses = self.pulses
+        per_hour_factor = machine.nominal_hz * 3600 / pulses if pulses else 0.0
         relays = []
         for name, count in self.counts.items():
             if not count:
@@ -75,12 +66,12 @@ class WearCounter(Observer):
             per_hour = count * per_hour_factor
             life = ratings.life(name)
             hours = life / per_hour if life is not None and per_hour else None
-            relays.append({"relay": name, "operations": count, "per_pulse": count / self.pulses,
+            relays.append({"relay": name, "operations": count, "per_pulse": count / pulses,
                            "per_hour": per_hour, "rated_operations": life, "life_hours": hours})
         relays.sort(key=lambda r: (r["life_hours"] is None, r["life_hours"] or 0, -r["operations"], r["relay"]))
         timed = [r for r in relays if r["life_hours"] is not None]
         first = [r["relay"] for r in timed if math.isclose(r["life_hours"], timed[0]["life_hours"])]
-        return {"machine": machine.name, "pulses": self.pulses, "nominal_hz": machine.nominal_hz,
+        return {"machine": machine.name, "pulses": pulses, "nominal_hz": machine.nominal_hz,
                 "relays": relays, "wears_first": first,
                 "rated_life_known": ratings.default is not None or bool(ratings.relays)}
 
@@ -89,11 +80,10 @@ class WearCounter(Observer):
 def count_wear(emu: Emulator):
     """Count relay operations of whatever the emulator does inside the ``with`` block."""
     counter = WearCounter(emu)
-    emu.observe(counter)
     try:
         yield counter
     finally:
-        emu.unobserve(counter)
+        emu.stop_counting_lines()
 
 
 def format_wear(report: dict, top: int = 10) -> str:

@@ -312,7 +312,7 @@ def main() -> int:
     parser.add_argument("--repeat", type=int, default=5)
     parser.add_argument("--only", help="one program by file name")
     args = parser.parse_args()
-    paths = sorted((ROOT / "programs").glob("*.asm"), key=lambda p: (p.name != "ledger.asm", p.name))
+    paths = sorted((ROOT / "programs" / "ref8").glob("*.asm"), key=lambda p: (p.name != "ledger.asm", p.name))
     if args.only:
         paths = [p for p in paths if p.name == args.only]
     ok = True

@@ -24,7 +24,7 @@ import asm  # noqa: E402
 import emu  # noqa: E402
 from emu.cli import main as relaybench  # noqa: E402
 
-PROGRAM = ROOT / "programs" / "ledger.asm"
+PROGRAM = ROOT / "programs" / "ref8" / "ledger.asm"
 REPEATS = 5
 
 

@@ -2,7 +2,7 @@
 
 Run:  python tests/bench/bench_sweep.py [--pairs N] [--repeat N]
 
-The routine is the 16-bit multiply of programs/lib (as programs/tolls.asm
+The routine is the 16-bit multiply of programs/ref8/lib (as programs/ref8/tolls.asm
 calls it, without the printing): two bytes multiplied, about 80 instructions a
 run, swept over operand pairs ``load × rate``. Three ways
 to run the same pairs in this process, each checked against Python's own

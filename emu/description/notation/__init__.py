@@ -7,7 +7,9 @@ traversal over it (``children``/``with_children``, ``walk``, and
 rule that says how many bits a value has; ``numbers.lark`` and ``_numbers``
 are the number and escape notation shared by machine files, the assembler,
 command options and the debugger; ``alu.lark`` and ``_alu_expr`` are the
-expression language of ALU definitions (``[alu.NAME]`` and the built-ins).
+expression language of ALU definitions (``[alu.NAME]`` and the built-ins);
+``_grammars`` builds every parser from its grammar file, through the user's
+cache.
 """
 
 from ._alu_expr import (AluExpr, Binary, BitRange, Num, Unary, Var, alu_parts, evaluate, free_names, index_names,
@@ -16,10 +18,11 @@ from ._ir import (LOGIC_OPERATORS, Assign, Call, Choose, Condition, Const, End, 
                   Goto, Halt, Idle, Input, Join, Logic, Mem, Name, Node, Not, Offset, Output, Sequencing, Slice,
                   Statement, StatementNode, WaitUntil,
                   unknown_node, walk)
-from ._numbers import (ESCAPES, GRAMMAR_IMPORTS, NUMBER_FORMS, char_value, decode_escapes, literal_value,
+from ._grammars import packaged_parser
+from ._numbers import (ESCAPES, NUMBER_FORMS, char_value, decode_escapes, literal_value,
                        parse_number)
 from ._parse_errors import error_column
-from ._parser import parse_step
+from ._parser import parse_line_gate, parse_step
 from ._widths import WORD_SELECTORS, name_width, top_word_shift, value_width
 
 __all__ = [
@@ -27,9 +30,9 @@ __all__ = [
     "parse_alu_expression", "error_column",
     "Assign", "Call", "Choose", "Condition", "Const", "Expr", "Expression", "Extend", "FlagsOnly", "Halt", "Idle",
     "Input", "Join", "LOGIC_OPERATORS", "Logic", "Mem", "Name", "Node", "Not", "Offset", "Output", "Slice",
-    "Statement", "StatementNode", "parse_step", "unknown_node", "walk",
+    "Statement", "StatementNode", "parse_line_gate", "parse_step", "unknown_node", "walk",
     "End", "Goto", "Sequencing", "WaitUntil",
-    "ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
-    "parse_number",
+    "ESCAPES", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
+    "parse_number", "packaged_parser",
     "WORD_SELECTORS", "name_width", "top_word_shift", "value_width",
 ]

@@ -14,7 +14,8 @@ from functools import cache
 import lark
 
 from ...errors import MachineError
-from ._numbers import GRAMMAR_IMPORTS, literal_value
+from ._grammars import packaged_parser
+from ._numbers import literal_value
 from ._parse_errors import error_column
 
 __all__ = ["AluExpr", "Binary", "BitRange", "Num", "Unary", "Var", "alu_parts", "evaluate", "free_names",
@@ -86,8 +87,7 @@ class _ToTree(lark.Transformer):
 
 @cache
 def _parser() -> lark.Lark:
-    return lark.Lark.open_from_package("emu.description.notation", "alu.lark", parser="lalr",
-                                       import_paths=[GRAMMAR_IMPORTS])
+    return packaged_parser("emu.description.notation", "alu.lark")
 
 
 @cache

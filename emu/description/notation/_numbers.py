@@ -14,15 +14,14 @@ from __future__ import annotations
 from functools import cache
 
 import lark
-from lark.load_grammar import FromPackageLoader
 
-__all__ = ["ESCAPES", "GRAMMAR_IMPORTS", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
+from ._grammars import packaged_parser
+
+__all__ = ["ESCAPES", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
            "parse_number"]
 
 NUMBER_FORMS = "42, 0x2A, 0b101010 or 'A'"
 ESCAPES = {"n": "\n", "t": "\t", "r": "\r", "0": "\0", "\\": "\\", "'": "'", '"': '"'}
-GRAMMAR_IMPORTS = FromPackageLoader("emu.description.notation")
-"""Where a grammar finds ``%import numbers (NUMBER, CHAR)`` (pass it in ``import_paths``)."""
 
 
 def literal_value(text: str) -> int:
@@ -69,8 +68,7 @@ def char_value(token: str) -> int:
 
 @cache
 def _signed_number() -> lark.Lark:
-    return lark.Lark.open_from_package("emu.description.notation", "numbers.lark", start="signed",
-                                       parser="lalr")
+    return packaged_parser("emu.description.notation", "numbers.lark", start="signed")
 
 
 def parse_number(text: str) -> int:

@@ -9,9 +9,10 @@ import lark
 from ...errors import MachineError
 from ._ir import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join, Logic,
                   Mem, Name, Not, Offset, Output, Slice, Statement, WaitUntil)
-from ._numbers import GRAMMAR_IMPORTS, char_value, literal_value
+from ._grammars import packaged_parser
+from ._numbers import char_value, literal_value
 
-__all__ = ["parse_step"]
+__all__ = ["parse_line_gate", "parse_step"]
 
 
 class _ToIR(lark.Transformer):
@@ -51,6 +52,9 @@ class _ToIR(lark.Transformer):
 
     def sequencing_condition(self, items):
         """The one place a sequencing statement's condition is built."""
+        return Condition(items[0])
+
+    def line_gate(self, items):
         return Condition(items[0])
 
     def target_name(self, items):
@@ -142,9 +146,8 @@ def _token_word(name: str) -> str:
 
 @cache
 def _parser() -> lark.Lark:
-    return lark.Lark.open_from_package("emu.description.notation", "microstep.lark", start="step",
-                                       parser="lalr", maybe_placeholders=False,
-                                       import_paths=[GRAMMAR_IMPORTS])
+    return packaged_parser("emu.description.notation", "microstep.lark", start=["step", "line_gate"],
+                           maybe_placeholders=False)
 
 
 @cache
@@ -155,17 +158,27 @@ def parse_step(text: str) -> tuple[Statement, ...]:
     """
     if not text.strip():
         return (Idle(),)
+    return _parsed(text, "step", "micro-step")
+
+
+@cache
+def parse_line_gate(text: str) -> Condition:
+    """Parse the condition of a gated control line (``z`` in ``ld-pc if z``)."""
+    return _parsed(text, "line_gate", "the line's condition")
+
+
+def _parsed(text: str, start: str, what: str):
     try:
-        tree = _parser().parse(text)
+        tree = _parser().parse(text, start=start)
     except lark.UnexpectedInput as exc:
         column = getattr(exc, "column", 0) or 0
         caret = " " * max(column - 1, 0) + "^"
         expected = sorted(getattr(exc, "expected", None) or getattr(exc, "allowed", None) or ())
         wanted = f" (expected {', '.join(_token_word(t) for t in expected)})" if expected else ""
         raise MachineError(
-            f"cannot read micro-step at column {column}{wanted}\n    {text}\n    {caret}"
+            f"cannot read {what} at column {column}{wanted}\n    {text}\n    {caret}"
         ) from None
     try:
         return _ToIR().transform(tree)
     except lark.exceptions.VisitError as exc:
-        raise MachineError(f"cannot read micro-step: {exc.orig_exc}\n    {text}") from None
+        raise MachineError(f"cannot read {what}: {exc.orig_exc}\n    {text}") from None

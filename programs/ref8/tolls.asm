@@ -7,7 +7,7 @@
 ; sweep`, which sets `load` and `rate` to many pairs of values and checks
 ; `toll` against Python's own product:
 ;
-;   relaybench sweep programs/tolls.asm --each load=0..255 --each rate=0..255 \
+;   relaybench sweep programs/ref8/tolls.asm --each load=0..255 --each rate=0..255 \
 ;       --collect toll:2 --check "toll == load * rate" --out tolls.csv
 ;
 ; Expected values: computed in Python, 23 * 45 = 1035 = 0x040B.

@@ -7,7 +7,7 @@
 ; priced (16-bit multiply), the lamps count the groups, and a receipt is
 ; printed. tickets.panel.toml sets the panel for `relaybench test`:
 ; switches 0x82 (return to Far Ness), input "12,7,30\n"; by hand:
-;   relaybench run programs/tickets.asm --switches 0x82 --input-text '12,7,30\n'
+;   relaybench run programs/ref8/tickets.asm --switches 0x82 --input-text '12,7,30\n'
 ;
 ; Expected values: computed in Python,
 ;   fare = 455 * 2 - 50 = 860; groups [12, 7, 30] -> 10320, 6020, 25800;

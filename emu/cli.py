@@ -25,6 +25,7 @@ from .errors import RelaybenchError
 COMMANDS = {
     "run": "run a program headless and report the machine at its halt",
     "test": "run programs and check their .expect lines; exit 0 when all pass",
+    "sweep": "run a program over many inputs and check every result",
     "asm": "assemble a program into Intel HEX or a raw binary, a listing and a debug file",
     "dis": "disassemble an Intel HEX or raw binary image, with labels from its debug file",
     "isa": "print the instruction table (encoding, micro-steps, cycles, flags) of a machine",

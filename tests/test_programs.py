@@ -93,9 +93,13 @@ def crane() -> str:
     return f"CRATE WEIGHT IN 25 KG STEPS?\nNUMBER OF CRATES?\nLOAD {load} KG: {verdict}\n"
 
 
+def tolls() -> str:
+    return f"toll {23 * 45}p\n"        # the load and rate in tolls.asm
+
+
 MODELS = {"fares": fares, "timetable": timetable, "manifest": manifest, "berths": berths,
           "tickets": tickets, "ledger": ledger, "regatta": regatta, "beacon": beacon,
-          "crane": crane}
+          "crane": crane, "tolls": tolls}
 
 
 def test_every_program_has_a_model():

@@ -185,3 +185,11 @@ def test_every_command_of_the_table_has_its_module(name):
     done = cli_process(name, "--help")
     assert done.returncode == 0, done.stderr
     assert done.stdout.startswith(f"usage: relaybench {name}")
+
+
+def test_a_local_sweep_imports_neither_the_cluster_library_nor_numpy():
+    """dask comes in only with --cluster; a sweep on this machine's cores needs neither."""
+    modules = imported_after("sweep", ROOT / "programs" / "ref8" / "tolls.asm", "--each", "load=1..3",
+                             "--workers", "1")
+    assert "emu.commands.sweep" in modules
+    assert not {"distributed", "dask", "numpy", "prompt_toolkit", "emu.timing", "emu.debugger"} & modules

@@ -13,7 +13,8 @@ steps (``run`` itself in ``_run_loop``, observers and their windows in
 ``_observing``); ``_lookout`` where a watched run must stop; ``_line_gates``
 which lines a step drives now, ``_line_tally`` counting them for wear on
 both paths; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
-devices on the I/O bus; ``_snapshots`` the whole state as a file.
+devices on the I/O bus; ``_snapshots`` the whole state as a file,
+``_save_points`` kept in memory for ``rewind`` and ``reload``.
 """
 
 from ._clock_ring import Ring
@@ -22,10 +23,12 @@ from ._observing import Observer
 from ._lookout import Lookout
 from ._microstep_compiler import CompiledMachine, Fallback, compile_machine
 from ._ports import Ports
+from ._save_points import SavePoint
 from ._snapshots import read_snapshot
 
 from ._alu_codegen import emit_alu
 from ._emitter import Emitter
 
-__all__ = ["Emitter", "emit_alu", "CompiledMachine", "Emulator", "Fallback", "Lookout", "Observer", "Ports", "Ring", "StopReason", "read_snapshot",
+__all__ = ["Emitter", "emit_alu", "CompiledMachine", "Emulator", "Fallback", "Lookout", "Observer", "Ports", "Ring",
+           "SavePoint", "StopReason", "read_snapshot",
            "compile_machine"]

@@ -30,6 +30,7 @@ from ..description import Machine
 from ._block_dispatch import checked_fused_source, dispatcher_source, writes_memory
 from ._block_translator import MAYBE, NEXT, BlockPlan, block_source, successor
 from ._emitter import compile_generated
+from ._line_gates import per_machine
 from ._microstep_compiler import Fallback, compile_machine
 
 __all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]
@@ -114,6 +115,12 @@ def _machine_blocks(machine: Machine, layout=None) -> _MachineBlocks:
     return shared
 
 
+@per_machine
+def _covered(machine: Machine) -> bool:
+    """``blocks_cover`` once per machine: every new emulator asks, and the answer walks every instruction."""
+    return blocks_cover(machine)
+
+
 def _build(code, *arguments):
     namespace: dict = {}
     exec(code, namespace)
@@ -135,7 +142,7 @@ class BlockRunner:
         """``counters``: (``TallyLayout``, sites, words) to run the counting code that wear uses."""
         self.machine = machine
         self._counters = counters
-        self.enabled = blocks_cover(machine)
+        self.enabled = _covered(machine)
         """Off where blocks cannot be exact yet: see ``blocks_cover``."""
         self.warm_up = WARM_UP_CYCLES
         self.threshold = HOT_THRESHOLD

@@ -10,12 +10,16 @@ a step that drives halt sets the latch on its falling edge.
 
 Two paths execute micro-steps. The stepping path runs the generator phase
 by phase and calls one compiled function per falling edge; it serves
-observers, panel stepping, halts and every position that is not a clean
+observers, panel stepping and every position that is not a clean
 instruction boundary. The fast path runs fused instructions while nothing
 can happen that the stepping path would place differently: no observer,
 hold line low, sequencer at the first fetch step, ring just after a falling
-edge, and a cycle budget that the next instruction cannot overrun. Both
-paths come from the same compiled description, so they agree (P6).
+edge, and a cycle budget that the next instruction cannot overrun. An
+instruction it cannot fuse (a halt, an undefined word, a loop) runs there
+one compiled micro-step a cycle, the ring skipping whole cycles, up to the
+falling edge that sets the halt latch; only the way from there to the hold
+point is walked phase by phase. Both paths come from the same compiled
+description, so they agree (P6).
 """
 
 from __future__ import annotations
@@ -37,6 +41,7 @@ from ..errors import MachineError
 from ..files import write_atomic
 from ..formatting import address_text
 from ._ports import Ports
+from ._save_points import StateKeeping
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
 __all__ = ["Emulator", "StopReason"]
@@ -44,7 +49,7 @@ __all__ = ["Emulator", "StopReason"]
 _FETCH_START = (-1, 0)
 
 
-class Emulator(_Observing, _Running):
+class Emulator(_Observing, _Running, StateKeeping):
     """One powered-on machine: datapath, memory, ports, clock ring and control unit.
 
     ``run`` (letting the generator go, on the fast path where it can) is in ``_run_loop``."""
@@ -73,6 +78,18 @@ class Emulator(_Observing, _Running):
         self._slots = {**{n: (r.slot, r.width) for n, r in machine.registers.items()},
                        **{n: (f.slot, 1) for n, f in machine.flags.items()}}
         self.ring = Ring(machine)
+        self._observers: list[Observer] = []
+        self._scheduled: list[tuple[int, bool, Observer]] = []
+        """(cycle, attach or detach, observer) for observers of a window of cycles, by cycle."""
+        self._next_scheduled: int | None = None
+        self._gates = LineGates(machine, self._s, self.memory)
+        self._tally: LineTally | None = None
+        self._blank_slots = tuple(self._s)
+        self._blank_memory = bytes(self.memory) if isinstance(self.memory, bytearray) else tuple(self.memory)
+        self._power_on_control()
+
+    def _power_on_control(self) -> None:
+        """The control unit, counters and warnings as power-on leaves them."""
         self.switch_run = True
         self.halt_latch = False
         self.halt_address: int | None = None
@@ -83,12 +100,6 @@ class Emulator(_Observing, _Running):
         self.cycles = 0
         self.instructions = 0
         self._undefined: Counter[int] = Counter()
-        self._observers: list[Observer] = []
-        self._scheduled: list[tuple[int, bool, Observer]] = []
-        """(cycle, attach or detach, observer) for observers of a window of cycles, by cycle."""
-        self._next_scheduled: int | None = None
-        self._gates = LineGates(machine, self._s, self.memory)
-        self._tally: LineTally | None = None
 
     # ----- loading and looking --------------------------------------------
 

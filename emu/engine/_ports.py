@@ -21,6 +21,13 @@ __all__ = ["Ports"]
 class Ports:
     def __init__(self, machine: Machine):
         self.machine = machine
+        self.data_mask = machine.data_mask
+        self._readers = {port: PORT_DEVICES[name].read for port, name in machine.ports_in.items()}
+        self._writers = {port: PORT_DEVICES[name].write for port, name in machine.ports_out.items()}
+        self.power_on()
+
+    def power_on(self) -> None:
+        """Console empty, lamps dark, toggles at 0, no input, nothing counted."""
         self.output = bytearray()
         self.lamps = 0
         self.switches = 0
@@ -28,9 +35,18 @@ class Ports:
         self.input_position = 0
         self.unmapped = Counter()
         self.reads_past_end = 0
-        self.data_mask = machine.data_mask
-        self._readers = {port: PORT_DEVICES[name].read for port, name in machine.ports_in.items()}
-        self._writers = {port: PORT_DEVICES[name].write for port, name in machine.ports_out.items()}
+
+    def kept(self) -> tuple:
+        """Everything a device or a program can see, for ``put_back`` (a save point in memory)."""
+        return (bytes(self.output), self.lamps, self.switches, self.input_bytes, self.input_position,
+                tuple(self.unmapped.items()), self.reads_past_end)
+
+    def put_back(self, kept: tuple) -> None:
+        output, self.lamps, self.switches, self.input_bytes, self.input_position, unmapped, \
+            self.reads_past_end = kept
+        self.output = bytearray(output)
+        if unmapped or self.unmapped:
+            self.unmapped = Counter(dict(unmapped))
 
     def read(self, port: int) -> int:
         reader = self._readers.get(port)

@@ -6,7 +6,9 @@ that the stepping path would place differently, and steps phase by phase
 otherwise. A condition that only says True or False (``until``) is asked
 after every instruction; one with a lookout (``_lookout``) only where it
 can become true, so breakpoints, watchpoints and debugger goals keep the
-run on blocks.
+run on blocks. An instruction the fast path cannot fuse (a halt among
+them) runs cycle by cycle without walking the phase table while nothing
+watches the phases (``_step_unwatched``).
 """
 
 from __future__ import annotations
@@ -57,8 +59,10 @@ class _Running:
                 chunk(self)
                 next_chunk = self.cycles + chunk_cycles
                 continue
-            if self._fast_path_open():
+            fast = self._fast_path_open()
+            if fast:
                 budget = self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)
+                stop_at = self.cycles + budget
                 limit = budget - self._max_fused
                 if limit >= 0:
                     blocks, run_free, run_free_watching, _stopping = self._paths()
@@ -75,9 +79,33 @@ class _Running:
                     if cycles > limit:
                         continue
             done = self.instructions
-            self.advance_phase()
+            if fast:
+                self._step_unwatched(stop_at)
+            else:
+                self.advance_phase()
             if self.instructions != done and watch is not None and watch():
                 return self._watch_reason(points)
+
+    def _step_unwatched(self, stop_at: int) -> None:
+        """The instruction at hand, one micro-step per cycle, without walking the phase table.
+
+        Where the fused path cannot go (a halt, an undefined word, a step that
+        loops, too little budget left) and nobody watches the phases, each
+        cycle is the ring skipping to its falling edge whole and one compiled
+        micro-step, in the stepping path's order, so that wear (lines and ring
+        phases) and an observer whose window opens on that edge see the same.
+        It ends at the instruction's end, the cycle that sets the halt latch
+        (from there the generator walks to its hold point as usual) or cycle
+        ``stop_at`` (the end of the fast path's budget): exactly where the
+        stepping path's checks, made between phases, would stop it.
+        """
+        ring, microstep = self.ring, self._microstep
+        while True:
+            ring.skip_cycles(1)
+            microstep()
+            if self.halt_latch or self.at_instruction_boundary or self.cycles >= stop_at:
+                break
+        self._released = False
 
     def _ended(self, target: int | None) -> StopReason | None:
         if self.frozen:
@@ -111,10 +139,12 @@ class _Running:
                 next_chunk = self.cycles + chunk_cycles
                 unchanged = False
                 continue
-            if self._fast_path_open():
+            fast = self._fast_path_open()
+            if fast:
                 budget = self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)
                 if lookout.within is not None:
                     budget = min(budget, lookout.within * shortest)
+                stop_at = self.cycles + budget
                 limit = budget - self._max_fused
                 if limit >= 0:
                     blocks, _free, _watching, run_free_stopping = self._paths()
@@ -136,7 +166,10 @@ class _Running:
                         continue
             unchanged = False
             done = self.instructions
-            self.advance_phase()
+            if fast:
+                self._step_unwatched(stop_at)
+            else:
+                self.advance_phase()
             if self.instructions != done:
                 if self.pc in points:
                     return StopReason("breakpoint", self.pc)

@@ -35,14 +35,28 @@ def _row(part: str, ok: bool, text: str) -> str:
 def _panel_lines(check: ProgramCheck) -> list[str]:
     timed = check.timing_dependent
     if not timed:
-        told = " (read once after a halt, as the panel is meant to be)" if check.panel_reads else ""
-        return [_row("timing", True, f"no instruction reads the toggles or input-ready port while running{told}")]
+        if not check.panel_reads:
+            return [_row("timing", True, "no instruction reads the toggles or input-ready port while running")]
+        return [_row("timing", True, f"the result does not depend on when the operator acts "
+                                     f"({_harmless_reads(check)})")]
     rows = [_row("timing", False, "the result depends on when the operator acts:")]
     for read in timed:
         place = f"{read.place[0]}:{read.place[1]}" if read.place else f"address {read.address:#x}"
         rows.append(f"      {place}: {read.statement}  ({count_text(read.reads, 'read')})")
         rows.append(f"        {read.why}")
     return rows
+
+
+def _harmless_reads(check: ProgramCheck) -> str:
+    """What the reads that passed were: stalls on input-ready, toggles read once after a halt."""
+    stalled = sorted({read.statement or f"{read.address:#x}" for read in check.panel_reads if read.stall_reads})
+    told = []
+    if stalled:
+        told.append(f"{', '.join(stalled)} {'waits' if len(stalled) == 1 else 'wait'} for input: a stall, "
+                    f"the same result at any pace")
+    if any(read.device == "switches" for read in check.panel_reads):
+        told.append("the toggles are read once after a halt, as the panel is meant to be")
+    return "; ".join(told)
 
 
 def _operator_lines(check: ProgramCheck) -> list[str]:
@@ -112,7 +126,8 @@ def report_json(check: ProgramCheck) -> dict:
         "status": check.status, "cycles": check.cycles, "sim_seconds": check.seconds,
         "timing": [{"file": r.place[0] if r.place else None, "line": r.place[1] if r.place else None,
                     "statement": r.statement, "address": r.address, "device": r.device, "reads": r.reads,
-                    "most_between_halts": r.most_between_halts, "depends_on_timing": r.depends_on_timing,
+                    "most_between_halts": r.most_between_halts, "stall_reads": r.stall_reads,
+                    "depends_on_timing": r.depends_on_timing,
                     "why": r.why if r.depends_on_timing else None} for r in check.panel_reads],
         "operator": {"scripts": check.scripts,
                      "changed": [{"script": f.script, "actions": list(f.actions), **_difference(f.difference)}

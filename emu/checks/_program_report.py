@@ -109,14 +109,26 @@ def _clock_lines(check: ProgramCheck) -> list[str]:
         return [_row("irregular clock", True, f"skipped: {clock.skipped}")]
     spread = (f"real time {duration_text(clock.fastest_seconds)} … {duration_text(clock.slowest_seconds)} "
               f"(nominal {duration_text(clock.nominal_seconds)}, spread {clock.spread:.1%})")
+    if not clock.clocks:
+        return [_row("irregular clock", True, f"none of {count_text(clock.drawn, 'clock')} drawn ran: their parts "
+                                              f"cannot keep the ring going; see relaybench clock")]
     if not clock.differing:
-        return [_row("irregular clock", True, f"{count_text(clock.clocks, 'clock')} built from random parts: "
+        rows = [_row("irregular clock", True, f"{count_text(clock.clocks, 'clock')} built from random parts: "
                                               f"the same result; {spread}")]
-    rows = [_row("irregular clock", False, f"{len(clock.differing)} of {count_text(clock.clocks, 'clock')} "
-                                           f"changed the result; {spread}")]
+    else:
+        rows = [_row("irregular clock", False, f"{len(clock.differing)} of {count_text(clock.clocks, 'clock')} "
+                                               f"changed the result; {spread}")]
     for seed, difference in clock.differing:
         rows.append(f"      clock seed {seed}: {difference_text(difference, 'on the nominal clock', 'on this one')}")
-    return rows
+    return rows + _stopped_clocks(clock)
+
+
+def _stopped_clocks(clock) -> list[str]:
+    """A warning, not a failure: the parts' tolerances stop some clocks, whatever the program."""
+    if not clock.stopped:
+        return []
+    return [f"{'':<25}warning: {count_text(clock.drawn, 'clock')} drawn: {clock.clocks} ran, {clock.stopped} "
+            f"stop — their parts cannot keep the ring going; see relaybench clock"]
 
 
 def report_json(check: ProgramCheck) -> dict:
@@ -141,7 +153,8 @@ def report_json(check: ProgramCheck) -> dict:
                          "extra_seconds": p.extra_seconds}
                         for p in check.unsafe_placements]},
         "clock": None if clock is None else {
-            "clocks": clock.clocks, "skipped": clock.skipped, "nominal_seconds": clock.nominal_seconds,
+            "clocks": clock.clocks, "drawn": clock.drawn, "stopped": clock.stopped,
+            "skipped": clock.skipped, "nominal_seconds": clock.nominal_seconds,
             "fastest_seconds": clock.fastest_seconds, "slowest_seconds": clock.slowest_seconds,
             "spread": clock.spread,
             "changed": [{"seed": seed, **_difference(d)} for seed, d in clock.differing]},

@@ -86,15 +86,22 @@ def _address_as_number(planting: asm.Planting, machine: Machine) -> str | None:
 
 
 def _address_numbers(machine: Machine, kind: str, text: str, pointers: set[str]) -> list[int]:
-    """The numbers of a statement that may be addresses: in data, as many words as an address
-    takes, low word first; in an instruction, only where it jumps, reaches memory (``[...]``),
+    """The numbers of a statement that may be addresses. In data: each number of a ``.word``
+    (as wide as an address), or as many ``.byte`` words as an address takes, low word first;
+    none in a ``.byte`` with a string (text: its numbers are characters and terminators) or a
+    ``.zero`` (a count). In an instruction, only where it jumps, reaches memory (``[...]``),
     loads a pointer or takes an address operand."""
     numbers = list(_numbers(_operands(text)))
-    if kind == "data":
-        words = -(-machine.address_bits // machine.data_bits)
-        return [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
-                for start in range(len(numbers) - words + 1)]
-    return numbers if _may_hold_address(machine, text, pointers) else []
+    if kind != "data":
+        return numbers if _may_hold_address(machine, text, pointers) else []
+    directive = _mnemonic(text)
+    if directive == ".word":
+        return numbers
+    if directive != ".byte" or '"' in text or "'" in text:
+        return []
+    words = -(-machine.address_bits // machine.data_bits)
+    return [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
+            for start in range(len(numbers) - words + 1)]
 
 
 def _may_hold_address(machine: Machine, text: str, pointers: set[str]) -> bool:

@@ -89,19 +89,19 @@ def _address_numbers(machine: Machine, kind: str, text: str, pointers: set[str])
     """The numbers of a statement that may be addresses. In data: each number of a ``.word``
     (as wide as an address), or as many ``.byte`` words as an address takes, low word first;
     none in a ``.byte`` with a string (text: its numbers are characters and terminators) or a
-    ``.zero`` (a count). In an instruction, only where it jumps, reaches memory (``[...]``),
-    loads a pointer or takes an address operand."""
+    ``.zero`` (a count), and never a zero (an initial value or a terminator, far more often
+    than the address of the first word). In an instruction, only where it jumps, reaches
+    memory (``[...]``), loads a pointer or takes an address operand."""
     numbers = list(_numbers(_operands(text)))
     if kind != "data":
         return numbers if _may_hold_address(machine, text, pointers) else []
     directive = _mnemonic(text)
-    if directive == ".word":
-        return numbers
-    if directive != ".byte" or '"' in text or "'" in text:
+    if directive != ".word" and (directive != ".byte" or '"' in text or "'" in text):
         return []
-    words = -(-machine.address_bits // machine.data_bits)
-    return [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
-            for start in range(len(numbers) - words + 1)]
+    words = 1 if directive == ".word" else -(-machine.address_bits // machine.data_bits)
+    addresses = [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
+                 for start in range(len(numbers) - words + 1)]
+    return [address for address in addresses if address]
 
 
 def _may_hold_address(machine: Machine, text: str, pointers: set[str]) -> bool:

@@ -65,6 +65,7 @@ def _address_as_number(planting: asm.Planting, machine: Machine) -> str | None:
     if not moved:
         return None
     old_image, new_image = planting.original.image(), planting.program.image()
+    pointers = _pointer_registers(planting.original, machine)
     for entry in planting.original.lines:
         text = _statement_text(planting.original, entry)
         if not entry.length or text is None:
@@ -73,7 +74,7 @@ def _address_as_number(planting: asm.Planting, machine: Machine) -> str | None:
         same = all(old_image.get(entry.address + i) == new_image.get(new_address + i) for i in range(entry.length))
         if not same:
             continue
-        for number in _address_numbers(machine, entry.kind, text):
+        for number in _address_numbers(machine, entry.kind, text, pointers):
             if number not in moved:
                 continue
             role = ("a table of addresses written as numbers" if entry.kind == "data" else
@@ -84,29 +85,48 @@ def _address_as_number(planting: asm.Planting, machine: Machine) -> str | None:
     return None
 
 
-def _address_numbers(machine: Machine, kind: str, text: str) -> list[int]:
-    """The numbers of a statement that may be addresses: in data, as many words as an address
-    takes, low word first; in an instruction, only where it jumps, reaches memory (``[...]``)
-    or loads a register group (a pointer)."""
+def _address_numbers(machine: Machine, kind: str, text: str, pointers: set[str]) -> list[int]:
+    """The numbers of a statement that may be addresses. In data: each number of a ``.word``
+    (as wide as an address), or as many ``.byte`` words as an address takes, low word first;
+    none in a ``.byte`` with a string (text: its numbers are characters and terminators) or a
+    ``.zero`` (a count), and never a zero (an initial value or a terminator, far more often
+    than the address of the first word). In an instruction, only where it jumps, reaches
+    memory (``[...]``), loads a pointer or takes an address operand."""
     numbers = list(_numbers(_operands(text)))
-    if kind == "data":
-        words = -(-machine.address_bits // machine.data_bits)
-        return [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
-                for start in range(len(numbers) - words + 1)]
-    return numbers if _may_hold_address(machine, text) else []
+    if kind != "data":
+        return numbers if _may_hold_address(machine, text, pointers) else []
+    directive = _mnemonic(text)
+    if directive != ".word" and (directive != ".byte" or '"' in text or "'" in text):
+        return []
+    words = 1 if directive == ".word" else -(-machine.address_bits // machine.data_bits)
+    addresses = [sum(n << (machine.data_bits * i) for i, n in enumerate(numbers[start:start + words]))
+                 for start in range(len(numbers) - words + 1)]
+    return [address for address in addresses if address]
 
 
-def _may_hold_address(machine: Machine, text: str) -> bool:
-    """Whether an instruction's number may be an address: every form of its mnemonic takes an
-    address-wide number, or this one jumps, reaches memory (``[...]``) or loads a pointer."""
+def _may_hold_address(machine: Machine, text: str, pointers: set[str]) -> bool:
+    """Whether an instruction's number may be an address: it is address-wide, and the
+    instruction jumps, reaches memory (``[...]``), loads a pointer (a register group, or a
+    register the program reads memory through), or every form of it takes an address operand
+    (one that admits no negative number). A number loaded into any other register is data:
+    on a machine whose registers are all as wide as an address, ``ldi a, 0`` is a zero."""
     mnemonic, operands = _mnemonic(text), _operands(text)
     forms = [i for i in machine.instructions if i.mnemonic == mnemonic]
-    wide = [any(f.kind.bits >= machine.address_bits and not f.kind.registers for f in i.fields.values())
+    wide = [[f.kind for f in i.fields.values() if f.kind.bits >= machine.address_bits and not f.kind.registers]
             for i in forms]
     if not any(wide):
         return False
-    pointer = any(re.search(rf"\b{re.escape(name)}\b", operands) for name in machine.groups)
-    return all(wide) or "[" in operands or pointer or _writes_pc(machine, mnemonic)
+    addresses = all(kinds and all(kind.low >= 0 for kind in kinds) for kinds in wide)
+    pointer = any(re.search(rf"\b{re.escape(name)}\b", operands) for name in (*machine.groups, *pointers))
+    return addresses or "[" in operands or pointer or _writes_pc(machine, mnemonic)
+
+
+def _pointer_registers(program: asm.Program, machine: Machine) -> set[str]:
+    """The registers the program reads or writes memory through: those it names inside ``[...]``."""
+    registers = {reg.name for reg in machine.visible_registers}
+    return {name for entry in program.lines if entry.kind == "code"
+            and (text := _statement_text(program, entry)) is not None
+            for inside in re.findall(r"\[([^\]]*)\]", text) for name in _NAME.findall(inside) if name in registers}
 
 
 def _moved_places(planting: asm.Planting) -> dict[int, str]:

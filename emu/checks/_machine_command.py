@@ -43,6 +43,7 @@ def check_machine_command(args, machine, out, progress) -> int:
             if not args.json:
                 print("\n".join(_result_lines(result, machine, reproduce)), file=out, flush=True)
     except KeyboardInterrupt:
+        progress.clear()
         print(f"relaybench: interrupted after {len(results)} of {len(MACHINE_PROPERTIES)} properties",
               file=sys.stderr)
         return 130

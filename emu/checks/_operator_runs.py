@@ -111,6 +111,12 @@ class ClockSpread:
     """(clock seed, first difference) for each clock the result was not the free run's."""
     skipped: str | None = None
     """Why no clock was built (the machine has no usable ``[timing]`` section)."""
+    stopped: int = 0
+    """Clocks drawn whose parts stop the ring: no run on them, and not counted in ``clocks``."""
+
+    @property
+    def drawn(self) -> int:
+        return self.clocks + self.stopped
 
     @property
     def spread(self) -> float:
@@ -121,27 +127,29 @@ class ClockSpread:
 def clock_spread(subject, free_outcome, nominal_seconds: float, examples: int, seed: int,
                  done=None) -> ClockSpread:
     """Run on ``examples`` clocks built from random parts; a seed whose parts would stop the
-    ring is passed over (that build has no clock to run on)."""
+    ring is counted in ``stopped`` and passed over (that build has no clock to run on: a fault
+    of the parts' tolerances, which ``relaybench clock`` measures, not of the program)."""
     if not has_timing(subject.machine):
         return ClockSpread(0, nominal_seconds, nominal_seconds, nominal_seconds, (),
                            f"{subject.machine.name} has no [timing] section, so no clock can be built from parts")
-    times, differing = [], []
+    times, differing, stopped = [], [], 0
     for number in range(examples):
         clock_seed = _script_seed(seed, number)
         emulator = subject.power_on()
         try:
             emulator.clock_source = spread_source(subject.machine, clock_seed)
         except MachineError:
-            continue
-        result, outcome = subject.run(emulator=emulator)
-        times.append(result.emulator.sim_seconds)
-        difference = first_difference(free_outcome, outcome)
-        if difference is not None:
-            differing.append((clock_seed, difference))
+            stopped += 1
+        else:
+            result, outcome = subject.run(emulator=emulator)
+            times.append(result.emulator.sim_seconds)
+            difference = first_difference(free_outcome, outcome)
+            if difference is not None:
+                differing.append((clock_seed, difference))
         if done:
             done(number + 1)
     return ClockSpread(len(times), nominal_seconds, min(times, default=nominal_seconds),
-                       max(times, default=nominal_seconds), tuple(differing))
+                       max(times, default=nominal_seconds), tuple(differing), stopped=stopped)
 
 
 def _script_seed(seed: int, number: int) -> int:

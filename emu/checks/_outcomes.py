@@ -36,6 +36,8 @@ class Outcome:
     groups: dict[str, int]
     """Register groups (a pointer made of two registers, say), as one value each."""
     group_parts: dict[str, tuple[str, ...]]
+    address_registers: frozenset[str]
+    """The plain registers at least as wide as an address: each may hold one (a pointer)."""
     address_words: tuple[int, int]
     """(bits of a data word, data words an address takes): how an address is kept in memory."""
     flags: dict[str, int]
@@ -113,6 +115,8 @@ def outcome_of(result: RunResult, watched: list[Watched], recorder: CheckRecorde
         {reg.name: emu.get(reg.name) for reg in machine.visible_registers if reg.name != machine.program_counter},
         {name: emu.get(name) for name in machine.groups},
         {name: tuple(group.parts) for name, group in machine.groups.items()},
+        frozenset(reg.name for reg in machine.visible_registers
+                  if reg.width >= machine.address_bits and reg.name != machine.program_counter),
         (machine.data_bits, -(-machine.address_bits // machine.data_bits)),
         {name: emu.get(name) for name in machine.flags},
         emu.lamps, bytes(emu.output),
@@ -125,8 +129,9 @@ def first_difference(expected: Outcome, got: Outcome, moved=None) -> tuple[str, 
     order a builder reads them: ending, stop, registers, flags, lamps, console, memory, checks.
 
     ``moved(address)`` (where an address of the expected run's program is in the other's)
-    lets a register group or run of memory words that holds an address differ by exactly
-    that move: a pointer left on a string that moved with the code is the same pointer.
+    lets a register as wide as an address, a register group or a run of memory words that
+    holds an address differ by exactly that move: a pointer left on a string that moved
+    with the code is the same pointer.
     """
     excused = set() if moved is None else _moved_addresses(expected, got, moved)
     pairs = [("status", expected.status, got.status), ("stop", expected.stop, got.stop)]
@@ -144,9 +149,10 @@ def first_difference(expected: Outcome, got: Outcome, moved=None) -> tuple[str, 
 
 def _moved_addresses(expected: Outcome, got: Outcome, moved) -> set[str]:
     """The items (``register x``, ``memory NAME``) that hold an address, moved as the program moved."""
-    excused = set()
+    excused = {f"register {name}" for name in expected.address_registers
+               if _holds_moved(expected.registers[name], got.registers.get(name), moved)}
     for name, value in expected.groups.items():
-        if value != got.groups.get(name) and moved(value) == got.groups.get(name):
+        if _holds_moved(value, got.groups.get(name), moved):
             excused |= {f"register {part}" for part in (name, *got.group_parts.get(name, ()))}
     bits, count = expected.address_words
     names = list(expected.memory)
@@ -156,9 +162,14 @@ def _moved_addresses(expected: Outcome, got: Outcome, moved) -> set[str]:
             continue
         plain = sum(expected.memory[name] << (bits * i) for i, name in enumerate(span))
         now = sum(got.memory[name] << (bits * i) for i, name in enumerate(span))
-        if plain != now and moved(plain) == now:
+        if _holds_moved(plain, now, moved):
             excused |= {f"memory {name}" for name in span}
     return excused
+
+
+def _holds_moved(plain: int, now: int | None, moved) -> bool:
+    """Whether ``now`` is the address ``plain`` was, moved as the program moved."""
+    return plain != now and moved(plain) == now
 
 
 def difference_text(difference: tuple[str, object, object], expected_run: str, other_run: str) -> str:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import sys
 
 from ._program_checks import check_program_timing
 from ._program_report import report_json, report_lines
@@ -23,8 +24,17 @@ def check_program_command(args, machine, out, progress) -> int:
             lines[part] = progress.line(part, total, unit="runs" if part != "halt placement" else "statements")
         lines[part].update(done)
 
-    check = check_program_timing(args.program, machine, examples=args.examples, seed=args.seed,
-                                 sample=args.sample, dumps=args.dump, max_cycles=args.max_cycles, progress=tell)
+    try:
+        check = check_program_timing(args.program, machine, examples=args.examples, seed=args.seed,
+                                     sample=args.sample, dumps=args.dump, max_cycles=args.max_cycles, progress=tell)
+    except KeyboardInterrupt:
+        progress.clear()
+        where = ""
+        if lines:
+            part, line = list(lines.items())[-1]
+            where = f" during {part} ({line.done:,} of {line.total:,} {line.unit})"
+        print(f"relaybench: check interrupted{where}; no report", file=sys.stderr)
+        return 130
     progress.close()
     if args.json:
         print(json.dumps({**report_json(check), "seed": args.seed, "examples": args.examples},

@@ -35,14 +35,28 @@ def _row(part: str, ok: bool, text: str) -> str:
 def _panel_lines(check: ProgramCheck) -> list[str]:
     timed = check.timing_dependent
     if not timed:
-        told = " (read once after a halt, as the panel is meant to be)" if check.panel_reads else ""
-        return [_row("timing", True, f"no instruction reads the toggles or input-ready port while running{told}")]
+        if not check.panel_reads:
+            return [_row("timing", True, "no instruction reads the toggles or input-ready port while running")]
+        return [_row("timing", True, f"the result does not depend on when the operator acts "
+                                     f"({_harmless_reads(check)})")]
     rows = [_row("timing", False, "the result depends on when the operator acts:")]
     for read in timed:
         place = f"{read.place[0]}:{read.place[1]}" if read.place else f"address {read.address:#x}"
         rows.append(f"      {place}: {read.statement}  ({count_text(read.reads, 'read')})")
         rows.append(f"        {read.why}")
     return rows
+
+
+def _harmless_reads(check: ProgramCheck) -> str:
+    """What the reads that passed were: stalls on input-ready, toggles read once after a halt."""
+    stalled = sorted({read.statement or f"{read.address:#x}" for read in check.panel_reads if read.stall_reads})
+    told = []
+    if stalled:
+        told.append(f"{', '.join(stalled)} {'waits' if len(stalled) == 1 else 'wait'} for input: a stall, "
+                    f"the same result at any pace")
+    if any(read.device == "switches" for read in check.panel_reads):
+        told.append("the toggles are read once after a halt, as the panel is meant to be")
+    return "; ".join(told)
 
 
 def _operator_lines(check: ProgramCheck) -> list[str]:
@@ -95,14 +109,26 @@ def _clock_lines(check: ProgramCheck) -> list[str]:
         return [_row("irregular clock", True, f"skipped: {clock.skipped}")]
     spread = (f"real time {duration_text(clock.fastest_seconds)} … {duration_text(clock.slowest_seconds)} "
               f"(nominal {duration_text(clock.nominal_seconds)}, spread {clock.spread:.1%})")
+    if not clock.clocks:
+        return [_row("irregular clock", True, f"none of {count_text(clock.drawn, 'clock')} drawn ran: their parts "
+                                              f"cannot keep the ring going; see relaybench clock")]
     if not clock.differing:
-        return [_row("irregular clock", True, f"{count_text(clock.clocks, 'clock')} built from random parts: "
+        rows = [_row("irregular clock", True, f"{count_text(clock.clocks, 'clock')} built from random parts: "
                                               f"the same result; {spread}")]
-    rows = [_row("irregular clock", False, f"{len(clock.differing)} of {count_text(clock.clocks, 'clock')} "
-                                           f"changed the result; {spread}")]
+    else:
+        rows = [_row("irregular clock", False, f"{len(clock.differing)} of {count_text(clock.clocks, 'clock')} "
+                                               f"changed the result; {spread}")]
     for seed, difference in clock.differing:
         rows.append(f"      clock seed {seed}: {difference_text(difference, 'on the nominal clock', 'on this one')}")
-    return rows
+    return rows + _stopped_clocks(clock)
+
+
+def _stopped_clocks(clock) -> list[str]:
+    """A warning, not a failure: the parts' tolerances stop some clocks, whatever the program."""
+    if not clock.stopped:
+        return []
+    return [f"{'':<25}warning: {count_text(clock.drawn, 'clock')} drawn: {clock.clocks} ran, {clock.stopped} "
+            f"stop — their parts cannot keep the ring going; see relaybench clock"]
 
 
 def report_json(check: ProgramCheck) -> dict:
@@ -112,7 +138,8 @@ def report_json(check: ProgramCheck) -> dict:
         "status": check.status, "cycles": check.cycles, "sim_seconds": check.seconds,
         "timing": [{"file": r.place[0] if r.place else None, "line": r.place[1] if r.place else None,
                     "statement": r.statement, "address": r.address, "device": r.device, "reads": r.reads,
-                    "most_between_halts": r.most_between_halts, "depends_on_timing": r.depends_on_timing,
+                    "most_between_halts": r.most_between_halts, "stall_reads": r.stall_reads,
+                    "depends_on_timing": r.depends_on_timing,
                     "why": r.why if r.depends_on_timing else None} for r in check.panel_reads],
         "operator": {"scripts": check.scripts,
                      "changed": [{"script": f.script, "actions": list(f.actions), **_difference(f.difference)}
@@ -126,7 +153,8 @@ def report_json(check: ProgramCheck) -> dict:
                          "extra_seconds": p.extra_seconds}
                         for p in check.unsafe_placements]},
         "clock": None if clock is None else {
-            "clocks": clock.clocks, "skipped": clock.skipped, "nominal_seconds": clock.nominal_seconds,
+            "clocks": clock.clocks, "drawn": clock.drawn, "stopped": clock.stopped,
+            "skipped": clock.skipped, "nominal_seconds": clock.nominal_seconds,
             "fastest_seconds": clock.fastest_seconds, "slowest_seconds": clock.slowest_seconds,
             "spread": clock.spread,
             "changed": [{"seed": seed, **_difference(d)} for seed, d in clock.differing]},

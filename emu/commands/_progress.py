@@ -86,8 +86,11 @@ class Progress:
     def __enter__(self) -> "Progress":
         return self
 
-    def __exit__(self, *exc) -> None:
-        self.close()
+    def __exit__(self, kind, *exc) -> None:
+        if kind is KeyboardInterrupt:
+            self.clear()
+        else:
+            self.close()
 
     def line(self, label: str, total: int | None = None, unit: str = "cycles",
              remove_when_done: bool = False) -> _Line:
@@ -128,6 +131,14 @@ class Progress:
             with _sigint_held():
                 self.printing.__exit__(None, None, None)
                 bar.__exit__(None, None, None)
+
+    def clear(self) -> None:
+        """Take the bar down with every line on it, finished or not: after a Ctrl-C the message
+        that says where the work stopped is the last thing on the screen, with no bar below it."""
+        if self.bar is not None:
+            with _sigint_held():
+                self.bar.counters.clear()
+            self.close()
 
 
 def _formatters(progress: Progress):

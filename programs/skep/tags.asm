@@ -3,8 +3,9 @@
 ;
 ; Every hive carries a numbered tag whose last digit is a Luhn check digit,
 ; so a misread tag is caught before it goes into the register. The numbers
-; come in on the input stream, one a line (tags.panel.toml holds the day's
-; six). For each the program echoes the number and says GOOD, or BAD and
+; come in on the input stream, one a line, and an empty line ends the round
+; (tags.panel.toml holds the day's six). The program waits for each word
+; with `get`, so however slowly the tags are keyed in, it reads the same. For each the program echoes the number and says GOOD, or BAD and
 ; the check digit the number wants; the lamps show how many were bad.
 ;
 ; Luhn: from the rightmost digit before the check digit, double every
@@ -19,14 +20,15 @@ start:  ldi a, 0
         st [tags], a
         st [bad], a
 
-line:   in a, 2                 ; another tag waiting?
-        or #0
+line:   get a                   ; a tag's first digit, or the empty line that ends the round
+        cmp #NEWLINE
         jz done
         ldi x, digits           ; x: where the next digit goes
+        jmp echo
 read:   get a                   ; waits for the word, then takes it
         cmp #NEWLINE
         jz got
-        out 0, a                ; echo the digit
+echo:   out 0, a                ; echo the digit
         sub #'0'
         st [x], a
         inx

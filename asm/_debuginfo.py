@@ -9,6 +9,8 @@ to check there. Schema (version 1)::
       "format": "relaybench-debug",
       "version": 1,
       "machine": "ref8",              # name from the machine description
+      "machine_file": null,           # null for a shipped machine, else the machine file's path
+                                      #   (relative to the debug file's folder; absolute when it cannot be)
       "word_bits": 8,                 # data_bits of that machine
       "files": ["demo.asm", "lib.asm"],
       "labels": {"loop": 4},          # label name → address
@@ -32,8 +34,11 @@ to check there. Schema (version 1)::
       ]
     }
 
-File names are written relative to the folder of the debug file, and
-``read_debug`` turns them back into paths usable from the current folder.
+File names (and the machine file) are written relative to the folder of the
+debug file, and ``read_debug`` turns them back into paths usable from the
+current folder: an image moved together with its debug file, its sources and
+its machine file still finds them all. A file without ``machine_file`` (from
+earlier releases) is read as one for a shipped machine.
 """
 
 from __future__ import annotations
@@ -44,7 +49,7 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from emu.description import Table, is_integer
+from emu.description import Table, is_integer, shipped_machines
 
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
@@ -93,6 +98,9 @@ class DebugInfo:
     expects: list[Expect]
     image_crc32: int | None = None
     """Fingerprint of the image the file was written for (None in files that predate it)."""
+    machine_file: str | None = None
+    """The machine file the image was assembled for, as a path usable from the current folder;
+    None for a shipped machine (named by ``machine``)."""
     source_map: dict[int, tuple[str, int]] = field(init=False)
 
     def __post_init__(self):
@@ -142,6 +150,7 @@ def debug_dict(program, relative_to: str | None = None) -> dict:
         "format": FORMAT,
         "version": VERSION,
         "machine": program.machine.name,
+        "machine_file": _machine_file(program.machine, relative_to),
         "word_bits": program.machine.data_bits,
         "files": [_relative(name, relative_to) for name in files],
         "labels": dict(program.labels),
@@ -155,6 +164,14 @@ def debug_dict(program, relative_to: str | None = None) -> dict:
                      "memory_address": x.memory_address, "op": x.op, "value": x.value, "text": x.text}
                     for x in program.expects],
     }
+
+
+def _machine_file(machine, folder: str | None) -> str | None:
+    """None for a shipped machine (its name finds it), else its file's path as the debug file keeps it."""
+    if not os.path.isfile(machine.path):
+        return None
+    shipped = {os.path.realpath(path) for path in shipped_machines().values()}
+    return None if os.path.realpath(machine.path) in shipped else _relative(machine.path, folder)
 
 
 def _relative(name: str, folder: str | None) -> str:
@@ -230,8 +247,7 @@ class _Reader:
         if data.get("version") != VERSION:
             self.fail("", ("version",), f"'version' must be {VERSION}, not {data.get('version')!r}")
         files = top.list_of("files", lambda f: isinstance(f, str), expected="a list of file names")
-        files = [f if f.startswith("<") or os.path.isabs(f) else os.path.normpath(os.path.join(self.folder, f))
-                 for f in files]
+        files = [self.usable(f) for f in files]
         labels = self.names(top, "labels")
         for name, value in labels.items():
             if not 0 <= value < self.words:
@@ -245,7 +261,13 @@ class _Reader:
         if self.machine is not None and name != self.machine.name:
             self.fail("", ("machine",), f"the debug file is for machine '{name}', not '{self.machine.name}'")
         crc = top.integer("image_crc32", default=None)
-        return DebugInfo(name, top.integer("word_bits"), files, labels, constants, lines, pauses, expects, crc)
+        machine_file = top.string("machine_file", default=None, expected="a machine file's path or null")
+        return DebugInfo(name, top.integer("word_bits"), files, labels, constants, lines, pauses, expects, crc,
+                         machine_file=None if machine_file is None else self.usable(machine_file))
+
+    def usable(self, name: str) -> str:
+        """A file name as written (relative to the debug file's folder) → a path from the current folder."""
+        return name if name.startswith("<") or os.path.isabs(name) else os.path.normpath(os.path.join(self.folder, name))
 
     def names(self, top: Table, key: str) -> dict[str, int]:
         table = top.table(key)

@@ -226,7 +226,7 @@ class _Reader:
         self.words = machine.memory_words if machine is not None else 1 << 24
         self.items = None
         if machine is not None:
-            names = [r.name for r in machine.visible_registers] + list(machine.groups) + list(machine.flags)
+            names = machine.visible_names
             self.items = {*names, "mem", "lamps", "out"}
 
     def fail(self, where: str, _key, message: str):

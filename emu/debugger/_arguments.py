@@ -90,7 +90,7 @@ def target(places: Places, text: str) -> Watch:
         word = address(places, match[1].strip())
         return Watch(0, address=word, label=f"[{places.hex(word)}]")
     m = places.machine
-    names = [r.name for r in m.visible_registers] + list(m.groups) + list(m.flags)
+    names = m.visible_names
     if text.lower() in names:
         return Watch(0, name=text.lower(), label=text.lower())
     raise DebugError(f"'{text}' is not a register or flag of {m.name} "

@@ -185,7 +185,7 @@ class Session:
 
     def _candidates(self, kind: str) -> list[str]:
         m = self.machine
-        names = [r.name for r in m.visible_registers] + list(m.groups) + list(m.flags)
+        names = m.visible_names
         labels = list(self.view.labels)
         return {
             "command": list(COMMANDS),

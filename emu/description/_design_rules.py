@@ -35,6 +35,8 @@ class StepChecker:
         self.halts = self.idle = False
         self.sequencing = None
         """The step's one sequencing statement (end, goto, wait until), if any."""
+        self.condition_lines: list[str] = []
+        """The lines the sequencing statement's condition drives (reading a port drives ``in``)."""
 
     def fail(self, message):
         self._fail(self.where, message)
@@ -85,7 +87,9 @@ class StepChecker:
                     self.fail("a step has at most one sequencing statement (end, goto, wait until)")
                 self.sequencing = st
                 if condition is not None:
+                    before = len(self.lines)
                     self.condition(condition)
+                    self.condition_lines = self.lines[before:]
             case _:
                 unknown_node(st)
 
@@ -253,11 +257,24 @@ class StepChecker:
 
     def finish(self):
         if self.idle and self.lines:
-            self.fail("'idle' cannot stand with statements that transfer or drive something")
+            self.fail(self.idle_problem())
         if self.memory > 1:
             self.fail("two memory accesses in one micro-step (the design rule allows one)")
         if self.io > 1:
             self.fail("two port transfers in one micro-step (there is one I/O bus)")
+
+
+    def idle_problem(self) -> str:
+        """Why this step cannot be idle; when only its sequencing condition drives a line, what to write."""
+        if self.lines != self.condition_lines:
+            return "'idle' cannot stand with statements that transfer or drive something"
+        kind = {End: "end", Goto: "goto", WaitUntil: "wait until"}[type(self.sequencing)]
+        reads = " and ".join(_CONDITION_READS.get(line, f"drives the '{line}' line") for line in self.lines)
+        return (f"'idle' cannot stand with this {kind}: its condition {reads}, and an idle step drives no "
+                f"line; leave out 'idle' (the {kind} alone takes the same one cycle)")
+
+
+_CONDITION_READS = {"in": "reads a port (the 'in' line)", "read": "reads memory (the 'read' line)"}
 
 
 def _shown(node) -> str:

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
+from ._port_devices import output_port_bits
 from .notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join,
                        Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width, unknown_node,
                        value_width, walk)
@@ -72,7 +73,9 @@ class StepChecker:
             case Output(port, value):
                 self.expr(port)
                 self.expr(value)
-                self.fits("the output port", self.names.data_bits, self.width(value))
+                bits, what = output_port_bits(port.value if isinstance(port, Const) else None,
+                                              self.names.ports_out, self.names.data_bits)
+                self.fits(what, bits, self.width(value))
                 self.io += 1
                 self.line("out")
             case Halt():

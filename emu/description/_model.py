@@ -389,6 +389,8 @@ class MachineNames:
     ir: str
     alu_ops: dict = field(default_factory=builtin_alu_ops)
     """Operation name → ``AluOp``: the built-ins and the file's ``[alu.NAME]`` definitions."""
+    ports_out: dict[int, str] = field(default_factory=dict)
+    """Output port number → device name (``[ports] out``): what a step's ``out(N, …)`` may carry."""
 
     @property
     def kinds_of_name(self) -> dict[str, str]:

@@ -16,6 +16,11 @@ again:  inc b
         jmp again
         swap
         out b
-        halt
+        pause
         .expect a == 7, b == 0, lamps == 0, z == 1
+        ldi b, 4        ; 'A' is 0x41: b the high word, a the low one
+        ldi a, 1
+        put
+        halt
+        .expect out == "A", lamps == 0
 sum:    .byte 0

@@ -10,6 +10,7 @@ import asm
 from emu import MachineError, Observer, machine_from_text
 
 from cli_support import cli
+from debugger_programs import session_for
 from engine_support import MACHINES, boot
 
 HERE = Path(__file__).parent
@@ -65,3 +66,19 @@ def test_a_port_takes_what_its_device_keeps(step, message):
         machine_from_text(NIB2_TEXT.replace(PUT_STEP, step), "nib2.toml")
     assert str(caught.value).splitlines()[0].endswith(f"instruction 'put' step 5: {message}")
     machine_from_text(NIB2_TEXT.replace(PUT_STEP, '"out(x, {b, a})"'), "nib2.toml")   # 8 bits: the console's
+
+
+def test_stopped_inside_the_fetch_the_debugger_says_so(tmp_path, monkeypatch):
+    """brace8's fetch takes two steps: after one pulse the instruction is still being fetched."""
+    monkeypatch.chdir(tmp_path)
+    session = session_for(tmp_path, "        add b\n        halt\n", machine=MACHINES["brace8"], name="add.asm")
+    assert session.execute("pulse").splitlines()[-1] == \
+        "inside the fetch of: add b   at 0000 add.asm:1, fetch step 2 of 2 next"
+    assert session.execute("pulse").splitlines()[-1] == "inside: add b   at 0000 add.asm:1, micro-step 3 of 8 next"
+
+
+def test_a_value_too_wide_for_a_word_is_written_in_the_machines_hex(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    session = session_for(tmp_path, "        halt\nsum:    .byte 0\n", machine=NIB2, name="sum.asm")
+    assert session.execute("put [sum] 0x1F") == "error: 0x1F does not fit [0x01], 4 bits (-8…15, or 0x0…0xF)"
+    assert session.execute("put [sum] 0xF") == "[01] = 0xF (15)"

@@ -54,7 +54,8 @@ from emu.description import Table, is_integer, shipped_machines
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
-__all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "debug_text", "write_debug", "read_debug",
+__all__ = ["Expect", "LineEntry", "DebugInfo", "DebugMachine", "debug_dict", "debug_text", "write_debug", "read_debug",
+           "read_debug_machine",
            "debug_path_for", "source_map_of", "image_fingerprint", "FORMAT", "VERSION"]
 
 FORMAT = "relaybench-debug"
@@ -201,19 +202,39 @@ def read_debug(path, machine=None) -> DebugInfo:
     reach the runner with values it cannot use.
     """
     path = str(path)
+    return _Reader(path, machine).info(_decoded(path))
+
+
+@dataclass(frozen=True)
+class DebugMachine:
+    """The machine a debug file was written for: its name, and its file (a path usable from the
+    current folder) when it is no shipped machine."""
+    name: str
+    file: str | None
+
+
+def read_debug_machine(path) -> DebugMachine:
+    """Only the machine a debug file names, for choosing the machine the rest is then read against
+    (``read_debug``); a broken header raises AsmError as ``read_debug`` does."""
+    path = str(path)
+    reader = _Reader(path)
+    top = reader.header(_decoded(path))
+    return DebugMachine(top.string("machine", expected="a machine name"), reader.machine_file(top))
+
+
+def _decoded(path: str):
     try:
         text = Path(path).read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise file_error(path, f"cannot read debug file ({getattr(exc, 'strerror', None) or exc})") from None
     try:
-        data = json.loads(text)
+        return json.loads(text)
     except RecursionError:
         raise file_error(path, "not a relaybench debug file (nested too deeply)") from None
     except json.JSONDecodeError as exc:
         lines = text.splitlines()
         line_text = lines[exc.lineno - 1] if exc.lineno <= len(lines) else ""
         raise AsmError([Diagnostic(path, exc.lineno, exc.colno, f"not valid JSON: {exc.msg}", line_text)]) from None
-    return _Reader(path, machine).info(data)
 
 
 class _Reader:
@@ -240,12 +261,24 @@ class _Reader:
         items = top.list_of(key, lambda e: isinstance(e, dict), expected="a list of objects")
         return [Table(item, f"{where}[{i}]", self.fail, (key, i)) for i, item in enumerate(items)]
 
-    def info(self, data) -> DebugInfo:
+    def header(self, data) -> Table:
+        """The top level, once its format and version are known to be this reader's."""
         if not isinstance(data, dict) or data.get("format") != FORMAT:
             self.fail("", (), f"not a relaybench debug file ('format' must be \"{FORMAT}\")")
-        top = Table(data, "top level", self.fail)
         if data.get("version") != VERSION:
             self.fail("", ("version",), f"'version' must be {VERSION}, not {data.get('version')!r}")
+        return Table(data, "top level", self.fail)
+
+    def machine_file(self, top: Table) -> str | None:
+        machine_file = top.string("machine_file", default=None, expected="a machine file's path or null")
+        return None if machine_file is None else self.usable(machine_file)
+
+    def info(self, data) -> DebugInfo:
+        top = self.header(data)
+        if self.machine is not None:        # a file for another machine is that, before any detail
+            name = top.string("machine", expected="a machine name")
+            if name != self.machine.name:
+                self.fail("", ("machine",), f"the debug file is for machine '{name}', not '{self.machine.name}'")
         files = top.list_of("files", lambda f: isinstance(f, str), expected="a list of file names")
         files = [self.usable(f) for f in files]
         labels = self.names(top, "labels")
@@ -258,12 +291,9 @@ class _Reader:
                              expected=f"a list of addresses 0…{self.words - 1}")
         expects = [self.expect(entry, files) for entry in self.entries(top, "expects", "expects")]
         name = top.string("machine", expected="a machine name")
-        if self.machine is not None and name != self.machine.name:
-            self.fail("", ("machine",), f"the debug file is for machine '{name}', not '{self.machine.name}'")
         crc = top.integer("image_crc32", default=None)
-        machine_file = top.string("machine_file", default=None, expected="a machine file's path or null")
         return DebugInfo(name, top.integer("word_bits"), files, labels, constants, lines, pauses, expects, crc,
-                         machine_file=None if machine_file is None else self.usable(machine_file))
+                         machine_file=self.machine_file(top))
 
     def usable(self, name: str) -> str:
         """A file name as written (relative to the debug file's folder) → a path from the current folder."""

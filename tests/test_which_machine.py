@@ -199,3 +199,23 @@ def test_a_debug_file_naming_an_unknown_machine_and_no_file_suggests_the_option(
     assert err.strip() == (f"{debug}: error: the image was assembled for machine 'link8', which is not a "
                            f"shipped machine, and the debug file names no machine file: name its machine "
                            f"file with --machine FILE")
+
+
+def test_a_damaged_debug_file_is_the_images_error_not_a_reason_to_fall_back_to_ref8(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    cli(capsys, "asm", prog)
+    debug = prog.with_suffix(".dbg.json")
+    recorded = json.loads(debug.read_text(encoding="utf-8"))
+    recorded["machine_file"] = 5
+    debug.write_text(json.dumps(recorded), encoding="utf-8")
+    code, _out, err = cli(capsys, "run", prog.with_suffix(".hex"))
+    assert code == 1
+    assert err.strip() == f"{debug}: error: top level: 'machine_file' must be a machine file's path or null, not 5"
+
+
+def test_an_image_run_on_another_machine_names_both(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    cli(capsys, "asm", prog)
+    code, _out, err = cli(capsys, "run", prog.with_suffix(".hex"), "--machine", "ref8")
+    assert code == 1
+    assert err.strip() == f"{prog.with_suffix('.dbg.json')}: error: the debug file is for machine 'link8', not 'ref8'"

@@ -90,25 +90,25 @@ class MachineChooser:
     def _debug_file_names(self, image: Path) -> Machine | None:
         """An image is for the machine its debug file names: a shipped machine, or a machine file.
 
-        A debug file that does not read is left to the image's loading, which
-        reports it in full; a machine that cannot be found is this image's error.
+        A debug file that does not read, or names a machine that cannot be
+        found, is this image's error: any other machine would misread it.
         """
         debug_path = asm.debug_path_for(image)
         if not debug_path.exists():
             return None
         try:
-            info = asm.read_debug(debug_path)
-        except asm.AsmError:
-            return None
-        if info.machine_file is not None:
-            if Path(info.machine_file).is_file():
-                return self._load(info.machine_file)
-            why = f" from {os.path.abspath(info.machine_file)}, which is not there"
-        elif info.machine in shipped_machines():
-            return self._load(info.machine)
+            named = asm.read_debug_machine(debug_path)
+        except asm.AsmError as exc:
+            raise ProgramError(exc.message, diagnostics=exc.diagnostics) from None
+        if named.file is not None:
+            if Path(named.file).is_file():
+                return self._load(named.file)
+            why = f" from {os.path.abspath(named.file)}, which is not there"
+        elif named.name in shipped_machines():
+            return self._load(named.name)
         else:
             why = ", which is not a shipped machine, and the debug file names no machine file"
-        raise ProgramError(f"the image was assembled for machine '{info.machine}'{why}: "
+        raise ProgramError(f"the image was assembled for machine '{named.name}'{why}: "
                            f"name its machine file with --machine FILE", file=str(debug_path))
 
     @staticmethod

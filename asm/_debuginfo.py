@@ -9,6 +9,8 @@ to check there. Schema (version 1)::
       "format": "relaybench-debug",
       "version": 1,
       "machine": "ref8",              # name from the machine description
+      "machine_file": null,           # null for a shipped machine, else the machine file's path
+                                      #   (relative to the debug file's folder; absolute when it cannot be)
       "word_bits": 8,                 # data_bits of that machine
       "files": ["demo.asm", "lib.asm"],
       "labels": {"loop": 4},          # label name → address
@@ -32,8 +34,11 @@ to check there. Schema (version 1)::
       ]
     }
 
-File names are written relative to the folder of the debug file, and
-``read_debug`` turns them back into paths usable from the current folder.
+File names (and the machine file) are written relative to the folder of the
+debug file, and ``read_debug`` turns them back into paths usable from the
+current folder: an image moved together with its debug file, its sources and
+its machine file still finds them all. A file without ``machine_file`` (from
+earlier releases) is read as one for a shipped machine.
 """
 
 from __future__ import annotations
@@ -44,12 +49,13 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from emu.description import Table, is_integer
+from emu.description import Table, is_integer, shipped_machines
 
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
 
-__all__ = ["Expect", "LineEntry", "DebugInfo", "debug_dict", "debug_text", "write_debug", "read_debug",
+__all__ = ["Expect", "LineEntry", "DebugInfo", "DebugMachine", "debug_dict", "debug_text", "write_debug", "read_debug",
+           "read_debug_machine",
            "debug_path_for", "source_map_of", "image_fingerprint", "FORMAT", "VERSION"]
 
 FORMAT = "relaybench-debug"
@@ -93,6 +99,9 @@ class DebugInfo:
     expects: list[Expect]
     image_crc32: int | None = None
     """Fingerprint of the image the file was written for (None in files that predate it)."""
+    machine_file: str | None = None
+    """The machine file the image was assembled for, as a path usable from the current folder;
+    None for a shipped machine (named by ``machine``)."""
     source_map: dict[int, tuple[str, int]] = field(init=False)
 
     def __post_init__(self):
@@ -142,6 +151,7 @@ def debug_dict(program, relative_to: str | None = None) -> dict:
         "format": FORMAT,
         "version": VERSION,
         "machine": program.machine.name,
+        "machine_file": _machine_file(program.machine, relative_to),
         "word_bits": program.machine.data_bits,
         "files": [_relative(name, relative_to) for name in files],
         "labels": dict(program.labels),
@@ -155,6 +165,14 @@ def debug_dict(program, relative_to: str | None = None) -> dict:
                      "memory_address": x.memory_address, "op": x.op, "value": x.value, "text": x.text}
                     for x in program.expects],
     }
+
+
+def _machine_file(machine, folder: str | None) -> str | None:
+    """None for a shipped machine (its name finds it), else its file's path as the debug file keeps it."""
+    if not os.path.isfile(machine.path):
+        return None
+    shipped = {os.path.realpath(path) for path in shipped_machines().values()}
+    return None if os.path.realpath(machine.path) in shipped else _relative(machine.path, folder)
 
 
 def _relative(name: str, folder: str | None) -> str:
@@ -184,19 +202,39 @@ def read_debug(path, machine=None) -> DebugInfo:
     reach the runner with values it cannot use.
     """
     path = str(path)
+    return _Reader(path, machine).info(_decoded(path))
+
+
+@dataclass(frozen=True)
+class DebugMachine:
+    """The machine a debug file was written for: its name, and its file (a path usable from the
+    current folder) when it is no shipped machine."""
+    name: str
+    file: str | None
+
+
+def read_debug_machine(path) -> DebugMachine:
+    """Only the machine a debug file names, for choosing the machine the rest is then read against
+    (``read_debug``); a broken header raises AsmError as ``read_debug`` does."""
+    path = str(path)
+    reader = _Reader(path)
+    top = reader.header(_decoded(path))
+    return DebugMachine(top.string("machine", expected="a machine name"), reader.machine_file(top))
+
+
+def _decoded(path: str):
     try:
         text = Path(path).read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise file_error(path, f"cannot read debug file ({getattr(exc, 'strerror', None) or exc})") from None
     try:
-        data = json.loads(text)
+        return json.loads(text)
     except RecursionError:
         raise file_error(path, "not a relaybench debug file (nested too deeply)") from None
     except json.JSONDecodeError as exc:
         lines = text.splitlines()
         line_text = lines[exc.lineno - 1] if exc.lineno <= len(lines) else ""
         raise AsmError([Diagnostic(path, exc.lineno, exc.colno, f"not valid JSON: {exc.msg}", line_text)]) from None
-    return _Reader(path, machine).info(data)
 
 
 class _Reader:
@@ -209,7 +247,7 @@ class _Reader:
         self.words = machine.memory_words if machine is not None else 1 << 24
         self.items = None
         if machine is not None:
-            names = [r.name for r in machine.visible_registers] + list(machine.groups) + list(machine.flags)
+            names = machine.visible_names
             self.items = {*names, "mem", "lamps", "out"}
 
     def fail(self, where: str, _key, message: str):
@@ -223,15 +261,26 @@ class _Reader:
         items = top.list_of(key, lambda e: isinstance(e, dict), expected="a list of objects")
         return [Table(item, f"{where}[{i}]", self.fail, (key, i)) for i, item in enumerate(items)]
 
-    def info(self, data) -> DebugInfo:
+    def header(self, data) -> Table:
+        """The top level, once its format and version are known to be this reader's."""
         if not isinstance(data, dict) or data.get("format") != FORMAT:
             self.fail("", (), f"not a relaybench debug file ('format' must be \"{FORMAT}\")")
-        top = Table(data, "top level", self.fail)
         if data.get("version") != VERSION:
             self.fail("", ("version",), f"'version' must be {VERSION}, not {data.get('version')!r}")
+        return Table(data, "top level", self.fail)
+
+    def machine_file(self, top: Table) -> str | None:
+        machine_file = top.string("machine_file", default=None, expected="a machine file's path or null")
+        return None if machine_file is None else self.usable(machine_file)
+
+    def info(self, data) -> DebugInfo:
+        top = self.header(data)
+        if self.machine is not None:        # a file for another machine is that, before any detail
+            name = top.string("machine", expected="a machine name")
+            if name != self.machine.name:
+                self.fail("", ("machine",), f"the debug file is for machine '{name}', not '{self.machine.name}'")
         files = top.list_of("files", lambda f: isinstance(f, str), expected="a list of file names")
-        files = [f if f.startswith("<") or os.path.isabs(f) else os.path.normpath(os.path.join(self.folder, f))
-                 for f in files]
+        files = [self.usable(f) for f in files]
         labels = self.names(top, "labels")
         for name, value in labels.items():
             if not 0 <= value < self.words:
@@ -242,10 +291,13 @@ class _Reader:
                              expected=f"a list of addresses 0…{self.words - 1}")
         expects = [self.expect(entry, files) for entry in self.entries(top, "expects", "expects")]
         name = top.string("machine", expected="a machine name")
-        if self.machine is not None and name != self.machine.name:
-            self.fail("", ("machine",), f"the debug file is for machine '{name}', not '{self.machine.name}'")
         crc = top.integer("image_crc32", default=None)
-        return DebugInfo(name, top.integer("word_bits"), files, labels, constants, lines, pauses, expects, crc)
+        return DebugInfo(name, top.integer("word_bits"), files, labels, constants, lines, pauses, expects, crc,
+                         machine_file=self.machine_file(top))
+
+    def usable(self, name: str) -> str:
+        """A file name as written (relative to the debug file's folder) → a path from the current folder."""
+        return name if name.startswith("<") or os.path.isabs(name) else os.path.normpath(os.path.join(self.folder, name))
 
     def names(self, top: Table, key: str) -> dict[str, int]:
         table = top.table(key)

@@ -211,6 +211,8 @@ class _Decoder:
 def _address_kinds(machine: Machine) -> set[str]:
     """Operand kinds whose values some instruction uses as a memory address or a jump target."""
     pc = Name(machine.program_counter)
+    # A group carries what its registers hold: `pc <- m` with m = {mhi, mlo} jumps to the latched words.
+    parts = {name: group.parts for name, group in machine.groups.items()}
     kinds = set()
     for ins in machine.instructions:
         carriers: dict[str, set[str]] = {}
@@ -227,7 +229,8 @@ def _address_kinds(machine: Machine) -> set[str]:
         def mark(expr):
             for node in walk(expr):
                 if isinstance(node, Name):
-                    used.update(carriers.get(node.name, ()))
+                    for register in parts.get(node.name, (node.name,)):
+                        used.update(carriers.get(register, ()))
 
         for step in ins.steps:
             for statement in step.statements:

@@ -50,7 +50,7 @@ class MachineSyntax:
         for forms in self.forms.values():
             forms.sort(key=lambda ins: -sum(op.field is None for op in ins.operands))
         self.pause_instruction = next(i for i in self.forms[machine.pause] if not i.operands)
-        visible = [r.name for r in machine.visible_registers] + list(machine.groups)
+        visible = [r.name for r in machine.visible_registers] + [g.name for g in machine.visible_groups]
         self.reserved = {name.lower(): name for name in visible}
         self.checkable = {**self.reserved, **{f.lower(): f for f in machine.flags}}
         self.register_kinds = [k for k in machine.operand_kinds.values() if k.is_register]

@@ -86,6 +86,17 @@ def test_acc12_labels_only_on_address_operands():
         "one:", "put 1", "load one", "set 1", "stop"]
 
 
+def test_a_jump_through_a_group_of_latches_shows_its_label():
+    """brace8 latches a target in mlo and mhi and jumps with `pc <- m`, m = {mhi, mlo}."""
+    brace8 = emu.load_machine(HERE / "machines" / "brace8.toml")
+    source = "top: goto 8, far\n call far\n lsp 0x0102\n halt\nfar: ret\n"
+    program = asm.assemble_text(source, brace8)
+    assert code_lines(asm.disassemble(brace8, program.flat(), 0, program))[1:] == [
+        "top:", "goto 8, far", "call far", "lsp 0x0102", "halt", "far:", "ret"]
+    memory = program.image()
+    assert asm.disassemble_at(brace8, lambda a: memory.get(a, 0), 3, program) == ("call far", 3)
+
+
 def test_disassemble_at_reads_through_a_function():
     program = asm.assemble_text(".org 0x10\nhere: jmp here\n.byte 0x13\n", REF8)
     memory = program.image()

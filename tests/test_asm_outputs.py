@@ -56,7 +56,7 @@ def test_debug_info_contents():
     program = asm.assemble_text(SOURCE, REF8, filename="greet.asm")
     info = program.debug_info()
     assert info == {
-        "format": "relaybench-debug", "version": 1, "machine": "ref8", "word_bits": 8,
+        "format": "relaybench-debug", "version": 1, "machine": "ref8", "machine_file": None, "word_bits": 8,
         "files": ["greet.asm"],
         "labels": {"start": 0, "msg": 8},
         "constants": {},

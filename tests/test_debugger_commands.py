@@ -183,14 +183,14 @@ def test_point_commands_reject_bad_arguments(kiln, line, message):
 
 
 def test_watchpoints_on_a_register_and_a_memory_word(kiln):
-    assert kiln.execute("watch r3") == "watchpoint 1 on r3 (now 0x0)"
-    assert kiln.execute("watch [0x200]") == "watchpoint 2 on [0200] (now 0x0)"
+    assert kiln.execute("watch r3") == "watchpoint 1 on r3 (now 0x00)"
+    assert kiln.execute("watch [0x200]") == "watchpoint 2 on [0200] (now 0x00)"
     text = kiln.execute("go")
     assert "\nwatchpoint 2: [0200] changed from 0x0 to 0x1 (the instruction before 001A mark+3" in text
     text = kiln.execute("go")
     assert text.splitlines()[1].startswith("watchpoint 1: r3 changed from 0x0 to 0x1")
     assert kiln.emu.pc == 0x1b
-    assert kiln.execute("points").splitlines() == ["  1  watch  r3 (now 0x1)", "  2  watch  [0200] (now 0x1)"]
+    assert kiln.execute("points").splitlines() == ["  1  watch  r3 (now 0x01)", "  2  watch  [0200] (now 0x01)"]
     assert kiln.execute("drop all") == "dropped 2 point(s)"
     assert kiln.execute("points") == "no breakpoints or watchpoints"
 
@@ -324,18 +324,18 @@ def test_scope_after_a_long_run_is_replayed_from_a_checkpoint(tmp_path):
 
 
 def test_put_sets_registers_groups_flags_and_memory(kiln):
-    assert kiln.execute("put r0 0x7f") == "r0 = 0x7f (127)"
+    assert kiln.execute("put r0 0x7f") == "r0 = 0x7F (127)"
     assert kiln.execute("put x 0x1234") == "x = 0x1234 (4660)"
     assert (kiln.emu.get("r6"), kiln.emu.get("r7")) == (0x12, 0x34)
     assert kiln.execute("put c 1") == "c = 0x1 (1)"
-    assert kiln.execute("put [ramp] -1") == "[0005] = 0xff (255)"
+    assert kiln.execute("put [ramp] -1") == "[0005] = 0xFF (255)"
     assert kiln.emu.memory[5] == 0xFF
 
 
 @pytest.mark.parametrize("line, message", [
     ("put r0", "error: usage: put NAME|[ADDRESS] VALUE"),
-    ("put r0 256", "error: 256 does not fit r0 (-128…255)"),
-    ("put z 2", "error: 2 does not fit z (0…1)"),
+    ("put r0 256", "error: 0x100 does not fit r0, 8 bits (-128…255, or 0x00…0xFF)"),
+    ("put z 2", "error: 0x2 does not fit z, 1 bit (0 or 1)"),
     ("put q 1", "error: 'q' is not a register or flag of ref8"),
     ("put ir 1", "error: 'ir' is not a register or flag of ref8"),
     ("put r0 0x", "error: value '0x' is not a number (write it as 42, 0x2A, 0b101010 or 'A')"),
@@ -541,8 +541,8 @@ def test_acc12_views_use_its_own_widths_and_names(gauge):
     assert gauge.execute("dump 0 8").splitlines() == [
         "start:", "  00   903", "tick:", "  01   408   704   601", "done:", "  04   F00   905   A01   F00"]
     assert "ring        ○ ● ○ ○ ○" in gauge.execute("panel")
-    assert gauge.execute("put acc 4095") == "acc = 0xfff (4095)"
-    assert gauge.execute("put acc 4096").startswith("error: 4096 does not fit acc")
+    assert gauge.execute("put acc 4095") == "acc = 0xFFF (4095)"
+    assert gauge.execute("put acc 4096") == "error: 0x1000 does not fit acc, 12 bits (-2048…4095, or 0x000…0xFFF)"
 
 
 def test_acc12_pulses_and_breakpoints(gauge):

@@ -51,7 +51,7 @@ def test_stop_a_long_run_with_ctrl_c_then_step_look_resume_and_quit(debugger):
     shows(child, "panel", "frozen: the switch is at STOP", "phase C, clock low, frozen at a hold point")
     shows(child, "instr", "1 instruction done")
     shows(child, "registers", "flags  z")
-    shows(child, "put r4 1", "r4 = 0x1 (1)")
+    shows(child, "put r4 1", "r4 = 0x01 (1)")
     shows(child, "go", "halted by the program: halt at 0012", "soak.asm:11")
     child.sendline("quit")
     child.expect(pexpect.EOF)

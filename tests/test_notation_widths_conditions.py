@@ -160,7 +160,25 @@ STEP_MISTAKES = {
     "idle beside a transfer": (
         'steps = ["", "idle"]', 'steps = ["", "idle; a <- b"]',
         "instruction 'wait' step 3: 'idle' cannot stand with statements that transfer or drive something"),
+    "idle beside a goto whose condition reads a port": (
+        'steps = ["", "idle"]', 'steps = ["", "idle; goto 3 if !in(2)[0]"]',
+        "instruction 'wait' step 3: 'idle' cannot stand with this goto: its condition reads a port (the 'in' "
+        "line), and an idle step drives no line; leave out 'idle' (the goto alone takes the same one cycle)"),
+    "idle beside a wait on a memory bit": (
+        'steps = ["", "idle"]', 'steps = ["", "idle; wait until mem[hml][0]"]',
+        "instruction 'wait' step 3: 'idle' cannot stand with this wait until: its condition reads memory (the "
+        "'read' line), and an idle step drives no line; leave out 'idle' (the wait until alone takes the same "
+        "one cycle)"),
 }
+
+
+def test_idle_stands_with_a_goto_on_a_flag_and_the_goto_alone_may_read_a_port():
+    def wait_step(steps: str):
+        machine = emu.machine_from_text(COND4_TEXT.replace('steps = ["", "idle"]', steps))
+        return next(ins for ins in machine.instructions if ins.mnemonic == "wait").steps[1]
+
+    assert wait_step('steps = ["", "idle; goto 3 if !z"]').line_names == ()
+    assert wait_step('steps = ["", "goto 3 if !in(2)[0]"]').line_names == ("in",)
 
 
 @pytest.mark.parametrize("name", list(STEP_MISTAKES))

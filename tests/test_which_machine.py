@@ -145,3 +145,77 @@ def test_debug_follows_the_program(capsys, bench, monkeypatch):
     code, out, err = cli(capsys, "debug", prog)
     assert code == 0, err
     assert "lr" in out and "r0" not in out
+
+
+def test_an_image_finds_its_machine_file_through_its_debug_file(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    (bench / "images").mkdir()
+    image = bench / "images" / "lamp.hex"
+    code, _out, err = cli(capsys, "asm", prog, "-o", image)
+    assert code == 0, err
+    recorded = json.loads(image.with_name("lamp.dbg.json").read_text(encoding="utf-8"))
+    assert (recorded["machine"], recorded["machine_file"]) == ("link8", "../machines/link8.toml")
+    code, out, err = cli(capsys, "dis", image)
+    assert code == 0, err
+    assert out.splitlines()[0].endswith("for link8") and "set 7" in out
+    code, out, err = cli(capsys, "run", image, "--json")
+    assert code == 0, err
+    assert json.loads(out)["lamps"] == 7
+
+
+def test_a_shipped_machine_is_recorded_by_name_alone(capsys, bench):
+    prog = program(bench, "five.asm", ON_REF8)
+    code, _out, err = cli(capsys, "asm", prog)
+    assert code == 0, err
+    recorded = json.loads(prog.with_suffix(".dbg.json").read_text(encoding="utf-8"))
+    assert (recorded["machine"], recorded["machine_file"]) == ("ref8", None)
+
+
+def test_an_image_whose_machine_file_is_gone_says_so_and_suggests_the_option(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    code, _out, err = cli(capsys, "asm", prog)
+    assert code == 0, err
+    (bench / "machines" / "link8.toml").rename(bench / "machines" / "moved.toml")
+    debug = prog.with_suffix(".dbg.json")
+    for command in ("dis", "run"):
+        code, _out, err = cli(capsys, command, prog.with_suffix(".hex"))
+        assert code == 1
+        assert err.splitlines() == [f"{debug}: error: the image was assembled for machine 'link8' from "
+                                    f"{bench / 'machines' / 'link8.toml'}, which is not there: name its "
+                                    f"machine file with --machine FILE"]
+    code, out, err = cli(capsys, "dis", prog.with_suffix(".hex"), "--machine", bench / "machines" / "moved.toml")
+    assert code == 0 and "set 7" in out, err
+
+
+def test_a_debug_file_naming_an_unknown_machine_and_no_file_suggests_the_option(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    cli(capsys, "asm", prog)
+    debug = prog.with_suffix(".dbg.json")
+    recorded = json.loads(debug.read_text(encoding="utf-8"))
+    del recorded["machine_file"]                 # as a debug file of an earlier release
+    debug.write_text(json.dumps(recorded), encoding="utf-8")
+    code, _out, err = cli(capsys, "run", prog.with_suffix(".hex"))
+    assert code == 1
+    assert err.strip() == (f"{debug}: error: the image was assembled for machine 'link8', which is not a "
+                           f"shipped machine, and the debug file names no machine file: name its machine "
+                           f"file with --machine FILE")
+
+
+def test_a_damaged_debug_file_is_the_images_error_not_a_reason_to_fall_back_to_ref8(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    cli(capsys, "asm", prog)
+    debug = prog.with_suffix(".dbg.json")
+    recorded = json.loads(debug.read_text(encoding="utf-8"))
+    recorded["machine_file"] = 5
+    debug.write_text(json.dumps(recorded), encoding="utf-8")
+    code, _out, err = cli(capsys, "run", prog.with_suffix(".hex"))
+    assert code == 1
+    assert err.strip() == f"{debug}: error: top level: 'machine_file' must be a machine file's path or null, not 5"
+
+
+def test_an_image_run_on_another_machine_names_both(capsys, bench):
+    prog = program(bench, "lamp.asm", '.machine "../machines/link8.toml"\n' + ON_LINK8)
+    cli(capsys, "asm", prog)
+    code, _out, err = cli(capsys, "run", prog.with_suffix(".hex"), "--machine", "ref8")
+    assert code == 1
+    assert err.strip() == f"{prog.with_suffix('.dbg.json')}: error: the debug file is for machine 'link8', not 'ref8'"

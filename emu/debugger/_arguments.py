@@ -11,12 +11,13 @@ import difflib
 import re
 
 from emu.description.notation import NUMBER_FORMS, parse_number
+from emu.formatting import address_text, hex_value
 
 from ._conditions import Watch
 from ._program import Places
 from ._table import DebugError
 
-__all__ = ["address", "count", "no_arguments", "number", "target", "value_for", "where"]
+__all__ = ["address", "count", "no_arguments", "number", "target", "value_for", "watched_hex", "where"]
 
 _FILE_LINE = re.compile(r"(.+):(\d+)")
 _MEMORY = re.compile(r"\[(.+)\]")
@@ -90,20 +91,35 @@ def target(places: Places, text: str) -> Watch:
         word = address(places, match[1].strip())
         return Watch(0, address=word, label=f"[{places.hex(word)}]")
     m = places.machine
-    names = [r.name for r in m.visible_registers] + list(m.groups) + list(m.flags)
+    names = m.visible_names
     if text.lower() in names:
         return Watch(0, name=text.lower(), label=text.lower())
     raise DebugError(f"'{text}' is not a register or flag of {m.name} "
                      f"({', '.join(names)}), nor a memory word [ADDRESS]")
 
 
+def watched_bits(machine, watched: Watch) -> int:
+    """The width of a register, group, flag or memory word named by ``target``."""
+    if watched.name is None:
+        return machine.data_bits
+    return 1 if watched.name in machine.flags else machine.register_width(watched.name)
+
+
+def watched_hex(machine, watched: Watch, value: int) -> str:
+    """A value of ``watched`` in hex as wide as it (``0x0F`` in an 8-bit register)."""
+    return hex_value(value, watched_bits(machine, watched))
+
+
 def value_for(machine, watched: Watch, text: str) -> int:
     """A value that fits the register, flag or memory word ``watched`` (negative ones wrap)."""
-    bits = machine.data_bits
-    if watched.name is not None:
-        bits = 1 if watched.name in machine.flags else machine.register_width(watched.name)
+    bits = watched_bits(machine, watched)
     value = number(text)
     low = 0 if bits == 1 else -(1 << (bits - 1))
     if not low <= value < 1 << bits:
-        raise DebugError(f"{value} does not fit {watched.label} ({low}…{(1 << bits) - 1})")
+        shown = hex_value(value, value.bit_length()) if value >= 0 else str(value)
+        where = watched.name or f"[{address_text(watched.address, machine)}]"
+        if bits == 1:
+            raise DebugError(f"{shown} does not fit {where}, 1 bit (0 or 1)")
+        raise DebugError(f"{shown} does not fit {where}, {bits} bits ({low}…{(1 << bits) - 1}, "
+                         f"or {hex_value(0, bits)}…{hex_value((1 << bits) - 1, bits)})")
     return value & ((1 << bits) - 1)

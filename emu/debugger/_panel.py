@@ -77,7 +77,7 @@ def registers_text(emu) -> str:
     for reg in m.visible_registers:
         value = emu.get(reg.name)
         cells.append(f"{reg.name:<3} {_hex(value, reg.width):>4} {value:>6}")
-    for group in m.groups.values():
+    for group in m.visible_groups:
         value = emu.get(group.name)
         cells.append(f"{group.name:<3} {_hex(value, group.width):>4} {value:>6}")
     rows = ["   ".join(cells[i:i + 4]) for i in range(0, len(cells), 4)]

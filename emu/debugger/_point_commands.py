@@ -9,7 +9,7 @@ untouched) or *planted* (a halt assembled into the program, see
 
 from __future__ import annotations
 
-from ._arguments import no_arguments, number, target, where
+from ._arguments import no_arguments, number, target, watched_hex, where
 from ._conditions import Watch
 from ._planted import moved_text, replant, statement_at
 from ._stopping import Breakpoint
@@ -71,7 +71,11 @@ def do_watch(session, args):
             return f"watchpoint {w.number} already watches {w.label}"
     watch = Watch(session.next_number(), watched.name, watched.address, watched.label)
     session.watches[watch.number] = watch
-    return f"watchpoint {watch.number} on {watch.label} (now {watch.read(session.emu):#x})"
+    return f"watchpoint {watch.number} on {watch.label} (now {_now(session, watch)})"
+
+
+def _now(session, watch: Watch) -> str:
+    return watched_hex(session.machine, watch, watch.read(session.emu))
 
 
 @command("points", "List the breakpoints and watchpoints (and what planted halts moved).")
@@ -80,7 +84,7 @@ def do_points(session, args):
     planting = session.view.planting
     rows = [f"{b.number:>3}  break  {'planted' if b.planted else 'watched'}  {b.label}"
             for b in session.breakpoints.values()]
-    rows += [f"{w.number:>3}  watch  {w.label} (now {w.read(session.emu):#x})"
+    rows += [f"{w.number:>3}  watch  {w.label} (now {_now(session, w)})"
              for w in session.watches.values()]
     text = "\n".join(sorted(rows, key=lambda r: int(r.split()[0]))) or "no breakpoints or watchpoints"
     if planting is not None and planting.halts:

@@ -185,7 +185,7 @@ class Session:
 
     def _candidates(self, kind: str) -> list[str]:
         m = self.machine
-        names = [r.name for r in m.visible_registers] + list(m.groups) + list(m.flags)
+        names = m.visible_names
         labels = list(self.view.labels)
         return {
             "command": list(COMMANDS),
@@ -227,8 +227,10 @@ class Session:
         if e.at_instruction_boundary:
             return f"next: {text}   at {at}"
         instruction, index = e.sequencer
-        total = instruction.cycles(self.machine) if instruction else len(self.machine.fetch)
-        return f"inside: {text}   at {at}, micro-step {index + 1} of {total} next"
+        if instruction is None:
+            return (f"inside the fetch of: {text}   at {at}, fetch step {index + 1} of "
+                    f"{len(self.machine.fetch)} next")
+        return f"inside: {text}   at {at}, micro-step {index + 1} of {instruction.cycles(self.machine)} next"
 
     def instruction(self, address: int) -> tuple[str, int]:
         """The disassembly of the instruction at ``address`` and its length in words."""

@@ -145,7 +145,8 @@ def bus_probe(emu):
         value, port = before.value(transfer.value), before.value(transfer.port)
         if value is None:
             return lambda: None
-        return lambda: Bus(value & m.data_mask, m.data_bits, port=port)
+        bits = before.width(transfer.value)     # as wide as the port's device takes: 8 to the console
+        return lambda: Bus(value & (1 << bits) - 1, bits, port=port)
     if isinstance(transfer.target, Mem):
         address = before.value(transfer.target.address)
         if address is None:

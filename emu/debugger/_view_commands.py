@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import re
 
-from ._arguments import address, count, no_arguments, target, value_for, where
+from ._arguments import address, count, no_arguments, target, value_for, watched_hex, where
 from ._panel import code_lines, dump_text, dump_words_per_row, panel_text, registers_text, scope_text
 from ._table import DebugError, command
 
@@ -120,4 +120,4 @@ def do_put(session, args):
         session.emu.set(written.name, value)
     else:
         session.emu.memory[written.address] = value
-    return f"{written.label} = {value:#x} ({value})"
+    return f"{written.label} = {watched_hex(session.machine, written, value)} ({value})"

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from ._alu import WORD_SELECTORS, resolve_flag
 from ._model import Field
+from ._port_devices import output_port_bits
 from .notation import (Assign, Call, Choose, Condition, Const, End, Extend, FlagsOnly, Goto, Halt, Idle, Input, Join,
                        Logic, Mem, Name, Not, Offset, Output, Slice, WaitUntil, name_width, unknown_node,
                        value_width, walk)
@@ -35,6 +36,8 @@ class StepChecker:
         self.halts = self.idle = False
         self.sequencing = None
         """The step's one sequencing statement (end, goto, wait until), if any."""
+        self.condition_lines: list[str] = []
+        """The lines the sequencing statement's condition drives (reading a port drives ``in``)."""
 
     def fail(self, message):
         self._fail(self.where, message)
@@ -70,7 +73,9 @@ class StepChecker:
             case Output(port, value):
                 self.expr(port)
                 self.expr(value)
-                self.fits("the output port", self.names.data_bits, self.width(value))
+                bits, what = output_port_bits(port.value if isinstance(port, Const) else None,
+                                              self.names.ports_out, self.names.data_bits)
+                self.fits(what, bits, self.width(value))
                 self.io += 1
                 self.line("out")
             case Halt():
@@ -85,7 +90,9 @@ class StepChecker:
                     self.fail("a step has at most one sequencing statement (end, goto, wait until)")
                 self.sequencing = st
                 if condition is not None:
+                    before = len(self.lines)
                     self.condition(condition)
+                    self.condition_lines = self.lines[before:]
             case _:
                 unknown_node(st)
 
@@ -253,11 +260,24 @@ class StepChecker:
 
     def finish(self):
         if self.idle and self.lines:
-            self.fail("'idle' cannot stand with statements that transfer or drive something")
+            self.fail(self.idle_problem())
         if self.memory > 1:
             self.fail("two memory accesses in one micro-step (the design rule allows one)")
         if self.io > 1:
             self.fail("two port transfers in one micro-step (there is one I/O bus)")
+
+
+    def idle_problem(self) -> str:
+        """Why this step cannot be idle; when only its sequencing condition drives a line, what to write."""
+        if self.lines != self.condition_lines:
+            return "'idle' cannot stand with statements that transfer or drive something"
+        kind = {End: "end", Goto: "goto", WaitUntil: "wait until"}[type(self.sequencing)]
+        reads = " and ".join(_CONDITION_READS.get(line, f"drives the '{line}' line") for line in self.lines)
+        return (f"'idle' cannot stand with this {kind}: its condition {reads}, and an idle step drives no "
+                f"line; leave out 'idle' (the {kind} alone takes the same one cycle)")
+
+
+_CONDITION_READS = {"in": "reads a port (the 'in' line)", "read": "reads memory (the 'read' line)"}
 
 
 def _shown(node) -> str:

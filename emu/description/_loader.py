@@ -126,10 +126,10 @@ class _Loader:
         if registers[ir].width != data_bits:
             self.fail_at("[machine]", ("internal" if registers[ir].internal else "registers", ir),
                          f"the instruction register '{ir}' must be {data_bits} bits wide (data_bits)")
-        names = MachineNames(data_bits, registers, groups, flags, pc, ir, self.alu_ops(flags))
+        ports_out, ports_in = self.ports()
+        names = MachineNames(data_bits, registers, groups, flags, pc, ir, self.alu_ops(flags), ports_out)
 
         kinds = self.operand_kinds(names)
-        ports_out, ports_in = self.ports()
         stages, phases, stage_names, step_press, power_on = self.clock()
         fetch = self.fetch(names)
         instructions = self.instructions(names, kinds, len(fetch))

@@ -389,6 +389,8 @@ class MachineNames:
     ir: str
     alu_ops: dict = field(default_factory=builtin_alu_ops)
     """Operation name → ``AluOp``: the built-ins and the file's ``[alu.NAME]`` definitions."""
+    ports_out: dict[int, str] = field(default_factory=dict)
+    """Output port number → device name (``[ports] out``): what a step's ``out(N, …)`` may carry."""
 
     @property
     def kinds_of_name(self) -> dict[str, str]:
@@ -472,6 +474,16 @@ class Machine:
     @property
     def visible_registers(self) -> list[Register]:
         return [r for r in self.registers.values() if not r.internal]
+
+    @property
+    def visible_groups(self) -> list[RegisterGroup]:
+        """The groups a program and the debugger see: a group made only of internal registers is internal."""
+        return [g for g in self.groups.values() if not all(self.registers[p].internal for p in g.parts)]
+
+    @property
+    def visible_names(self) -> list[str]:
+        """What ``.expect``, watches and the debugger's commands may name: visible registers, groups, flags."""
+        return [r.name for r in self.visible_registers] + [g.name for g in self.visible_groups] + list(self.flags)
 
     @cached_property
     def decode_table(self) -> tuple[int, ...]:

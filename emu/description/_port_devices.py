@@ -18,7 +18,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Callable
 
-__all__ = ["PORT_DEVICES", "PortDevice", "devices_for"]
+__all__ = ["PORT_DEVICES", "PortDevice", "devices_for", "output_port_bits"]
 
 
 @dataclass(frozen=True)
@@ -34,6 +34,13 @@ class PortDevice:
     """What happens to a value wider than the device keeps; ``{bits}`` is the data width."""
     read: Callable[[object], int] | None = None
     write: Callable[[object, int], None] | None = None
+    keeps_bits: int | None = None
+    """How many bits of a written value an output device keeps; None: the machine's data width."""
+
+    def takes_bits(self, data_bits: int) -> int:
+        """The widest value a step may write to this device: the data bus, or more for a device that
+        keeps more (the console's byte on a 4-bit machine)."""
+        return max(data_bits, self.keeps_bits or data_bits)
 
 
 def _read_switches(bus) -> int:
@@ -62,7 +69,7 @@ def _write_lamps(bus, value: int) -> None:
 
 PORT_DEVICES: dict[str, PortDevice] = {device.name: device for device in (
     PortDevice("console", "out", "appends a character to the console output", "",
-               "keeps the low 8 bits (one byte)", write=_write_console),
+               "keeps the low 8 bits (one byte)", write=_write_console, keeps_bits=8),
     PortDevice("lamps", "out", "sets the panel lamps", "",
                "keeps the low {bits} bits", write=_write_lamps),
     PortDevice("switches", "in", "reads the panel toggles", "",
@@ -83,3 +90,15 @@ PORT_DEVICES: dict[str, PortDevice] = {device.name: device for device in (
 def devices_for(direction: str) -> tuple[str, ...]:
     """The device names a port of ``direction`` (``"in"`` or ``"out"``) may have, in table order."""
     return tuple(name for name, device in PORT_DEVICES.items() if device.direction == direction)
+
+
+def output_port_bits(port: int | None, ports_out: dict[int, str], data_bits: int) -> tuple[int, str]:
+    """(bits, what) a step may write to output port ``port``: its device's width, or for a port
+    computed by the step (``None``) the widest output device's; ``what`` names the port in messages."""
+    if port is None:
+        widest = max((PORT_DEVICES[d].takes_bits(data_bits) for d in ports_out.values()), default=data_bits)
+        return widest, "the output port (computed by the step: the widest output device)"
+    device = ports_out.get(port)
+    if device is None:
+        return data_bits, f"output port {port} (no device: the data bus)"
+    return PORT_DEVICES[device].takes_bits(data_bits), f"output port {port} ({device})"

@@ -148,7 +148,7 @@ def report(result: RunResult, dumps: list[tuple[str, int, int]] = ()) -> dict:
     machine = emu.machine
     registers = {reg.name: emu.get(reg.name) for reg in machine.visible_registers
                  if reg.name != machine.program_counter}
-    registers.update({name: emu.get(name) for name in machine.groups})
+    registers.update({group.name: emu.get(group.name) for group in machine.visible_groups})
     return {
         "status": result.status,
         "pc": emu.pc,

@@ -5,7 +5,8 @@ The first of these that names a machine wins:
 1. ``--machine`` on the command line;
 2. the program's own word: ``.machine "NAME-OR-PATH"`` as the first
    statement of its source (a path is relative to the program file), or,
-   for an image, the machine its debug file was written for;
+   for an image, the machine its debug file was written for (a shipped
+   name, or the machine file's path, which the debug file keeps);
 3. ``machine = "NAME-OR-PATH"`` in the program's panel file (a path is
    relative to the panel file);
 4. ref8.
@@ -87,15 +88,28 @@ class MachineChooser:
         return self._debug_file_names(program_path)
 
     def _debug_file_names(self, image: Path) -> Machine | None:
-        """An image is for the machine its debug file names, when that is a shipped machine."""
+        """An image is for the machine its debug file names: a shipped machine, or a machine file.
+
+        A debug file that does not read, or names a machine that cannot be
+        found, is this image's error: any other machine would misread it.
+        """
         debug_path = asm.debug_path_for(image)
         if not debug_path.exists():
             return None
         try:
-            name = asm.read_debug(debug_path).machine
-        except asm.AsmError:
-            return None
-        return self._load(name) if name in shipped_machines() else None
+            named = asm.read_debug_machine(debug_path)
+        except asm.AsmError as exc:
+            raise ProgramError(exc.message, diagnostics=exc.diagnostics) from None
+        if named.file is not None:
+            if Path(named.file).is_file():
+                return self._load(named.file)
+            why = f" from {os.path.abspath(named.file)}, which is not there"
+        elif named.name in shipped_machines():
+            return self._load(named.name)
+        else:
+            why = ", which is not a shipped machine, and the debug file names no machine file"
+        raise ProgramError(f"the image was assembled for machine '{named.name}'{why}: "
+                           f"name its machine file with --machine FILE", file=str(debug_path))
 
     @staticmethod
     def _resolve(name: str, folder: Path) -> str | None:

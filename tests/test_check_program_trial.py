@@ -11,9 +11,9 @@
 * Ctrl-C takes the progress bar down before the message that says where
   the work stopped.
 
-The trial's machines and programs are in tests/trial_machines/ (brace8,
-nib2: our own inventions, kept apart from tests/machines/ so the engine's
-properties do not sweep them).
+The trial's machines are tests/machines/brace8.toml and nib2.toml (our own
+inventions; the engine's properties run on them too), their programs are in
+tests/trial_programs/.
 """
 
 from __future__ import annotations
@@ -33,9 +33,10 @@ from emu.timing import spread_source
 
 from cli_support import REF8_PROGRAMS, ROOT, cli
 
-TRIAL = ROOT / "tests" / "trial_machines"
-NIB2 = load_machine(TRIAL / "nib2.toml")
-BRACE8 = load_machine(TRIAL / "brace8.toml")
+TRIAL_MACHINES = ROOT / "tests" / "machines"
+TRIAL_PROGRAMS = ROOT / "tests" / "trial_programs"
+NIB2 = load_machine(TRIAL_MACHINES / "nib2.toml")
+BRACE8 = load_machine(TRIAL_MACHINES / "brace8.toml")
 SKEP = load_machine("skep")
 
 NIB2_GET = 'steps = ["idle", "goto 3 if !in(2)[0]", "a <- in(1)", "idle"]'
@@ -54,7 +55,7 @@ def checked(tmp_path, text: str, machine, *, panel: str | None = None, **options
 def test_a_goto_loop_of_idle_steps_waiting_for_input_is_a_stall():
     """nib2's `get a` loops `goto 3 if !in(2)[0]` back over an idle step: the machine waits.
     The sum 3 + 4 = 7 its checks expect is plain arithmetic."""
-    check = check_program_timing(str(TRIAL / "nib2_add.asm"), NIB2, examples=2, workers=1)
+    check = check_program_timing(str(TRIAL_PROGRAMS / "nib2_add.asm"), NIB2, examples=2, workers=1)
     assert [(r.place[1], r.statement, r.device, r.reads, r.stall_reads, r.depends_on_timing)
             for r in check.panel_reads] == [(4, "get a", "input_ready", 1, 1, False),
                                             (6, "get a", "input_ready", 1, 1, False)]
@@ -73,8 +74,8 @@ def test_a_wait_until_on_input_ready_is_a_stall(tmp_path):
 
 def test_a_loop_that_works_while_it_waits_is_not_a_stall(tmp_path):
     """The same goto, but the step it repeats counts b: how many turns it made shows in b."""
-    counting = (TRIAL / "nib2.toml").read_text().replace(NIB2_GET, NIB2_GET.replace('"idle", "goto', '"b <- inc(b)", "goto'))
-    assert counting != (TRIAL / "nib2.toml").read_text()
+    counting = (TRIAL_MACHINES / "nib2.toml").read_text().replace(NIB2_GET, NIB2_GET.replace('"idle", "goto', '"b <- inc(b)", "goto'))
+    assert counting != (TRIAL_MACHINES / "nib2.toml").read_text()
     check = checked(tmp_path, "        get a\n        halt\n", machine_from_text(counting), panel='input = "5"\n')
     [read] = check.timing_dependent
     assert (read.statement, read.reads, read.stall_reads) == ("get a", 1, 0)
@@ -160,7 +161,7 @@ def test_clocks_whose_parts_stop_the_ring_are_counted_and_named(tmp_path):
         except MachineError:
             stopping += 1
     assert stopping == 2
-    check = check_program_timing(str(TRIAL / "brace8_sum.asm"), BRACE8, examples=10, sample=1, workers=1)
+    check = check_program_timing(str(TRIAL_PROGRAMS / "brace8_sum.asm"), BRACE8, examples=10, sample=1, workers=1)
     assert (check.clock.drawn, check.clock.clocks, check.clock.stopped) == (10, 10 - stopping, stopping)
     assert check.passed
     lines = report_lines(check)
@@ -173,14 +174,14 @@ def test_clocks_whose_parts_stop_the_ring_are_counted_and_named(tmp_path):
 
 def test_when_every_clock_drawn_stops_the_table_says_none_ran(capsys):
     """Seed 0 draws clock 0 first, one of brace8's stopping builds."""
-    code, out, _err = cli(capsys, "check", TRIAL / "brace8_sum.asm", "--examples", "1", "--sample", "1")
+    code, out, _err = cli(capsys, "check", TRIAL_PROGRAMS / "brace8_sum.asm", "--examples", "1", "--sample", "1")
     assert code == 0
     assert ("  irregular clock   pass  none of 1 clock drawn ran: their parts cannot keep the ring going; "
             "see relaybench clock") in out.splitlines()
 
 
 def test_the_json_says_how_many_clocks_stopped(capsys):
-    code, out, _err = cli(capsys, "check", TRIAL / "brace8_sum.asm", "--examples", "3", "--sample", "1", "--json")
+    code, out, _err = cli(capsys, "check", TRIAL_PROGRAMS / "brace8_sum.asm", "--examples", "3", "--sample", "1", "--json")
     clock = json.loads(out)["clock"]
     assert code == 0 and (clock["drawn"], clock["clocks"], clock["stopped"]) == (3, 1, 2)
 
@@ -217,7 +218,7 @@ def interrupted_screen(*argv: str, bar_text: str, message: str) -> list[str]:
 
 
 def test_ctrl_c_while_checking_a_machine_leaves_the_message_and_no_bar():
-    seen = interrupted_screen("check", "--machine", str(TRIAL / "brace8.toml"), "--examples", "100000",
+    seen = interrupted_screen("check", "--machine", str(TRIAL_MACHINES / "brace8.toml"), "--examples", "100000",
                               bar_text="P1 no clipped", message="interrupted after 0 of 8 properties")
     assert seen[-1] == "relaybench: interrupted after 0 of 8 properties"
     assert not any("P1" in line or "examples  [" in line for line in seen), seen

@@ -73,6 +73,15 @@ def test_a_bad_value_name_is_located_in_the_machine_file(names, message):
     assert str(caught.value).splitlines()[0] == f"cond4.toml:{line}: error: [operands] cond: {message}"
 
 
+def test_a_value_name_may_not_be_a_literal_word_of_a_syntax_string():
+    text = COND4_TEXT.replace('syntax = "ready"', 'syntax = "ready now"').replace(NAMES, NAMES.replace("zc", "now"))
+    with pytest.raises(emu.MachineError) as caught:
+        emu.machine_from_text(text, "cond4.toml")
+    assert str(caught.value).splitlines()[0].endswith(
+        "error: [operands] cond: the value name 'now' is also a word of the syntax 'ready now'; "
+        "a program line would read ambiguously")
+
+
 @pytest.mark.parametrize("old, new, message", [
     ("cond = { bits = 2, names", 'cond = { bits = 2, relative = "next", names',
      "'names' is for values; a relative kind's operand is a target address"),

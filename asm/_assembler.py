@@ -325,7 +325,7 @@ class _Assembly(_Directives, _Values, _ExpectChecks):
                     if kind.relative:
                         value = self.distance(expr, address, ins.word_count, file, kind)
                     else:
-                        value = self.value(expr, address, file, kind.low, kind.high, kind.name)
+                        value = self.operand_value(expr, address, file, kind)
                     ok = ok and value is not None
                     values[name] = value
                 if not ok:

@@ -184,6 +184,8 @@ class _Decoder:
                 value = (kind.distance_base(address, ins.word_count) + value) % self.machine.memory_words
             if kind.is_register:
                 shown = kind.registers[value]
+            elif kind.value_names:
+                shown = kind.name_of(value) or str(value)
             elif kind.relative or kind.name in self.address_kinds:
                 shown = self.address_text(value)
                 labels = names.by_address.get(value)

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from emu.description import Instruction, Machine, OperandKind
 from emu.errors import RelaybenchError
 
-from ._expr import Expr, Name
+from ._expr import Expr, Name, Number
 from ._syntax import InstructionLine, Operand
 
 __all__ = ["MachineSyntax", "Chosen", "FormError", "PAUSE"]
@@ -120,6 +120,8 @@ class MachineSyntax:
                 registers[pattern.field] = index
             elif isinstance(expr, Name) and expr.name.lower() in self.reserved:
                 return None
+            elif isinstance(expr, Name) and (named := kind.value_named(expr.name)) is not None:
+                values[pattern.field] = Number(named, expr.line, expr.column)   # the kind's name wins over a label
             else:
                 values[pattern.field] = expr
         return problem or Chosen(ins, registers, values)

@@ -83,6 +83,19 @@ class _Values:
             return None
         return value
 
+    def operand_value(self, expr: Expr, here: int, file: str, kind) -> int | None:
+        """A number operand; a bare name that is neither one of the kind's value names (those
+        were replaced when the form was matched) nor a label or constant is a misspelt value name."""
+        if kind.value_names and isinstance(expr, Name) and expr.name not in self.labels \
+                and expr.name not in self.constants:
+            spelt = {name.lower(): name for name, _value in kind.value_names}
+            close = difflib.get_close_matches(expr.name.lower(), spelt, n=1)
+            hint = f" (did you mean '{spelt[close[0]]}'?)" if close else ""
+            self.error(file, expr.line, expr.column,
+                       f"'{expr.name}' is not a value of {kind.name} ({kind.describe()}){hint}")
+            return None
+        return self.value(expr, here, file, kind.low, kind.high, kind.name)
+
     def distance(self, expr: Expr, here: int, word_count: int, file: str, kind) -> int | None:
         """A pc-relative operand: the target's distance from the address the kind counts from."""
         target = self.value(expr, here, file, -(1 << 64), 1 << 64, kind.name)

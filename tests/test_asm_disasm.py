@@ -13,7 +13,8 @@ HERE = Path(__file__).parent
 REF8 = emu.load_machine("ref8")
 ACC12 = emu.load_machine(HERE / "machines" / "acc12.toml")
 NIB4 = emu.load_machine(HERE / "machines" / "nib4.toml")
-MACHINES = {"ref8": REF8, "acc12": ACC12, "nib4": NIB4}
+COND4 = emu.load_machine(HERE / "machines" / "cond4.toml")     # its goto's cond kind has named values
+MACHINES = {"ref8": REF8, "acc12": ACC12, "nib4": NIB4, "cond4": COND4}
 
 
 def code_lines(lines):
@@ -126,7 +127,8 @@ def instruction_text(draw, machine):
             shown = draw(st.sampled_from(kind.registers))
         else:
             value = draw(st.integers(kind.low, kind.high))
-            shown = draw(st.sampled_from([str(value), hex(value) if value >= 0 else str(value)]))
+            shown = draw(st.sampled_from([str(value), hex(value) if value >= 0 else str(value),
+                                          *(n.upper() for n, v in kind.value_names if v == value)]))
         parts.append(f"{pattern.before}{shown}{pattern.after}")
     return f"{ins.mnemonic} {', '.join(parts)}".strip()
 

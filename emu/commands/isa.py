@@ -122,6 +122,17 @@ def port_lines(machine: Machine) -> list[str]:
     return lines
 
 
+def value_name_lines(machine: Machine) -> list[str]:
+    """One line per operand kind with named values: each name and its bits, as a program writes it."""
+    lines = []
+    for kind in machine.operand_kinds.values():
+        if kind.value_names:
+            named = ", ".join(f"{name} = {value & ((1 << kind.bits) - 1):0{kind.bits}b}"
+                              for name, value in kind.value_names)
+            lines.append(f"  {kind.name:<8} {named}  (or a number {kind.low}…{kind.high})")
+    return lines
+
+
 def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
     def steps(seq):
         return [{"text": s.text, "control_lines": list(s.control_lines),
@@ -135,6 +146,8 @@ def table_json(machine: Machine, instructions: list[Instruction]) -> dict:
         "ports": [{"direction": direction, "port": number, "device": name}
                   for direction, wired in (("in", machine.ports_in), ("out", machine.ports_out))
                   for number, name in sorted(wired.items())],
+        "operand_values": {kind.name: dict(kind.value_names)
+                           for kind in machine.operand_kinds.values() if kind.value_names},
         "instructions": [{
             "syntax": ins.display, "mnemonic": ins.mnemonic, "encoding": encoding_words(ins, machine),
             "words": ins.word_count, **_cycles_json(ins.cycles(machine)),
@@ -183,6 +196,9 @@ def table_text(machine: Machine, instructions: list[Instruction], brief: bool) -
     ports = port_lines(machine)
     if ports:
         lines += ["ports:"] + ports
+    named = value_name_lines(machine)
+    if named:
+        lines += ["operand values (name = bits):"] + named
     lines.append("")
     syntax_width = max([len(i.display) for i in instructions] + [11])
     encodings = {ins.index: " | ".join(encoding_words(ins, machine)) for ins in instructions}

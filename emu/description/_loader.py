@@ -31,6 +31,7 @@ from ._model import (FLAG_ROLES, INPUT_DEVICES, OUTPUT_DEVICES, Flag, Instructio
 from ._schema import Table, is_integer
 from ._sections import check_stage_names, read_stage_names, read_timing, read_wear
 from ._toml_lines import key_line, toml_syntax_error
+from ._value_names import check_value_names_against_syntax, read_value_names
 from .notation import Assign, Call, Choose, Halt, Input, Mem, Name, Output, parse_step, walk
 
 __all__ = ["load_machine", "machine_from_text", "shipped_machines"]
@@ -136,6 +137,8 @@ class _Loader:
         assembler = top.table("assembler", "[assembler]", required=False)
         assembler.known_keys(("pause",))
         pause = assembler.string("pause", default="halt")
+        check_value_names_against_syntax(kinds, instructions, pause, lambda kind, name, message: self.fail_at(
+            f"[operands] {kind}", ("operands", kind, "names", name), message))
         halting = [i for i in instructions if i.drives_halt and not i.operands]
         if pause.lower() not in {i.mnemonic for i in halting}:
             choices = ", ".join(i.mnemonic for i in halting) or "none"
@@ -231,9 +234,9 @@ class _Loader:
                 table.where = where
                 table.fail("an operand kind must be a table, e.g. { bits = 8, min = 0, max = 255 }", kind_name)
             spec = table.table(kind_name, where)
-            spec.known_keys(("registers", "bits", "min", "max", "signed", "relative"))
+            spec.known_keys(("registers", "bits", "min", "max", "signed", "relative", "names"))
             if "registers" in spec:
-                for key in ("signed", "relative"):
+                for key in ("signed", "relative", "names"):
                     if key in spec:
                         spec.fail(f"'{key}' is for number operands; this kind lists registers", key)
                 regs = spec.list_of("registers", lambda r: True, nonempty=True,
@@ -256,7 +259,8 @@ class _Loader:
                 if high >= 1 << bits or low < -(1 << (bits - 1)):
                     spec.fail(f"{bits} bits hold {-(1 << (bits - 1))}…{(1 << bits) - 1} at most "
                               f"(signed or unsigned), not {low}…{high}", "max")
-                kinds[kind_name] = OperandKind(kind_name, bits, low, high, signed=signed, relative=relative)
+                kinds[kind_name] = OperandKind(kind_name, bits, low, high, signed=signed, relative=relative,
+                                               value_names=read_value_names(spec, low, high, names))
         return kinds
 
     def ports(self):

@@ -71,6 +71,17 @@ class OperandKind:
     """Values are two's complement (range −2^(bits−1)…2^(bits−1)−1 unless min/max say otherwise)."""
     relative: str | None = None
     """``"next"``: the field holds label − the address after the instruction; ``"this"``: label − its own."""
+    value_names: tuple[tuple[str, int], ...] = ()
+    """A number kind's named values (``nz`` → 0b1001), as the file spells them, in file order."""
+
+    def value_named(self, text: str) -> int | None:
+        """The value a name stands for (any case, as registers are matched), or None."""
+        lowered = text.lower()
+        return next((value for name, value in self.value_names if name.lower() == lowered), None)
+
+    def name_of(self, value: int) -> str | None:
+        """The name the disassembler writes for ``value``, or None when it has none."""
+        return next((name for name, named in self.value_names if named == value), None)
 
     def distance_base(self, address: int, word_count: int) -> int:
         """The address a relative field's distance is counted from, for an instruction at ``address``."""
@@ -89,6 +100,8 @@ class OperandKind:
                 return f"{self.registers[0]}–{self.registers[-1]}"
             return ", ".join(self.registers[:-1]) + f" or {self.registers[-1]}" if len(self.registers) > 1 \
                 else self.registers[0]
+        if self.value_names:
+            return ", ".join(name for name, _value in self.value_names) + f" or a number {self.low}…{self.high}"
         return f"{self.low}…{self.high}"
 
 

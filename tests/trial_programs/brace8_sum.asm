@@ -1,10 +1,6 @@
         .machine "../machines/brace8.toml"
 ; sum the bytes of a zero-terminated table through pointer ef, print the
 ; total as one letter, call a routine that doubles it
-        .equ IFZ, 0b0001
-        .equ IFNZ, 0b1001
-        .equ ALWAYS, 0b1000
-        .equ IFC, 0b0010
         lsp 0xFF00
         ldi e, hi(table)
         ldi f, lo(table)
@@ -14,11 +10,11 @@ loop:   ld b, [ef]
         mov d, a            ; keep the sum
         mov a, b
         cmp c
-        goto IFZ, done
+        goto z, done
         mov a, d
         add b
         incp ef
-        goto ALWAYS, loop
+        goto always, loop
 done:   mov a, d
         pause
         .expect a == 15, ef == table + 5

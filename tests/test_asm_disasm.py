@@ -90,10 +90,10 @@ def test_acc12_labels_only_on_address_operands():
 def test_a_jump_through_a_group_of_latches_shows_its_label():
     """brace8 latches a target in mlo and mhi and jumps with `pc <- m`, m = {mhi, mlo}."""
     brace8 = emu.load_machine(HERE / "machines" / "brace8.toml")
-    source = "top: goto 8, far\n call far\n lsp 0x0102\n halt\nfar: ret\n"
+    source = "top: goto always, far\n call far\n lsp 0x0102\n halt\nfar: ret\n"
     program = asm.assemble_text(source, brace8)
     assert code_lines(asm.disassemble(brace8, program.flat(), 0, program))[1:] == [
-        "top:", "goto 8, far", "call far", "lsp 0x0102", "halt", "far:", "ret"]
+        "top:", "goto always, far", "call far", "lsp 0x0102", "halt", "far:", "ret"]
     memory = program.image()
     assert asm.disassemble_at(brace8, lambda a: memory.get(a, 0), 3, program) == ("call far", 3)
 

@@ -236,15 +236,17 @@ class _Loader:
                 for key in ("signed", "relative"):
                     if key in spec:
                         spec.fail(f"'{key}' is for number operands; this kind lists registers", key)
-                regs = spec.list_of("registers", lambda r: True, nonempty=True,
-                                    expected="a non-empty list of register names")
+                regs = spec.list_of("registers", lambda r: isinstance(r, str), nonempty=True,
+                                    expected="a non-empty list of register or group names")
                 for reg in regs:
-                    if reg not in names.registers:
-                        spec.fail(f"unknown register '{reg}' in 'registers'", "registers")
+                    if reg not in names.registers and reg not in names.groups:
+                        spec.fail(f"unknown register or group '{reg}' in 'registers'", "registers")
                     if regs.count(reg) > 1:
-                        spec.fail(f"register '{reg}' is listed twice in 'registers'", "registers")
+                        spec.fail(f"'{reg}' is listed twice in 'registers'", "registers")
+                selects_groups = _check_group_selection(spec, regs, names)
                 bits = max(1, (len(regs) - 1).bit_length())
-                kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
+                kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs),
+                                               selects_groups=selects_groups)
             else:
                 bits = spec.integer("bits", low=1, high=32)
                 signed = spec.boolean("signed", default=False)
@@ -436,6 +438,31 @@ class _Loader:
         plain, gated = (tuple(checker.lines), ()) if lines is None else \
             read_named_lines(lines, checker, names, fields, available)
         return Step(text.strip() or "idle", statements, plain, checker.halts, jump, gated)
+
+
+def _check_group_selection(spec: Table, names_listed: list[str], names: MachineNames) -> bool:
+    """Whether a register kind lists groups; refuses a mix of groups and registers and groups of
+    different shapes, since one selector drives the same part of every group it can pick."""
+    groups = [n for n in names_listed if n in names.groups]
+    if not groups:
+        return False
+    if len(groups) != len(names_listed):
+        register = next(n for n in names_listed if n not in names.groups)
+        spec.fail(f"'registers' lists groups and the register '{register}': a kind selects "
+                  f"either registers or groups, not both", "registers")
+
+    def shape(group):
+        return [names.registers[p].width for p in names.groups[group].parts]
+    for group in groups[1:]:
+        if shape(group) != shape(groups[0]):
+            spec.fail(f"the groups in 'registers' must have the same shape: '{groups[0]}' has parts of "
+                      f"{_bits_list(shape(groups[0]))} bits, '{group}' of {_bits_list(shape(group))}",
+                      "registers")
+    return True
+
+
+def _bits_list(widths: list[int]) -> str:
+    return "+".join(map(str, widths))
 
 
 def _computed(steps: tuple[Step, ...], register: str) -> bool:

@@ -242,7 +242,8 @@ class _Loader:
                     if reg not in names.registers and reg not in names.groups:
                         spec.fail(f"unknown register or group '{reg}' in 'registers'", "registers")
                     if regs.count(reg) > 1:
-                        spec.fail(f"'{reg}' is listed twice in 'registers'", "registers")
+                        what = "group" if reg in names.groups else "register"
+                        spec.fail(f"{what} '{reg}' is listed twice in 'registers'", "registers")
                 selects_groups = _check_group_selection(spec, regs, names)
                 bits = max(1, (len(regs) - 1).bit_length())
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs),

@@ -22,6 +22,7 @@ from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
 from ._clock_panel import read_clock_panel
 from ._decoding import decode_groups
+from ._group_selection import check_group_selection
 from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
 from ._saved_machines import saved_machine
@@ -244,7 +245,7 @@ class _Loader:
                     if regs.count(reg) > 1:
                         what = "group" if reg in names.groups else "register"
                         spec.fail(f"{what} '{reg}' is listed twice in 'registers'", "registers")
-                selects_groups = _check_group_selection(spec, regs, names)
+                selects_groups = check_group_selection(spec, regs, names)
                 bits = max(1, (len(regs) - 1).bit_length())
                 kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs),
                                                selects_groups=selects_groups)
@@ -439,31 +440,6 @@ class _Loader:
         plain, gated = (tuple(checker.lines), ()) if lines is None else \
             read_named_lines(lines, checker, names, fields, available)
         return Step(text.strip() or "idle", statements, plain, checker.halts, jump, gated)
-
-
-def _check_group_selection(spec: Table, names_listed: list[str], names: MachineNames) -> bool:
-    """Whether a register kind lists groups; refuses a mix of groups and registers and groups of
-    different shapes, since one selector drives the same part of every group it can pick."""
-    groups = [n for n in names_listed if n in names.groups]
-    if not groups:
-        return False
-    if len(groups) != len(names_listed):
-        register = next(n for n in names_listed if n not in names.groups)
-        spec.fail(f"'registers' lists groups and the register '{register}': a kind selects "
-                  f"either registers or groups, not both", "registers")
-
-    def shape(group):
-        return [names.registers[p].width for p in names.groups[group].parts]
-    for group in groups[1:]:
-        if shape(group) != shape(groups[0]):
-            spec.fail(f"the groups in 'registers' must have the same shape: '{groups[0]}' has parts of "
-                      f"{_bits_list(shape(groups[0]))} bits, '{group}' of {_bits_list(shape(group))}",
-                      "registers")
-    return True
-
-
-def _bits_list(widths: list[int]) -> str:
-    return "+".join(map(str, widths))
 
 
 def _computed(steps: tuple[Step, ...], register: str) -> bool:

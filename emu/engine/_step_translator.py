@@ -41,7 +41,8 @@ class _StepTranslator:
 
     def lane_slots(self, field_name: str) -> list[list[int]]:
         """The slots of each lane a register or group field selects in, most significant first."""
-        return [[self.reg_slots[r] for r in lane] for lane in self.machine.selection_lanes(self.fields[field_name].kind)]
+        lanes = self.machine.selection_lanes(self.fields[field_name].kind)
+        return [[self.reg_slots[r] for r in lane] for lane in lanes]
 
     def fixed_selection(self, field_name: str) -> str:
         """The register or group a field known at compile time names."""

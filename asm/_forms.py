@@ -68,7 +68,8 @@ class MachineSyntax:
     def not_a_register(self, text: str, kind: OperandKind) -> str:
         if text.lower() in self.reserved:
             return f"{text} cannot stand here: this operand takes {kind.describe()}"
-        return f"{text} is not a register of {self.machine.name} ({kind.describe()})"
+        what = "register group" if kind.selects_groups else "register"
+        return f"{text} is not a {what} of {self.machine.name} ({kind.describe()})"
 
     def looks_like_register(self, name: str) -> str | None:
         """For a name like ``r9`` on a machine with r0…r7: the message to give."""

@@ -73,10 +73,13 @@ def flags_set_by(op, machine: Machine) -> list[str]:
 
 
 def datapath_json(machine: Machine) -> dict:
-    """Register groups, flag meanings and the ALU operations: what a programmer needs besides the table."""
+    """Register groups, what register operands select, flag meanings and the ALU operations: what a
+    programmer needs besides the table."""
     return {
         "registers": {r.name: r.width for r in machine.visible_registers},
         "groups": {name: list(group.parts) for name, group in machine.groups.items()},
+        "register_operands": {kind.name: list(kind.registers) for kind in machine.operand_kinds.values()
+                              if kind.is_register},
         "flags": {name: flag.role for name, flag in machine.flags.items()},
         "alu": [{
             "name": op.name, "operands": op.arity, "result": op.texts["result"],
@@ -95,6 +98,9 @@ def datapath_text(machine: Machine) -> list[str]:
     if summary["groups"]:
         lines.append("register groups (most significant first): " + ", ".join(
             f"{name} = {{{', '.join(parts)}}}" for name, parts in summary["groups"].items()))
+    if summary["register_operands"]:
+        lines.append("register operands (values by field number from 0): " + "; ".join(
+            f"{kind} = {', '.join(names)}" for kind, names in summary["register_operands"].items()))
     borrows = [op.name for op in alu_ops_used(machine)
                if op.name in ("sub", "sbc", "dec") and op == ALU_OPS[op.name]]
     borrow_note = f"; carry is a borrow after {', '.join(borrows)}" if borrows else ""

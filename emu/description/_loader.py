@@ -22,6 +22,7 @@ from ._design_rules import StepChecker
 from ._call_marks import CALL_KEYS, read_call_marks
 from ._clock_panel import read_clock_panel
 from ._decoding import decode_groups
+from ._group_selection import check_group_selection
 from ._instruction_forms import read_encoding, read_syntax, strip_kinds, word_holders
 from ._sequencing import resolve_jump
 from ._saved_machines import saved_machine
@@ -239,15 +240,18 @@ class _Loader:
                 for key in ("signed", "relative", "names"):
                     if key in spec:
                         spec.fail(f"'{key}' is for number operands; this kind lists registers", key)
-                regs = spec.list_of("registers", lambda r: True, nonempty=True,
-                                    expected="a non-empty list of register names")
+                regs = spec.list_of("registers", lambda r: isinstance(r, str), nonempty=True,
+                                    expected="a non-empty list of register or group names")
                 for reg in regs:
-                    if reg not in names.registers:
-                        spec.fail(f"unknown register '{reg}' in 'registers'", "registers")
+                    if reg not in names.registers and reg not in names.groups:
+                        spec.fail(f"unknown register or group '{reg}' in 'registers'", "registers")
                     if regs.count(reg) > 1:
-                        spec.fail(f"register '{reg}' is listed twice in 'registers'", "registers")
+                        what = "group" if reg in names.groups else "register"
+                        spec.fail(f"{what} '{reg}' is listed twice in 'registers'", "registers")
+                selects_groups = check_group_selection(spec, regs, names)
                 bits = max(1, (len(regs) - 1).bit_length())
-                kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs))
+                kinds[kind_name] = OperandKind(kind_name, bits, 0, len(regs) - 1, tuple(regs),
+                                               selects_groups=selects_groups)
             else:
                 bits = spec.integer("bits", low=1, high=32)
                 signed = spec.boolean("signed", default=False)

@@ -61,12 +61,16 @@ class Flag:
 
 @dataclass(frozen=True)
 class OperandKind:
-    """What may stand in an operand position: a register set or a number range."""
+    """What may stand in an operand position: a register set, a set of register groups
+    (pointer pairs, all of one shape) or a number range."""
     name: str
     bits: int
     low: int
     high: int
     registers: tuple[str, ...] = ()
+    """The names a field of this kind selects, by field value: registers, or groups."""
+    selects_groups: bool = False
+    """``registers`` names groups: a field selects a whole group, read and written as one value."""
     signed: bool = False
     """Values are two's complement (range −2^(bits−1)…2^(bits−1)−1 unless min/max say otherwise)."""
     relative: str | None = None
@@ -549,6 +553,22 @@ class Machine:
             return None
         ins = self.instructions[index]
         return ins if ins.matches(words) else None
+
+    def selection_lanes(self, kind: OperandKind) -> list[tuple[str, ...]]:
+        """What a register field selects among, one lane per part, most significant first.
+
+        A register kind has one lane, its registers; a group kind one lane per part
+        position, holding that part of each group (``ef``, ``gh`` → ``(e, g)``, ``(f, h)``):
+        a field value picks the same entry of every lane, which is how the generated code
+        reads and writes a group chosen at run time.
+        """
+        if not kind.selects_groups:
+            return [kind.registers]
+        return list(zip(*(self.groups[g].parts for g in kind.registers)))
+
+    def selectable_registers(self, kind: OperandKind) -> set[str]:
+        """Every register a field of this register or group kind may reach."""
+        return {reg for lane in self.selection_lanes(kind) for reg in lane}
 
     def register_width(self, name: str) -> int:
         if name in self.groups:

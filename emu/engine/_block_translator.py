@@ -234,7 +234,7 @@ def successor(machine: Machine, ins: Instruction) -> str:
             if name in machine.groups and pc in machine.groups[name].parts:
                 return JUMP
             fld = ins.fields.get(name)
-            if fld is not None and fld.kind.is_register and pc in fld.kind.registers:
+            if fld is not None and fld.kind.is_register and pc in machine.selectable_registers(fld.kind):
                 return JUMP
             if name != pc or _only_pc(st.value, pc):
                 continue

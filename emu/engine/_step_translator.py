@@ -20,7 +20,9 @@ class _StepTranslator:
     """Turns IR statements of one instruction into lines, through an access policy.
 
     ``fixed`` maps register fields whose value is known at compile time (the
-    fused back end's first-word fields) to their register index.
+    fused back end's first-word fields) to their register index. A field that
+    selects groups is then that group; chosen at run time, it is read and written
+    one lane at a time (``Machine.selection_lanes``), each lane indexed by the field.
     """
 
     def __init__(self, machine: Machine, out: Emitter, access, ins: Instruction | None,
@@ -37,8 +39,14 @@ class _StepTranslator:
         """A register or a flag (both are one slot each)."""
         return self.access.read(self.reg_slots[name], name)
 
-    def kind_slots(self, field_name: str) -> list[int]:
-        return [self.reg_slots[r] for r in self.fields[field_name].kind.registers]
+    def lane_slots(self, field_name: str) -> list[list[int]]:
+        """The slots of each lane a register or group field selects in, most significant first."""
+        lanes = self.machine.selection_lanes(self.fields[field_name].kind)
+        return [[self.reg_slots[r] for r in lane] for lane in lanes]
+
+    def fixed_selection(self, field_name: str) -> str:
+        """The register or group a field known at compile time names."""
+        return self.fields[field_name].kind.registers[self.fixed[field_name]]
 
     def field_value(self, field_name: str) -> str:
         """The raw value of an operand field, read from the register(s) holding its word(s)."""
@@ -51,10 +59,9 @@ class _StepTranslator:
             parts.append(f"{part} << {piece.field_bit}" if piece.field_bit else part)
         return " | ".join(parts) if len(parts) > 1 else parts[0]
 
-    def dynamic_slot(self, field_name: str, writing: bool = False) -> str:
-        """The slot a register field chooses at run time; values naming no register
-        reach the undriven slot (reads 0) or, for writes, the one after it."""
-        slots = self.kind_slots(field_name)
+    def dynamic_slot(self, field_name: str, slots: list[int], writing: bool = False) -> str:
+        """The slot of a lane (``slots``) a register field chooses at run time; values naming
+        no register reach the undriven slot (reads 0) or, for writes, the one after it."""
         index = self.field_value(field_name)
         size = 1 << self.fields[field_name].kind.bits
         if len(slots) == size and slots == list(range(slots[0], slots[0] + size)):
@@ -76,10 +83,12 @@ class _StepTranslator:
                 if not fld.kind.is_register:
                     return f"({self.field_value(name)})"
                 if name in self.fixed:
-                    return self.register(fld.kind.registers[self.fixed[name]])
-                slots = self.kind_slots(name)
-                self.access.flush(slots)
-                return f"s[{self.dynamic_slot(name)}]"
+                    return self.expr(Name(self.fixed_selection(name)))
+                lanes = self.lane_slots(name)
+                self.access.flush([slot for lane in lanes for slot in lane])
+                reads = [(f"s[{self.dynamic_slot(name, lane)}]", self.machine.registers[regs[0]].width)
+                         for lane, regs in zip(lanes, machine.selection_lanes(fld.kind))]
+                return self.join(reads) if fld.kind.selects_groups else reads[0][0]
             case Name(name) if name in machine.groups:
                 return self.join([(self.register(part), machine.registers[part].width)
                                   for part in machine.groups[name].parts])
@@ -238,32 +247,49 @@ class _StepTranslator:
         if name in self.fields:
             fld = self.fields[name]
             if name in self.fixed:
-                reg = fld.kind.registers[self.fixed[name]]
+                reg = self.fixed_selection(name)
+                if reg in machine.groups:
+                    self.assign(Name(reg), value, width)
+                    return
                 if width > machine.registers[reg].width:
                     value = f"{value} & {(1 << machine.registers[reg].width) - 1:#x}"
                 self.access.write(self.reg_slots[reg], reg, value)
+            elif fld.kind.selects_groups:
+                lanes = self.lane_slots(name)
+                every_slot = [slot for lane in lanes for slot in lane]
+                self.access.flush(every_slot)
+                widths = [machine.registers[regs[0]].width for regs in machine.selection_lanes(fld.kind)]
+                for lane, text in zip(lanes, self.split(value, widths)):
+                    self.out.line(f"s[{self.dynamic_slot(name, lane, writing=True)}] = {text}")
+                self.access.forget(every_slot)
             else:
                 narrowest = min(machine.registers[r].width for r in fld.kind.registers)
                 if width > narrowest:
                     value = f"{value} & {(1 << name_width(name, machine, self.fields)) - 1:#x}"
-                slots = self.kind_slots(name)
+                slots, = self.lane_slots(name)
                 self.access.flush(slots)
-                self.out.line(f"s[{self.dynamic_slot(name, writing=True)}] = {value}")
+                self.out.line(f"s[{self.dynamic_slot(name, slots, writing=True)}] = {value}")
                 self.access.forget(slots)
             return
         if name in machine.groups:
-            if not value.isidentifier():
-                temp = self.out.fresh("v")
-                self.out.line(f"{temp} = {value}")
-                value = temp
-            shift = machine.groups[name].width
-            for part in machine.groups[name].parts:
-                part_width = machine.registers[part].width
-                shift -= part_width
-                shifted = f"{value} >> {shift}" if shift else value
-                self.access.write(self.reg_slots[part], part, f"{shifted} & {(1 << part_width) - 1:#x}")
+            parts = machine.groups[name].parts
+            for part, text in zip(parts, self.split(value, [machine.registers[p].width for p in parts])):
+                self.access.write(self.reg_slots[part], part, text)
             return
         self.access.write(self.reg_slots[name], name, value)
+
+    def split(self, value: str, widths: list[int]) -> list[str]:
+        """A group's value cut into its parts of ``widths`` bits, most significant first."""
+        if not value.isidentifier():
+            temp = self.out.fresh("v")
+            self.out.line(f"{temp} = {value}")
+            value = temp
+        texts, shift = [], sum(widths)
+        for width in widths:
+            shift -= width
+            shifted = f"{value} >> {shift}" if shift else value
+            texts.append(f"{shifted} & {(1 << width) - 1:#x}")
+        return texts
 
     def step_through_temporaries(self, statements) -> None:
         """A step whose transfers read each other's targets (a swap): compute all, then write."""
@@ -300,14 +326,19 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
     fields = translator.fields
     found = set()
 
+    def selected(name):
+        """The registers a register or group field stands for here."""
+        if name in translator.fixed:
+            return name_slots(translator.fixed_selection(name))
+        return machine.selectable_registers(fields[name].kind)
+
     def name_slots(name):
         if name in fields:
             fld = fields[name]
+            holders = {translator.ins.holders[p.word] for p in fld.pieces}
             if fld.kind.is_register:
-                if name in translator.fixed:
-                    return {fld.kind.registers[translator.fixed[name]]}
-                return set(fld.kind.registers) | {translator.ins.holders[p.word] for p in fld.pieces}
-            return {translator.ins.holders[p.word] for p in fld.pieces}
+                return selected(name) | (set() if name in translator.fixed else holders)
+            return holders
         if name in machine.groups:
             return set(machine.groups[name].parts)
         return {name}
@@ -315,9 +346,7 @@ def _slots_touched(node, translator: _StepTranslator, writing=False) -> set:
     if writing:
         match node:
             case Assign(Name(name), _, flags):
-                found |= name_slots(name) if name not in fields else (
-                    {fields[name].kind.registers[translator.fixed[name]]} if name in translator.fixed
-                    else set(fields[name].kind.registers))
+                found |= selected(name) if name in fields else name_slots(name)
                 found |= set(flags)
             case Assign(Mem(), _, flags) | FlagsOnly(_, flags):
                 found |= set(flags)

@@ -1,7 +1,7 @@
 """How many bits a micro-step value has: one rule, shared by the design-rule checker and the compiler.
 
 The rule (emu/machines/README.md, "Widths"): a register, group or field has
-its declared width, a flag one bit; ``mem[…]`` and ``in(…)`` are a data word;
+its declared width (a field selecting groups: theirs), a flag one bit; ``mem[…]`` and ``in(…)`` are a data word;
 ``{a, b, c}`` is the sum of its parts; ``x[h:l]`` is h−l+1 bits; ``sext``/
 ``zext`` give the width they name; ``x + k`` is as wide as x; an ALU result
 is as wide as its widest operand; a choice as wide as its wider branch;
@@ -22,13 +22,16 @@ WORD_SELECTORS = {"hi", "lo"}
 
 
 def name_width(name: str, names, fields: dict) -> int:
-    """Bits of a register, group, flag or operand field (a register field: its widest register).
+    """Bits of a register, group, flag or operand field (a register field: its widest register;
+    a group field: its groups' width, which they share).
 
     ``names`` is anything with ``registers``, ``groups`` and ``flags`` (the
     loader's MachineNames or a Machine).
     """
     if name in fields:
         kind = fields[name].kind
+        if kind.selects_groups:
+            return names.groups[kind.registers[0]].width
         if kind.is_register:
             return max(names.registers[r].width for r in kind.registers)
         return kind.bits

@@ -9,9 +9,11 @@ the pause after 94 cycles and at the final halt after 101.
 from __future__ import annotations
 
 
+from pathlib import Path
+
 import pytest
 
-from emu import Emulator
+from emu import Emulator, machine_from_text
 from emu.debugger import COMMANDS, call_shape
 
 from debugger_programs import ACC12, GAUGE, REF8, SOAK, ctrl_c_after, session_for
@@ -571,3 +573,17 @@ def test_stepping_over_a_write_to_a_plain_flag_shows_it_on_the_bus(tmp_path):
     session = session_for(tmp_path, "        poll\n        stop\n", load_machine(COND4_PATH), "poll.asm")
     reply = session.execute("pulse 2")
     assert "rdy <- in(2)[0]" in reply and "into rdy" in reply, reply
+
+
+def test_a_watched_run_past_the_end_of_a_small_memory_keeps_going(tmp_path):
+    """ref8 cut to 4,096 words: empty memory is all `nop`, so pc runs past the end and
+    its reads wrap. A watched `go` (blocks hot after the warm-up), the snapshot that
+    replays the timing diagram and the code view all take such a pc (before: IndexError,
+    then a snapshot refused as 'damaged')."""
+    text = Path(REF8.path).read_text(encoding="utf-8").replace("memory_words = 65536", "memory_words = 4096")
+    small = machine_from_text(text)
+    session = session_for(tmp_path, "nop\n", machine=small)
+    session.execute("watch r1")
+    reply = session.execute("go 600000")
+    assert "cycle limit of 600,000 cycles reached" in reply and session.emu.pc == 600_000 % 65_536
+    assert "nop" in session.execute("code")

@@ -8,12 +8,14 @@ stepping path (an observer attached), as in test_engine_paths.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.stateful import initialize
 
-from emu import Emulator, Observer
+from emu import Emulator, Observer, machine_from_text
 from emu.testing import programs, run_resuming
 
 from engine_support import MACHINES, boot, encode, full_state
@@ -253,3 +255,18 @@ def test_panel_actions_keep_the_program_semantics_with_blocks(panel_machine):
     case.settings = SETTINGS
     case("runTest").runTest()
     assert sum(_HotPanel.built) > 0
+
+
+@pytest.mark.parametrize("watching", [False, True], ids=["plain", "with a breakpoint"])
+def test_pc_running_past_a_small_memory_wraps_as_stepping_does(watching):
+    """ref8 with 4,096 words under its 16-bit pc: empty memory is all `nop`, so pc runs past
+    the end and reads wrap. Blocks hot at once must neither fail nor differ from stepping
+    (before, the block loops indexed their tables by the unwrapped pc: IndexError)."""
+    text = Path(MACHINES["ref8"].path).read_text(encoding="utf-8")
+    small = machine_from_text(text.replace("memory_words = 65536", "memory_words = 4096"))
+    assert small.memory_words == 4096
+    breakpoints = (0x7000,) if watching else ()
+    fast, slow = hot(boot(small, [0])), stepped(boot(small, [0]))
+    for emu in (fast, slow):
+        emu.run(max_cycles=9_000, breakpoints=breakpoints)
+    assert full_state(fast) == full_state(slow) and fast.pc == 9_000

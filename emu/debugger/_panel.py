@@ -128,12 +128,13 @@ def code_lines(emu, view, addresses, breakpoints) -> list[str]:
     """One row per instruction: markers, address, words, text, then its source line."""
     m = emu.machine
     here = emu.instruction_address
+    word_at = emu.word_at
     rows = []
     for address in addresses:
         for label in view.labels_at(address):
             rows.append(f"{'':8}{label}:")
-        text, length = asm.disassemble_at(m, lambda a: emu.memory[a], address, view)
-        words = " ".join(word_hex(m, emu.memory[a]) for a in range(address, min(address + length, m.memory_words)))
+        text, length = asm.disassemble_at(m, word_at, address, view)
+        words = " ".join(word_hex(m, word_at(a)) for a in range(address, address + length))
         mark = ("pc>" if address == here else "   ") + ("*" if address in breakpoints else " ")
         place = view.place(address)
         source = ""

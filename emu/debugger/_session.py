@@ -234,7 +234,7 @@ class Session:
 
     def instruction(self, address: int) -> tuple[str, int]:
         """The disassembly of the instruction at ``address`` and its length in words."""
-        return asm.disassemble_at(self.machine, lambda a: self.emu.memory[a], address, self.view)
+        return asm.disassemble_at(self.machine, self.emu.word_at, address, self.view)
 
     # ----- running and stepping -------------------------------------------------
 

@@ -42,6 +42,8 @@ run this short cannot repay compiling a block, and counting costs it a few per c
 HOT_THRESHOLD = 2000
 """Visits of a pc before its block is translated: translating and compiling a
 block costs about as much as running a few thousand fused instructions."""
+_PAST_ANY_THRESHOLD = 1 << 62
+"""A hit count that never reaches ``threshold``: the pc is never translated there."""
 
 MAX_BLOCK_INSTRUCTIONS = 32
 """Longest block; it bounds compile time and how much budget a block needs."""
@@ -162,7 +164,10 @@ class BlockRunner:
         s, memory, _read, _write = self._state
         self._shared = _machine_blocks(machine, None if self._counters is None else self._counters[0])
         self._table: dict[int, tuple] = {}
-        self._hits = [0] * machine.memory_words
+        reach = 1 << machine.registers[machine.program_counter].width
+        # pc may point past the end of a memory smaller than its address space (its reads
+        # wrap); no block starts there: those hit counts start past any threshold
+        self._hits = [0] * machine.memory_words + [_PAST_ANY_THRESHOLD] * max(0, reach - machine.memory_words)
         self._cmap = None
         self._checked = None
         self._active: dict[int, tuple[int, object]] = {}

@@ -194,6 +194,11 @@ class Emulator(_Observing, _Running, StateKeeping):
             return lambda: (pick(state),)
         return lambda: pick(state)
 
+    def word_at(self, address: int) -> int:
+        """The memory word an address reaches: addresses wrap to the memory's size, as the
+        datapath's reads do when pc runs past the end of a memory smaller than its reach."""
+        return self.memory[address % self.machine.memory_words]
+
     @property
     def instruction_address(self) -> int:
         """Address of the instruction in progress (pc itself at a boundary)."""

@@ -104,7 +104,7 @@ def _checked_state(emu, state: Table):
     steps = machine.fetch if index < 0 else machine.instructions[index].steps
     if not 0 <= step < len(steps):
         state.fail(f"sequencer step {step} is out of range", "sequencer")
-    top = machine.memory_words - 1
+    top = (1 << machine.registers[machine.program_counter].width) - 1   # pc may run past a small memory
     if "halt_address" not in state:
         state.fail("missing key 'halt_address' (an address or null)", "halt_address")
     if state.get("halt_address") is not None:

@@ -74,6 +74,9 @@ class _Running:
                         return self._watch_reason(points)
                     if cycles > limit:
                         continue
+            elif self._observers and watch is None and self._run_traced(
+                    self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)):
+                continue
             done = self.instructions
             self.advance_phase()
             if self.instructions != done and watch is not None and watch():

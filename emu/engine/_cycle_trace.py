@@ -1,0 +1,122 @@
+"""Free cycles run one micro-step each, recorded compactly for an observer that writes them out.
+
+A waveform of every cycle needs each micro-step's own effect, so the fused
+fast path will not do; but the stepping path pays for every phase of the
+ring and every hook. Between a cycle boundary and the next halt, while the
+hold line is low and the clock is nominal, nothing but the micro-steps
+varies: the ring, clock and times of each cycle follow from the phase
+table. ``trace_cycles`` runs such a stretch through the same compiled step
+functions as the stepping path and keeps, per cycle, which step ran (a
+place number), the gated lines that fired on it and the registers and
+flags after it. An observer that accepts traces (``Observer.accepts_trace``)
+turns that into its own output; the ring and counters are brought up to
+date as if the stretch had been stepped.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from operator import itemgetter
+
+from ..description import Machine
+from ._line_gates import per_machine
+
+__all__ = ["CycleTrace", "StepPlaces", "step_places", "trace_cycles"]
+
+_FETCH_START = (-1, 0)
+
+
+class StepPlaces:
+    """Every micro-step of a machine numbered: ``places[n]`` is (instruction index or -1 for the
+    fetch, step index), ``number`` the reverse, ``steps[n]`` the description's step, ``shown[n]``
+    the sequencer's count at it (fetch steps first) and ``halts`` the numbers that drive halt."""
+
+    def __init__(self, machine: Machine):
+        self.places = [(-1, j) for j in range(len(machine.fetch))]
+        self.places += [(ins.index, k) for ins in machine.instructions for k in range(len(ins.steps))]
+        self.number = {place: n for n, place in enumerate(self.places)}
+        self.steps = [machine.fetch[k] if i < 0 else machine.instructions[i].steps[k] for i, k in self.places]
+        self.shown = [k if i < 0 else len(machine.fetch) + k for i, k in self.places]
+        self.halts = frozenset(n for n, step in enumerate(self.steps) if step.drives_halt)
+
+
+step_places = per_machine(StepPlaces)
+
+
+@dataclass
+class CycleTrace:
+    """A stretch of free cycles: the ``k``-th ran step ``places[k]`` (numbers of ``StepPlaces``),
+    ``fired[k]`` its gated lines that fired (absent when none could), and left ``states[k]``
+    (the machine's registers in order, then its flags). ``start_cycle``/``start_time_ns``/``start_phase``
+    are where it began (a cycle boundary); ``after`` is the sequencer's count where it ended."""
+    start_cycle: int
+    start_time_ns: int
+    start_phase: int
+    places: list[int] = field(default_factory=list)
+    states: list[tuple] = field(default_factory=list)
+    fired: dict[int, tuple[str, ...]] = field(default_factory=dict)
+    after: int = 0
+
+
+def trace_cycles(emu, budget: int) -> CycleTrace:
+    """Run up to ``budget`` cycles of ``emu`` from a cycle boundary, stopping before a step that
+    drives halt (the stepping path places the latch); the caller has checked that nothing else
+    can happen in them (hold line low, nominal clock, no counting of lines)."""
+    machine = emu.machine
+    table = step_places(machine)
+    number, halts = table.number, table.halts
+    ring = emu.ring
+    trace = CycleTrace(emu.cycles, ring.time_ns, ring.index)
+    s, pc, ir = emu._s, emu._pc, emu._ir
+    slots = [r.slot for r in machine.registers.values()] + [f.slot for f in machine.flags.values()]
+    read = itemgetter(*slots) if len(slots) > 1 else (lambda state: (state[slots[0]],))
+    fetch_steps, instruction_steps, jumps, groups = emu._fetch_steps, emu._instruction_steps, emu._jumps, emu._groups
+    decode, gates, last_fetch = emu._decode, emu._gates.gates, len(emu._fetch_steps) - 1
+    places, states, fired = trace.places, trace.states, trace.fired
+    put_place, put_state = places.append, states.append
+    seq = emu._seq
+    finished = 0
+    for _ in range(budget):
+        n = number[seq]
+        if n in halts:
+            break
+        gate = gates.get(seq)
+        if gate is not None:
+            lines = gate()
+            if lines:
+                fired[len(places)] = lines
+        put_place(n)
+        index, step = seq
+        if index < 0:
+            if step == 0:
+                emu._instruction_address = s[pc]
+            fetch_steps[step]()
+            if step < last_fetch:
+                seq = (-1, step + 1)
+            else:
+                decoded = decode[s[ir]]
+                if decoded < 0:
+                    emu._count_undefined(emu._instruction_address)
+                seq = _FETCH_START if decoded < 0 or not instruction_steps[decoded] else (decoded, 0)
+        else:
+            jump = jumps[index][step]
+            following = step + 1 if jump is None else jump()
+            instruction_steps[index][step]()
+            grouped = groups.get(index)
+            if grouped is not None and step == grouped[0].decode_step:
+                index = grouped[0].member_for([s[slot] for slot in grouped[1]])
+                if index < 0:
+                    emu._count_undefined(emu._instruction_address)
+            seq = (index, following) if index >= 0 and following < len(instruction_steps[index]) else _FETCH_START
+        if seq == _FETCH_START:
+            finished += 1
+        put_state(read(s))
+    emu._seq = seq
+    ran = len(places)
+    if ran:
+        emu.cycles += ran
+        emu.instructions += finished
+        ring.skip_cycles(ran)
+        emu._released = False
+    trace.after = table.shown[number[seq]]
+    return trace

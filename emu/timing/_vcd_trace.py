@@ -1,0 +1,143 @@
+"""A stretch of free cycles (``CycleTrace``) written into a waveform as the stepping path would.
+
+On a nominal clock the phases of a cycle, and so the clock, the ring
+stages and the times at which each changes, repeat from one cycle boundary
+to the same boundary of the next turn. Per (boundary, micro-step) the text
+of one cycle is therefore fixed but for its times, the gated lines that
+fired and the registers and flags after the step: it becomes one format
+string, filled with the cycle's times, followed by the datapath's changes
+and the sequencer's count. The order of the changes at one time is the
+order in which the stepping path's hooks report them (``VcdRecorder``), so
+the two give the same file byte for byte.
+"""
+
+from __future__ import annotations
+
+from ..engine import CycleTrace, step_places
+
+__all__ = ["TracedCycles"]
+
+
+class TracedCycles:
+    """Writes traces into one ``VcdRecorder``'s dump; built once per recorder."""
+
+    def __init__(self, recorder, emu):
+        machine = recorder.machine
+        self.recorder = recorder
+        self.places = step_places(machine)
+        unit = recorder.unit_ns
+        phases = machine.phases
+        self.exact = all(p.duration_ns % unit == 0 for p in phases)
+        """Times of the stepping path are floored to the unit phase by phase; a trace adds whole
+        units, so it is taken only when every phase lasts a whole number of them."""
+        writer = recorder.writer
+        self.clock_rise, self.clock_fall = (f"{text}\n" for text in reversed(writer.scalars[recorder.clock]))
+        self.line_text = {line: tuple(f"{text}\n" for text in writer.scalars[var])
+                          for line, var in recorder.lines.items()}
+        self.cycles = {b: self._cycle(b, unit) for b in emu.ring.boundaries}
+        self.templates: dict[tuple, str] = {}
+
+    def _cycle(self, boundary: int, unit: int):
+        """(the next boundary, the cycle's length in units, [(offset in units, what happens)])
+        for a cycle from ``boundary``; what happens is "rise", "fall" or the ring's text."""
+        recorder, phases = self.recorder, self.recorder.machine.phases
+        scalars, lit_of = recorder.writer.scalars, recorder.phase_lit
+        events, offset, i = [], 0, boundary
+        while True:
+            phase, following = phases[i], (i + 1) % len(phases)
+            if phase.level == 1 and phases[i - 1].level == 0:
+                events.append((offset // unit, "rise"))
+            lit = lit_of[i]
+            ring = "".join(f"{scalars[recorder.stages[s - 1]][int(s in lit)]}\n" for s in lit_of[i - 1] ^ lit)
+            events.append((offset // unit, ring))
+            offset += phase.duration_ns
+            if phase.level == 1 and phases[following].level == 0:
+                events.append((offset // unit, "fall"))
+                return following, offset // unit, events
+            i = following
+
+    def _template(self, boundary: int, place: int, fired: tuple[str, ...]) -> str:
+        """The cycle's text but for its datapath, with ``%d`` for each time written."""
+        lines = list(dict.fromkeys(self.places.steps[place].control_lines + fired))
+        rise = self.clock_rise + "".join(self.line_text[line][1] for line in lines)
+        fall = self.clock_fall + "".join(self.line_text[line][0] for line in lines)
+        by_time: dict[int, str] = {}
+        for offset, what in self.cycles[boundary][2]:
+            by_time[offset] = by_time.get(offset, "") + {"rise": rise, "fall": fall}.get(what, what)
+        return "".join(("#%d\n" if offset else "") + text for offset, text in by_time.items() if text)
+
+    def offsets(self, boundary: int) -> tuple[int, ...]:
+        """The times written in a cycle from ``boundary`` (all but the boundary's own)."""
+        by_time: dict[int, str] = {}
+        for offset, what in self.cycles[boundary][2]:
+            by_time[offset] = by_time.get(offset, "") + what
+        return tuple(offset for offset, text in by_time.items() if text and offset)
+
+    def accepts(self, emu) -> bool:
+        """True when the dump stands as the stepping path leaves it at a cycle boundary."""
+        recorder = self.recorder
+        writer, values = recorder.writer, recorder.writer.values
+        return (self.exact and writer.started and emu.time_ns % recorder.unit_ns == 0
+                and writer.written_now == emu.time_ns // recorder.unit_ns
+                and values[recorder.clock] == 0 and values[recorder.step] == emu.sequencer[1]
+                and recorder.lit == recorder.phase_lit[emu.phase_index - 1]
+                and not any(values[var] for var in recorder.lines.values()))
+
+    def write(self, emu, trace: CycleTrace, last_datapath: bool = True) -> None:
+        """Write ``trace``; ``last_datapath`` False: without the changes its last step made
+        (a window that ends there closes before the stepping path reports them)."""
+        recorder = self.recorder
+        writer = recorder.writer
+        writer.flush()
+        templates, cycles, offsets_of = self.templates, self.cycles, {}
+        shown, places, states, fired = self.places.shown, trace.places, trace.states, trace.fired
+        codes, wide, datapath = writer.codes, writer.wide, recorder.datapath_vars
+        texts = [(f" {codes[var]}\n" if wide[var] else f"{codes[var]}\n", wide[var]) for var in datapath]
+        step_code = codes[recorder.step]
+        out: list[str] = []
+        put = out.append
+        now = trace.start_time_ns // recorder.unit_ns
+        boundary = trace.start_phase
+        seen = recorder.seen
+        step_now = writer.values[recorder.step]
+        last = len(places) - 1
+        for k, place in enumerate(places):
+            gated = fired.get(k, ()) if fired else ()
+            key = (boundary, place, gated)
+            template = templates.get(key)
+            if template is None:
+                template = templates[key] = self._template(boundary, place, gated)
+            offsets = offsets_of.get(boundary)
+            if offsets is None:
+                offsets = offsets_of[boundary] = self.offsets(boundary)
+            put(template % tuple([now + offset for offset in offsets]))
+            following, length, _events = cycles[boundary]
+            now += length
+            boundary = following
+            if k == last and not last_datapath:
+                break
+            state = states[k]
+            if state != seen:
+                for (text, is_wide), old, new in zip(texts, seen, state):
+                    if old != new:
+                        put(f"b{new:b}{text}" if is_wide else f"{new:d}{text}")
+                seen = state
+            step = shown[places[k + 1]] if k < last else trace.after
+            if step != step_now:
+                put(f"b{step:b} {step_code}\n")
+                step_now = step
+        writer.stream.write("".join(out))
+        self._settle(emu, seen, step_now, now)
+
+    def _settle(self, emu, seen: tuple, step: int, now: int) -> None:
+        """The recorder's and writer's state as the stepping path would have left it."""
+        recorder = self.recorder
+        values = recorder.writer.values
+        for var, value in zip(recorder.datapath_vars, seen):
+            values[var] = value
+        recorder.seen = seen
+        values[recorder.step] = step
+        recorder.lit = lit = recorder.phase_lit[emu.phase_index - 1]
+        for stage, var in enumerate(recorder.stages, start=1):
+            values[var] = int(stage in lit)
+        recorder.writer.now = recorder.writer.written_now = now

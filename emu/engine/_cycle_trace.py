@@ -18,7 +18,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from operator import itemgetter
 
-from ..description import Machine
+from ..description import Instruction, Machine, Step
+from ..description.notation import Assign, FlagsOnly, Name
 from ._line_gates import per_machine
 
 __all__ = ["CycleTrace", "StepPlaces", "step_places", "trace_cycles"]
@@ -38,6 +39,43 @@ class StepPlaces:
         self.steps = [machine.fetch[k] if i < 0 else machine.instructions[i].steps[k] for i, k in self.places]
         self.shown = [k if i < 0 else len(machine.fetch) + k for i, k in self.places]
         self.halts = frozenset(n for n, step in enumerate(self.steps) if step.drives_halt)
+        names = [*machine.registers, *machine.flags]
+        position = {name: i for i, name in enumerate(names)}
+        self.slots = [machine.registers[name].slot for name in machine.registers]
+        self.slots += [flag.slot for flag in machine.flags.values()]
+        self.writes = [tuple(sorted(position[name] for name in _written(machine, step, None if i < 0 else
+                                                                        machine.instructions[i])))
+                       for (i, _k), step in zip(self.places, self.steps)]
+        """Per step, the positions (in ``names``: registers, then flags) of what it may write."""
+        self.readers = [_reader([self.slots[i] for i in positions]) for positions in self.writes]
+        """Per step, a function of the state giving the values at ``writes``."""
+
+
+def _reader(slots: list[int]):
+    if len(slots) > 1:
+        return itemgetter(*slots)
+    if slots:
+        slot = slots[0]
+        return lambda state: (state[slot],)
+    return lambda state: ()
+
+
+def _written(machine: Machine, step: Step, ins: Instruction | None) -> set[str]:
+    """Registers and flags ``step`` may write: a register field any register of its kind, a group its parts."""
+    written: set[str] = set()
+    for st in step.statements:
+        if isinstance(st, (Assign, FlagsOnly)):
+            written.update(st.flags)
+        if isinstance(st, Assign) and isinstance(st.target, Name):
+            name = st.target.name
+            fld = ins.fields.get(name) if ins is not None else None
+            if fld is not None and fld.kind.is_register:
+                written.update(fld.kind.registers)
+            elif name in machine.groups:
+                written.update(machine.groups[name].parts)
+            else:
+                written.add(name)
+    return written
 
 
 step_places = per_machine(StepPlaces)
@@ -46,8 +84,8 @@ step_places = per_machine(StepPlaces)
 @dataclass
 class CycleTrace:
     """A stretch of free cycles: the ``k``-th ran step ``places[k]`` (numbers of ``StepPlaces``),
-    ``fired[k]`` its gated lines that fired (absent when none could), and left ``states[k]``
-    (the machine's registers in order, then its flags). ``start_cycle``/``start_time_ns``/``start_phase``
+    ``fired[k]`` its gated lines that fired (absent when none did), and ``states[k]`` the values
+    it left in what it may write (``StepPlaces.writes``). ``start_cycle``/``start_time_ns``/``start_phase``
     are where it began (a cycle boundary); ``after`` is the sequencer's count where it ended."""
     start_cycle: int
     start_time_ns: int
@@ -68,8 +106,7 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     ring = emu.ring
     trace = CycleTrace(emu.cycles, ring.time_ns, ring.index)
     s, pc, ir = emu._s, emu._pc, emu._ir
-    slots = [r.slot for r in machine.registers.values()] + [f.slot for f in machine.flags.values()]
-    read = itemgetter(*slots) if len(slots) > 1 else (lambda state: (state[slots[0]],))
+    readers = table.readers
     fetch_steps, instruction_steps, jumps, groups = emu._fetch_steps, emu._instruction_steps, emu._jumps, emu._groups
     decode, gates, last_fetch = emu._decode, emu._gates.gates, len(emu._fetch_steps) - 1
     places, states, fired = trace.places, trace.states, trace.fired
@@ -110,7 +147,7 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
             seq = (index, following) if index >= 0 and following < len(instruction_steps[index]) else _FETCH_START
         if seq == _FETCH_START:
             finished += 1
-        put_state(read(s))
+        put_state(readers[n](s))
     emu._seq = seq
     ran = len(places)
     if ran:

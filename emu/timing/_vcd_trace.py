@@ -13,6 +13,10 @@ the two give the same file byte for byte.
 
 from __future__ import annotations
 
+from itertools import cycle
+
+import numpy as np
+
 from ..engine import CycleTrace, step_places
 
 __all__ = ["TracedCycles"]
@@ -35,7 +39,14 @@ class TracedCycles:
         self.line_text = {line: tuple(f"{text}\n" for text in writer.scalars[var])
                           for line, var in recorder.lines.items()}
         self.cycles = {b: self._cycle(b, unit) for b in emu.ring.boundaries}
-        self.templates: dict[tuple, str] = {}
+        self.offsets = {b: self._offsets(b) for b in self.cycles}
+        self.most = max(len(offsets) for offsets in self.offsets.values())
+        size = len(phases)
+        self.length_of = np.array([self.cycles[b][1] if b in self.cycles else 0 for b in range(size)])
+        self.offset_table = np.array([self.offsets[b] + (0,) * (self.most - len(self.offsets[b]))
+                                      if b in self.cycles else (0,) * self.most for b in range(size)],
+                                     dtype=np.int64).reshape(size, self.most)
+        self.templates = {boundary: _Templates(self, boundary) for boundary in self.cycles}
 
     def _cycle(self, boundary: int, unit: int):
         """(the next boundary, the cycle's length in units, [(offset in units, what happens)])
@@ -57,16 +68,19 @@ class TracedCycles:
             i = following
 
     def _template(self, boundary: int, place: int, fired: tuple[str, ...]) -> str:
-        """The cycle's text but for its datapath, with ``%d`` for each time written."""
+        """The cycle's text but for its datapath, with ``%d`` for each time written (``%.0s`` filling
+        up to the most any cycle writes); other ``%`` doubled."""
         lines = list(dict.fromkeys(self.places.steps[place].control_lines + fired))
         rise = self.clock_rise + "".join(self.line_text[line][1] for line in lines)
         fall = self.clock_fall + "".join(self.line_text[line][0] for line in lines)
         by_time: dict[int, str] = {}
         for offset, what in self.cycles[boundary][2]:
             by_time[offset] = by_time.get(offset, "") + {"rise": rise, "fall": fall}.get(what, what)
-        return "".join(("#%d\n" if offset else "") + text for offset, text in by_time.items() if text)
+        text = "".join(("#%d\n" if offset else "") + text.replace("%", "%%")
+                       for offset, text in by_time.items() if text)
+        return text + "%.0s" * (self.most - len(self.offsets[boundary]))
 
-    def offsets(self, boundary: int) -> tuple[int, ...]:
+    def _offsets(self, boundary: int) -> tuple[int, ...]:
         """The times written in a cycle from ``boundary`` (all but the boundary's own)."""
         by_time: dict[int, str] = {}
         for offset, what in self.cycles[boundary][2]:
@@ -81,53 +95,67 @@ class TracedCycles:
                 and writer.written_now == emu.time_ns // recorder.unit_ns
                 and values[recorder.clock] == 0 and values[recorder.step] == emu.sequencer[1]
                 and recorder.lit == recorder.phase_lit[emu.phase_index - 1]
-                and not any(values[var] for var in recorder.lines.values()))
+                and not any(values[var] for var in recorder.lines.values())
+                and recorder.read() == recorder.seen)
 
     def write(self, emu, trace: CycleTrace, last_datapath: bool = True) -> None:
         """Write ``trace``; ``last_datapath`` False: without the changes its last step made
-        (a window that ends there closes before the stepping path reports them)."""
+        (a window that ends there closes before the stepping path reports them).
+
+        The text is one format string (each cycle's template followed by its datapath's
+        changes) filled at once with every cycle's times, computed by numpy from the cycle lengths."""
         recorder = self.recorder
+        count = len(trace.places)
+        turn = self._turn_from(trace.start_phase)
+        boundaries = np.resize(np.array(turn), count)
+        lengths = self.length_of[boundaries]
+        starts = trace.start_time_ns // recorder.unit_ns + np.concatenate(([0], np.cumsum(lengths)[:-1]))
+        times = (starts[:, None] + self.offset_table[boundaries]).ravel().tolist()
+        texts, seen, step = self._cycles_text(trace, turn, last_datapath)
+        recorder.writer.flush()
+        recorder.writer.stream.write("".join(texts) % tuple(times))
+        self._settle(emu, seen, step, int(starts[-1] + lengths[-1]))
+
+    def _cycles_text(self, trace: CycleTrace, turn: list[int], last_datapath: bool):
+        """Per cycle, its template followed by what its step changed (registers and flags, then the
+        sequencer's count, compared as the stepping path does); and the values and count left."""
+        recorder, table = self.recorder, self.places
         writer = recorder.writer
-        writer.flush()
-        templates, cycles, offsets_of = self.templates, self.cycles, {}
-        shown, places, states, fired = self.places.shown, trace.places, trace.states, trace.fired
-        codes, wide, datapath = writer.codes, writer.wide, recorder.datapath_vars
-        texts = [(f" {codes[var]}\n" if wide[var] else f"{codes[var]}\n", wide[var]) for var in datapath]
-        step_code = codes[recorder.step]
-        out: list[str] = []
-        put = out.append
-        now = trace.start_time_ns // recorder.unit_ns
-        boundary = trace.start_phase
-        seen = recorder.seen
+        shown, writes = table.shown, table.writes
+        codes, wide = writer.codes, writer.wide
+        texts = [(f" {codes[var]}\n".replace("%", "%%"), True) if wide[var]
+                 else (f"{codes[var]}\n".replace("%", "%%"), False) for var in recorder.datapath_vars]
+        step_code = f" {codes[recorder.step]}\n".replace("%", "%%")
+        seen = list(recorder.seen)
         step_now = writer.values[recorder.step]
-        last = len(places) - 1
-        for k, place in enumerate(places):
-            gated = fired.get(k, ()) if fired else ()
-            key = (boundary, place, gated)
-            template = templates.get(key)
-            if template is None:
-                template = templates[key] = self._template(boundary, place, gated)
-            offsets = offsets_of.get(boundary)
-            if offsets is None:
-                offsets = offsets_of[boundary] = self.offsets(boundary)
-            put(template % tuple([now + offset for offset in offsets]))
-            following, length, _events = cycles[boundary]
-            now += length
-            boundary = following
-            if k == last and not last_datapath:
-                break
-            state = states[k]
-            if state != seen:
-                for (text, is_wide), old, new in zip(texts, seen, state):
-                    if old != new:
-                        put(f"b{new:b}{text}" if is_wide else f"{new:d}{text}")
-                seen = state
-            step = shown[places[k + 1]] if k < last else trace.after
+        places, states = trace.places, trace.states
+        if not last_datapath:   # the stepping path closes the window before the last step's changes
+            states = states[:-1] + [()]
+        following = [shown[n] for n in places[1:]] + [trace.after if last_datapath else shown[places[-1]]]
+        out = []
+        put = out.append
+        by_boundary = [self.templates[boundary] for boundary in turn]
+        for templates, place, state, step in zip(cycle(by_boundary), places, states, following):
+            text = templates[place]
+            for i, new in zip(writes[place], state):
+                if seen[i] != new:
+                    seen[i] = new
+                    suffix, is_wide = texts[i]
+                    text += f"b{new:b}{suffix}" if is_wide else f"{new:d}{suffix}"
             if step != step_now:
-                put(f"b{step:b} {step_code}\n")
+                text += f"b{step:b}{step_code}"
                 step_now = step
-        writer.stream.write("".join(out))
-        self._settle(emu, seen, step_now, now)
+            put(text)
+        for k, lines in trace.fired.items():
+            out[k] = self._template(turn[k % len(turn)], places[k], lines) + out[k][len(by_boundary[k % len(turn)][places[k]]):]
+        return out, tuple(seen), step_now
+
+    def _turn_from(self, boundary: int) -> list[int]:
+        """The boundaries of a turn of the ring, in order from ``boundary``."""
+        order = [boundary]
+        while self.cycles[order[-1]][0] != boundary:
+            order.append(self.cycles[order[-1]][0])
+        return order
 
     def _settle(self, emu, seen: tuple, step: int, now: int) -> None:
         """The recorder's and writer's state as the stepping path would have left it."""
@@ -141,3 +169,15 @@ class TracedCycles:
         for stage, var in enumerate(recorder.stages, start=1):
             values[var] = int(stage in lit)
         recorder.writer.now = recorder.writer.written_now = now
+
+
+class _Templates(dict):
+    """Step number → the template of a cycle from one boundary with no gated line fired, made on first use."""
+
+    def __init__(self, cycles: TracedCycles, boundary: int):
+        super().__init__()
+        self.cycles, self.boundary = cycles, boundary
+
+    def __missing__(self, place: int) -> str:
+        text = self[place] = self.cycles._template(self.boundary, place, ())
+        return text

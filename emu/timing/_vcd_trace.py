@@ -46,6 +46,8 @@ class TracedCycles:
         self.offset_table = np.array([self.offsets[b] + (0,) * (self.most - len(self.offsets[b]))
                                       if b in self.cycles else (0,) * self.most for b in range(size)],
                                      dtype=np.int64).reshape(size, self.most)
+        self.cycles_written = 0
+        """Cycles written from traces so far."""
         self.templates = {boundary: _Templates(self, boundary) for boundary in self.cycles}
 
     def _cycle(self, boundary: int, unit: int):
@@ -115,6 +117,7 @@ class TracedCycles:
         recorder.writer.flush()
         recorder.writer.stream.write("".join(texts) % tuple(times))
         self._settle(emu, seen, step, int(starts[-1] + lengths[-1]))
+        self.cycles_written += count
 
     def _cycles_text(self, trace: CycleTrace, turn: list[int], last_datapath: bool):
         """Per cycle, its template followed by what its step changed (registers and flags, then the

@@ -102,52 +102,61 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     can happen in them (hold line low, nominal clock, no counting of lines)."""
     machine = emu.machine
     table = step_places(machine)
-    number, halts = table.number, table.halts
+    number = table.number
     ring = emu.ring
     trace = CycleTrace(emu.cycles, ring.time_ns, ring.index)
     s, pc, ir = emu._s, emu._pc, emu._ir
-    readers = table.readers
     fetch_steps, instruction_steps, jumps, groups = emu._fetch_steps, emu._instruction_steps, emu._jumps, emu._groups
-    decode, gates, last_fetch = emu._decode, emu._gates.gates, len(emu._fetch_steps) - 1
+    decode, last_fetch = emu._decode, len(fetch_steps) - 1
+    run = [fetch_steps[k] if i < 0 else instruction_steps[i][k] for i, k in table.places]
+    static = [_static_next(table, emu, place) for place in table.places]
+    halting = [n in table.halts for n in range(len(table.places))]
+    gate_of = [emu._gates.gates.get(place) for place in table.places]
+    readers = table.readers
     places, states, fired = trace.places, trace.states, trace.fired
     put_place, put_state = places.append, states.append
-    seq = emu._seq
+    n = number[emu._seq]
+    address = emu._instruction_address
     finished = 0
     for _ in range(budget):
-        n = number[seq]
-        if n in halts:
+        if halting[n]:
             break
-        gate = gates.get(seq)
+        gate = gate_of[n]
         if gate is not None:
             lines = gate()
             if lines:
                 fired[len(places)] = lines
         put_place(n)
-        index, step = seq
-        if index < 0:
-            if step == 0:
-                emu._instruction_address = s[pc]
-            fetch_steps[step]()
-            if step < last_fetch:
-                seq = (-1, step + 1)
-            else:
+        if n == 0:
+            address = s[pc]
+        following = static[n]
+        if following >= 0:
+            run[n]()
+        else:   # the sequencer's choice: decoding, a jump or a decode group, as ``_microstep`` makes it
+            index, step = table.places[n]
+            if index < 0:
+                fetch_steps[step]()
                 decoded = decode[s[ir]]
                 if decoded < 0:
-                    emu._count_undefined(emu._instruction_address)
+                    emu._count_undefined(address)
                 seq = _FETCH_START if decoded < 0 or not instruction_steps[decoded] else (decoded, 0)
-        else:
-            jump = jumps[index][step]
-            following = step + 1 if jump is None else jump()
-            instruction_steps[index][step]()
-            grouped = groups.get(index)
-            if grouped is not None and step == grouped[0].decode_step:
-                index = grouped[0].member_for([s[slot] for slot in grouped[1]])
-                if index < 0:
-                    emu._count_undefined(emu._instruction_address)
-            seq = (index, following) if index >= 0 and following < len(instruction_steps[index]) else _FETCH_START
-        if seq == _FETCH_START:
+            else:
+                jump = jumps[index][step]
+                after = step + 1 if jump is None else jump()
+                instruction_steps[index][step]()
+                grouped = groups.get(index)
+                if grouped is not None and step == grouped[0].decode_step:
+                    index = grouped[0].member_for([s[slot] for slot in grouped[1]])
+                    if index < 0:
+                        emu._count_undefined(address)
+                seq = (index, after) if index >= 0 and after < len(instruction_steps[index]) else _FETCH_START
+            following = number[seq]
+        if not following:
             finished += 1
         put_state(readers[n](s))
+        n = following
+    emu._instruction_address = address
+    seq = table.places[n]
     emu._seq = seq
     ran = len(places)
     if ran:
@@ -155,5 +164,18 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
         emu.instructions += finished
         ring.skip_cycles(ran)
         emu._released = False
-    trace.after = table.shown[number[seq]]
+    trace.after = table.shown[n]
     return trace
+
+
+def _static_next(table: StepPlaces, emu, place: tuple[int, int]) -> int:
+    """The number of the step that follows ``place`` whatever the state, or -1 where the state
+    decides (the last fetch step decodes; a jump; a decode group's deciding step).
+    Number 0 is the first fetch step."""
+    index, step = place
+    if index < 0:
+        return table.number[(-1, step + 1)] if step + 1 < len(emu._fetch_steps) else -1
+    group = emu._groups.get(index)
+    if emu._jumps[index][step] is not None or group is not None and step == group[0].decode_step:
+        return -1
+    return table.number[(index, step + 1)] if step + 1 < len(emu._instruction_steps[index]) else 0

@@ -118,52 +118,54 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     n = number[emu._seq]
     address = emu._instruction_address
     finished = 0
-    for _ in range(budget):
-        if halting[n]:
-            break
-        gate = gate_of[n]
-        if gate is not None:
-            lines = gate()
-            if lines:
-                fired[len(places)] = lines
-        put_place(n)
-        if n == 0:
-            address = s[pc]
-        following = static[n]
-        if following >= 0:
-            run[n]()
-        else:   # the sequencer's choice: decoding, a jump or a decode group, as ``_microstep`` makes it
-            index, step = table.places[n]
-            if index < 0:
-                fetch_steps[step]()
-                decoded = decode[s[ir]]
-                if decoded < 0:
-                    emu._count_undefined(address)
-                seq = _FETCH_START if decoded < 0 or not instruction_steps[decoded] else (decoded, 0)
-            else:
-                jump = jumps[index][step]
-                after = step + 1 if jump is None else jump()
-                instruction_steps[index][step]()
-                grouped = groups.get(index)
-                if grouped is not None and step == grouped[0].decode_step:
-                    index = grouped[0].member_for([s[slot] for slot in grouped[1]])
-                    if index < 0:
+    try:
+        for _ in range(budget):
+            if halting[n]:
+                break
+            gate = gate_of[n]
+            if gate is not None:
+                lines = gate()
+                if lines:
+                    fired[len(places)] = lines
+            put_place(n)
+            if n == 0:
+                address = s[pc]
+            following = static[n]
+            if following >= 0:
+                run[n]()
+            else:   # the sequencer's choice: decoding, a jump or a decode group, as ``_microstep`` makes it
+                index, step = table.places[n]
+                if index < 0:
+                    fetch_steps[step]()
+                    decoded = decode[s[ir]]
+                    if decoded < 0:
                         emu._count_undefined(address)
-                seq = (index, after) if index >= 0 and after < len(instruction_steps[index]) else _FETCH_START
-            following = number[seq]
-        if not following:
-            finished += 1
-        put_state(readers[n](s))
-        n = following
-    emu._instruction_address = address
-    seq = table.places[n]
-    emu._seq = seq
-    ran = len(places)
-    if ran:
-        emu.cycles += ran
-        emu.instructions += finished
-        ring.skip_cycles(ran)
-        emu._released = False
+                    seq = _FETCH_START if decoded < 0 or not instruction_steps[decoded] else (decoded, 0)
+                else:
+                    jump = jumps[index][step]
+                    after = step + 1 if jump is None else jump()
+                    instruction_steps[index][step]()
+                    grouped = groups.get(index)
+                    if grouped is not None and step == grouped[0].decode_step:
+                        index = grouped[0].member_for([s[slot] for slot in grouped[1]])
+                        if index < 0:
+                            emu._count_undefined(address)
+                    seq = (index, after) if index >= 0 and after < len(instruction_steps[index]) else _FETCH_START
+                following = number[seq]
+            if not following:
+                finished += 1
+            put_state(readers[n](s))
+            n = following
+    finally:   # also when interrupted: the counters say what the steps did
+        emu._instruction_address = address
+        seq = table.places[n]
+        emu._seq = seq
+        ran = len(states)
+        if ran:
+            emu.cycles += ran
+            emu.instructions += finished
+            ring.skip_cycles(ran)
+            emu._released = False
     trace.after = table.shown[n]
     return trace
 

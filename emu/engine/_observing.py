@@ -20,7 +20,8 @@ class Observer:
     """Hooks for traces, waveforms and the debugger's scope; override what you need.
 
     Attaching any observer makes the engine take the stepping path, so a
-    run that nobody watches pays nothing for this.
+    run that nobody watches pays nothing for this; one that accepts traces
+    (``accepts_trace``) gets free cycles micro-step by micro-step instead.
     """
 
     def phase(self, emu: "Emulator", index: int) -> None: ...

@@ -10,7 +10,8 @@ into one function a block (``_block_translator``, ``_block_dispatch``,
 ``_dead_assignments``). ``_control_unit`` is the hold line, the halt
 latch, STEP, RESUME and RESET, and the two paths that run the compiled
 steps (``run`` itself in ``_run_loop``, observers and their windows in
-``_observing``); ``_lookout`` where a watched run must stop; ``_line_gates``
+``_observing``, free cycles for them as one compact trace in
+``_cycle_trace``); ``_lookout`` where a watched run must stop; ``_line_gates``
 which lines a step drives now, ``_line_tally`` counting them for wear on
 both paths; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
 devices on the I/O bus; ``_snapshots`` the whole state as a file,
@@ -20,6 +21,7 @@ devices on the I/O bus; ``_snapshots`` the whole state as a file,
 from ._clock_ring import Ring
 from ._control_unit import Emulator, StopReason
 from ._observing import Observer
+from ._cycle_trace import CycleTrace, StepPlaces, step_places
 from ._lookout import Lookout
 from ._microstep_compiler import CompiledMachine, Fallback, compile_machine
 from ._ports import Ports
@@ -29,6 +31,6 @@ from ._snapshots import read_snapshot
 from ._alu_codegen import emit_alu
 from ._emitter import Emitter
 
-__all__ = ["Emitter", "emit_alu", "CompiledMachine", "Emulator", "Fallback", "Lookout", "Observer", "Ports", "Ring",
-           "SavePoint", "StopReason", "read_snapshot",
+__all__ = ["CycleTrace", "StepPlaces", "step_places", "Emitter", "emit_alu", "CompiledMachine", "Emulator", "Fallback",
+           "Lookout", "Observer", "Ports", "Ring", "SavePoint", "StopReason", "read_snapshot",
            "compile_machine"]

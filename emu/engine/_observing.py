@@ -11,6 +11,7 @@ again at ``end``.
 from __future__ import annotations
 
 from ..description import Step
+from ._cycle_trace import CycleTrace, trace_cycles
 
 __all__ = ["Observer"]
 
@@ -19,7 +20,8 @@ class Observer:
     """Hooks for traces, waveforms and the debugger's scope; override what you need.
 
     Attaching any observer makes the engine take the stepping path, so a
-    run that nobody watches pays nothing for this.
+    run that nobody watches pays nothing for this; one that accepts traces
+    (``accepts_trace``) gets free cycles micro-step by micro-step instead.
     """
 
     def phase(self, emu: "Emulator", index: int) -> None: ...
@@ -29,6 +31,13 @@ class Observer:
     def latch(self, emu: "Emulator", is_set: bool) -> None: ...
     def panel(self, emu: "Emulator", action: str) -> None: ...
     def instruction(self, emu: "Emulator") -> None: ...
+
+    def accepts_trace(self, emu: "Emulator") -> bool:
+        """True when this observer would rather take the next free cycles as one ``CycleTrace``
+        (``traced``) than phase by phase; asked at a cycle boundary with the hold line low."""
+        return False
+
+    def traced(self, emu: "Emulator", trace: "CycleTrace") -> None: ...
 
 
 class _Observing:
@@ -67,6 +76,21 @@ class _Observing:
             elif observer in self._observers:
                 self._observers.remove(observer)
         self._next_scheduled = self._scheduled[0][0] if self._scheduled else None
+
+    def _run_traced(self, budget: int) -> bool:
+        """Run up to ``budget`` free cycles as one trace when every observer accepts one (see
+        ``_cycle_trace``); False when that is not possible here, or no cycle could run."""
+        observers = self._observers
+        if (budget <= 0 or self.frozen or self.hold_line or self.ring.source is not None or self._tally is not None
+                or not self.ring.at_boundary or not all(o.accepts_trace(self) for o in observers)):
+            return False
+        trace = trace_cycles(self, budget)
+        if not trace.places:
+            return False
+        for observer in list(observers):
+            observer.traced(self, trace)
+        self._attend()
+        return True
 
     def _notify(self, event: str, *args) -> None:
         for observer in self._observers:

@@ -78,6 +78,9 @@ class _Running:
                         return self._watch_reason(points)
                     if cycles > limit:
                         continue
+            elif self._observers and watch is None and self._run_traced(
+                    self._budget(target, next_chunk if chunk is not None else None, chunk_cycles)):
+                continue
             done = self.instructions
             if fast:
                 self._step_unwatched(stop_at)

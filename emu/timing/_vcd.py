@@ -25,6 +25,7 @@ from .. import Emulator, Observer
 from ..description import Machine
 from ..files import atomic_output
 from ..formatting import size_text
+from ._vcd_trace import TracedCycles
 
 __all__ = ["LARGE_BYTES", "VcdRecorder", "VcdWindow", "record_vcd", "control_lines", "fitted_unit_ns", "signal_name"]
 
@@ -205,6 +206,7 @@ class VcdRecorder(Observer):
         self.datapath_vars = [*self.registers.values(), *self.flags.values()]
         self.seen = self.read()
         self.phase_lit = [frozenset(p.ring) for p in machine.phases]
+        self.traces: TracedCycles | None = None
 
     def close(self, emu: Emulator) -> None:
         self.writer.close(emu.time_ns)
@@ -263,6 +265,14 @@ class VcdRecorder(Observer):
         self.writer.change(self.run_switch, emu.time_ns, int(emu.switch_run))
         self._hold(emu)
         self._datapath(emu)
+
+    def accepts_trace(self, emu):
+        if self.traces is None:
+            self.traces = TracedCycles(self, emu)
+        return self.traces.accepts(emu)
+
+    def traced(self, emu, trace, last_datapath=True):
+        self.traces.write(emu, trace, last_datapath)
 
 
 class _CountingStream:
@@ -358,6 +368,15 @@ class VcdWindow(Observer):
     def panel(self, emu, action):
         if self._open_if_due(emu):
             self.recorder.panel(emu, action)
+
+    def accepts_trace(self, emu):
+        return self._open_if_due(emu) and self.recorder.accepts_trace(emu)
+
+    def traced(self, emu, trace):
+        """The trace's last cycle may be the window's last: the stepping path reports its clock
+        and lines falling but closes the window before the step's changes."""
+        self.recorder.traced(emu, trace, self.end is None or emu.cycles < self.end)
+        self._watch_size(emu)
 
 
 @contextmanager

@@ -265,10 +265,14 @@ class PanelMachine(RuleBasedStateMachine):
         bound = _cycles_after_latch_bound(self.machine)
         assert watch.pulses_since_latch <= bound
         # The halt is the last step of its instruction, so each later pulse is a step of
-        # the next fetch; in both machine files that step is "ir <- mem[pc]; pc <- pc + 1".
+        # the next fetch; pc has moved past the halt and once more for each of those fetch
+        # steps that advances it (one fetch step on most machines, "pc <- pc + 1" alone on
+        # nib2, whose fetch takes two pulses).
         assert bound <= len(self.machine.fetch)
         halt = self.machine.instructions[self.machine.decode_table[emu.memory[emu.halt_address]]]
-        past = emu.halt_address + halt.word_count + watch.pulses_since_latch
+        advancing = sum(f"{self.machine.program_counter} <-" in step.text
+                        for step in self.machine.fetch[:watch.pulses_since_latch])
+        past = emu.halt_address + halt.word_count + advancing
         assert emu.pc == past % self.machine.memory_words, "pc is not just past the halt (and the fetches after it)"
 
 

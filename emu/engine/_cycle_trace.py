@@ -61,7 +61,8 @@ def _reader(slots: list[int]):
 
 
 def _written(machine: Machine, step: Step, ins: Instruction | None) -> set[str]:
-    """Registers and flags ``step`` may write: a register field any register of its kind, a group its parts."""
+    """Registers and flags ``step`` may write: a register field any register (or group) of its kind, a
+    group its parts."""
     written: set[str] = set()
     for st in step.statements:
         if isinstance(st, (Assign, FlagsOnly)):
@@ -69,12 +70,9 @@ def _written(machine: Machine, step: Step, ins: Instruction | None) -> set[str]:
         if isinstance(st, Assign) and isinstance(st.target, Name):
             name = st.target.name
             fld = ins.fields.get(name) if ins is not None else None
-            if fld is not None and fld.kind.is_register:
-                written.update(fld.kind.registers)
-            elif name in machine.groups:
-                written.update(machine.groups[name].parts)
-            else:
-                written.add(name)
+            chosen = fld.kind.registers if fld is not None and fld.kind.is_register else (name,)
+            for one in chosen:
+                written.update(machine.groups[one].parts if one in machine.groups else (one,))
     return written
 
 

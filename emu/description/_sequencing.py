@@ -7,7 +7,7 @@ question of file syntax.
 
 from __future__ import annotations
 
-from ._model import Jump
+from ._steps import Jump
 from .notation import End, Goto, WaitUntil
 
 __all__ = ["resolve_jump"]

@@ -15,7 +15,7 @@ import re
 
 from ..errors import MachineError
 from ._design_rules import StepChecker
-from ._model import GatedLine
+from ._steps import GatedLine
 from ._sections import LINE_NAME
 from .notation import Input, parse_line_gate, walk
 

@@ -177,7 +177,8 @@ def test_another_machine(tmp_path, capsys):
     (["--each", "load=1..3", "--draw", "4"], "argument --draw: 4 rows asked, but the inputs make only 3"),
     (["--each", "load=1", "--out", "rows.txt"], "argument --out: 'rows.txt' must end in .csv or .json"),
     ([], "give at least one --each NAME=VALUES"),
-    (["--each", "load=1", "--workers", "0"], "argument --workers"),
+    (["--each", "load=1", "--workers", "0"], "argument --workers: must be a positive number of worker processes, not 0"),
+    (["--each", "load=1", "--draw", "0"], "argument --draw: must be a positive number of rows, not 0"),
 ])
 def test_bad_options_are_usage_errors(argv, message, capsys):
     code, out, err = cli(capsys, "sweep", TOLLS, *argv)

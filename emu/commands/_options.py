@@ -18,7 +18,7 @@ from ..runs import DEFAULT_MACHINE, MachineChooser, ProgramError
 from ..runs import panel_path_for, read_panel_file
 
 __all__ = [
-    "add_machine_option", "add_panel_options", "input_stream", "panel_settings", "keep_parser", "usage_error", "number", "seed", "cycle_count",
+    "add_machine_option", "add_panel_options", "input_stream", "panel_settings", "keep_parser", "usage_error", "number", "seed", "positive", "cycle_count",
     "memory_range", "check_word", "check_range", "machine_from", "machine_for_program", "print_program_error",
 ]
 
@@ -103,11 +103,17 @@ def seed(text: str) -> int:
     return value
 
 
-def cycle_count(text: str) -> int:
-    value = number(text)
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"must be a positive number of cycles, not {value}")
-    return value
+def positive(unit: str):
+    """An option type: a whole number of ``unit`` above 0, in the number notation."""
+    def parse(text: str) -> int:
+        value = number(text)
+        if value < 1:
+            raise argparse.ArgumentTypeError(f"must be a positive number of {unit}, not {value}")
+        return value
+    return parse
+
+
+cycle_count = positive("cycles")
 
 
 def cycle_start(text: str) -> int:

@@ -4,11 +4,10 @@ from __future__ import annotations
 
 import sys
 
-from emu.runs import ProgramError
-from emu.runs import panel_path_for
+from emu.runs import ProgramError, panel_path_for
 
-from ._options import add_machine_option, add_panel_options, keep_parser, machine_for_program, panel_settings
-
+from ._options import (add_machine_option, add_panel_options, keep_parser, machine_for_program, panel_settings,
+                       print_program_error)
 
 
 def add_arguments(parser) -> None:
@@ -26,8 +25,7 @@ def main(args) -> int:
         view = load_view(args.program, machine)
         switches, data = panel_settings(args, args.program, machine)
     except ProgramError as exc:
-        print(exc, file=sys.stderr)
-        return 1
+        return print_program_error(exc)
     session = Session(machine, view)
     session.emu.switches = switches
     session.emu.input_bytes = data

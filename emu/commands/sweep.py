@@ -25,7 +25,7 @@ from ..runs import (ProgramError, SweepPlan, SweepSpecError, chunk_bounds, compi
                     parse_input, parse_output, sweep_locally, sweep_on_cluster)
 from ..files import write_atomic
 from ._options import (add_machine_option, add_panel_options, cycle_count, keep_parser, machine_for_program,
-                       panel_settings, print_program_error, seed, usage_error)
+                       panel_settings, positive, print_program_error, seed, usage_error)
 
 EXIT_PASSED, EXIT_FAILED, EXIT_CYCLE_LIMIT, EXIT_INTERRUPTED = 0, 1, 3, 130
 DEFAULT_RUN_CYCLES = 1_000_000
@@ -42,7 +42,7 @@ def add_arguments(parser) -> None:
                              "or flag, or a label of the program (label:N for N words); VALUES is a list of "
                              "numbers and LOW..HIGH ranges, LOW..HIGH~N for N values drawn from the range; "
                              "for input, texts separated by |")
-    parser.add_argument("--draw", metavar="N", type=cycle_count,
+    parser.add_argument("--draw", metavar="N", type=positive("rows"),
                         help="run N rows drawn at random from all combinations of the inputs (default: all)")
     parser.add_argument("--seed", metavar="S", type=seed, default=0, help="seed of every random draw (default 0)")
     parser.add_argument("--collect", metavar="NAMES", action="append", default=[],
@@ -55,7 +55,7 @@ def add_arguments(parser) -> None:
     parser.add_argument("--out", metavar="FILE", help="write the rows to FILE: .csv or .json (default: a table)")
     parser.add_argument("--max-cycles", metavar="N", type=cycle_count, default=DEFAULT_RUN_CYCLES,
                         help=f"cycle limit of each run (default {DEFAULT_RUN_CYCLES:,})")
-    parser.add_argument("--workers", metavar="N", type=cycle_count, default=os.cpu_count() or 1,
+    parser.add_argument("--workers", metavar="N", type=positive("worker processes"), default=os.cpu_count() or 1,
                         help="processes to run on (default: one per core)")
     parser.add_argument("--cluster", metavar="ADDRESS",
                         help="run on a dask.distributed scheduler at ADDRESS instead "

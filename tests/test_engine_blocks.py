@@ -120,6 +120,26 @@ def test_a_breakpoint_inside_a_hot_loop_stops_every_pass():
         assert emu.get("r0") == (before + turn) & 0xFF
 
 
+def test_a_loop_closed_by_a_jump_runs_inside_its_block_and_stops_where_stepping_does():
+    """ref8: ``inc r0; inc r1; jmp 0``. The block ends with a jump to its own start, so it goes
+    round inside one call while a whole pass fits the budget; every cycle limit still lands on
+    the stepping path's cycle, with the same registers."""
+    machine = MACHINES["ref8"]
+    words, _point = _loop_with_breakpoint_inside(machine)
+    fast, slow = hot(boot(machine, words)), stepped(boot(machine, words))
+    for limit in [1, 2, 3, 5, 7, 11, 13, 40, 97, 250, 1000]:
+        assert fast.run(max_cycles=limit) == slow.run(max_cycles=limit)
+        assert full_state(fast) == full_state(slow)
+    assert fast.blocks.built > 0
+    block, most, asks = fast.blocks._table[0]
+    calls = []
+    fast.blocks._table[0] = (lambda room: calls.append(room) or block(room), most, asks)
+    fast.run(max_cycles=30_000)
+    assert len(calls) == 1, "the loop left its block after a pass instead of going round inside it"
+    slow.run(max_cycles=30_000)
+    assert full_state(fast) == full_state(slow)
+
+
 # ----- self-modifying code ---------------------------------------------------------------
 
 def _patching_loop(machine):

@@ -272,8 +272,8 @@ def block_source(machine: Machine, plan: BlockPlan, loops: bool = True, layout=N
     cycles of its longest way through (all its instructions). With a ``TallyLayout`` the
     block counts what it runs for wear: ``build`` takes ``sites_, words_`` besides.
 
-    A conditional branch back to the block's own start becomes a loop
-    inside the function (when ``loops``: not when the start is a breakpoint,
+    A branch back to the block's own start (a conditional one, or the
+    jump that ends the block) becomes a loop inside the function (when ``loops``: not when the start is a breakpoint,
     which must see every pass), and one forward to a later
     instruction of the block an ``if`` around the instructions it jumps
     over. Both need every register the block touches in its local from the
@@ -332,6 +332,10 @@ class _BlockWriter:
         self.starts = {address: index for index, (address, _ins) in enumerate(plan.instructions)}
         self.cycles_so_far = self.count_so_far = 0
         self._emit_range(0, len(plan.instructions))
+        if self.access.known.get(self.pc_slot) == plan.start:
+            self.loops_back = True          # it ends jumping back to its own start
+            if self.carried is not None and self.loops:
+                self._go_round(self.cycles_so_far, self.count_so_far)
         self.access.emit_write_back()
         self.out.line(self._returning(self.cycles_so_far, self.count_so_far))
         return self.cycles_so_far
@@ -379,15 +383,20 @@ class _BlockWriter:
             out.line(f"if {pc_local} != {following}:")
             with out.indent():
                 if self.carried is not None and self.loops and target == plan.start:
-                    out.line(f"if done + {cycles} + MOST <= room:")
-                    with out.indent():
-                        self._as_locals(sorted(access.known_dirty - {pc_slot}))
-                        out.line(f"done += {cycles}")
-                        out.line(f"ran += {count}")
-                        out.line("continue")
+                    self._go_round(cycles, count)
                 leave()
             access.write(pc_slot, machine.program_counter, str(following))
         return True
+
+    def _go_round(self, cycles: int, count: int) -> None:
+        """Back to the block's start inside the function, while one more full pass fits the room."""
+        out = self.out
+        out.line(f"if done + {cycles} + MOST <= room:")
+        with out.indent():
+            self._as_locals(sorted(self.access.known_dirty - {self.pc_slot}))
+            out.line(f"done += {cycles}")
+            out.line(f"ran += {count}")
+            out.line("continue")
 
     def _skip(self, pc_local: str, following: int, first: int, last: int, target: int) -> None:
         """A taken branch forward inside the block: the instructions it jumps over run under an ``if``.

@@ -95,6 +95,13 @@ class SweepRows:
         return tuple(reversed(values))
 
 
+SWEEP_HOT_THRESHOLD = 64
+"""Visits of a pc before a sweep translates its block. One run may be short, but a sweep
+runs the same code row after row: a block visited once a row repays its compiling
+within a few hundred rows, so the emulator's warm-up and its threshold of thousands
+of visits (meant for a single run of unknown length) would only delay it."""
+
+
 class _Runner:
     """One emulator at the save point of a plan, and the plan's inputs, outputs and checks bound to it."""
 
@@ -102,6 +109,8 @@ class _Runner:
         self.plan = plan
         self.machine = machine
         self.emu = start_emulator(plan.program, machine, switches=plan.switches, input_bytes=plan.input_bytes)
+        blocks = self.emu.blocks
+        blocks.warm_up, blocks.threshold = 0, SWEEP_HOT_THRESHOLD
         self.start = self.emu.save_point()
         self.rows = plan.rows
         self.columns = plan.columns

@@ -46,7 +46,7 @@ def test_generated_source_compiles_and_parses(name):
 @pytest.mark.parametrize("name", list(MACHINES))
 def test_every_micro_step_function_has_its_text_as_docstring(name):
     machine = MACHINES[name]
-    fetch_steps, instruction_steps, _jumps, _fused, _run, _watching, _stopping = built(machine)
+    fetch_steps, instruction_steps, _jumps, _fused, _run, _watching, _stopping, _halting, _peek = built(machine)
     assert [f.__doc__ for f in fetch_steps] == [step.text for step in machine.fetch]
     assert [f.__name__ for f in fetch_steps] == [f"fetch_{i + 1}" for i in range(len(machine.fetch))]
     for ins, functions in zip(machine.instructions, instruction_steps, strict=True):
@@ -59,7 +59,7 @@ def test_every_micro_step_function_has_its_text_as_docstring(name):
 @pytest.mark.parametrize("name", list(MACHINES))
 def test_every_form_has_a_fused_function_named_after_it(name):
     machine = MACHINES[name]
-    _fetch, _steps, _jumps, fused, _run, _watching, _stopping = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching, _stopping, _halting, _peek = built(machine)
     for word, index in enumerate(machine.decode_table):
         function = fused[word]
         if index < 0 or machine.instructions[index].drives_halt:
@@ -69,6 +69,33 @@ def test_every_form_has_a_fused_function_named_after_it(name):
         cycles = len(machine.fetch) + len(ins.steps)
         assert function.__name__.startswith(f"run_{ins.mnemonic}"), (hex(word), function.__name__)
         assert function.__doc__ == f"{ins.display} — {cycles} cycle{'s' if cycles != 1 else ''}"
+
+
+@pytest.mark.parametrize("name", list(MACHINES))
+def test_every_halting_form_has_a_halting_function_to_its_halting_step(name):
+    """The control unit runs a halt in one call where nothing watches: one function per halting
+    form that decodes on its first word and reaches its halting step without a jump."""
+    machine = MACHINES[name]
+    *_paths, halting, _peek = built(machine)
+
+    def steps_to_halt(index):
+        ins = machine.instructions[index]
+        if index in machine.decode_groups or ins.decode_words != 1 or not ins.drives_halt:
+            return None
+        count = next(k for k, step in enumerate(ins.steps) if step.drives_halt) + 1
+        return None if any(step.jump is not None for step in ins.steps[:count]) else count
+
+    made = 0
+    for word, index in enumerate(machine.decode_table):
+        ins = machine.instructions[index] if index >= 0 else None
+        steps = None if ins is None else steps_to_halt(index)
+        if steps is None:
+            assert halting[word] is None, hex(word)
+            continue
+        made += 1
+        assert halting[word].__name__.startswith(f"halting_{ins.mnemonic}"), hex(word)
+        assert halting[word].__doc__ == f"{ins.display} — fetch and steps 1–{steps}, to the one that drives halt"
+    assert made or not any(i.drives_halt for i in machine.instructions)
 
 
 @pytest.mark.parametrize(("name", "display", "word_values", "expected"), [
@@ -83,7 +110,7 @@ def test_every_form_has_a_fused_function_named_after_it(name):
 def test_fused_function_names(name, display, word_values, expected):
     machine = MACHINES[name]
     ins = next(i for i in machine.instructions if i.display == display)
-    _fetch, _steps, _jumps, fused, _run, _watching, _stopping = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching, _stopping, _halting, _peek = built(machine)
     assert fused[ins.encode(word_values)[0]].__name__ == expected
 
 
@@ -272,7 +299,7 @@ def test_carry_and_overflow_are_computed_only_for_flags_the_step_sets(display, w
     """``c_N``/``o_N`` are the compiler's fresh names for carry-out and overflow."""
     machine = MACHINES["ref8"]
     ins = next(i for i in machine.instructions if i.display == display)
-    _fetch, _steps, _jumps, fused, _run, _watching, _stopping = built(machine)
+    _fetch, _steps, _jumps, fused, _run, _watching, _stopping, _halting, _peek = built(machine)
     assert fused[ins.encode(word_values)[0]].__name__ == function
     names = assigned_names(function_defs(compile_machine(machine).source)[function])
     assert {name.split("_")[0] for name in names if name[:2] in ("c_", "o_")} == computed

@@ -31,10 +31,11 @@ from operator import itemgetter
 
 from ._blocks import BlockRunner
 from ._observing import Observer, _Observing
-from ._run_loop import StopReason, _Running
+from ._run_loop import _FETCH_START, StopReason, _Running
 from ._clock_ring import Ring
 from ._line_gates import LineGates
 from ._line_tally import LineTally
+from ._fused_functions import halting_step
 from ._microstep_compiler import compile_machine
 from ..description import Machine, Step
 from ..errors import MachineError
@@ -45,8 +46,6 @@ from ._save_points import StateKeeping
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
 __all__ = ["Emulator", "StopReason"]
-
-_FETCH_START = (-1, 0)
 
 
 class Emulator(_Observing, _Running, StateKeeping):
@@ -67,6 +66,8 @@ class Emulator(_Observing, _Running, StateKeeping):
                         for index, group in machine.decode_groups.items()}
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
         self._run_free_stopping = bound.run_free_stopping
+        self._halting, self._peek = bound.halting, bound.peek
+        self._halting_steps = [halting_step(ins) for ins in machine.instructions]
         self._stop_tables: dict[tuple, bytes] = {}
         self._max_fused = compiled.max_fused_cycles
         self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,

@@ -3,7 +3,8 @@ that call them back to back.
 
 A mixin of ``_MachineCompiler``: a fused function runs the fetch steps and all of an
 instruction's steps in one call with registers in locals; an instruction that drives halt is
-left to the stepping functions (its entry raises ``Fallback``).
+left to the control unit (its entry raises ``Fallback``), which runs it to the halting step
+through its *halting* function when nothing watches the cycles in between.
 """
 
 from __future__ import annotations
@@ -17,7 +18,7 @@ from ._naming import _ident
 from ._state_access import _LocalAccess, _SlotAccess
 from ._step_translator import _StepTranslator
 
-__all__ = ["_FusedFunctions"]
+__all__ = ["_FusedFunctions", "halting_step"]
 
 
 class _FusedFunctions:
@@ -50,6 +51,44 @@ class _FusedFunctions:
             max_cycles = max([max_cycles] + [ins.cycles(machine).longest for ins in members])
             by_word[word] = made[key]
         return by_word, max_cycles
+
+    def halting_entries(self) -> list[str]:
+        """Per first word: the name of a function running a halting instruction up to the step
+        that drives halt, or ``"None"`` (no halt there, or one the control unit must step)."""
+        machine = self.machine
+        by_word = ["None"] * (1 << machine.data_bits)
+        made: dict[tuple, str] = {}
+        for word, index in enumerate(machine.decode_table):
+            if index < 0 or index in machine.decode_groups:
+                continue
+            ins = machine.instructions[index]
+            last = halting_step(ins)
+            if last is None:
+                continue
+            fixed = _first_word_fixed(ins, word)
+            key = (index, tuple(sorted(fixed.items())))
+            if key not in made:
+                made[key] = self.halting_function(ins, fixed, last)
+            by_word[word] = made[key]
+        return by_word
+
+    def halting_function(self, ins: Instruction, fixed: dict[str, int], last: int) -> str:
+        """The fetch and the steps up to ``last`` (the one that drives halt) in one call, with
+        registers in locals; returns whether halt was driven (a step may drive it on a condition)."""
+        machine, out = self.machine, self.out
+        suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
+        name = self.unique(f"halting_{_ident(ins)}{suffix}", ins)
+        out.line()
+        out.line(f"def {name}():")
+        with out.indent():
+            out.line(f'"""{ins.display} — fetch and steps 1–{last + 1}, to the one that drives halt"""')
+            out.line("halted = False")
+            access = _LocalAccess(out, machine)
+            self.fetch_steps(access)
+            self.fused_steps(ins, fixed, access, 0, counting=False, stop=last + 1)
+            access.write_back()
+            out.line("return halted")
+        return name
 
     def fused_function(self, ins: Instruction, fixed: dict[str, int]) -> str:
         machine, out = self.machine, self.out
@@ -233,6 +272,19 @@ class _FusedFunctions:
                 with out.indent():
                     out.line("pass")
                 out.line("return cycles, instructions, False")
+
+
+def halting_step(ins: Instruction) -> int | None:
+    """The index of the first step of ``ins`` that drives halt, when the steps up to it run in
+    order (none of them jumps, the instruction decodes on its first word); else None."""
+    if ins.decode_words != 1:
+        return None
+    for k, step in enumerate(ins.steps):
+        if step.jump is not None:
+            return None
+        if step.drives_halt:
+            return k
+    return None
 
 
 def _first_word_fixed(ins: Instruction, word: int) -> dict[str, int]:

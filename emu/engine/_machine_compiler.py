@@ -52,6 +52,7 @@ class _MachineCompiler(_FusedFunctions):
                 step_names.append(names)
                 jump_names.append(jumps)
             fused_by_word, max_cycles = self.fused_functions()
+            halting_by_word = self.halting_entries()
             self.fallback_function()
             peek = self.peek_expression()
             self.free_runners(peek)
@@ -68,8 +69,12 @@ class _MachineCompiler(_FusedFunctions):
                 for row in range(0, len(fused_by_word), 4):
                     out.line(" ".join(f"{name}," for name in fused_by_word[row:row + 4]))
             out.line("]")
+            out.line(f"halting = [{', '.join(halting_by_word)}]")
+            out.line()
+            out.line("def peek():")
+            out.line(f"    return {peek}")
             out.line("return (fetch_steps, instruction_steps, instruction_jumps, fused, run_free, run_free_watching, "
-                     "run_free_stopping)")
+                     "run_free_stopping, halting, peek)")
         return out.source(), max_cycles
 
     def stepping_function(self, name: str, step: Step, ins: Instruction | None) -> str:

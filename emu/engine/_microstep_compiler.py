@@ -56,6 +56,10 @@ class BoundFunctions(NamedTuple):
     run_free: Callable
     run_free_watching: Callable
     run_free_stopping: Callable
+    halting: list[Callable[[], bool] | None]
+    """First word → its halting function (fetch and steps to the one that drives halt), or None."""
+    peek: Callable[[], int]
+    """The first word the fetch steps will load, read without loading it."""
 
 
 @dataclass

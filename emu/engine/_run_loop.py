@@ -19,6 +19,9 @@ from ._lookout import change_test, stop_words, stores_memory
 
 __all__ = ["StopReason", "_Running"]
 
+_FETCH_START = (-1, 0)
+"""The sequencer's state at an instruction boundary: the first fetch step next."""
+
 
 @dataclass(frozen=True)
 class StopReason:
@@ -100,8 +103,15 @@ class _Running:
         It ends at the instruction's end, the cycle that sets the halt latch
         (from there the generator walks to its hold point as usual) or cycle
         ``stop_at`` (the end of the fast path's budget): exactly where the
-        stepping path's checks, made between phases, would stop it.
+        stepping path's checks, made between phases, would stop it. A halting
+        instruction runs to its latch in one call where nothing counts or
+        waits (``_run_halting``): what a headless run ends with.
         """
+        if self._seq == _FETCH_START and self._tally is None and self._next_scheduled is None:
+            if self._run_halting(stop_at) and (self.halt_latch or self._seq == _FETCH_START
+                                               or self.cycles >= stop_at):
+                self._released = False
+                return
         ring, microstep = self.ring, self._microstep
         while True:
             ring.skip_cycles(1)
@@ -109,6 +119,38 @@ class _Running:
             if self.halt_latch or self.at_instruction_boundary or self.cycles >= stop_at:
                 break
         self._released = False
+
+    def _run_halting(self, stop_at: int) -> bool:
+        """A halting instruction's fetch and steps up to the one that drives halt, in one call.
+
+        Where nothing counts lines or waits for a cycle, nothing can tell
+        those cycles run one by one from their running in one compiled call
+        (the ring skips them whole, as after any fused instruction), so the
+        state is the stepping path's. False, with nothing run, where the
+        word does not start such an instruction or its cycles would pass
+        ``stop_at``.
+        """
+        word = self._peek()
+        halting = self._halting[word]
+        if halting is None:
+            return False
+        index = self._decode[word]
+        last = self._halting_steps[index]
+        cycles = len(self._fetch_steps) + last + 1
+        if self.cycles + cycles > stop_at:
+            return False
+        self._instruction_address = self._s[self._pc]
+        halted = halting()
+        self.ring.skip_cycles(cycles)
+        self.cycles += cycles
+        if last + 1 < len(self._instruction_steps[index]):
+            self._seq = (index, last + 1)
+        else:
+            self.instructions += 1
+        if halted:
+            self.halt_address = self._instruction_address
+            self._set_latch(True)
+        return True
 
     def _ended(self, target: int | None) -> StopReason | None:
         if self.frozen:

@@ -142,6 +142,9 @@ def _setter(emu, given: SweepInput):
     kind, memory, target = given.kind, emu.memory, given.target
     if kind == "memory" and given.words == 1:
         return lambda value: memory.__setitem__(target, value)
+    if kind == "memory" and isinstance(memory, bytearray) and emu.machine.data_bits == 8:
+        return lambda value: memory.__setitem__(slice(target, target + given.words),
+                                                value.to_bytes(given.words, "little"))
     if kind == "memory":
         width, mask = emu.machine.data_bits, emu.machine.data_mask
         return lambda value: memory.__setitem__(slice(target, target + given.words),
@@ -156,6 +159,8 @@ def _setter(emu, given: SweepInput):
 def _getter(emu, wanted: SweepOutput):
     """How one output is read from a run's result, decided once."""
     kind, memory, target = wanted.kind, emu.memory, wanted.target
+    if kind == "memory" and isinstance(memory, bytearray) and emu.machine.data_bits == 8:
+        return lambda result: int.from_bytes(memory[target:target + wanted.words], "little")
     if kind == "memory":
         width = emu.machine.data_bits
         return lambda result: sum(memory[target + k] << width * k for k in range(wanted.words))

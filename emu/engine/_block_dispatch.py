@@ -13,7 +13,6 @@ from ..description.notation import Assign, Mem
 from ._block_translator import _Context, _KnownAccess, _store_check, _translate_instruction
 from ._emitter import Emitter
 from ._machine_compiler import _MachineCompiler
-from ._naming import _ident
 
 __all__ = ["checked_fused_source", "dispatcher_source", "writes_memory"]
 
@@ -42,8 +41,7 @@ class _CheckedFusedCompiler(_MachineCompiler):
         if not writes_memory(ins):
             return "None"
         machine, out = self.machine, self.out
-        suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
-        name = self.unique(f"checked_{_ident(ins)}{suffix}", ins)
+        name = self.form_name("checked", ins, fixed)
         out.line()
         out.line(f"def {name}():")
         with out.indent():

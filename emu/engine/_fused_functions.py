@@ -76,8 +76,7 @@ class _FusedFunctions:
         """The fetch and the steps up to ``last`` (the one that drives halt) in one call, with
         registers in locals; returns whether halt was driven (a step may drive it on a condition)."""
         machine, out = self.machine, self.out
-        suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
-        name = self.unique(f"halting_{_ident(ins)}{suffix}", ins)
+        name = self.form_name("halting", ins, fixed)
         out.line()
         out.line(f"def {name}():")
         with out.indent():
@@ -90,10 +89,15 @@ class _FusedFunctions:
             out.line("return halted")
         return name
 
+    def form_name(self, prefix: str, ins: Instruction, fixed: dict[str, int]) -> str:
+        """A function's name for one form: ``prefix``, the instruction and the registers its
+        first word fixes (``run_add_rd_imm_r1``), unique in the generated source."""
+        registers = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
+        return self.unique(f"{prefix}_{_ident(ins)}{registers}", ins)
+
     def fused_function(self, ins: Instruction, fixed: dict[str, int]) -> str:
         machine, out = self.machine, self.out
-        suffix = "".join(f"_{ins.fields[n].kind.registers[v]}" for n, v in sorted(fixed.items()))
-        name = self.unique(f"run_{_ident(ins)}{suffix}", ins)
+        name = self.form_name("run", ins, fixed)
         cycles = ins.cycles(machine)
         out.line()
         out.line(f"def {name}():")

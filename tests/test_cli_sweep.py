@@ -23,8 +23,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from emu import load_machine
-from emu.runs import (SweepPlan, SweepRows, load_program, parse_input, parse_output, run_loaded, start_emulator,
-                      sweep_locally)
+from emu.runs import (SweepPlan, SweepRows, chunk_bounds, load_program, parse_input, parse_output, run_chunk,
+                      run_loaded, start_emulator, sweep_locally)
 
 from cli_support import ACC12, REF8_PROGRAMS, ROOT, cli, write
 
@@ -124,6 +124,7 @@ def test_csv_and_json_files_hold_every_row(tmp_path, capsys):
                                              "ok": "yes", "status": "halted"}
     facts = json.loads(data.read_text())
     assert facts["columns"] == ["load", "rate", "toll", "cycles", "ok", "status"]
+    assert facts["checks"] == ["toll == load * rate"]
     assert [(r["load"], r["rate"], r["toll"]) for r in facts["rows"]] == \
         [(a, b, a * b) for a in range(16) for b in range(16)]
     assert all(r["ok"] is True and int(r["cycles"]) == int(c["cycles"]) for r, c in zip(facts["rows"], rows))
@@ -144,7 +145,8 @@ def test_a_run_that_does_not_halt_reaches_its_limit_and_exits_3(tmp_path, capsys
                           "--max-cycles", "300", "--workers", "1")
     assert code == 3
     rows = _rows(out)
-    assert rows[1][-1] == "halted" and rows[2][-2:] == ["cycle_limit", "cycle_limit"]
+    assert rows[0] == ["r0", "cycles", "status"]          # status collected: still one column
+    assert rows[1][-1] == "halted" and rows[2] == ["0", "300", "cycle_limit"]
     assert "1 run reached the cycle limit (300 cycles)" in out
 
 
@@ -170,7 +172,8 @@ def test_another_machine(tmp_path, capsys):
     (["--each", "load=1", "--collect", "tol"], "argument --collect: 'tol' is no output of this sweep"),
     (["--each", "load=1", "--collect", "toll:9"], "a label's value spans 1 to 8 words, not 9"),
     (["--each", "load=1", "--check", "load =="], "argument --check: invalid syntax\n    load ==\n           ^"),
-    (["--each", "load=1", "--check", "rate > 1"], "argument --check: 'rate' is not a column of this sweep"),
+    (["--each", "load=1", "--check", "speed > 1"], "argument --check: 'speed' is not a column of this sweep"),
+    (["--each", "load=1", "--collect", "toll,cycles,toll"], "argument --collect: an output is named twice (toll)"),
     (["--each", "load=1", "--check", "load.__class__"], "argument --check: '.__class__' is not allowed"),
     (["--each", "load=1", "--check", "[x for x in load]"], "listcomp is not allowed in a check"),
     (["--each", "load=1", "--expect", "toll"], "argument --expect: 'toll' is not NAME=EXPR"),
@@ -203,10 +206,51 @@ def test_a_bad_program_is_located(tmp_path, capsys):
     assert code == 1 and f"{program}:1:" in err and "undefined label 'nowhere'" in err
 
 
-def test_a_row_whose_check_raises_fails_alone(capsys):
+def test_a_row_whose_check_raises_fails_alone_and_says_why(capsys):
     code, out, _err = cli(capsys, "sweep", TOLLS, "--each", "load=0..2", "--each", "rate=1",
                           "--check", "rate // load >= 0", "--workers", "1")
-    assert code == 1 and "2 passed, 1 failed" in out and "fail       load=0, rate=1" in out
+    assert code == 1 and "2 passed, 1 failed" in out
+    assert "fail       load=0, rate=1 ('rate // load >= 0' raised ZeroDivisionError: " in out
+
+
+def test_a_run_that_warns_does_not_pass_whatever_its_checks_say(tmp_path, capsys):
+    """As in ``relaybench test``: a read past the end of the input is damaged input, not a result."""
+    program = write(tmp_path, "pair.asm", "        in r0, 1\n        in r1, 1\n        halt\n")
+    code, out, _err = cli(capsys, "sweep", program, "--each", "input=A|AB", "--collect", "r0,r1",
+                          "--check", "r0 == 65", "--workers", "1")
+    assert code == 1
+    warning = "1 read past the end of the input stream (1 byte), answered with 0"
+    assert _rows(out)[0] == ["input", "r0", "r1", "ok", "status", "warnings"]
+    assert out.splitlines()[1].split()[:5] == ["A", "65", "0", "no", "halted"] and warning in out.splitlines()[1]
+    assert out.splitlines()[2].split() == ["AB", "65", "66", "yes", "halted"]
+    assert "1 passed, 0 failed (r0 == 65)" in out and f"1 run warned and did not pass (first: {warning})" in out
+    assert f"fail       input=A, r0=65, r1=0 ({warning})" in out
+
+
+def test_a_check_collects_the_outputs_it_names_and_status_is_one_column(capsys):
+    code, out, _err = cli(capsys, "sweep", TOLLS, "--each", "load=2,3", "--each", "rate=5",
+                          "--check", "toll == load * rate and status == 'halted'", "--collect", "status")
+    assert code == 0, out
+    assert _rows(out)[0] == ["load", "rate", "status", "toll", "ok"]
+    assert [row[3] for row in _rows(out)[1:]] == ["10", "15"]      # toll:1, Python's product
+
+
+def test_few_long_runs_are_shared_among_the_workers_and_a_long_run_ticks(tmp_path):
+    """Four rows on two workers are four chunks; a long run calls its chunk's tick as it goes
+    (about every 100,000 cycles), so a progress line can show before the first run ends."""
+    assert chunk_bounds(4, 2) == [(0, 1), (1, 2), (2, 3), (3, 4)]
+    assert chunk_bounds(65536, 2)[0] == (0, 2048)
+    machine = load_machine("ref8")
+    wait = write(tmp_path, "wait.asm", "        ld r1, [rounds]\nagain:  inc r0\n        jnz again\n"
+                                       "        dec r1\n        jnz again\n        halt\nrounds: .byte 1\n")
+    program = load_program(wait, machine)
+    plan = SweepPlan.made(machine, Path(machine.path).read_text(encoding="utf-8"), program, switches=0,
+                          input_bytes=b"", inputs=(parse_input("rounds=1,255", machine, program, 0),),
+                          outputs=(parse_output("cycles", machine, program, set()),))
+    ticks = []
+    rows = run_chunk(plan, 0, 2, tick=lambda: ticks.append(1))
+    short, long = rows[0][1][0], rows[1][1][0]
+    assert short < 100_000 < long and len(ticks) == long // 100_000
 
 
 def test_ctrl_c_stops_the_sweep_and_writes_nothing(tmp_path):
@@ -271,12 +315,12 @@ def test_each_row_is_what_a_new_emulator_gives_for_its_inputs(loads, rates):
     plan = SweepPlan.made(machine, Path(machine.path).read_text(encoding="utf-8"), program, switches=0,
                           input_bytes=b"", inputs=inputs, outputs=outputs)
     rows = sweep_locally(plan, 1)
-    for (values, found, ok, status), (load, rate) in zip(rows, [(a, b) for a in loads for b in rates]):
+    for (values, found, ok, status, warnings), (load, rate) in zip(rows, [(a, b) for a in loads for b in rates]):
         emulator = start_emulator(program, machine)
         emulator.memory[program.labels["load"]], emulator.memory[program.labels["rate"]] = load, rate
         fresh = run_loaded(program, machine, emulator=emulator)
         toll = emulator.memory[program.labels["toll"]] | emulator.memory[program.labels["toll"] + 1] << 8
-        assert values == (load, rate) and ok and status == fresh.status == "halted"
+        assert values == (load, rate) and ok and status == fresh.status == "halted" and warnings == ()
         assert found == (toll, emulator.cycles, emulator.output.decode("latin-1"))
         assert toll == load * rate      # Python's product
 

@@ -13,6 +13,7 @@ a percentage of the limit; a batch of programs has a total and a bar.
 
 from __future__ import annotations
 
+import datetime
 import signal
 import sys
 import threading
@@ -122,6 +123,8 @@ class Progress:
     def _attach(self, line: _Line) -> None:
         line.counter = self.bar(label=line.label, total=line.total,
                                 remove_when_done=line.remove_when_done)
+        # its clock shows the time since the work began, not since the bar was first drawn
+        line.counter.start_time -= datetime.timedelta(seconds=time.perf_counter() - line.started)
         line.counter.items_completed = line.done if line.total is None else min(line.done, line.total)
 
     def close(self) -> None:

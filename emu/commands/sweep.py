@@ -3,8 +3,8 @@
 The work is in ``emu.runs`` (``SweepPlan``, ``sweep_locally``,
 ``sweep_on_cluster``); this module turns options into a plan and the rows
 into a table, a CSV or JSON file and an exit status: 0 when every run halted
-and passed its checks, 1 when a check failed (or a bad program or machine
-file), 3 when a run reached its cycle limit, 2 for a bad command line, 130
+and passed its checks, 1 when a check failed or a run warned (or a bad program
+or machine file), 3 when a run reached its cycle limit, 2 for a bad command line, 130
 when interrupted (no file is written then).
 """
 
@@ -21,8 +21,8 @@ from pathlib import Path
 from ._progress import Progress, terminal_attached
 from ..errors import RelaybenchError
 from ..formatting import count_text
-from ..runs import (ProgramError, SweepPlan, SweepSpecError, chunk_bounds, compile_check, load_program, operator_script_for,
-                    parse_input, parse_output, sweep_locally, sweep_on_cluster)
+from ..runs import (CHECK_FUNCTIONS, ProgramError, SweepPlan, SweepSpecError, check_names, chunk_bounds, compile_check,
+                    load_program, operator_script_for, parse_input, parse_output, sweep_locally, sweep_on_cluster)
 from ..files import write_atomic
 from ._options import (add_machine_option, add_panel_options, cycle_count, keep_parser, machine_for_program,
                        panel_settings, positive, print_program_error, seed, usage_error)
@@ -100,9 +100,9 @@ def main(args) -> int:
     else:
         print(_text(table))
     print("\n".join(_summary(args, plan, rows, seconds)))
-    if any(not ok for _values, _outputs, ok, _status in rows):
+    if any(not ok for _values, _outputs, ok, _status, _warnings in rows):
         return EXIT_FAILED
-    return EXIT_CYCLE_LIMIT if any(status != "halted" for *_row, status in rows) else EXIT_PASSED
+    return EXIT_CYCLE_LIMIT if any(status != "halted" for _v, _o, _ok, status, _w in rows) else EXIT_PASSED
 
 
 def _plan(args, machine, program, switches, data, operator) -> SweepPlan:
@@ -117,9 +117,19 @@ def _plan(args, machine, program, switches, data, operator) -> SweepPlan:
             raise SweepSpecError(f"an input is named twice ({', '.join(names)})")
         option = "--collect"
         wanted = [name.strip() for group in args.collect for name in group.split(",") if name.strip()]
+        twice = sorted({name for name in wanted if wanted.count(name) > 1})
+        if twice:
+            raise SweepSpecError(f"an output is named twice ({', '.join(twice)})")
         outputs = []
         for name in wanted:
             outputs.append(parse_output(name, machine, program, set(names) | {o.column for o in outputs}))
+        option = "--check"
+        for name in (name for text in args.check for name in check_names(text)):
+            if name not in names and name not in CHECK_FUNCTIONS and all(name != o.column for o in outputs):
+                try:
+                    outputs.append(parse_output(name, machine, program, set(names)))
+                except SweepSpecError:
+                    pass                    # not an output either: compile_check says what the columns are
         expects = []
         for name, expr in (_expect_parts(args, text) for text in args.expect):
             option = "--expect"
@@ -180,10 +190,21 @@ class _client:
 
 
 def _table(plan: SweepPlan, rows) -> tuple[list[str], list[list]]:
-    header = plan.columns + (["ok"] if plan.checks else []) + ["status"]
-    body = [list(values) + list(outputs) + ([ok] if plan.checks else []) + [status]
-            for values, outputs, ok, status in rows]
+    """The columns, ``ok`` (with checks, or when a run warned), ``status`` (unless collected as an
+    output) and ``warnings`` (when a run warned)."""
+    warned = any(warnings for *_row, warnings in rows)
+    judged = bool(plan.checks) or warned
+    status_collected = "status" in plan.columns
+    header = plan.columns + ["ok"] * judged + ["status"] * (not status_collected) + ["warnings"] * warned
+    body = [list(values) + list(outputs) + [ok] * judged + [status] * (not status_collected)
+            + ["; ".join(warnings)] * warned
+            for values, outputs, ok, status, warnings in rows]
     return header, body
+
+
+def _check_texts(plan: SweepPlan) -> list[str]:
+    """Each check as the user would read it: an ``--expect`` as ``NAME == EXPR``."""
+    return [text if column is None else f"{column} == {text}" for text, column in plan.checks]
 
 
 def _cell(value) -> str:
@@ -223,32 +244,40 @@ def _json(args, plan: SweepPlan, table) -> str:
     header, body = table
     rows = [{h: (_cell(v) if isinstance(v, bytes) else v) for h, v in zip(header, row)} for row in body]
     return json.dumps({"program": args.program, "columns": header,
-                       "checks": [text for text, _column in plan.checks], "seed": plan.seed,
+                       "checks": _check_texts(plan), "seed": plan.seed,
                        "rows": rows}, ensure_ascii=False) + "\n"
 
 
 def _summary(args, plan: SweepPlan, rows, seconds: float) -> list[str]:
     runs = len(rows)
     failed = [row for row in rows if not row[2]]
-    limited = sum(1 for *_row, status in rows if status != "halted")
+    limited = sum(1 for _v, _o, _ok, status, _w in rows if status != "halted")
+    warned = [warnings for *_row, warnings in rows if warnings]
     where = f"on the cluster at {args.cluster}" if args.cluster else \
         f"on {count_text(min(args.workers, len(chunk_bounds(runs, args.workers))), 'worker')}"
     lines = [f"{args.program}: {count_text(runs, 'run')} in {seconds:.2f} s {where}"
              + (f" -> {args.out}" if args.out else "")]
     if plan.checks:
-        shown = "; ".join(text if column is None else f"{column} == {text}" for text, column in plan.checks)
-        lines.append(f"  checks     {count_text(runs - len(failed))} passed, {count_text(len(failed))} failed "
-                     f"({shown})")
+        lines.append(f"  checks     {count_text(runs - len(failed))} passed, "
+                     f"{count_text(len(failed) - len(warned))} failed ({'; '.join(_check_texts(plan))})")
+    if warned:
+        lines.append(f"  warnings   {count_text(len(warned), 'run')} warned and did not pass "
+                     f"(first: {warned[0][0]})")
     if limited:
         lines.append(f"  limit      {count_text(limited, 'run')} reached the cycle limit "
                      f"({count_text(plan.max_cycles, 'cycle')}) without halting")
     names = plan.columns
-    expects = [compile_check(text, names, "--expect", column) for text, column in plan.checks if column]
-    for values, outputs, _ok, status in failed[:SHOWN_FAILURES]:
+    checks = [compile_check(text, names, "--check", column) for text, column in plan.checks]
+    for values, outputs, _ok, status, warnings in failed[:SHOWN_FAILURES]:
         row = dict(zip(names, values + outputs))
         cells = ", ".join(f"{n}={_shown(v)}" for n, v in row.items())
-        notes = [status] if status != "halted" else []
-        notes += [f"{e.column} should be {_shown(e.value(row))}" for e in expects if not e.passes(row)]
+        notes = ([status] if status != "halted" else []) + list(warnings)
+        for check in checks:
+            value = check.value(row)
+            if isinstance(value, Exception):
+                notes.append(f"'{check.text}' raised {type(value).__name__}: {value}")
+            elif check.column is not None and not check.passes(row):
+                notes.append(f"{check.column} should be {_shown(value)}")
         lines.append(f"  fail       {cells}" + (f" ({'; '.join(notes)})" if notes else ""))
     if len(failed) > SHOWN_FAILURES:
         lines.append(f"  …          and {count_text(len(failed) - SHOWN_FAILURES, 'more failure')}")

@@ -232,6 +232,11 @@ class Emulator(_Observing, _Running, StateKeeping):
         self.ports.input_position = 0
 
     @property
+    def has_warnings(self) -> bool:
+        """Whether ``warnings`` would say anything, without wording it."""
+        return self.ports.warned or bool(self._undefined)
+
+    @property
     def warnings(self) -> list[str]:
         notes = self.ports.warnings()
         for address, count in sorted(self._undefined.items()):

@@ -71,6 +71,11 @@ class Ports:
             return
         writer(self, value)
 
+    @property
+    def warned(self) -> bool:
+        """Whether ``warnings`` has anything to say (cheap: a sweep asks after every run)."""
+        return bool(self.unmapped) or self.reads_past_end > 0
+
     def warnings(self) -> list[str]:
         notes = []
         for (direction, port), count in sorted(self.unmapped.items()):

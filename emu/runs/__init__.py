@@ -16,7 +16,7 @@ from ._panel_files import (PANEL_SUFFIX, HaltAnswer, PanelMachine, PanelSettings
                            panel_path_for, read_panel_file)
 from ._planting import Divergence, check_planting, compare_runs
 from ._summary import format_summary, pause_place
-from ._sweep_checks import CHECK_FUNCTIONS, Check, compile_check
+from ._sweep_checks import CHECK_FUNCTIONS, Check, check_names, compile_check
 from ._sweep_spec import RUN_FACTS, SweepInput, SweepOutput, SweepSpecError, parse_input, parse_output
 from ._sweeps import SweepPlan, SweepRows, chunk_bounds, run_chunk, sweep_locally, sweep_on_cluster
 from ._which_machine import DEFAULT_MACHINE, MachineChoice, MachineChooser
@@ -30,7 +30,7 @@ __all__ = [
     "panel_path_for", "read_panel_file",
     "DEFAULT_MACHINE", "MachineChoice", "MachineChooser",
     "format_summary", "pause_place",
-    "CHECK_FUNCTIONS", "Check", "compile_check",
+    "CHECK_FUNCTIONS", "Check", "check_names", "compile_check",
     "RUN_FACTS", "SweepInput", "SweepOutput", "SweepSpecError", "parse_input", "parse_output",
     "SweepPlan", "SweepRows", "chunk_bounds", "run_chunk", "sweep_locally", "sweep_on_cluster",
     "PROGRAM_SUFFIX", "CheckFailure", "Verdict", "actual_value", "check_program", "collect_programs",

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 from ._sweep_spec import SweepSpecError
 
-__all__ = ["CHECK_FUNCTIONS", "Check", "compile_check"]
+__all__ = ["CHECK_FUNCTIONS", "Check", "check_names", "compile_check"]
 
 CHECK_FUNCTIONS = {
     "abs": abs, "min": min, "max": max, "divmod": divmod, "pow": pow, "round": round, "int": int, "bool": bool,
@@ -56,6 +56,16 @@ class Check:
         if self.column is None:
             return bool(value)
         return row[self.column] == value
+
+
+def check_names(text: str) -> list[str]:
+    """The names an expression reads, in order (none when it does not parse: ``compile_check``
+    then says why)."""
+    try:
+        tree = ast.parse(text.strip(), mode="eval")
+    except SyntaxError:
+        return []
+    return [node.id for node in ast.walk(tree) if isinstance(node, ast.Name)]
 
 
 def compile_check(text: str, columns: list[str], option: str, column: str | None = None) -> Check:

@@ -102,6 +102,10 @@ within a few hundred rows, so the emulator's warm-up and its threshold of thousa
 of visits (meant for a single run of unknown length) would only delay it."""
 
 
+TICK_SECONDS = 0.5
+"""How often a sweep's own process hears of its progress while no chunk ends."""
+
+
 class _Runner:
     """One emulator at the save point of a plan, and the plan's inputs, outputs and checks bound to it."""
 
@@ -118,22 +122,30 @@ class _Runner:
         self.setters = [_setter(self.emu, given) for given in plan.inputs]
         self.getters = [_getter(self.emu, wanted) for wanted in plan.outputs]
 
-    def run(self, first: int, stop: int) -> list[tuple]:
-        """Rows ``first``…``stop - 1``: (input values, output values, whether every check passed, status)."""
+    def run(self, first: int, stop: int, tick=None) -> list[tuple]:
+        """Rows ``first``…``stop - 1``: (input values, output values, ok, status, warnings).
+
+        ``ok``: every check passed and the run gave no warning (a read past the
+        end of its input, a port with no device, an undefined opcode): as in
+        ``relaybench test``, a run that warned does not pass, whatever it computed.
+        """
         results = []
         plan, emu, start, columns, checks = self.plan, self.emu, self.start, self.columns, self.checks
         setters, getters, program, machine = self.setters, self.getters, plan.program, self.machine
+        chunk = None if tick is None else (lambda _emu: tick())
         for values in self.rows.slice(first, stop):
             emu.rewind(start)
             for setter, value in zip(setters, values):
                 setter(value)
-            result = run_loaded(program, machine, max_cycles=plan.max_cycles, emulator=emu, operator=plan.operator)
+            result = run_loaded(program, machine, max_cycles=plan.max_cycles, emulator=emu, operator=plan.operator,
+                                chunk=chunk)
             found = tuple([getter(result) for getter in getters])
-            ok = True
-            if checks:
+            warnings = tuple(emu.warnings) if emu.has_warnings else ()
+            ok = not warnings
+            if checks and ok:
                 row = dict(zip(columns, values + found))
                 ok = all([check.passes(row) for check in checks])
-            results.append((values, found, ok, result.status))
+            results.append((values, found, ok, result.status, warnings))
         return results
 
 
@@ -180,8 +192,9 @@ _runners = threading.local()
 """Each thread's runners by plan key: a dask worker may run chunks in several threads."""
 
 
-def run_chunk(plan: SweepPlan, first: int, stop: int) -> list[tuple]:
-    """Run rows ``first``…``stop - 1`` of ``plan`` here, building this thread's runner at its first chunk.
+def run_chunk(plan: SweepPlan, first: int, stop: int, tick=None) -> list[tuple]:
+    """Run rows ``first``…``stop - 1`` of ``plan`` here, building this thread's runner at its first chunk;
+    ``tick()`` is called every hundred thousand cycles or so of a long run.
 
     Called in the sweeping process, in forked pool workers (which inherit the
     compiled machine) and on cluster workers (which build it from its text).
@@ -193,39 +206,49 @@ def run_chunk(plan: SweepPlan, first: int, stop: int) -> list[tuple]:
     if runner is None:
         machine = _machines.get(plan.key) or machine_from_text(plan.machine_text, plan.machine_path)
         runner = runners[plan.key] = _Runner(plan, machine)
-    return runner.run(first, stop)
+    return runner.run(first, stop, tick)
 
 
 def chunk_bounds(total: int, workers: int) -> list[tuple[int, int]]:
-    """Slices of row numbers: about sixteen a worker, so progress moves and the last ones end together."""
-    size = max(64, min(4096, -(-total // (workers * 16))))
+    """Slices of row numbers: about sixteen a worker, so progress moves and the last ones end
+    together (a few long runs are a chunk each, so every worker gets one)."""
+    size = max(1, min(4096, -(-total // (workers * 16))))
     return [(first, min(first + size, total)) for first in range(0, total, size)]
 
 
 def sweep_locally(plan: SweepPlan, workers: int, done=None) -> list[tuple]:
     """Every row of ``plan``, in order, on ``workers`` processes (this one alone for 1).
 
-    ``done(rows_so_far)`` is called as chunks finish. Workers are forked, so
+    ``done(rows_so_far)`` is called as chunks finish and, while runs are long,
+    about every ``TICK_SECONDS`` between (from this process, where a progress
+    line may draw). Workers are forked, so
     they start with the compiled machine, and ignore Ctrl-C: the sweeping
     process takes it and ends them, with whatever chunk they were in.
     """
     chunks = chunk_bounds(len(plan.rows), workers)
     results: dict[int, list] = {}
 
-    def finished(first: int, rows: list) -> None:
-        results[first] = rows
+    def tick() -> None:
         if done is not None:
             done(sum(map(len, results.values())))
 
     if workers <= 1 or len(chunks) == 1:
         for first, stop in chunks:
-            finished(first, run_chunk(plan, first, stop))
+            results[first] = run_chunk(plan, first, stop, tick=tick if done is not None else None)
+            tick()
     else:
         import multiprocessing
         pool = multiprocessing.get_context("fork").Pool(min(workers, len(chunks)), initializer=_quiet_worker)
         try:
-            for first, rows in pool.imap_unordered(_run_numbered, [(plan, first, stop) for first, stop in chunks]):
-                finished(first, rows)
+            pending = pool.imap_unordered(_run_numbered, [(plan, first, stop) for first, stop in chunks])
+            while len(results) < len(chunks):
+                try:
+                    first, rows = pending.next(timeout=TICK_SECONDS)
+                except multiprocessing.TimeoutError:
+                    tick()              # long runs: the progress line still appears and its clock moves
+                    continue
+                results[first] = rows
+                tick()
             pool.close()
         finally:
             pool.terminate()

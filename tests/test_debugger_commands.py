@@ -188,9 +188,9 @@ def test_watchpoints_on_a_register_and_a_memory_word(kiln):
     assert kiln.execute("watch r3") == "watchpoint 1 on r3 (now 0x00)"
     assert kiln.execute("watch [0x200]") == "watchpoint 2 on [0200] (now 0x00)"
     text = kiln.execute("go")
-    assert "\nwatchpoint 2: [0200] changed from 0x0 to 0x1 (the instruction before 001A mark+3" in text
+    assert "\nwatchpoint 2: [0200] changed from 0x00 to 0x01 (the instruction before 001A mark+3" in text
     text = kiln.execute("go")
-    assert text.splitlines()[1].startswith("watchpoint 1: r3 changed from 0x0 to 0x1")
+    assert text.splitlines()[1].startswith("watchpoint 1: r3 changed from 0x00 to 0x01")
     assert kiln.emu.pc == 0x1b
     assert kiln.execute("points").splitlines() == ["  1  watch  r3 (now 0x01)", "  2  watch  [0200] (now 0x01)"]
     assert kiln.execute("drop all") == "dropped 2 point(s)"
@@ -336,8 +336,8 @@ def test_put_sets_registers_groups_flags_and_memory(kiln):
 
 @pytest.mark.parametrize("line, message", [
     ("put r0", "error: usage: put NAME|[ADDRESS] VALUE"),
-    ("put r0 256", "error: 0x100 does not fit r0, 8 bits (-128…255, or 0x00…0xFF)"),
-    ("put z 2", "error: 0x2 does not fit z, 1 bit (0 or 1)"),
+    ("put r0 256", "error: 256 does not fit r0, 8 bits (-128…255, or 0x00…0xFF)"),
+    ("put z 2", "error: 2 does not fit z, 1 bit (0 or 1)"),
     ("put q 1", "error: 'q' is not a register or flag of ref8"),
     ("put ir 1", "error: 'ir' is not a register or flag of ref8"),
     ("put r0 0x", "error: value '0x' is not a number (write it as 42, 0x2A, 0b101010 or 'A')"),
@@ -491,6 +491,7 @@ def test_help_lists_every_command_and_explains_one(kiln):
 
 def test_unknown_commands_get_a_hint_and_prefixes_work(kiln):
     assert kiln.execute("registr").startswith("error: unknown command 'registr' (did you mean 'registers'")
+    assert kiln.execute("bogus") == "error: unknown command 'bogus'; 'help' lists the commands"   # no far guess
     assert kiln.execute("re") == "error: 're' could be registers, reset, restart, resume"
     assert kiln.execute("reg").startswith("r0")
 
@@ -544,7 +545,7 @@ def test_acc12_views_use_its_own_widths_and_names(gauge):
         "start:", "  00   903", "tick:", "  01   408   704   601", "done:", "  04   F00   905   A01   F00"]
     assert "ring        ○ ● ○ ○ ○" in gauge.execute("panel")
     assert gauge.execute("put acc 4095") == "acc = 0xFFF (4095)"
-    assert gauge.execute("put acc 4096") == "error: 0x1000 does not fit acc, 12 bits (-2048…4095, or 0x000…0xFFF)"
+    assert gauge.execute("put acc 4096") == "error: 4096 does not fit acc, 12 bits (-2048…4095, or 0x000…0xFFF)"
 
 
 def test_acc12_pulses_and_breakpoints(gauge):

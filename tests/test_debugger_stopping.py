@@ -42,7 +42,7 @@ def test_the_live_view_tells_a_watchpoint_as_the_run_tells_it(tmp_path):
     for session in (running, live):
         session.execute("watch [0x200]")
     told = _stop_line(running.execute("go"))
-    assert told.startswith("watchpoint 1: [0200] changed from 0x0 to 0x1 (the instruction before 001A")
+    assert told.startswith("watchpoint 1: [0200] changed from 0x00 to 0x01 (the instruction before 001A")
     wall = [0.0]
     clock = LiveClock(live, 100.0, now=lambda: wall[0])
     clock.press("run")

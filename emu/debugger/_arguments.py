@@ -116,7 +116,7 @@ def value_for(machine, watched: Watch, text: str) -> int:
     value = number(text)
     low = 0 if bits == 1 else -(1 << (bits - 1))
     if not low <= value < 1 << bits:
-        shown = hex_value(value, value.bit_length()) if value >= 0 else str(value)
+        shown = text.strip()
         where = watched.name or f"[{address_text(watched.address, machine)}]"
         if bits == 1:
             raise DebugError(f"{shown} does not fit {where}, 1 bit (0 or 1)")

@@ -32,6 +32,7 @@ from typing import Callable
 
 from emu import StopReason
 
+from ._arguments import watched_hex
 from ._conditions import AnyOf, Watch, Watches
 from ._presses import PressWatch, Presses
 from ._program import Places
@@ -153,8 +154,9 @@ class WatchFired(Stop):
     """Where the clock stopped: the instruction before it wrote the watched value."""
 
     def describe(self, places: Places) -> str:
-        return (f"watchpoint {self.watch.number}: {self.watch.label} changed from {self.old:#x} to "
-                f"{self.new:#x} (the instruction before {places.name(self.pc)} wrote it)")
+        old, new = (watched_hex(places.machine, self.watch, value) for value in (self.old, self.new))
+        return (f"watchpoint {self.watch.number}: {self.watch.label} changed from {old} to "
+                f"{new} (the instruction before {places.name(self.pc)} wrote it)")
 
 
 @dataclass(frozen=True)

@@ -68,6 +68,6 @@ def find_command(word: str) -> Command:
         return COMMANDS[starting[0]]
     if starting:
         raise DebugError(f"'{word}' could be {', '.join(sorted(starting))}")
-    close = difflib.get_close_matches(word, list(COMMANDS), n=3, cutoff=0.5)
+    close = difflib.get_close_matches(word, list(COMMANDS), n=3, cutoff=0.6)
     hint = f" (did you mean {' or '.join(repr(c) for c in close)}?)" if close else ""
     raise DebugError(f"unknown command '{word}'{hint}; 'help' lists the commands")

@@ -174,6 +174,8 @@ class BlockRunner:
         self._cmap = None
         self._checked = None
         self._active: dict[int, tuple[int, object]] = {}
+        self._span: tuple[int, int, object] | None = None
+        """(low, high, memory[low:high]) around every block in place at the last full check."""
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
         self._stops: bytes | None = None
@@ -240,9 +242,16 @@ class BlockRunner:
             for start in list(self._active):
                 self._drop(start, soon=True)
             return
+        if self._span is not None:
+            low, high, words = self._span
+            if memory[low:high] == words:
+                return
         for start, (end, words) in list(self._active.items()):
             if memory[start:end] != words:
                 self._drop(start, soon=False)
+        if self._active:
+            low, high = min(self._active), max(end for end, _words in self._active.values())
+            self._span = (low, high, memory[low:high])
 
     def _watch_words(self, watched: frozenset[int]) -> None:
         """Count watched words in the code map, so that a store to one calls ``_invalidate``."""
@@ -337,6 +346,7 @@ class BlockRunner:
         self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
+        self._span = None       # it was read after the span: a check must compare it on its own
         for address in range(start, plan.end):
             self._cmap[address] += 1
         for address, _ins in plan.instructions[1:]:

@@ -371,7 +371,7 @@ class _BlockWriter:
                 access.emit_write_back()
                 out.line(self._returning(cycles, count))
             following = address + ins.word_count
-            _store_check(out, self.context, (plan.start, leave))
+            _store_check(out, self.context, (plan.start, lambda: (self._watch_test(), leave())))
             self._watch_test(leave)
             index += 1
             if access.known.get(pc_slot) == following:
@@ -402,16 +402,19 @@ class _BlockWriter:
             access.write(pc_slot, machine.program_counter, str(following))
         return True
 
-    def _watch_test(self, leave) -> None:
-        """In a watching block, after an instruction that wrote a watched slot: leave at a change."""
-        slots = [k for k, slot in enumerate(self.watched) if slot in self.access.written_now]
-        if not slots:
+    def _watch_test(self, leave=None) -> None:
+        """In a watching block, after an instruction that wrote a watched slot: at a change, note
+        it and ``leave()``; without ``leave``, only note it (a store is leaving the block)."""
+        access = self.access
+        tests = [f"{access.known.get(slot, access.loaded.get(slot, f's[{slot}]'))} != seen_{k}"
+                 for k, slot in enumerate(self.watched) if slot in access.written_now]
+        if not tests:
             return
-        now = [self.access.read(self.watched[k], self._slot_name(self.watched[k])) for k in slots]
-        self.out.line(f"if {' or '.join(f'{value} != seen_{k}' for k, value in zip(slots, now))}:")
+        self.out.line(f"if {' or '.join(tests)}:")
         with self.out.indent():
             self.out.line("noticed_[0] = True")
-            leave()
+            if leave is not None:
+                leave()
 
     def _go_round(self, cycles: int, count: int) -> None:
         """Back to the block's start inside the function, while one more full pass fits the room."""

@@ -214,6 +214,25 @@ def test_memory_written_between_runs_drops_the_blocks_it_hits():
     assert fast.blocks.dropped > 0
 
 
+def test_memory_written_between_runs_after_the_blocks_settled_drops_the_blocks_it_hits():
+    """A run whose blocks all still match memory keeps one copy of the span around them,
+    and the next run compares only that; a word written there between runs (and written
+    back after its block was translated anew) must still drop the block holding it.
+    ref8: ``add r0, 1; jmp 0``, its immediate set to 3, then back to 1."""
+    machine = MACHINES["ref8"]
+    words = encode(machine, "add rd, imm", rd=0, imm=1) + encode(machine, "jmp addr", addr=0)
+    fast, slow = hot(boot(machine, words)), stepped(boot(machine, words))
+    for emu in (fast, slow):
+        emu.run(max_cycles=500)
+        emu.run(max_cycles=500)        # finds its blocks as they were: keeps the span
+        emu.memory[1] = 3
+        emu.run(max_cycles=500)        # drops the block, translates it with 3
+        emu.memory[1] = 1              # memory is as the kept span was again
+        emu.run(max_cycles=500)
+    assert full_state(fast) == full_state(slow)
+    assert fast.blocks.dropped >= 2
+
+
 # ----- what runs without blocks, and what is reused ------------------------------------------
 
 def test_until_conditions_run_without_blocks():

@@ -16,7 +16,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import asm
-from emu import Observer
+from emu import Observer, load_machine
 from emu.debugger import AnyOf, CallDepth, Count, Watch, Watches, call_shape
 from emu.testing import programs
 from emu.timing import count_wear
@@ -146,3 +146,77 @@ def test_a_store_to_a_watched_word_stops_a_hot_block_right_after_it():
         seen.append(ends)
     assert seen[0] == seen[1]
     assert [hit for _kind, _cycles, hit in seen[0]] == [(0, 1), (1, 2), (2, 3), (3, 4)]
+
+
+@st.composite
+def watched_names(draw, machine):
+    """One to three registers, groups or flags, flags drawn as often as the rest."""
+    registers = [r.name for r in machine.visible_registers] + list(machine.groups)
+    flags = list(machine.flags)
+    pools = [registers] + [flags] * bool(flags)
+    return draw(st.lists(st.sampled_from(pools[draw(st.integers(0, len(pools) - 1))]), min_size=1, max_size=3))
+
+
+@pytest.mark.parametrize("machine_name", sorted(MACHINES))
+@settings(SETTINGS, max_examples=25)
+@given(data=st.data(), threshold=st.sampled_from([1, 3]))
+def test_a_hot_block_stops_at_the_first_change_of_a_watched_register_or_flag(machine_name, data, threshold):
+    """Watching blocks test what they watch inside the block (loops included): each of a
+    run's stops, one per change, lands where the check after every instruction puts it."""
+    machine = MACHINES[machine_name]
+    skip_unless_properties_run(machine)
+    words = data.draw(programs(machine))
+    wanted = [("register", name) for name in data.draw(watched_names(machine))]
+    points = frozenset(data.draw(st.lists(st.integers(0, len(words)), max_size=1)))
+    reference, watched = boot(machine, words), boot(machine, words)
+    watched.blocks.threshold, watched.blocks.warm_up = threshold, 0
+    assert drive(watched, wanted, points, every_instruction=False) == \
+        drive(reference, wanted, points, every_instruction=True)
+
+
+BEATS = {
+    # a metronome: r1 steps a quarter turn a beat; the sum of two positives that comes out
+    # negative (0x40 + 0x40) sets v, the next sum (0x80 + 0x40, a negative and a positive)
+    # clears it: two's-complement overflow (common practice)
+    "ref8": ("""\
+start:  li r1, 0
+beat:   inc r0
+        add r1, 0x40
+back:   jmp beat
+""", "v", [(0, 1), (1, 0), (0, 1), (1, 0)]),
+    # the same on skep's 10-bit accumulator: a quarter turn is 256; carry out of 768 + 256
+    "skep": ("""\
+        .machine "skep"
+start:  ldi a, 0
+beat:   inx
+        add #256
+back:   jmp beat
+""", "c", [(0, 1), (1, 0), (0, 1), (1, 0)]),
+}
+
+
+@pytest.mark.parametrize("machine_name", sorted(BEATS))
+def test_a_flag_that_changes_inside_a_looping_block_stops_the_run_at_each_change(machine_name):
+    """The loop's block keeps the flag's writer (on ref8 it goes round inside its function;
+    skep's jumps test flags in their steps, so the jump runs outside it), and each change
+    stops the run after that writer, as the check after every instruction does, with the
+    values the flag had before and after (the comments in ``BEATS``)."""
+    machine = load_machine(machine_name)
+    source, flag, changes = BEATS[machine_name]
+    image = asm.assemble_text(source, machine)
+    beat = image.symbols["beat"]
+    seen = []
+    for every_instruction in (False, True):
+        emu = boot(machine, [])
+        emu.load(image.segments)
+        emu.blocks.threshold, emu.blocks.warm_up = 1, 0
+        ends = []
+        for _ in range(len(changes)):
+            until = AnyOf([Watches([Watch(1, name=flag)], emu)])
+            stop = emu.run(max_cycles=5000, until=(lambda e: until(e)) if every_instruction else until)
+            ends.append((stop.kind, stop.pc, emu.cycles, until.fired.hit[1:]))
+        seen.append(ends)
+        if not every_instruction:
+            assert emu.blocks._active[beat][0] >= image.symbols["back"], "the loop was split at the flag's writer"
+    assert seen[0] == seen[1]
+    assert [hit for _kind, _pc, _cycles, hit in seen[0]] == changes

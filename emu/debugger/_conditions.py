@@ -100,6 +100,8 @@ class Watches:
         self.seen = [w.read(emu) for w in self.watches]
         self.why = ""
         self.hit: tuple[Watch, int, int] | None = None
+        self._lookout = Lookout(registers=frozenset(w.name for w in self.watches if w.name is not None),
+                                memory=frozenset(w.address for w in self.watches if w.name is None))
 
     def __call__(self, emu) -> bool:
         for i, watch in enumerate(self.watches):
@@ -111,12 +113,13 @@ class Watches:
         return False
 
     def lookout(self, emu) -> Lookout:
-        return Lookout(registers=frozenset(w.name for w in self.watches if w.name is not None),
-                       memory=frozenset(w.address for w in self.watches if w.name is None))
+        """The same for the whole run: the watches are fixed when it starts (asked at every stop)."""
+        return self._lookout
 
     def clone(self) -> "Watches":
         twin = Watches.__new__(Watches)
         twin.watches, twin.seen, twin.why, twin.hit = self.watches, list(self.seen), self.why, self.hit
+        twin._lookout = self._lookout
         return twin
 
 
@@ -135,6 +138,8 @@ class AnyOf:
         return hit
 
     def lookout(self, emu) -> Lookout:
+        if len(self.conditions) == 1:
+            return self.conditions[0].lookout(emu)
         found = Lookout()
         for condition in self.conditions:
             found |= condition.lookout(emu)

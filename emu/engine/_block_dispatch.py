@@ -93,7 +93,7 @@ def dispatcher_source(machine: Machine, max_fused: int, counting: bool = False) 
     out.line(f"def build(s, m, table, hits, ends, translate, Fallback{', words_' if counting else ''}):")
     with out.indent():
         for name, watching in (("run_blocks", False), ("run_blocks_watching", True)):
-            arguments = ", stops, stored, changed" if watching else ""
+            arguments = ", stops, noticed, changed" if watching else ""
             out.line(f"def {name}(budget, points, fused, threshold{arguments}):")
             with out.indent():
                 _dispatch_loop(out, pc, peek, max_fused, watching, counting)
@@ -104,8 +104,9 @@ def dispatcher_source(machine: Machine, max_fused: int, counting: bool = False) 
 def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: bool, counting: bool) -> None:
     """The watching loop returns (hit) at a breakpoint, where ``stops`` says (see
     ``_lookout.stop_words``: after an instruction marked ``AFTER``, or ``WRITES`` once
-    ``changed()``; before one marked ``BEFORE``), and after a store that set ``stored[0]``
-    (a watched word); a block made of a marked instruction carries its mark (``asks``)."""
+    ``changed()``; before one marked ``BEFORE``), and after an instruction that set
+    ``noticed[0]`` (a store to a watched word, or a watched slot changed in a watching
+    block); a block made of an instruction marked ``AFTER`` carries the mark (``asks``)."""
     stop_before = ["if stops[word] & 2 and cycles:", "    return cycles, count, True"] if watching else []
     out.line("cycles = count = 0")
     out.line(f"limit = budget - {max_fused}")
@@ -129,7 +130,7 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
                     out.line("cycles += done")
                     out.line("count += ran")
                     if watching:
-                        out.line(f"if asks & 1 or asks & 4 and changed() or stored[0] or s[{pc}] in points:")
+                        out.line(f"if asks & 1 or noticed[0] or s[{pc}] in points:")
                         out.line("    return cycles, count, True")
                     out.line("continue")
             out.line("else:")
@@ -153,7 +154,7 @@ def _dispatch_loop(out: Emitter, pc: int, peek: str, max_fused: int, watching: b
                 out.line("count += 1")
                 if watching:
                     out.line("stop = stops[word]")
-                    out.line(f"if stop & 1 or stop & 4 and changed() or stored[0] or s[{pc}] in points:")
+                    out.line(f"if stop & 1 or stop & 4 and changed() or noticed[0] or s[{pc}] in points:")
                     out.line("    return cycles, count, True")
                 out.line("if ends[word]:")
                 out.line("    break")

@@ -67,6 +67,8 @@ class _KnownAccess(_LocalAccess):
         self.texts: dict[int, str] = {}
         self.read_from_state: set[int] = set()
         self.written: set[int] = set()
+        self.written_now: set[int] = set()
+        """Slots written since the translator last cleared it (a watching block: by one instruction)."""
         self.dynamic = False
 
     def read(self, slot: int, name: str) -> str:
@@ -78,6 +80,7 @@ class _KnownAccess(_LocalAccess):
 
     def write(self, slot: int, name: str, value: str) -> None:
         self.written.add(slot)
+        self.written_now.add(slot)
         constant = _constant(value)
         if constant is not None:
             self.known[slot] = constant
@@ -100,6 +103,7 @@ class _KnownAccess(_LocalAccess):
 
     def forget(self, slots) -> None:
         self.dynamic = True
+        self.written_now.update(slots)
         super().forget(slots)
         for slot in slots:
             self.known.pop(slot, None)
@@ -267,10 +271,18 @@ class BlockPlan:
         return sum(ins.cycles(machine).shortest for _address, ins in self.instructions)
 
 
-def block_source(machine: Machine, plan: BlockPlan, loops: bool = True, layout=None) -> tuple[str, int]:
+def block_source(machine: Machine, plan: BlockPlan, loops: bool = True, layout=None,
+                 watched: tuple[int, ...] = ()) -> tuple[str, int]:
     """The block's source, defining ``build(s, m, in_, out_, cmap, invalidate)``, and the
     cycles of its longest way through (all its instructions). With a ``TallyLayout`` the
     block counts what it runs for wear: ``build`` takes ``sites_, words_`` besides.
+
+    ``watched`` (state slots) makes a watching block, for a run that stops at
+    the first change of a register or flag: after each instruction that may
+    write one, it compares them with their values at entry and, at the first
+    difference, sets ``noticed_[0]`` (a last argument of ``build``) and leaves
+    with the state written back. A watched run stops at every change, so at
+    entry they still hold the values its test compares with.
 
     A branch back to the block's own start (a conditional one, or the
     jump that ends the block) becomes a loop inside the function (when ``loops``: not when the start is a breakpoint,
@@ -282,12 +294,12 @@ def block_source(machine: Machine, plan: BlockPlan, loops: bool = True, layout=N
     index). The loop goes round again only while one more full pass fits
     the room the dispatcher gives.
     """
-    first = _BlockWriter(machine, plan, carried=None, layout=layout)
+    first = _BlockWriter(machine, plan, carried=None, layout=layout, watched=watched)
     if first.access.dynamic or not (loops and first.loops_back or first.skips):
         return first.source(), first.cycles
     written = first.access.written - {first.pc_slot}
     carried = (first.access.read_from_state | written, written)
-    second = _BlockWriter(machine, plan, carried=carried, loops=loops, layout=layout)
+    second = _BlockWriter(machine, plan, carried=carried, loops=loops, layout=layout, watched=watched)
     return second.source(), second.cycles
 
 
@@ -295,10 +307,10 @@ class _BlockWriter:
     """One translation of a block, straight or with its loop."""
 
     def __init__(self, machine: Machine, plan: BlockPlan, carried: tuple[set[int], set[int]] | None,
-                 loops: bool = True, layout=None):
+                 loops: bool = True, layout=None, watched: tuple[int, ...] = ()):
         """``carried``: for the loop, the slots it keeps in locals and those of them it writes."""
         self.machine, self.plan, self.carried, self.loops = machine, plan, carried, loops
-        self.layout = layout
+        self.layout, self.watched = layout, watched
         self.pc_slot = machine.registers[machine.program_counter].slot
         self.loops_back = False
         self.skips = False
@@ -347,6 +359,7 @@ class _BlockWriter:
         while index < last:
             address, ins = plan.instructions[index]
             out.line(f"# {address:#x}: {ins.display}")
+            access.written_now.clear()
             _translate_instruction(machine, out, access, ins, self.context, layout=self.layout)
             if self.layout is not None:
                 out.line(f"words_[{plan.words[address - plan.start]}] += 1")
@@ -358,7 +371,8 @@ class _BlockWriter:
                 access.emit_write_back()
                 out.line(self._returning(cycles, count))
             following = address + ins.word_count
-            _store_check(out, self.context, (plan.start, leave))
+            _store_check(out, self.context, (plan.start, lambda: (self._watch_test(), leave())))
+            self._watch_test(leave)
             index += 1
             if access.known.get(pc_slot) == following:
                 continue
@@ -387,6 +401,20 @@ class _BlockWriter:
                 leave()
             access.write(pc_slot, machine.program_counter, str(following))
         return True
+
+    def _watch_test(self, leave=None) -> None:
+        """In a watching block, after an instruction that wrote a watched slot: at a change, note
+        it and ``leave()``; without ``leave``, only note it (a store is leaving the block)."""
+        access = self.access
+        tests = [f"{access.known.get(slot, access.loaded.get(slot, f's[{slot}]'))} != seen_{k}"
+                 for k, slot in enumerate(self.watched) if slot in access.written_now]
+        if not tests:
+            return
+        self.out.line(f"if {' or '.join(tests)}:")
+        with self.out.indent():
+            self.out.line("noticed_[0] = True")
+            if leave is not None:
+                leave()
 
     def _go_round(self, cycles: int, count: int) -> None:
         """Back to the block's start inside the function, while one more full pass fits the room."""
@@ -445,15 +473,17 @@ class _BlockWriter:
     def source(self) -> str:
         plan, body = self.plan, self.out.lines
         counters = "" if self.layout is None else ", sites_, words_"
-        lines = [f"def build(s, m, in_, out_, cmap, invalidate{counters}):",
+        watching = ", noticed_" if self.watched else ""
+        lines = [f"def build(s, m, in_, out_, cmap, invalidate{counters}{watching}):",
                  "    def block(room):",
                  f'        """{len(plan.instructions)} instructions from {plan.start:#x}"""']
+        seen = [f"        seen_{k} = s[{slot}]" for k, slot in enumerate(self.watched)]
         if self.carried is None:
-            lines += without_dead_assignments(body, self.body_indent)
+            lines += without_dead_assignments(seen + body, self.body_indent)
         else:
             loop = without_dead_assignments(body, self.body_indent, looping=True)
             lines += without_dead_assignments(
-                self.preloads + ["        done = ran = 0", "        while True:"] + loop, " " * 8)
+                seen + self.preloads + ["        done = ran = 0", "        while True:"] + loop, " " * 8)
         lines.append("    return block")
         text = "\n".join(lines) + "\n"
         return text.replace(", END):", f", {plan.end}):").replace("MOST", str(self.cycles))

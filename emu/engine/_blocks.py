@@ -7,9 +7,10 @@ branch, a halting or undefined instruction, a breakpoint or a length cap,
 translated into one function (``_block_translator``). The dispatch loop
 runs a block only when its full cycle count fits the budget, so cycle
 limits, breakpoints and every panel event land where stepping puts them.
-A watched run (``Lookout``) also splits blocks around its stop words and
-counts its watched words in the code map, so a block leaves right after a
-store to one.
+A watched run (``Lookout``) also splits blocks around the instructions it
+asks around, translates watching blocks that test its registers and flags
+after each instruction that may write one, and counts its watched words in
+the code map, so a block leaves right after a store to one or a change.
 
 Compiled blocks are cached per machine, keyed by their start and their
 words, so the same image loaded again (in this emulator or another) binds
@@ -31,6 +32,7 @@ from ._block_dispatch import checked_fused_source, dispatcher_source, writes_mem
 from ._block_translator import MAYBE, NEXT, BlockPlan, block_source, successor
 from ._emitter import compile_generated
 from ._line_gates import per_machine
+from ._lookout import AFTER, BEFORE
 from ._microstep_compiler import Fallback, compile_machine
 
 __all__ = ["BlockRunner", "HOT_THRESHOLD", "MAX_BLOCK_INSTRUCTIONS", "WARM_UP_CYCLES"]
@@ -87,18 +89,19 @@ class _MachineBlocks:
                                               f"{self.machine.name}_checked_fused{counting}")
         return self._checked
 
-    def compiled_block(self, plan: BlockPlan, loops: bool) -> tuple:
+    def compiled_block(self, plan: BlockPlan, loops: bool, watched: tuple[int, ...] = ()) -> tuple:
         """(code, cycles of its longest way through, whether it was compiled just now).
 
-        Compiled once per start, words and whether it may loop back to its start.
+        Compiled once per start, words, whether it may loop back to its start and
+        the slots it watches.
         """
-        key = (plan.start, plan.words, loops)
+        key = (plan.start, plan.words, loops, watched)
         entry = self.code.get(key)
         if entry is not None:
             return (*entry, False)
-        source, most = block_source(self.machine, plan, loops, self.layout)
+        source, most = block_source(self.machine, plan, loops, self.layout, watched)
         name = f"{self.machine.name}_block_{plan.start:04x}{'' if loops else '_no_loop'}" \
-               f"{'' if self.layout is None else '_counting'}"
+               f"{'_watching' if watched else ''}{'' if self.layout is None else '_counting'}"
         entry = self.code[key] = (compile_generated(source, name), most)
         if len(self.code) > CACHE_BLOCKS:
             self.code.popitem(last=False)
@@ -171,24 +174,31 @@ class BlockRunner:
         self._cmap = None
         self._checked = None
         self._active: dict[int, tuple[int, object]] = {}
+        self._span: tuple[int, int, object] | None = None
+        """(low, high, memory[low:high]) around every block in place at the last full check."""
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
         self._stops: bytes | None = None
+        self._slots: tuple[int, ...] = ()
         self._watched: frozenset[int] = frozenset()
-        self.stored = [False]
-        """Set by a store to a watched word; the watching loop returns after that instruction."""
+        self.noticed = [False]
+        """Set by a store to a watched word or by a watching block that saw a watched slot change;
+        the watching loop returns after that instruction."""
         self._no_stops = bytes(len(machine.decode_table))
         self._loops = _build(self._shared.dispatcher, s, memory, self._table, self._hits, self._shared.ends,
                              self._translate, Fallback, *self._counted(words=True, sites=False))
 
     def run(self, budget: int, points: frozenset, stops: bytes | None = None,
             watched: frozenset[int] = frozenset(), unchanged: bool = False,
-            changed=None) -> tuple[int, int, bool]:
+            changed=None, slots: tuple[int, ...] = ()) -> tuple[int, int, bool]:
         """Run blocks and fused instructions within ``budget`` cycles; (cycles, instructions, hit).
 
         ``hit``: stopped at a breakpoint, at a boundary around an instruction
-        that ``stops`` marks (see ``Lookout``), or after a store to a
-        ``watched`` word. ``unchanged``: nothing but this runner has run since
+        that ``stops`` marks (see ``Lookout``), after a store to a ``watched``
+        word, or once ``changed()``: one of the watched ``slots`` no longer
+        holds the value it had when the lookout was taken (the stops mark
+        the instructions that may write one).
+        ``unchanged``: nothing but this runner has run since
         its last call, so its blocks still match memory without a look.
         """
         watching = bool(points) or stops is not None or bool(watched)
@@ -199,11 +209,11 @@ class BlockRunner:
         if self._loops is None:
             self._start()
         if not unchanged:
-            self._check_blocks(points, stops, watched)
+            self._check_blocks(points, stops, watched, slots)
         if not watching:
             return self._loops[0](budget, points, self._fused(), self.threshold)
-        self.stored[0] = False
-        return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.stored,
+        self.noticed[0] = False
+        return self._loops[1](budget, points, self._fused(), self.threshold, stops or self._no_stops, self.noticed,
                               changed or _never)
 
     def _counted(self, words: bool, sites: bool) -> tuple:
@@ -219,20 +229,29 @@ class BlockRunner:
 
     # ----- keeping blocks valid
 
-    def _check_blocks(self, points: frozenset, stops: bytes | None, watched: frozenset[int]) -> None:
-        """Drop blocks whose words memory no longer holds, and all of them when breakpoints or
-        stop words changed (blocks are split at them); mark watched words in the code map."""
+    def _check_blocks(self, points: frozenset, stops: bytes | None, watched: frozenset[int],
+                      slots: tuple[int, ...]) -> None:
+        """Drop blocks whose words memory no longer holds, and all of them when breakpoints,
+        stop words or watched slots changed (blocks are split at them, or test them);
+        mark watched words in the code map."""
         memory = self._state[1]
         if watched != self._watched:
             self._watch_words(watched)
-        if points != self._points or stops != self._stops:
-            self._points, self._stops = points, stops
+        if points != self._points or stops != self._stops or slots != self._slots:
+            self._points, self._stops, self._slots = points, stops, slots
             for start in list(self._active):
                 self._drop(start, soon=True)
             return
+        if self._span is not None:
+            low, high, words = self._span
+            if memory[low:high] == words:
+                return
         for start, (end, words) in list(self._active.items()):
             if memory[start:end] != words:
                 self._drop(start, soon=False)
+        if self._active:
+            low, high = min(self._active), max(end for end, _words in self._active.values())
+            self._span = (low, high, memory[low:high])
 
     def _watch_words(self, watched: frozenset[int]) -> None:
         """Count watched words in the code map, so that a store to one calls ``_invalidate``."""
@@ -250,13 +269,13 @@ class BlockRunner:
         block, or is watched: the block then leaves after the current instruction.
         """
         if self._watched and not self._watched.isdisjoint(addresses):
-            self.stored[0] = True
+            self.noticed[0] = True
         for address in addresses:
             if self._cmap[address]:
                 for start in [b for b, (end, _w) in self._active.items() if b <= address < end]:
                     self._invalidations[start] += 1
                     self._drop(start, soon=False)
-        return self.stored[0] or any(low <= address < high for address in addresses)
+        return self.noticed[0] or any(low <= address < high for address in addresses)
 
     def _drop(self, start: int, soon: bool) -> None:
         end, _words = self._active.pop(start)
@@ -282,14 +301,16 @@ class BlockRunner:
             self._checked = [c if c is not None else f for c, f in zip(checked, self._plain)]
 
     def _plan(self, start: int) -> BlockPlan | None:
-        """The block at ``start``: it ends before a breakpoint; a stop word is a block of its own
-        (so a block that loops or leaves early never passes one, and one that ends after it says so)."""
+        """The block at ``start``: it ends before a breakpoint; an instruction asked around is a
+        block of its own (so a block that loops or leaves early never passes one, and one that
+        ends after it says so). Writers of watched slots stay inside: the block tests them."""
         machine, memory, shared = self.machine, self._state[1], self._shared
-        decode, size, stops = machine.decode_table, machine.memory_words, self._stops
+        decode, size = machine.decode_table, machine.memory_words
+        stops = self._stops if self._stops is not None else self._no_stops
         address, instructions = start, []
         while len(instructions) < MAX_BLOCK_INSTRUCTIONS and address < size:
             word = memory[address]
-            if address != start and (address in self._points or stops is not None and stops[word]):
+            if address != start and (address in self._points or stops[word] & (AFTER | BEFORE)):
                 break
             index = decode[word]
             if index < 0:
@@ -299,7 +320,7 @@ class BlockRunner:
                 break
             instructions.append((address, ins))
             address += ins.word_count
-            if shared.successor[index] not in (NEXT, MAYBE) or stops is not None and stops[word]:
+            if shared.successor[index] not in (NEXT, MAYBE) or stops[word] & (AFTER | BEFORE):
                 break
         if not instructions:
             return None
@@ -317,14 +338,15 @@ class BlockRunner:
             return self._fused()
         s, memory, read_port, write_port = self._state
         self._code_map()
-        asks = 0 if self._stops is None else self._stops[plan.words[0]]
-        code, most, fresh = self._shared.compiled_block(plan, loops=start not in self._points and not asks)
+        asks = 0 if self._stops is None else self._stops[plan.words[0]] & (AFTER | BEFORE)
+        code, most, fresh = self._shared.compiled_block(plan, start not in self._points and not asks, self._slots)
         self.compiled += fresh
         block = _build(code, s, memory, read_port, write_port, self._cmap, self._invalidate,
-                       *self._counted(words=True, sites=True))
+                       *self._counted(words=True, sites=True), *[self.noticed] * bool(self._slots))
         self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
+        self._span = None       # it was read after the span: a check must compare it on its own
         for address in range(start, plan.end):
             self._cmap[address] += 1
         for address, _ins in plan.instructions[1:]:

@@ -68,7 +68,7 @@ class Emulator(_Observing, _Running, StateKeeping):
         self._run_free_stopping = bound.run_free_stopping
         self._halting, self._peek = bound.halting, bound.peek
         self._halting_steps = [halting_step(ins) for ins in machine.instructions]
-        self._stop_tables: dict[tuple, bytes] = {}
+        self._stop_tables: dict[tuple, tuple[bytes, tuple[int, ...]]] = {}
         self._max_fused = compiled.max_fused_cycles
         self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,
                                   bound.fused, self._run_free)

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from ..description import Instruction, Machine
 from ..description.notation import Assign, FlagsOnly, Mem, Name
 
-__all__ = ["AFTER", "BEFORE", "WRITES", "Lookout", "change_test", "stop_words", "stores_memory"]
+__all__ = ["AFTER", "BEFORE", "WRITES", "Lookout", "change_test", "stop_words", "stores_memory", "watched_slots"]
 
 
 @dataclass(frozen=True)
@@ -82,14 +82,18 @@ def stop_words(machine: Machine, lookout: Lookout) -> bytes:
 _change_tests: dict[tuple, object] = {}
 
 
-def change_test(machine: Machine, state: list, lookout: Lookout):
-    """A function true once a watched register or flag holds a value other than it does now.
+def watched_slots(machine: Machine, lookout: Lookout) -> tuple[int, ...]:
+    """The state slots of the lookout's registers and flags (a group's parts), in order."""
+    return tuple(sorted({machine.registers[n].slot if n in machine.registers else machine.flags[n].slot
+                         for n in _expanded(machine, lookout.registers)}))
 
-    Its code is made once per machine and set of names; the values are bound at each call.
+
+def change_test(machine: Machine, state: list, slots: tuple[int, ...]):
+    """A function true once a watched slot (``watched_slots``) holds a value other than it does now.
+
+    Its code is made once per machine and set of slots; the values are bound at each call.
     """
-    slots = sorted({machine.registers[n].slot if n in machine.registers else machine.flags[n].slot
-                    for n in _expanded(machine, lookout.registers)})
-    key = (id(machine), tuple(slots))
+    key = (id(machine), slots)
     factory = _change_tests.get(key)
     if factory is None:
         test = " or ".join(f"s[{slot}] != v{k}" for k, slot in enumerate(slots)) or "False"

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ._lookout import change_test, stop_words, stores_memory
+from ._lookout import change_test, stop_words, stores_memory, watched_slots
 
 __all__ = ["StopReason", "_Running"]
 
@@ -172,7 +172,7 @@ class _Running:
         """``run`` with a condition that has a lookout: asked only at its stop words, its
         watched stores, its ``within`` and after each instruction of the stepping path."""
         next_chunk = self.cycles + chunk_cycles
-        lookout, stops, changed = self._lookout(until)
+        lookout, stops, slots, changed = self._lookout(until)
         shortest = max(len(self.machine.fetch), 1)
         unchanged = False
         while True:
@@ -194,7 +194,8 @@ class _Running:
                 if limit >= 0:
                     blocks, _free, _watching, run_free_stopping = self._paths()
                     if blocks.enabled:
-                        cycles, count, hit = blocks.run(budget, points, stops, lookout.memory, unchanged, changed)
+                        cycles, count, hit = blocks.run(budget, points, stops, lookout.memory, unchanged, changed,
+                                                        slots)
                         unchanged = True
                     else:
                         cycles, count, hit = run_free_stopping(limit, stops, points, changed)
@@ -205,7 +206,7 @@ class _Running:
                         if until(self):
                             return StopReason("condition", self.pc)
                         if lookout.within is not None:
-                            lookout, stops, changed = self._lookout(until)
+                            lookout, stops, slots, changed = self._lookout(until)
                             unchanged = False
                     if hit or cycles > limit:
                         continue
@@ -221,11 +222,11 @@ class _Running:
                 if until(self):
                     return StopReason("condition", self.pc)
                 if lookout.within is not None:
-                    lookout, stops, changed = self._lookout(until)
+                    lookout, stops, slots, changed = self._lookout(until)
 
     def _lookout(self, until):
-        """The condition's lookout now, its stop words (made once per emulator and set) and
-        the test of its registers against their values now.
+        """The condition's lookout now, its stop words and watched slots (made once per
+        emulator and set) and the test of those slots against their values now.
 
         Without blocks, stores are not watched word by word: every
         instruction that may store is a stop word when memory is watched.
@@ -233,13 +234,14 @@ class _Running:
         lookout = until.lookout(self)
         stores = bool(lookout.memory) and not self.blocks.enabled
         key = (lookout.instructions, lookout.registers, stores)
-        table = self._stop_tables.get(key)
-        if table is None:
+        made = self._stop_tables.get(key)
+        if made is None:
             table = stop_words(self.machine, lookout)
             if stores:
                 table = bytes(a | b for a, b in zip(table, stores_memory(self.machine)))
-            self._stop_tables[key] = table
-        return lookout, table, change_test(self.machine, self._s, lookout)
+            made = self._stop_tables[key] = (table, watched_slots(self.machine, lookout))
+        table, slots = made
+        return lookout, table, slots, change_test(self.machine, self._s, slots)
 
     def _watcher(self, points, until, applied):
         """The check made after every instruction of a watched run.

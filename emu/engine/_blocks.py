@@ -176,6 +176,8 @@ class BlockRunner:
         self._active: dict[int, tuple[int, object]] = {}
         self._span: tuple[int, int, object] | None = None
         """(low, high, memory[low:high]) around every block in place at the last full check."""
+        self._span_pays = True
+        """False once the span differed while every block still matched, until a block is translated."""
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
         self._stops: bytes | None = None
@@ -242,14 +244,20 @@ class BlockRunner:
             for start in list(self._active):
                 self._drop(start, soon=True)
             return
-        if self._span is not None:
+        spanned = self._span is not None
+        if spanned:
             low, high, words = self._span
             if memory[low:high] == words:
                 return
+        active = len(self._active)
         for start, (end, words) in list(self._active.items()):
             if memory[start:end] != words:
                 self._drop(start, soon=False)
-        if self._active:
+        if spanned and len(self._active) == active:
+            # the words that changed lie between blocks (data the program or a sweep writes
+            # each run): the span would differ again, so blocks are compared one by one
+            self._span, self._span_pays = None, False
+        elif self._active and self._span_pays:
             low, high = min(self._active), max(end for end, _words in self._active.values())
             self._span = (low, high, memory[low:high])
 
@@ -346,7 +354,7 @@ class BlockRunner:
         self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
-        self._span = None       # it was read after the span: a check must compare it on its own
+        self._span, self._span_pays = None, True    # read after the span: compared on its own, then spanned
         for address in range(start, plan.end):
             self._cmap[address] += 1
         for address, _ins in plan.instructions[1:]:

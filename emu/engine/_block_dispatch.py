@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from ..description import Instruction, Machine
 from ..description.notation import Assign, Mem
-from ._block_translator import _Context, _KnownAccess, _store_check, _translate_instruction
+from ._known_instructions import _Context, _KnownAccess, _store_check, _translate_instruction
 from ._emitter import Emitter
 from ._machine_compiler import _MachineCompiler
 

@@ -82,14 +82,14 @@ step_places = per_machine(StepPlaces)
 @dataclass
 class CycleTrace:
     """A stretch of free cycles: the ``k``-th ran step ``places[k]`` (numbers of ``StepPlaces``),
-    ``fired[k]`` its gated lines that fired (absent when none did), and ``states[k]`` the values
-    it left in what it may write (``StepPlaces.writes``). ``start_cycle``/``start_time_ns``/``start_phase``
+    ``fired[k]`` its gated lines that fired (absent when none did); ``values`` holds, cycle after
+    cycle, the values each step left in what it may write (``StepPlaces.writes``). ``start_cycle``/``start_time_ns``/``start_phase``
     are where it began (a cycle boundary); ``after`` is the sequencer's count where it ended."""
     start_cycle: int
     start_time_ns: int
     start_phase: int
     places: list[int] = field(default_factory=list)
-    states: list[tuple] = field(default_factory=list)
+    values: list[int] = field(default_factory=list)
     fired: dict[int, tuple[str, ...]] = field(default_factory=dict)
     after: int = 0
 
@@ -111,8 +111,8 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     halting = [n in table.halts for n in range(len(table.places))]
     gate_of = [emu._gates.gates.get(place) for place in table.places]
     readers = table.readers
-    places, states, fired = trace.places, trace.states, trace.fired
-    put_place, put_state = places.append, states.append
+    places, fired = trace.places, trace.fired
+    put_place, put_values = places.append, trace.values.extend
     n = number[emu._seq]
     address = emu._instruction_address
     finished = 0
@@ -125,7 +125,6 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                 lines = gate()
                 if lines:
                     fired[len(places)] = lines
-            put_place(n)
             if n == 0:
                 address = s[pc]
             following = static[n]
@@ -152,13 +151,14 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                 following = number[seq]
             if not following:
                 finished += 1
-            put_state(readers[n](s))
+            put_place(n)   # after the step: ``places`` counts the steps done, also when interrupted
+            put_values(readers[n](s))
             n = following
     finally:   # also when interrupted: the counters say what the steps did
         emu._instruction_address = address
         seq = table.places[n]
         emu._seq = seq
-        ran = len(states)
+        ran = len(places)
         if ran:
             emu.cycles += ran
             emu.instructions += finished

@@ -16,67 +16,13 @@ date as if the stretch had been stepped.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from operator import itemgetter
 
-from ..description import Instruction, Machine, Step
-from ..description.notation import Assign, FlagsOnly, Name
-from ._line_gates import per_machine
+from ._step_places import step_places
+from ._trace_chains import trace_chains
 
-__all__ = ["CycleTrace", "StepPlaces", "step_places", "trace_cycles"]
+__all__ = ["CycleTrace", "trace_cycles"]
 
 _FETCH_START = (-1, 0)
-
-
-class StepPlaces:
-    """Every micro-step of a machine numbered: ``places[n]`` is (instruction index or -1 for the
-    fetch, step index), ``number`` the reverse, ``steps[n]`` the description's step, ``shown[n]``
-    the sequencer's count at it (fetch steps first) and ``halts`` the numbers that drive halt."""
-
-    def __init__(self, machine: Machine):
-        self.places = [(-1, j) for j in range(len(machine.fetch))]
-        self.places += [(ins.index, k) for ins in machine.instructions for k in range(len(ins.steps))]
-        self.number = {place: n for n, place in enumerate(self.places)}
-        self.steps = [machine.fetch[k] if i < 0 else machine.instructions[i].steps[k] for i, k in self.places]
-        self.shown = [k if i < 0 else len(machine.fetch) + k for i, k in self.places]
-        self.halts = frozenset(n for n, step in enumerate(self.steps) if step.drives_halt)
-        names = [*machine.registers, *machine.flags]
-        position = {name: i for i, name in enumerate(names)}
-        self.slots = [machine.registers[name].slot for name in machine.registers]
-        self.slots += [flag.slot for flag in machine.flags.values()]
-        self.writes = [tuple(sorted(position[name] for name in _written(machine, step, None if i < 0 else
-                                                                        machine.instructions[i])))
-                       for (i, _k), step in zip(self.places, self.steps)]
-        """Per step, the positions (in ``names``: registers, then flags) of what it may write."""
-        self.readers = [_reader([self.slots[i] for i in positions]) for positions in self.writes]
-        """Per step, a function of the state giving the values at ``writes``."""
-
-
-def _reader(slots: list[int]):
-    if len(slots) > 1:
-        return itemgetter(*slots)
-    if slots:
-        slot = slots[0]
-        return lambda state: (state[slot],)
-    return lambda state: ()
-
-
-def _written(machine: Machine, step: Step, ins: Instruction | None) -> set[str]:
-    """Registers and flags ``step`` may write: a register field any register (or group) of its kind, a
-    group its parts."""
-    written: set[str] = set()
-    for st in step.statements:
-        if isinstance(st, (Assign, FlagsOnly)):
-            written.update(st.flags)
-        if isinstance(st, Assign) and isinstance(st.target, Name):
-            name = st.target.name
-            fld = ins.fields.get(name) if ins is not None else None
-            chosen = fld.kind.registers if fld is not None and fld.kind.is_register else (name,)
-            for one in chosen:
-                written.update(machine.groups[one].parts if one in machine.groups else (one,))
-    return written
-
-
-step_places = per_machine(StepPlaces)
 
 
 @dataclass
@@ -105,19 +51,46 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     trace = CycleTrace(emu.cycles, ring.time_ns, ring.index)
     s, pc, ir = emu._s, emu._pc, emu._ir
     fetch_steps, instruction_steps, jumps, groups = emu._fetch_steps, emu._instruction_steps, emu._jumps, emu._groups
-    decode, last_fetch = emu._decode, len(fetch_steps) - 1
+    decode = emu._decode
     run = [fetch_steps[k] if i < 0 else instruction_steps[i][k] for i, k in table.places]
-    static = [_static_next(table, emu, place) for place in table.places]
+    static = table.following
     halting = [n in table.halts for n in range(len(table.places))]
     gate_of = [emu._gates.gates.get(place) for place in table.places]
     readers = table.readers
     places, fired = trace.places, trace.fired
-    put_place, put_values = places.append, trace.values.extend
+    put_place, put_places, put_values = places.append, places.extend, trace.values.extend
+    chains = trace_chains(emu)
+    first_step = table.first_step
+    run_fetch, fetch_length, fetch_places = chains.fetch or (None, budget + 1, ())
+    chains = chains.at
     n = number[emu._seq]
     address = emu._instruction_address
     finished = 0
+    left = budget
     try:
-        for _ in range(budget):
+        while left > 0:
+            chain = chains[n]
+            if chain is not None and chain[1] <= left:
+                run_chain, length, chain_places, following = chain
+                put_values(run_chain())
+                put_places(chain_places)
+                left -= length
+                if not following:
+                    finished += 1
+                n = following
+                continue
+            if n == 0 and fetch_length <= left:   # the fetch steps at once, then decoding
+                address = s[pc]
+                put_values(run_fetch())
+                put_places(fetch_places)
+                left -= fetch_length
+                n = first_step[s[ir]]
+                if n <= 0:
+                    if n < 0:
+                        emu._count_undefined(address)
+                        n = 0
+                    finished += 1
+                continue
             if halting[n]:
                 break
             gate = gate_of[n]
@@ -153,6 +126,7 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                 finished += 1
             put_place(n)   # after the step: ``places`` counts the steps done, also when interrupted
             put_values(readers[n](s))
+            left -= 1
             n = following
     finally:   # also when interrupted: the counters say what the steps did
         emu._instruction_address = address
@@ -166,16 +140,3 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
             emu._released = False
     trace.after = table.shown[n]
     return trace
-
-
-def _static_next(table: StepPlaces, emu, place: tuple[int, int]) -> int:
-    """The number of the step that follows ``place`` whatever the state, or -1 where the state
-    decides (the last fetch step decodes; a jump; a decode group's deciding step).
-    Number 0 is the first fetch step."""
-    index, step = place
-    if index < 0:
-        return table.number[(-1, step + 1)] if step + 1 < len(emu._fetch_steps) else -1
-    group = emu._groups.get(index)
-    if emu._jumps[index][step] is not None or group is not None and step == group[0].decode_step:
-        return -1
-    return table.number[(index, step + 1)] if step + 1 < len(emu._instruction_steps[index]) else 0

@@ -6,10 +6,10 @@ it differs from the value last written for it; within a trace that is the
 value the previous write of the same signal left, so sorting the values by
 signal (stably, keeping cycle order) and comparing each with its
 predecessor finds every change without a Python loop per cycle. The
-sequencer's count is compared the same way. The text of a change is looked
-up per (signal, value), made once; the pieces of the dump are then placed
-cycle by cycle (template, changes in signal order, the count) by index
-arithmetic and joined once.
+sequencer's count is one more signal, written by every step. The text of a
+change is looked up per (signal, value), made once; the pieces of the dump
+are then placed cycle by cycle (template, changes in signal order, the
+count) by index arithmetic and joined once.
 """
 
 from __future__ import annotations
@@ -21,25 +21,47 @@ from ..engine import CycleTrace, StepPlaces
 __all__ = ["TracedChanges"]
 
 
-class _ChangeTexts(dict):
-    """``value * columns + column`` → the text of that change, made on first use.
+_TABLE_LIMIT = 1 << 21
+"""At most this many possible (signal, value) texts are kept in an array indexed by both; past
+it (registers wider than 16 bits) they are kept in a dict as they come."""
+
+
+class _ChangeTexts:
+    """The text of a change, by key ``offsets[column] + value``, made on first use.
 
     Columns are the recorder's registers and flags, then the sequencer's count; a ``%``
     in an identifier is doubled, since the joined text is a format string."""
 
-    def __init__(self, codes: list[str], wide: list[bool]):
-        super().__init__()
-        self.columns = len(codes)
-        self.suffixes = [(f" {code}\n" if is_wide else f"{code}\n").replace("%", "%%") for code, is_wide in zip(codes, wide)]
+    def __init__(self, codes: list[str], wide: list[bool], sizes: list[int]):
+        self.suffixes = [(f" {code}\n" if is_wide else f"{code}\n").replace("%", "%%")
+                         for code, is_wide in zip(codes, wide)]
         self.wide = wide
+        self.offsets = np.cumsum([0, *sizes[:-1]])
+        total = sum(sizes)
+        self.table = np.empty(total, dtype=object) if total <= _TABLE_LIMIT else None
+        self.known = np.zeros(total, dtype=bool) if self.table is not None else None
+        self.made: dict[int, str] = {}
 
-    def __missing__(self, key: int) -> str:
-        value, column = divmod(key, self.columns)
-        text = self[key] = f"b{value:b}{self.suffixes[column]}" if self.wide[column] else f"{value:d}{self.suffixes[column]}"
-        return text
+    def _make(self, key: int) -> str:
+        column = int(np.searchsorted(self.offsets, key, side="right")) - 1
+        value = key - int(self.offsets[column])
+        return f"b{value:b}{self.suffixes[column]}" if self.wide[column] else f"{value:d}{self.suffixes[column]}"
 
-    def of(self, keys: np.ndarray) -> list[str]:
-        return list(map(self.__getitem__, keys.tolist()))
+    def of(self, columns: np.ndarray, values: np.ndarray) -> np.ndarray:
+        """The texts of changes to ``values`` of ``columns``, as an array of objects."""
+        keys = self.offsets[columns] + values
+        table = self.table
+        if table is None:
+            made = self.made
+            texts = np.empty(len(keys), dtype=object)
+            texts[:] = [made[key] if key in made else made.setdefault(key, self._make(key)) for key in keys.tolist()]
+            return texts
+        new = keys[~self.known[keys]]
+        if len(new):
+            for key in np.unique(new).tolist():
+                table[key] = self._make(key)
+            self.known[new] = True
+        return table[keys]
 
 
 class TracedChanges:
@@ -48,12 +70,15 @@ class TracedChanges:
     def __init__(self, recorder, places: StepPlaces):
         writer = recorder.writer
         columns = [*recorder.datapath_vars, recorder.step]
-        self.texts = _ChangeTexts([writer.codes[var] for var in columns], [writer.wide[var] for var in columns])
-        self.step_column = len(columns) - 1
-        widest = max(1, *(len(positions) for positions in places.writes))
-        self.write_rows = np.full((len(places.writes), widest), -1, dtype=np.int16)
+        step_bits = max(writer.declared[recorder.step][3], max(places.shown).bit_length())
+        sizes = [1 << writer.declared[var][3] for var in recorder.datapath_vars] + [1 << step_bits]
+        self.texts = _ChangeTexts([writer.codes[var] for var in columns], [writer.wide[var] for var in columns], sizes)
+        widest = max(len(positions) for positions in places.writes)
+        self.write_rows = np.full((len(places.writes), widest + 1), -1, dtype=np.int16)
+        """Per step number, the columns it may write (padded with -1), then the sequencer's."""
         for n, positions in enumerate(places.writes):
             self.write_rows[n, :len(positions)] = positions
+        self.write_rows[:, -1] = len(columns) - 1
         self.write_counts = np.array([len(positions) for positions in places.writes], dtype=np.intp)
         self.shown = np.array(places.shown, dtype=np.int64)
 
@@ -63,41 +88,30 @@ class TracedChanges:
         recorder's order, then the sequencer's count); and the values and count left after.
         ``last_datapath`` False: the last step's changes are left out."""
         count = len(places)
-        columns = self.texts.columns
-        values = np.array(trace.values, dtype=np.int64)
-        counts = self.write_counts[places]
-        if not last_datapath:
-            values = values[:len(values) - counts[-1]]
-            counts = counts.copy()
-            counts[-1] = 0
+        values = np.fromiter(trace.values, dtype=np.int64, count=len(trace.values))
         rows = self.write_rows[places]
-        signal = rows[rows >= 0][:len(values)]
-        changed, seen_after = _changed(values, signal, np.array(seen, dtype=np.int64))
-        at = np.flatnonzero(changed)
-        change_cycles = np.repeat(np.arange(count), counts)[at]
-        change_texts = self.texts.of(values[at] * columns + signal[at])
-
+        written = rows >= 0
+        if not last_datapath:
+            values = values[:len(values) - self.write_counts[places[-1]]]
+            written[-1, :-1] = False
         shown = self.shown[places]
-        following = np.empty(count, dtype=np.int64)
-        following[:-1] = shown[1:]
-        following[-1] = trace.after if last_datapath else shown[-1]
-        before = np.empty_like(following)
-        before[0] = step_now
-        before[1:] = following[:-1]
-        step_changed = following != before
-        step_cycles = np.flatnonzero(step_changed)
-        step_texts = self.texts.of(following[step_cycles] * columns + self.step_column)
-
-        per_cycle = np.bincount(change_cycles, minlength=count)
-        pieces = 1 + per_cycle + step_changed
-        ends = np.cumsum(pieces)
-        firsts = ends - pieces
-        out = np.empty(int(ends[-1]), dtype=object)
-        out[firsts] = templates
-        first_change = np.cumsum(per_cycle) - per_cycle
-        out[firsts[change_cycles] + 1 + np.arange(len(at)) - first_change[change_cycles]] = change_texts
-        out[ends[step_cycles] - 1] = step_texts
-        return "".join(out.tolist()), tuple(seen_after.tolist()), int(following[-1])
+        full = np.empty(rows.shape, dtype=np.int64)
+        full[:-1, -1] = shown[1:]
+        full[-1, -1] = trace.after if last_datapath else shown[-1]
+        datapath = written.copy()
+        datapath[:, -1] = False
+        full[datapath] = values
+        column, value = rows[written], full[written]
+        changed, after = _changed(value, column, np.array((*seen, step_now), dtype=np.int64))
+        at = np.flatnonzero(changed)
+        positions = np.arange(len(at)) + np.nonzero(written)[0][at] + 1
+        out = np.empty(count + len(at), dtype=object)
+        out[positions] = self.texts.of(column[at], value[at])
+        is_template = np.ones(len(out), dtype=bool)
+        is_template[positions] = False
+        out[is_template] = templates
+        after = after.tolist()
+        return "".join(out.tolist()), tuple(after[:-1]), after[-1]
 
 
 def _changed(values: np.ndarray, signal: np.ndarray, seen: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

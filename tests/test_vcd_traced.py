@@ -78,3 +78,18 @@ def test_a_long_run_is_traced_and_reads_back(name, tmp_path):
     ours, theirs = VCDVCD(str(tmp_path / "traced.vcd")), VCDVCD(str(tmp_path / "stepped.vcd"))
     assert sum(len(ours[s].tv) for s in ours.signals) > 10_000
     assert {s: ours[s].tv for s in ours.signals} == {s: theirs[s].tv for s in theirs.signals}
+
+
+@pytest.mark.parametrize("name, window", [("ref8", {}), ("acc12", {"start": 7, "cycles": 9_000}),
+                                          ("skep", {"cycles": 9_001})])
+def test_a_trace_longer_than_the_writer_takes_at_once_is_the_phase_by_phase_dump(name, window, tmp_path):
+    """Thousands of cycles in one trace are written a slice at a time: the values, the sequencer's
+    count and the times carry over from slice to slice, and a window may end inside the last."""
+    machine = MACHINES[name]
+    words = [w for ins in machine.instructions if not ins.drives_halt and not ins.has_jumps
+             for w in ins.encode({n: 1 if f.kind.is_register else max(f.kind.low, 0) for n, f in ins.fields.items()})]
+    words = words[:machine.memory_words // 2]
+    traced, used = dump(machine, words, tmp_path / "traced.vcd", stepping=False, run_cycles=10_000, **window)
+    stepped, _ = dump(machine, words, tmp_path / "stepped.vcd", stepping=True, run_cycles=10_000, **window)
+    assert used > 8_900
+    assert traced == stepped

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..engine import CycleTrace, StepPlaces
+from ..engine import StepPlaces
 
 __all__ = ["TracedChanges"]
 
@@ -82,13 +82,14 @@ class TracedChanges:
         self.write_counts = np.array([len(positions) for positions in places.writes], dtype=np.intp)
         self.shown = np.array(places.shown, dtype=np.int64)
 
-    def text(self, trace: CycleTrace, places: np.ndarray, templates: np.ndarray, seen: tuple, step_now: int,
-             last_datapath: bool) -> tuple[str, tuple, int]:
-        """Each cycle's template followed by what its step changed (registers and flags in the
-        recorder's order, then the sequencer's count); and the values and count left after.
+    def text(self, values: list[int], places: np.ndarray, templates: np.ndarray, seen: tuple, step_now: int,
+             after: int, last_datapath: bool) -> tuple[str, tuple, int]:
+        """Cycles that ran ``places``, leaving ``values`` (``CycleTrace.values``), with the sequencer's
+        count ``after`` them: each cycle's template followed by what its step changed (registers
+        and flags in the recorder's order, then the count); and the values and count left after.
         ``last_datapath`` False: the last step's changes are left out."""
         count = len(places)
-        values = np.fromiter(trace.values, dtype=np.int64, count=len(trace.values))
+        values = np.fromiter(values, dtype=np.int64, count=len(values))
         rows = self.write_rows[places]
         written = rows >= 0
         if not last_datapath:
@@ -97,7 +98,7 @@ class TracedChanges:
         shown = self.shown[places]
         full = np.empty(rows.shape, dtype=np.int64)
         full[:-1, -1] = shown[1:]
-        full[-1, -1] = trace.after if last_datapath else shown[-1]
+        full[-1, -1] = after if last_datapath else shown[-1]
         datapath = written.copy()
         datapath[:, -1] = False
         full[datapath] = values

@@ -20,6 +20,9 @@ from ._vcd_changes import TracedChanges
 
 __all__ = ["TracedCycles"]
 
+SLICE_CYCLES = 4096
+"""Cycles of a trace written at once."""
+
 
 class TracedCycles:
     """Writes traces into one ``VcdRecorder``'s dump; built once per recorder."""
@@ -107,28 +110,37 @@ class TracedCycles:
         """Write ``trace``; ``last_datapath`` False: without the changes its last step made
         (a window that ends there closes before the stepping path reports them).
 
-        The text is one format string (each cycle's template followed by its datapath's
-        changes, ``TracedChanges``) filled at once with every cycle's times, computed by numpy
-        from the cycle lengths."""
+        The text of ``SLICE_CYCLES`` cycles at a time is one format string (each cycle's
+        template followed by its datapath's changes, ``TracedChanges``) filled at once with
+        their times, computed by numpy from the cycle lengths; slices keep numpy's arrays
+        small enough to stay in the processor's cache."""
         recorder = self.recorder
+        writer = recorder.writer
         places = np.array(trace.places, dtype=np.intp)
         count = len(places)
         turn = self._turn_from(trace.start_phase)
         boundaries = np.array(turn)[np.arange(count) % len(turn)]
         lengths = self.length_of[boundaries]
-        starts = np.empty(count, dtype=np.int64)
+        starts = np.empty(count + 1, dtype=np.int64)
         starts[0] = trace.start_time_ns // recorder.unit_ns
-        np.cumsum(lengths[:-1], out=starts[1:])
+        np.cumsum(lengths, out=starts[1:])
         starts[1:] += starts[0]
-        times = (starts[:, None] + self.offset_table[boundaries]).ravel().tolist()
         templates = self.template_table[boundaries, places]
         for k, lines in trace.fired.items():
             templates[k] = self._template(int(boundaries[k]), int(places[k]), lines)
-        text, seen, step = self.changes.text(trace, places, templates, recorder.seen,
-                                             recorder.writer.values[recorder.step], last_datapath)
-        recorder.writer.flush()
-        recorder.writer.stream.write(text % tuple(times))
-        self._settle(emu, seen, step, int(starts[-1] + lengths[-1]))
+        value_ends = np.cumsum(self.changes.write_counts[places]).tolist()
+        shown = self.places.shown
+        seen, step = recorder.seen, writer.values[recorder.step]
+        writer.flush()
+        for first in range(0, count, SLICE_CYCLES):
+            end = min(first + SLICE_CYCLES, count)
+            values = trace.values[value_ends[first - 1] if first else 0:value_ends[end - 1]]
+            after = shown[trace.places[end]] if end < count else trace.after
+            text, seen, step = self.changes.text(values, places[first:end], templates[first:end], seen, step,
+                                                 after, last_datapath or end < count)
+            times = (starts[first:end, None] + self.offset_table[boundaries[first:end]]).ravel().tolist()
+            writer.stream.write(text % tuple(times))
+        self._settle(emu, seen, step, int(starts[-1]))
         self.cycles_written += count
 
     def _turn_from(self, boundary: int) -> list[int]:

@@ -1,4 +1,4 @@
-"""The datapath changes of a whole trace, found at once with numpy rather than cycle by cycle.
+"""The datapath changes of a stretch of traced cycles, found at once with numpy rather than cycle by cycle.
 
 A trace keeps, flat and in order, the values each cycle's step may write
 (``StepPlaces.writes``). The stepping path writes a register or flag when
@@ -8,8 +8,8 @@ signal (stably, keeping cycle order) and comparing each with its
 predecessor finds every change without a Python loop per cycle. The
 sequencer's count is one more signal, written by every step. The text of a
 change is looked up per (signal, value), made once; the pieces of the dump
-are then placed cycle by cycle (template, changes in signal order, the
-count) by index arithmetic and joined once.
+are then laid out as a table of a row a cycle (template, changes in signal
+order, the count), the changes kept read off it in order and joined once.
 """
 
 from __future__ import annotations
@@ -104,15 +104,17 @@ class TracedChanges:
         full[datapath] = values
         column, value = rows[written], full[written]
         changed, after = _changed(value, column, np.array((*seen, step_now), dtype=np.int64))
-        at = np.flatnonzero(changed)
-        positions = np.arange(len(at)) + np.nonzero(written)[0][at] + 1
-        out = np.empty(count + len(at), dtype=object)
-        out[positions] = self.texts.of(column[at], value[at])
-        is_template = np.ones(len(out), dtype=bool)
-        is_template[positions] = False
-        out[is_template] = templates
+        pieces = np.empty((count, rows.shape[1] + 1), dtype=object)
+        """Per cycle: its template, then the text of each column it changed."""
+        kept = np.zeros(pieces.shape, dtype=bool)
+        kept[:, 0] = True
+        changes = np.zeros(rows.shape, dtype=bool)
+        changes[written] = changed
+        kept[:, 1:] = changes
+        pieces[:, 0] = templates
+        pieces[:, 1:][changes] = self.texts.of(column[changed], value[changed])
         after = after.tolist()
-        return "".join(out.tolist()), tuple(after[:-1]), after[-1]
+        return "".join(pieces[kept].tolist()), tuple(after[:-1]), after[-1]
 
 
 def _changed(values: np.ndarray, signal: np.ndarray, seen: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -62,6 +62,7 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     chains = trace_chains(emu)
     first_step = table.first_step
     run_fetch, fetch_length, fetch_places = chains.fetch or (None, budget + 1, ())
+    run_whole, longest = chains.run_whole, chains.longest or budget + 1
     chains = chains.at
     n = number[emu._seq]
     address = emu._instruction_address
@@ -79,6 +80,12 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                     finished += 1
                 n = following
                 continue
+            if n == 0 and longest <= left:
+                left, done, last = run_whole(left, put_values, put_places)
+                if done:
+                    finished += done
+                    address = last
+                    continue
             if n == 0 and fetch_length <= left:   # the fetch steps at once, then decoding
                 address = s[pc]
                 put_values(run_fetch())

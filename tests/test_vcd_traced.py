@@ -15,11 +15,11 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from vcdvcd import VCDVCD
 
-from emu import Observer
+from emu import Observer, load_machine
 from emu.testing import programs
 from emu.timing import record_vcd
 
-from engine_support import MACHINES, boot
+from engine_support import MACHINE_FILES, MACHINES, boot
 
 SETTINGS = settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow,
                                                                            HealthCheck.function_scoped_fixture])
@@ -47,6 +47,13 @@ def dump(machine, words, path, *, stepping: bool, run_cycles: int, **window) -> 
     return path.read_text(), 0 if traces is None else traces.cycles_written
 
 
+def straight_program(machine) -> list[int]:
+    """Every instruction that neither halts nor jumps, once, filling up to half the memory."""
+    words = [w for ins in machine.instructions if not ins.drives_halt and not ins.has_jumps
+             for w in ins.encode({n: 1 if f.kind.is_register else max(f.kind.low, 0) for n, f in ins.fields.items()})]
+    return words[:machine.memory_words // 2]
+
+
 @pytest.mark.parametrize("name", sorted(MACHINES))
 @SETTINGS
 @given(data=st.data())
@@ -68,9 +75,7 @@ def test_a_long_run_is_traced_and_reads_back(name, tmp_path):
     """A loop with no halt for thousands of cycles takes the traced path, and vcdvcd (PyPI)
     reads the same signals from it as from the phase-by-phase dump."""
     machine = MACHINES[name]
-    words = [w for ins in machine.instructions if not ins.drives_halt and not ins.has_jumps
-             for w in ins.encode({n: 1 if f.kind.is_register else max(f.kind.low, 0) for n, f in ins.fields.items()})]
-    words = words[:machine.memory_words // 2]
+    words = straight_program(machine)
     traced, used = dump(machine, words, tmp_path / "traced.vcd", stepping=False, run_cycles=3000)
     stepped, _ = dump(machine, words, tmp_path / "stepped.vcd", stepping=True, run_cycles=3000)
     assert used > 2000
@@ -86,10 +91,24 @@ def test_a_trace_longer_than_the_writer_takes_at_once_is_the_phase_by_phase_dump
     """Thousands of cycles in one trace are written a slice at a time: the values, the sequencer's
     count and the times carry over from slice to slice, and a window may end inside the last."""
     machine = MACHINES[name]
-    words = [w for ins in machine.instructions if not ins.drives_halt and not ins.has_jumps
-             for w in ins.encode({n: 1 if f.kind.is_register else max(f.kind.low, 0) for n, f in ins.fields.items()})]
-    words = words[:machine.memory_words // 2]
+    words = straight_program(machine)
     traced, used = dump(machine, words, tmp_path / "traced.vcd", stepping=False, run_cycles=10_000, **window)
     stepped, _ = dump(machine, words, tmp_path / "stepped.vcd", stepping=True, run_cycles=10_000, **window)
     assert used > 8_900
+    assert traced == stepped
+
+
+def test_a_register_too_wide_to_list_its_values_is_traced_the_same(tmp_path):
+    """The texts of changes are kept in a table by value while every register's values fit one;
+    a 24-bit register does not, and its machine's dump is still the phase-by-phase one."""
+    source = MACHINE_FILES["acc12"].read_text()
+    assert "[internal]\nir = 12\n" in source
+    path = tmp_path / "acc12_wide.toml"
+    path.write_text(source.replace("[internal]\nir = 12\n", "[internal]\nir = 12\nscratch = 24\n"))
+    machine = load_machine(path)
+    words = straight_program(machine)
+    traced, used = dump(machine, words, tmp_path / "traced.vcd", stepping=False, run_cycles=2_000)
+    stepped, _ = dump(machine, words, tmp_path / "stepped.vcd", stepping=True, run_cycles=2_000)
+    assert used > 1_500
+    assert "$var wire 24" in traced
     assert traced == stepped

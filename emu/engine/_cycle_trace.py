@@ -66,7 +66,6 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
     chains = chains.at
     n = number[emu._seq]
     address = emu._instruction_address
-    finished = 0
     left = budget
     try:
         while left > 0:
@@ -76,14 +75,11 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                 put_values(run_chain())
                 put_places(chain_places)
                 left -= length
-                if not following:
-                    finished += 1
                 n = following
                 continue
             if n == 0 and longest <= left:
-                left, done, last = run_whole(left, put_values, put_places)
-                if done:
-                    finished += done
+                left, last = run_whole(left, put_values, put_places)
+                if last >= 0:
                     address = last
                     continue
             if n == 0 and fetch_length <= left:   # the fetch steps at once, then decoding
@@ -92,11 +88,9 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                 put_places(fetch_places)
                 left -= fetch_length
                 n = first_step[s[ir]]
-                if n <= 0:
-                    if n < 0:
-                        emu._count_undefined(address)
-                        n = 0
-                    finished += 1
+                if n < 0:
+                    emu._count_undefined(address)
+                    n = 0
                 continue
             if halting[n]:
                 break
@@ -129,8 +123,6 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                             emu._count_undefined(address)
                     seq = (index, after) if index >= 0 and after < len(instruction_steps[index]) else _FETCH_START
                 following = number[seq]
-            if not following:
-                finished += 1
             put_place(n)   # after the step: ``places`` counts the steps done, also when interrupted
             put_values(readers[n](s))
             left -= 1
@@ -140,9 +132,9 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
         seq = table.places[n]
         emu._seq = seq
         ran = len(places)
-        if ran:
+        if ran:   # an instruction finished wherever the first fetch step came next
             emu.cycles += ran
-            emu.instructions += finished
+            emu.instructions += places.count(0) - (places[0] == 0) + (n == 0)
             ring.skip_cycles(ran)
             emu._released = False
     trace.after = table.shown[n]

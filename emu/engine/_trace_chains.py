@@ -124,13 +124,12 @@ def _chain_function(machine: Machine, table: StepPlaces, out: Emitter, name: str
 def _whole_runner(machine: Machine, out: Emitter, longest: int) -> None:
     """``run_whole``: whole instructions one after another, each chosen by the word the fetch will
     load (read before it, as the free runners do), while the next has a whole function and at least
-    ``longest`` cycles are left; returns the cycles left, the instructions run and the last one's address."""
+    ``longest`` cycles are left; returns the cycles left and the address of the last one run (-1: none)."""
     peek = _MachineCompiler(machine).peek_expression()
     pc = machine.registers[machine.program_counter].slot
     out.line()
     out.line("def run_whole(left, put_values, put_places):")
     with out.indent():
-        out.line("finished = 0")
         out.line("address = -1")
         out.line(f"while left >= {max(longest, 1)}:")
         with out.indent():
@@ -142,8 +141,7 @@ def _whole_runner(machine: Machine, out: Emitter, longest: int) -> None:
             out.line("put_values(run())")
             out.line("put_places(places)")
             out.line("left -= len(places)")
-            out.line("finished += 1")
-        out.line("return left, finished, address")
+        out.line("return left, address")
 
 
 class TraceChains:

@@ -78,9 +78,9 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                 n = following
                 continue
             if n == 0 and longest <= left:
-                left, last = run_whole(left, put_values, put_places)
-                if last >= 0:
-                    address = last
+                was = left
+                left = run_whole(left, put_values, put_places)
+                if left != was:   # at the next instruction's fetch: one that ``run_whole`` cannot take
                     continue
             if n == 0 and fetch_length <= left:   # the fetch steps at once, then decoding
                 address = s[pc]

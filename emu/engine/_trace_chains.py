@@ -124,24 +124,22 @@ def _chain_function(machine: Machine, table: StepPlaces, out: Emitter, name: str
 def _whole_runner(machine: Machine, out: Emitter, longest: int) -> None:
     """``run_whole``: whole instructions one after another, each chosen by the word the fetch will
     load (read before it, as the free runners do), while the next has a whole function and at least
-    ``longest`` cycles are left; returns the cycles left and the address of the last one run (-1: none)."""
+    ``longest`` cycles are left; returns the cycles left. (An instruction's address is kept only
+    while it runs, so none is noted here: each ends at a cycle boundary.)"""
     peek = _MachineCompiler(machine).peek_expression()
-    pc = machine.registers[machine.program_counter].slot
     out.line()
     out.line("def run_whole(left, put_values, put_places):")
     with out.indent():
-        out.line("address = -1")
         out.line(f"while left >= {max(longest, 1)}:")
         with out.indent():
             out.line(f"whole = by_word[{peek}]")
             out.line("if whole is None:")
             out.line("    break")
-            out.line(f"address = s[{pc}]")
             out.line("run, places = whole")
             out.line("put_values(run())")
             out.line("put_places(places)")
             out.line("left -= len(places)")
-        out.line("return left, address")
+        out.line("return left")
 
 
 class TraceChains:

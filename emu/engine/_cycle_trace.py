@@ -5,12 +5,14 @@ fast path will not do; but the stepping path pays for every phase of the
 ring and every hook. Between a cycle boundary and the next halt, while the
 hold line is low and the clock is nominal, nothing but the micro-steps
 varies: the ring, clock and times of each cycle follow from the phase
-table. ``trace_cycles`` runs such a stretch through the same compiled step
-functions as the stepping path and keeps, per cycle, which step ran (a
-place number), the gated lines that fired on it and the registers and
-flags after it. An observer that accepts traces (``Observer.accepts_trace``)
-turns that into its own output; the ring and counters are brought up to
-date as if the stretch had been stepped.
+table. ``trace_cycles`` runs such a stretch and keeps, per cycle, which
+step ran (a place number, ``_step_places``), the gated lines that fired on
+it and the registers and flags it may have written. Straight runs of steps
+and whole instructions go through generated recording variants
+(``_trace_chains``); the rest through the same compiled step functions as
+the stepping path. An observer that accepts traces
+(``Observer.accepts_trace``) turns that into its own output; the ring and
+counters are brought up to date as if the stretch had been stepped.
 """
 
 from __future__ import annotations
@@ -29,8 +31,9 @@ _FETCH_START = (-1, 0)
 class CycleTrace:
     """A stretch of free cycles: the ``k``-th ran step ``places[k]`` (numbers of ``StepPlaces``),
     ``fired[k]`` its gated lines that fired (absent when none did); ``values`` holds, cycle after
-    cycle, the values each step left in what it may write (``StepPlaces.writes``). ``start_cycle``/``start_time_ns``/``start_phase``
-    are where it began (a cycle boundary); ``after`` is the sequencer's count where it ended."""
+    cycle, the values each step left in what it may write (``StepPlaces.writes``).
+    ``start_cycle``/``start_time_ns``/``start_phase`` are where it began (a cycle boundary);
+    ``after`` is the sequencer's count where it ended."""
     start_cycle: int
     start_time_ns: int
     start_phase: int

@@ -17,6 +17,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from vcdvcd import VCDVCD
 
+import asm
 from emu import Observer, load_machine
 from emu.testing import programs
 from emu.timing import record_vcd
@@ -122,3 +123,28 @@ def test_a_register_too_wide_to_list_its_values_is_traced_the_same(tmp_path):
     assert traced.traced_cycles > 1_500
     assert "$var wire 24" in traced.text
     assert (traced.text, traced.counters) == (stepped.text, stepped.counters)
+
+
+def test_a_trace_cut_by_ctrl_c_is_in_the_dump_up_to_the_last_cycle_counted(tmp_path):
+    """Ctrl-C lands inside a traced stretch (here: a port read raises it, as a signal would
+    between two statements); the cycles it had counted are still written, so the dump ends
+    at the emulator's time with one rising clock edge for each of its cycles."""
+    machine = MACHINES["ref8"]
+    program = asm.assemble_text("top: in r0, 1\n  inc r1\n  add r2, r0\n  jmp top\n", machine)
+    emu = boot(machine, program.flat(), input_bytes=bytes(range(256)) * 8)
+    reads = []
+
+    def interrupt_at_the_thousandth(port, device):
+        reads.append(port)
+        if len(reads) == 1_000:
+            raise KeyboardInterrupt
+
+    emu.ports.listen(interrupt_at_the_thousandth)
+    path = tmp_path / "cut.vcd"
+    with pytest.raises(KeyboardInterrupt), record_vcd(emu, path) as recording:
+        emu.run(max_cycles=100_000)
+    assert recording.recorder.traces.cycles_written > 5_000
+    waves = VCDVCD(str(path))
+    rises = [t for t, level in waves["ref8.clock"].tv if level == "1"]
+    assert waves.endtime * 10_000_000 == emu.time_ns   # the unit: 10 ms
+    assert len(rises) == emu.cycles

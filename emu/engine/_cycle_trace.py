@@ -43,15 +43,16 @@ class CycleTrace:
     after: int = 0
 
 
-def trace_cycles(emu, budget: int) -> CycleTrace:
-    """Run up to ``budget`` cycles of ``emu`` from a cycle boundary, stopping before a step that
-    drives halt (the stepping path places the latch); the caller has checked that nothing else
-    can happen in them (hold line low, nominal clock, no counting of lines)."""
+def trace_cycles(emu, budget: int, trace: CycleTrace) -> None:
+    """Run up to ``budget`` cycles of ``emu`` from a cycle boundary into ``trace`` (begun there),
+    stopping before a step that drives halt (the stepping path places the latch); the caller has
+    checked that nothing else can happen in them (hold line low, nominal clock, no counting of
+    lines). Interrupted, ``trace`` still holds every step counted as run (``values`` may hold
+    some more, after theirs)."""
     machine = emu.machine
     table = step_places(machine)
     number = table.number
     ring = emu.ring
-    trace = CycleTrace(emu.cycles, ring.time_ns, ring.index)
     s, pc, ir = emu._s, emu._pc, emu._ir
     fetch_steps, instruction_steps, jumps, groups = emu._fetch_steps, emu._instruction_steps, emu._jumps, emu._groups
     decode = emu._decode
@@ -126,8 +127,8 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
                             emu._count_undefined(address)
                     seq = (index, after) if index >= 0 and after < len(instruction_steps[index]) else _FETCH_START
                 following = number[seq]
-            put_place(n)   # after the step: ``places`` counts the steps done, also when interrupted
             put_values(readers[n](s))
+            put_place(n)   # last: ``places`` counts the steps done, also when interrupted
             left -= 1
             n = following
     finally:   # also when interrupted: the counters say what the steps did
@@ -140,5 +141,4 @@ def trace_cycles(emu, budget: int) -> CycleTrace:
             emu.instructions += places.count(0) - (places[0] == 0) + (n == 0)
             ring.skip_cycles(ran)
             emu._released = False
-    trace.after = table.shown[n]
-    return trace
+        trace.after = table.shown[n]

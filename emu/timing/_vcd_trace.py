@@ -127,7 +127,8 @@ class TracedCycles:
         starts[1:] += starts[0]
         templates = self.template_table[boundaries, places]
         for k, lines in trace.fired.items():
-            templates[k] = self._template(int(boundaries[k]), int(places[k]), lines)
+            if k < count:   # not a step cut short by an interruption
+                templates[k] = self._template(int(boundaries[k]), int(places[k]), lines)
         value_ends = np.cumsum(self.changes.write_counts[places]).tolist()
         shown = self.places.shown
         seen, step = recorder.seen, writer.values[recorder.step]

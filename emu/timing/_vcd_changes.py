@@ -70,8 +70,9 @@ class TracedChanges:
     def __init__(self, recorder, places: StepPlaces):
         writer = recorder.writer
         columns = [*recorder.datapath_vars, recorder.step]
-        step_bits = max(writer.declared[recorder.step][3], max(places.shown).bit_length())
-        sizes = [1 << writer.declared[var][3] for var in recorder.datapath_vars] + [1 << step_bits]
+        bits = [size for _scope, _name, _kind, size, _code in writer.declared]
+        step_bits = max(bits[recorder.step], max(places.shown).bit_length())
+        sizes = [1 << bits[var] for var in recorder.datapath_vars] + [1 << step_bits]
         self.texts = _ChangeTexts([writer.codes[var] for var in columns], [writer.wide[var] for var in columns], sizes)
         widest = max(len(positions) for positions in places.writes)
         self.write_rows = np.full((len(places.writes), widest + 1), -1, dtype=np.int16)
@@ -103,9 +104,8 @@ class TracedChanges:
         datapath[:, -1] = False
         full[datapath] = values
         column, value = rows[written], full[written]
-        changed, after = _changed(value, column, np.array((*seen, step_now), dtype=np.int64))
+        changed, final = _changed(value, column, np.array((*seen, step_now), dtype=np.int64))
         pieces = np.empty((count, rows.shape[1] + 1), dtype=object)
-        """Per cycle: its template, then the text of each column it changed."""
         kept = np.zeros(pieces.shape, dtype=bool)
         kept[:, 0] = True
         changes = np.zeros(rows.shape, dtype=bool)
@@ -113,8 +113,8 @@ class TracedChanges:
         kept[:, 1:] = changes
         pieces[:, 0] = templates
         pieces[:, 1:][changes] = self.texts.of(column[changed], value[changed])
-        after = after.tolist()
-        return "".join(pieces[kept].tolist()), tuple(after[:-1]), after[-1]
+        final = final.tolist()
+        return "".join(pieces[kept].tolist()), tuple(final[:-1]), final[-1]
 
 
 def _changed(values: np.ndarray, signal: np.ndarray, seen: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -16,9 +16,11 @@ a trace that lands inside a chain (a jump, or a budget that cut one short)
 steps one by one to its end. The fetch steps make one more, and an
 instruction whose steps are one chain that ends it is also traced *whole*,
 fetch included: ``run_whole`` runs such instructions one after another,
-choosing each by the word the fetch will load, as the free runners do. The
-code is compiled once per machine and kept in the user's cache folder
-beside the machine's own.
+choosing each by the word the fetch will load, as the free runners do.
+Where that word names the register a step writes, the whole function
+records only that register (the step's narrowed copy, ``StepPlaces.variants``),
+not every register of the field's kind. The code is compiled once per
+machine and kept in the user's cache folder beside the machine's own.
 """
 
 from __future__ import annotations
@@ -26,6 +28,7 @@ from __future__ import annotations
 from ..description import Machine
 from ._code_cache import cached_code
 from ._emitter import Emitter, compile_generated
+from ._fused_functions import _first_word_fixed
 from ._line_gates import per_machine
 from ._machine_compiler import _MachineCompiler
 from ._state_access import _SlotAccess
@@ -37,13 +40,14 @@ __all__ = ["TraceChains", "trace_chains"]
 
 class _Runs:
     """The runs of one machine that get a generated function: ``chains`` (tuples of step numbers),
-    ``fetch`` (the fetch steps, or None when one of them drives halt or gates a line) and ``whole``
-    (instruction index → the fetch and all its steps, for an instruction whose steps are one chain
-    that ends it, or that has none)."""
+    ``fetch`` (the fetch steps, or None when one of them drives halt or gates a line), ``whole``
+    (the fetch and all the steps of an instruction whose steps are one chain that ends it, or that
+    has none; one run with its fields unknown and one per ``StepPlaces.variants`` entry) and
+    ``by_word`` (first word → its run in ``whole``, or -1)."""
 
     def __init__(self, table: StepPlaces, machine: Machine):
         following = table.following
-        size = len(table.places)
+        size = table.own
         plain = [n not in table.halts and not table.steps[n].gated_lines for n in range(size)]
         chained = [n > 0 and following[n] >= 0 and plain[n] for n in range(size)]
         entered = {following[n] for n in range(size) if chained[n]}
@@ -56,17 +60,28 @@ class _Runs:
                 self.chains.append(tuple(run))
         fetch = tuple(range(len(machine.fetch)))
         self.fetch = fetch if all(plain[n] for n in fetch) else None
-        self.whole: dict[int, tuple[int, ...]] = {}
-        if self.fetch is not None:
-            ending = {run[0]: run for run in self.chains if following[run[-1]] == 0}
-            for ins in machine.instructions:
-                if not ins.steps:
-                    self.whole[ins.index] = fetch
-                elif table.number[(ins.index, 0)] in ending:
-                    self.whole[ins.index] = fetch + ending[table.number[(ins.index, 0)]]
+        self.whole: list[tuple[int, ...]] = []
+        self.by_word = [-1] * len(machine.decode_table)
+        if self.fetch is None:
+            return
+        ending = {run[0]: run for run in self.chains if following[run[-1]] == 0}
+        made: dict[tuple, int] = {}
+        for word, index in enumerate(machine.decode_table):
+            ins = machine.instructions[index] if index >= 0 else None
+            if ins is None or ins.steps and table.number[(index, 0)] not in ending:
+                continue
+            fixed = _first_word_fixed(ins, word)
+            key = (index, tuple((name, fixed[name]) for name in table.chosen.get(index, ()) if name in fixed))
+            if key not in table.variants:
+                key = (index, ())
+            if key not in made:
+                steps = table.variants[key] if key[1] else ending[table.number[(index, 0)]] if ins.steps else ()
+                made[key] = len(self.whole)
+                self.whole.append(fetch + steps)
+            self.by_word[word] = made[key]
 
     def as_data(self) -> tuple:
-        return self.chains, self.fetch, sorted(self.whole.items())
+        return self.chains, self.fetch, self.whole, self.by_word
 
 
 @per_machine
@@ -86,16 +101,16 @@ def _chains_code(machine: Machine):
             names = [_chain_function(machine, table, out, f"chain_{run[0]}", run) for run in runs.chains]
             if runs.fetch is not None:
                 names.append(_chain_function(machine, table, out, "fetch", runs.fetch))
-            for index, run in sorted(runs.whole.items()):
-                names.append(_chain_function(machine, table, out, f"instruction_{index}", run))
-            _whole_runner(machine, out, max((len(run) for run in runs.whole.values()), default=0))
+            for k, run in enumerate(runs.whole):
+                names.append(_chain_function(machine, table, out, f"whole_{k}", run))
+            _whole_runner(machine, out, max(map(len, runs.whole), default=0))
             out.line(f"return [{''.join(name + ', ' for name in names)}run_whole]")
         code = compile_generated(out.source(), machine.name, f"{machine.name}_trace_chains")
         return runs.as_data(), code
 
     data, code = cached_code(machine, generate, "trace chains")
-    chains, fetch, whole = data
-    return [tuple(run) for run in chains], fetch and tuple(fetch), [(i, tuple(run)) for i, run in whole], code
+    chains, fetch, whole, by_word = data
+    return [tuple(run) for run in chains], fetch and tuple(fetch), [tuple(run) for run in whole], by_word, code
 
 
 def _chain_function(machine: Machine, table: StepPlaces, out: Emitter, name: str, run: tuple[int, ...]) -> str:
@@ -150,7 +165,7 @@ class TraceChains:
     ``_whole_runner``), and ``longest`` the cycles it needs left to run one."""
 
     def __init__(self, emu):
-        chains, fetch, whole, code = _chains_code(emu.machine)
+        chains, fetch, whole, by_word_run, code = _chains_code(emu.machine)
         namespace: dict = {}
         exec(code, namespace)
         by_word: list = []
@@ -161,10 +176,10 @@ class TraceChains:
             self.at[run[0]] = (function, len(run), run, following[run[-1]])
         functions = functions[len(chains):]
         self.fetch = None if fetch is None else (functions.pop(0), len(fetch), fetch)
-        by_index = {index: (function, run) for (index, run), function in zip(whole, functions)}
-        by_word.extend(by_index.get(index) for index in emu.machine.decode_table)
+        wholes = list(zip(functions, whole))
+        by_word.extend(wholes[k] if k >= 0 else None for k in by_word_run)
         self.run_whole = functions[-1]
-        self.longest = max((len(run) for _index, run in whole), default=0) or None
+        self.longest = max(map(len, whole), default=0) or None
 
 
 def trace_chains(emu) -> TraceChains:

@@ -82,6 +82,8 @@ class TracedChanges:
         self.write_rows[:, -1] = len(columns) - 1
         self.write_counts = np.array([len(positions) for positions in places.writes], dtype=np.intp)
         self.shown = np.array(places.shown, dtype=np.int64)
+        self.pieces = np.empty((0, widest + 2), dtype=object)
+        """Room for a slice's pieces, kept from slice to slice: only those a slice sets are read."""
 
     def text(self, values: list[int], places: np.ndarray, templates: np.ndarray, seen: tuple, step_now: int,
              after: int, last_datapath: bool) -> tuple[str, tuple, int]:
@@ -105,7 +107,9 @@ class TracedChanges:
         full[datapath] = values
         column, value = rows[written], full[written]
         changed, final = _changed(value, column, np.array((*seen, step_now), dtype=np.int64))
-        pieces = np.empty((count, rows.shape[1] + 1), dtype=object)
+        if len(self.pieces) < count:
+            self.pieces = np.empty((count, rows.shape[1] + 1), dtype=object)
+        pieces = self.pieces[:count]
         kept = np.zeros(pieces.shape, dtype=bool)
         kept[:, 0] = True
         changes = np.zeros(rows.shape, dtype=bool)

@@ -11,8 +11,10 @@ into one function a block (``_block_translator``, ``_block_dispatch``,
 latch, STEP, RESUME and RESET, and the two paths that run the compiled
 steps (``run`` itself in ``_run_loop``, observers and their windows in
 ``_observing``, free cycles for them as one compact trace in
-``_cycle_trace``); ``_lookout`` where a watched run must stop; ``_line_gates``
-which lines a step drives now, ``_line_tally`` counting them for wear on
+``_cycle_trace``, its steps numbered in ``_step_places`` and straight runs
+of them traced by generated functions from ``_trace_chains``); ``_lookout``
+where a watched run must stop; ``_line_gates`` which lines a step drives
+now, ``_line_tally`` counting them for wear on
 both paths; ``_clock_ring`` the phase table in simulated time; ``_ports`` the
 devices on the I/O bus; ``_snapshots`` the whole state as a file,
 ``_save_points`` kept in memory for ``rewind`` and ``reload``.
@@ -21,7 +23,8 @@ devices on the I/O bus; ``_snapshots`` the whole state as a file,
 from ._clock_ring import Ring
 from ._control_unit import Emulator, StopReason
 from ._observing import Observer
-from ._cycle_trace import CycleTrace, StepPlaces, step_places
+from ._cycle_trace import CycleTrace
+from ._step_places import StepPlaces, step_places
 from ._lookout import Lookout
 from ._microstep_compiler import CompiledMachine, Fallback, compile_machine
 from ._ports import Ports

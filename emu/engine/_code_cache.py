@@ -29,10 +29,11 @@ _NO_FAITHFUL_REPR = " at 0x"
 """In a repr, the mark of an object shown by its address: such a machine cannot be keyed."""
 
 
-def cached_code(machine: Machine, generate: Callable[[], tuple[str, object, int]]) -> tuple[str, object, int]:
-    """``generate()``'s (source, code, max_cycles) for this machine, from the cache when it holds them."""
+def cached_code(machine: Machine, generate: Callable[[], tuple], kind: str = "machine code") -> tuple:
+    """``generate()``'s result for this machine (for its whole code: source, code, max_cycles), from
+    the cache when it holds it; ``kind`` tells apart the pieces of code generated per machine."""
     description = repr(machine)
     if os.environ.get("RELAYBENCH_DUMP_CODE") or _NO_FAITHFUL_REPR in description:
         return generate()
-    key = entry_key("machine code", sources_fingerprint(*_GENERATOR_PACKAGES), description)
+    key = entry_key(kind, sources_fingerprint(*_GENERATOR_PACKAGES), description)
     return cached("code", key, generate, marshal.dumps, marshal.loads)

@@ -84,11 +84,15 @@ class _Observing:
         if (budget <= 0 or self.frozen or self.hold_line or self.ring.source is not None or self._tally is not None
                 or not self.ring.at_boundary or not all(o.accepts_trace(self) for o in observers)):
             return False
-        trace = trace_cycles(self, budget)
+        trace = CycleTrace(self.cycles, self.ring.time_ns, self.ring.index)
+        try:
+            trace_cycles(self, budget, trace)
+        finally:   # interrupted too: what ran is reported
+            if trace.places:
+                for observer in list(observers):
+                    observer.traced(self, trace)
         if not trace.places:
             return False
-        for observer in list(observers):
-            observer.traced(self, trace)
         self._attend()
         return True
 

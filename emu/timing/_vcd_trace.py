@@ -13,13 +13,15 @@ the two give the same file byte for byte.
 
 from __future__ import annotations
 
-from itertools import cycle
-
 import numpy as np
 
 from ..engine import CycleTrace, step_places
+from ._vcd_changes import TracedChanges
 
 __all__ = ["TracedCycles"]
+
+SLICE_CYCLES = 4096
+"""Cycles of a trace written at once."""
 
 
 class TracedCycles:
@@ -48,7 +50,11 @@ class TracedCycles:
                                      dtype=np.int64).reshape(size, self.most)
         self.cycles_written = 0
         """Cycles written from traces so far."""
-        self.templates = {boundary: _Templates(self, boundary) for boundary in self.cycles}
+        self.template_table = np.empty((size, len(self.places.steps)), dtype=object)
+        """[boundary, step number] → the template of a cycle with no gated line fired."""
+        for boundary in self.cycles:
+            self.template_table[boundary] = [self._template(boundary, n, ()) for n in range(len(self.places.steps))]
+        self.changes = TracedChanges(recorder, self.places)
 
     def _cycle(self, boundary: int, unit: int):
         """(the next boundary, the cycle's length in units, [(offset in units, what happens)])
@@ -104,54 +110,39 @@ class TracedCycles:
         """Write ``trace``; ``last_datapath`` False: without the changes its last step made
         (a window that ends there closes before the stepping path reports them).
 
-        The text is one format string (each cycle's template followed by its datapath's
-        changes) filled at once with every cycle's times, computed by numpy from the cycle lengths."""
+        The text of ``SLICE_CYCLES`` cycles at a time is one format string (each cycle's
+        template followed by its datapath's changes, ``TracedChanges``) filled at once with
+        their times, computed by numpy from the cycle lengths; slices keep numpy's arrays
+        small enough to stay in the processor's cache."""
         recorder = self.recorder
-        count = len(trace.places)
-        turn = self._turn_from(trace.start_phase)
-        boundaries = np.resize(np.array(turn), count)
-        lengths = self.length_of[boundaries]
-        starts = trace.start_time_ns // recorder.unit_ns + np.concatenate(([0], np.cumsum(lengths)[:-1]))
-        times = (starts[:, None] + self.offset_table[boundaries]).ravel().tolist()
-        texts, seen, step = self._cycles_text(trace, turn, last_datapath)
-        recorder.writer.flush()
-        recorder.writer.stream.write("".join(texts) % tuple(times))
-        self._settle(emu, seen, step, int(starts[-1] + lengths[-1]))
-        self.cycles_written += count
-
-    def _cycles_text(self, trace: CycleTrace, turn: list[int], last_datapath: bool):
-        """Per cycle, its template followed by what its step changed (registers and flags, then the
-        sequencer's count, compared as the stepping path does); and the values and count left."""
-        recorder, table = self.recorder, self.places
         writer = recorder.writer
-        shown, writes = table.shown, table.writes
-        codes, wide = writer.codes, writer.wide
-        texts = [(f" {codes[var]}\n".replace("%", "%%"), True) if wide[var]
-                 else (f"{codes[var]}\n".replace("%", "%%"), False) for var in recorder.datapath_vars]
-        step_code = f" {codes[recorder.step]}\n".replace("%", "%%")
-        seen = list(recorder.seen)
-        step_now = writer.values[recorder.step]
-        places, states = trace.places, trace.states
-        if not last_datapath:   # the stepping path closes the window before the last step's changes
-            states = states[:-1] + [()]
-        following = [shown[n] for n in places[1:]] + [trace.after if last_datapath else shown[places[-1]]]
-        out = []
-        put = out.append
-        by_boundary = [self.templates[boundary] for boundary in turn]
-        for templates, place, state, step in zip(cycle(by_boundary), places, states, following):
-            text = templates[place]
-            for i, new in zip(writes[place], state):
-                if seen[i] != new:
-                    seen[i] = new
-                    suffix, is_wide = texts[i]
-                    text += f"b{new:b}{suffix}" if is_wide else f"{new:d}{suffix}"
-            if step != step_now:
-                text += f"b{step:b}{step_code}"
-                step_now = step
-            put(text)
+        places = np.array(trace.places, dtype=np.intp)
+        count = len(places)
+        turn = self._turn_from(trace.start_phase)
+        boundaries = np.array(turn)[np.arange(count) % len(turn)]
+        lengths = self.length_of[boundaries]
+        starts = np.empty(count + 1, dtype=np.int64)
+        starts[0] = trace.start_time_ns // recorder.unit_ns
+        np.cumsum(lengths, out=starts[1:])
+        starts[1:] += starts[0]
+        templates = self.template_table[boundaries, places]
         for k, lines in trace.fired.items():
-            out[k] = self._template(turn[k % len(turn)], places[k], lines) + out[k][len(by_boundary[k % len(turn)][places[k]]):]
-        return out, tuple(seen), step_now
+            if k < count:   # not a step cut short by an interruption
+                templates[k] = self._template(int(boundaries[k]), int(places[k]), lines)
+        value_ends = np.cumsum(self.changes.write_counts[places]).tolist()
+        shown = self.places.shown
+        seen, step = recorder.seen, writer.values[recorder.step]
+        writer.flush()
+        for first in range(0, count, SLICE_CYCLES):
+            end = min(first + SLICE_CYCLES, count)
+            values = trace.values[value_ends[first - 1] if first else 0:value_ends[end - 1]]
+            after = shown[trace.places[end]] if end < count else trace.after
+            text, seen, step = self.changes.text(values, places[first:end], templates[first:end], seen, step,
+                                                 after, last_datapath or end < count)
+            times = (starts[first:end, None] + self.offset_table[boundaries[first:end]]).ravel().tolist()
+            writer.stream.write(text % tuple(times))
+        self._settle(emu, seen, step, int(starts[-1]))
+        self.cycles_written += count
 
     def _turn_from(self, boundary: int) -> list[int]:
         """The boundaries of a turn of the ring, in order from ``boundary``."""
@@ -173,14 +164,3 @@ class TracedCycles:
             values[var] = int(stage in lit)
         recorder.writer.now = recorder.writer.written_now = now
 
-
-class _Templates(dict):
-    """Step number → the template of a cycle from one boundary with no gated line fired, made on first use."""
-
-    def __init__(self, cycles: TracedCycles, boundary: int):
-        super().__init__()
-        self.cycles, self.boundary = cycles, boundary
-
-    def __missing__(self, place: int) -> str:
-        text = self[place] = self.cycles._template(self.boundary, place, ())
-        return text

@@ -219,6 +219,37 @@ def test_a_window_records_exactly_its_cycles(tmp_path):
     assert rises[0] // cycle == 100 and rises[-1] // cycle == 139   # one rise per cycle, cycles 100…139
 
 
+def test_a_window_states_its_values_where_it_opens_and_ends_where_it_closes(tmp_path):
+    """Read back by vcdvcd (PyPI): the initial values are dated at the window's first cycle, not
+    at 0, and nothing is dated after its last cycle although the run went on."""
+    emu = Emulator(MACHINES["ref8"])
+    _endless_loop(emu)
+    path = tmp_path / "window.vcd"
+    with record_vcd(emu, path, start=100, cycles=40):
+        emu.run(max_cycles=500)
+    cycle = emu.machine.cycle_ns
+    dump = VCDVCD(str(path))
+    unit = round(dump.timescale["timescale"] * 10 ** 9)
+    times = sorted({t * unit for signal in dump.signals for t, _v in dump[signal].tv})
+    assert times[0] == 100 * cycle                  # $dumpvars at the window's start
+    assert dump.endtime * unit <= 140 * cycle < emu.time_ns
+
+
+def test_a_window_the_run_never_reaches_is_said_and_holds_the_end_state(tmp_path):
+    emu = Emulator(MACHINES["ref8"])
+    import asm
+    emu.load(asm.assemble_text("  li r0, 7\n  halt\n", emu.machine).segments)
+    said = []
+    path = tmp_path / "late.vcd"
+    with record_vcd(emu, path, start=10_000, cycles=40, warn=said.append):
+        emu.run(max_cycles=500)
+    assert said == [f"the run ended at cycle {emu.cycles:,}, before the waveform's window opened "
+                    f"(cycle 10,000): the file holds only the state at the end"]
+    dump = VCDVCD(str(path))
+    unit = round(dump.timescale["timescale"] * 10 ** 9)
+    assert [(t * unit, int(v, 2)) for t, v in dump["ref8.registers.r0"].tv] == [(emu.time_ns, 7)]   # not at 0
+
+
 def test_a_large_window_is_announced_with_an_estimate(tmp_path, monkeypatch):
     """Before: no word before writing gigabytes (a full dump of a long program is 1.68 GB)."""
     from emu.timing import _vcd

@@ -73,18 +73,21 @@ class _DumpWriter:
     with every initial value, then each later time ``#t`` followed by the
     values that changed at it: ``0!``/``1!`` for a 1-bit wire, ``b1010 !``
     for a wider one. A change to the value a variable already has is left
-    out; changes made at time 0 before any later one set the initial values
-    (as pyvcd, which wrote the dumps before, does).
+    out; changes made at the first time before any later one set the initial
+    values (as pyvcd, which wrote the dumps before, does). The first time is
+    when recording began: 0 from power-on, later for a window.
     """
 
-    def __init__(self, stream, unit_ns: int, comment: str):
+    def __init__(self, stream, unit_ns: int, comment: str, start_ns: int = 0):
         self.stream, self.unit, self.comment = stream, unit_ns, comment
+        self.first = start_ns // unit_ns
+        """The time the dump starts at: its initial values are stated there, not at 0."""
         self.declared: list[tuple[str, str, str, int, str]] = []
         self.values: list[int] = []
         self.wide: list[bool] = []
         self.codes: list[str] = []
         self.scalars: list[tuple[str, str]] = []
-        self.now = 0
+        self.now = self.first
         self.written_now: int | None = None
         self.started = False
         self.out: list[str] = []
@@ -125,10 +128,10 @@ class _DumpWriter:
             lines += by_scope[scope]
             open_scope = scope
         lines += ["$upscope $end"] * len(open_scope)
-        lines += ["$enddefinitions $end", "#0", "$dumpvars"]
+        lines += ["$enddefinitions $end", f"#{self.first}", "$dumpvars"]
         lines += [self._text(var, value) for var, value in enumerate(self.values)]
         lines.append("$end")
-        self.written_now = 0
+        self.written_now = self.first
         self.stream.write("\n".join(lines) + "\n")
 
     def change(self, var: int, time_ns: int, value: int) -> None:
@@ -155,9 +158,10 @@ class _DumpWriter:
             self.stream.write("\n".join(self.out))
             self.out.clear()
 
-    def close(self, time_ns: int) -> None:
-        """Everything written, ending with the time the recording ended at."""
-        t = time_ns // self.unit
+    def close(self, time_ns: int | None) -> None:
+        """Everything written, ending with the time the recording ended at (None: the last
+        time a change came, for a window that closed before the run ended)."""
+        t = self.now if time_ns is None else time_ns // self.unit
         if not self.started:
             self._start()
         if t > self.now:
@@ -185,7 +189,8 @@ class VcdRecorder(Observer):
         machine = emu.machine
         self.machine = machine
         self.unit_ns = fitted_unit_ns(emu) if unit_ns is None else unit_ns
-        self.writer = writer = _DumpWriter(stream, self.unit_ns, f"relaybench waveform of machine {machine.name}")
+        self.writer = writer = _DumpWriter(stream, self.unit_ns, f"relaybench waveform of machine {machine.name}",
+                                           emu.time_ns)
         top = machine.name
         wire = lambda scope, name, init=0: writer.var(scope, name, "wire", 1, init)
         self.clock = wire(top, "clock")
@@ -208,8 +213,10 @@ class VcdRecorder(Observer):
         self.phase_lit = [frozenset(p.ring) for p in machine.phases]
         self.traces: TracedCycles | None = None
 
-    def close(self, emu: Emulator) -> None:
-        self.writer.close(emu.time_ns)
+    def close(self, emu: Emulator, ended: bool = True) -> None:
+        """The dump ends at the emulator's time now, or (``ended`` False: a window that closed
+        earlier) at the last change it saw."""
+        self.writer.close(emu.time_ns if ended else None)
 
     # -- what changed
 
@@ -339,9 +346,12 @@ class VcdWindow(Observer):
                       f"goes on; --vcd-from and --vcd-cycles record a window")
 
     def close(self, emu: Emulator) -> None:
-        if self.recorder is None:
-            self.recorder = VcdRecorder(emu, self.stream, self.unit_ns)   # a window the run never reached: an empty dump
-        self.recorder.close(emu)
+        if self.recorder is None:       # a window the run never reached: the state at the end, said so
+            if self.warn is not None:
+                self.warn(f"the run ended at cycle {emu.cycles:,}, before the waveform's window opened "
+                          f"(cycle {self.start:,}): the file holds only the state at the end")
+            self.recorder = VcdRecorder(emu, self.stream, self.unit_ns)
+        self.recorder.close(emu, ended=self.end is None or emu.cycles <= self.end)
 
     def phase(self, emu, index):
         if self._open_if_due(emu):

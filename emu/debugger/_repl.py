@@ -92,24 +92,27 @@ def _banner(session) -> str:
 
 def run_script(session, lines, write=print) -> int:
     """Commands from a file or a pipe (``relaybench debug prog.asm < steps.txt``), echoed
-    after the prompt so the transcript reads like a session; returns the exit status."""
+    after the prompt so the transcript reads like a session; returns the exit status:
+    1 when a command was refused (a script that went wrong must not pass a CI step), else 0."""
     write(_banner(session))
     session.announce = None
     session.width = PIPED_WIDTH
+    refused = False
     for line in lines:
         command = line.rstrip("\n")
         write(f"{session.machine.name}> {command}")
         if command.strip().lower() == "live" or command.strip().lower().startswith("live "):
-            write("error: live mode needs a terminal")
-            continue
-        with ctrl_c_is_the_stop_switch(session):
-            text = session.execute(command)
+            text = "error: live mode needs a terminal"
+        else:
+            with ctrl_c_is_the_stop_switch(session):
+                text = session.execute(command)
         if text:
             write(text)
+            refused |= text.startswith("error:")
         if session.finished:
             break
     session.close()
-    return 0
+    return 1 if refused else 0
 
 
 def run_repl(session, *, input=None, output=None, write=print) -> int:

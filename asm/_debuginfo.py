@@ -53,6 +53,7 @@ from emu.description import Table, is_integer, shipped_machines
 
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
+from ._json_layout import indented_json
 
 __all__ = ["Expect", "LineEntry", "DebugInfo", "DebugMachine", "debug_dict", "debug_text", "write_debug", "read_debug",
            "read_debug_machine",
@@ -187,7 +188,7 @@ def _relative(name: str, folder: str | None) -> str:
 def debug_text(program, path) -> str:
     """The debug file's content for ``program``, its file names relative to ``path``'s folder."""
     folder = os.path.dirname(os.path.abspath(path))
-    return json.dumps(debug_dict(program, relative_to=folder), indent=1) + "\n"
+    return indented_json(debug_dict(program, relative_to=folder)) + "\n"
 
 
 def write_debug(program, path) -> None:

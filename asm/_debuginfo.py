@@ -50,10 +50,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from emu.description import Table, is_integer, shipped_machines
+from emu.files import indented_json
 
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
-from ._json_layout import indented_json
 
 __all__ = ["Expect", "LineEntry", "DebugInfo", "DebugMachine", "debug_dict", "debug_text", "write_debug", "read_debug",
            "read_debug_machine",

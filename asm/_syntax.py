@@ -264,22 +264,39 @@ def _syntax_message(exc: lark.UnexpectedInput, line_text: str) -> tuple[int, str
     return len(line_text) + 1, "unexpected end of line"
 
 
+_BLOCK_LINES = 256
+"""Lines parsed together when a file does not parse whole: only a block that fails is parsed line by line."""
+
+
 def parse_source(text: str, filename: str) -> tuple[list[Line], list[Diagnostic]]:
-    """Every statement of a file, and a diagnostic for every line that does not parse."""
+    """Every statement of a file, and a diagnostic for every line that does not parse.
+
+    A part of the file is parsed behind as many line breaks as lines before
+    it, so its tokens carry their own line numbers; in blocks, that costs
+    the length of the file a block, not a line.
+    """
     text = text.replace("\r\n", "\n")
     try:
         return _whole_file_parser().parse(text), []
     except lark.UnexpectedInput:
         pass
+    rows = text.split("\n")
     lines, problems = [], []
-    for index, line_text in enumerate(text.split("\n")):
+    for first in range(0, len(rows), _BLOCK_LINES):
+        block = rows[first:first + _BLOCK_LINES]
         try:
-            lines.extend(_parser().parse("\n" * index + line_text))
-        except lark.UnexpectedInput as exc:
-            column, message = _syntax_message(exc, line_text)
-            column = min(max(column, 1), len(line_text) + 1)
-            problems.append(Diagnostic(filename, index + 1, column, message, line_text))
-            salvaged = _LEADING_LABEL.match(line_text)
-            if salvaged:
-                lines.append(Line(index + 1, Label(salvaged[1], index + 1, salvaged.start(1) + 1), None))
+            lines.extend(_whole_file_parser().parse("\n" * first + "\n".join(block)))
+            continue
+        except lark.UnexpectedInput:
+            pass
+        for index, line_text in enumerate(block, first):
+            try:
+                lines.extend(_parser().parse("\n" * index + line_text))
+            except lark.UnexpectedInput as exc:
+                column, message = _syntax_message(exc, line_text)
+                column = min(max(column, 1), len(line_text) + 1)
+                problems.append(Diagnostic(filename, index + 1, column, message, line_text))
+                salvaged = _LEADING_LABEL.match(line_text)
+                if salvaged:
+                    lines.append(Line(index + 1, Label(salvaged[1], index + 1, salvaged.start(1) + 1), None))
     return lines, problems

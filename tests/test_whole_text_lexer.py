@@ -124,3 +124,15 @@ def test_statements_after_blank_and_comment_lines_keep_their_lines():
         asm.assemble_text("\n; a\n\n  nop\n   ; b\n\n    jmp nowhere\n", REF8, filename="gaps.asm")
     [problem] = caught.value.diagnostics
     assert (problem.line, problem.column, problem.message) == (7, 9, "undefined label 'nowhere'")
+
+
+def test_a_long_file_with_syntax_errors_reports_each_in_its_place():
+    """Lines parse in blocks once the whole file fails; a failing block is read line by line."""
+    rows = ["  nop"] * 700
+    rows[1], rows[299], rows[520], rows[690] = "  li r1, ,", "far: nop", "  .byte 1,, 2", "  jmp far"
+    rows[400] = "  jmp nowhere"
+    with pytest.raises(asm.AsmError) as caught:
+        asm.assemble_text("\n".join(rows) + "\n", REF8, filename="long.asm")
+    assert [(d.line, d.column, d.message) for d in caught.value.diagnostics] == [
+        (2, 10, "unexpected ','; expected an expression"), (401, 7, "undefined label 'nowhere'"),
+        (521, 11, "unexpected ','; expected an expression, a string")]

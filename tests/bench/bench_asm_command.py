@@ -22,12 +22,9 @@ from __future__ import annotations
 
 import argparse
 import os
-import resource
 import statistics
-import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -35,22 +32,18 @@ sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from bench_assembler import code_share, generate  # noqa: E402
+from bench_startup import timed_process  # noqa: E402
 from emu import load_machine  # noqa: E402
 
 TARGET_S = 3.0
 _OUTPUTS = (".hex", ".dbg.json", ".lst")
 
 
-def _timed(tree: Path, source: Path, out: Path, extra: list[str], cache: str) -> tuple[float, float]:
-    """Wall and CPU seconds (user + system) of one ``relaybench asm`` process run from ``tree``."""
+def _asm_process(tree: Path, source: Path, out: Path, extra: list[str], cache: str) -> tuple[float, float]:
+    """Wall and CPU seconds of one ``relaybench asm`` process run from ``tree``."""
     env = {**os.environ, "PYTHONPATH": str(tree), "RELAYBENCH_CACHE": cache}
     command = [sys.executable, "-m", "emu.cli", "asm", str(source), "-o", str(out.with_suffix(".hex")), *extra]
-    before = resource.getrusage(resource.RUSAGE_CHILDREN)
-    start = time.perf_counter()
-    subprocess.run(command, cwd=tree, env=env, check=True, stdout=subprocess.DEVNULL)
-    wall = time.perf_counter() - start
-    after = resource.getrusage(resource.RUSAGE_CHILDREN)
-    return wall, (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    return timed_process(command, tree, env)
 
 
 def main() -> int:
@@ -72,7 +65,7 @@ def main() -> int:
         def run(tree: str, listing: bool) -> tuple[float, float]:
             out = folder / f"{tree}{'-listed' if listing else ''}"
             extra = ["--listing", str(out.with_suffix(".lst"))] if listing else []
-            return _timed(trees[tree], source, out, extra, str(folder / f"cache-{tree}"))
+            return _asm_process(trees[tree], source, out, extra, str(folder / f"cache-{tree}"))
 
         for tree, listing in cases:         # bytecode and the cache folder written, not timed
             run(tree, listing)
@@ -83,18 +76,19 @@ def main() -> int:
                    for suffix in _OUTPUTS) if "base" in trees else None
     print(f"relaybench asm, {text.count(chr(10)):,} lines on {machine.name}: {args.repeat} rounds, "
           f"wall median (best), CPU median; target {TARGET_S:.1f} s")
-    medians = {}
+    medians, cpus = {}, {}
     for (tree, listing), times in cases.items():
         walls = [wall for wall, _cpu in times]
         medians[tree, listing] = statistics.median(walls)
-        cpu = statistics.median(c for _wall, c in times)
+        cpus[tree, listing] = statistics.median(c for _wall, c in times)
         name = f"{tree}{' --listing' if listing else ''}"
-        print(f"  {name:<16} {medians[tree, listing]:6.3f} s ({min(walls):.3f}), cpu {cpu:6.3f} s, "
+        print(f"  {name:<16} {medians[tree, listing]:6.3f} s ({min(walls):.3f}), cpu {cpus[tree, listing]:6.3f} s, "
               f"{medians[tree, listing] / TARGET_S:.2f} of the target")
     if "base" in trees:
         for listing in (False, True):
             print(f"  base / this{' --listing' if listing else ''}: "
-                  f"{medians['base', listing] / medians['this', listing]:.2f}×")
+                  f"wall {medians['base', listing] / medians['this', listing]:.2f}×, "
+                  f"cpu {cpus['base', listing] / cpus['this', listing]:.2f}×")
         print(f"  outputs byte for byte the same as the baseline's: {'yes' if same else 'NO'}")
     return 0 if all(wall < TARGET_S for (tree, _listing), wall in medians.items() if tree == "this") else 1
 

@@ -13,7 +13,7 @@ The user's cache folder is warm, as after a first run.
 With ``--baseline TREE`` (another source tree, say ``git archive main | tar
 -x -C /tmp/base``) the same commands run from that tree too, in turns with
 this one, so both see the same load; the files both write are compared byte
-for byte, and the ratio of the medians is printed. Each case reports the
+for byte, and the ratios of the medians (wall and CPU) are printed. Each case reports the
 median and best wall time, the median CPU time, and the median's share of the
 target.
 """

@@ -45,7 +45,7 @@ class WholeTextLexer(Lexer):
 
     def lex(self, text: str):
         """The tokens of ``text`` with lark's positions (1-based line and column, 0-based start)."""
-        token = lark.Token
+        token = _Token
         line, line_start, end = 1, 0, 0
         for match in self._tokens.finditer(text):
             if match.start() != end:
@@ -70,6 +70,18 @@ class WholeTextLexer(Lexer):
         line = text.count("\n", 0, position) + 1
         column = position - (text.rfind("\n", 0, position) + 1) + 1
         raise lark.UnexpectedCharacters(text, position, line, column)
+
+
+class _Token(lark.Token):
+    """lark's Token made in one call: ``lark.Token(...)`` hands its arguments on to a second
+    (to accept an older keyword): a tenth of parsing a long file."""
+    __slots__ = ()
+
+    def __new__(cls, kind: str, value: str, start_pos: int, line: int, column: int):
+        token = str.__new__(cls, value)
+        token.type, token.value, token.start_pos, token.line, token.column = kind, value, start_pos, line, column
+        token.end_line = token.end_column = token.end_pos = None
+        return token
 
 
 def _refuse_shadowed_strings(terminals, flags: int) -> None:

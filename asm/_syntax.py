@@ -46,6 +46,12 @@ class Operand:
             opening, expr, closing = opening + "(", expr.inner, ")" + closing
             yield opening, expr, closing
 
+    def reading(self, opening: str, closing: str) -> Expr | None:
+        """The expression inside when this operand is read with that decoration, or None."""
+        if opening == self.opening and closing == self.closing:     # the first reading, and most often the one
+            return self.expr
+        return next((e for o, e, c in self.readings() if o == opening and c == closing), None)
+
     def literal_text(self) -> str | None:
         """Lower-case text of an operand made of a bare name (``x``, ``[x]``)."""
         for opening, expr, closing in self.readings():

@@ -50,6 +50,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from emu.description import Table, is_integer, shipped_machines
+from emu.files import indented_json
 
 from ._errors import AsmError, Diagnostic, file_error
 from ._files import write_atomic
@@ -187,7 +188,7 @@ def _relative(name: str, folder: str | None) -> str:
 def debug_text(program, path) -> str:
     """The debug file's content for ``program``, its file names relative to ``path``'s folder."""
     folder = os.path.dirname(os.path.abspath(path))
-    return json.dumps(debug_dict(program, relative_to=folder), indent=1) + "\n"
+    return indented_json(debug_dict(program, relative_to=folder)) + "\n"
 
 
 def write_debug(program, path) -> None:

@@ -20,6 +20,8 @@ __all__ = [
 
 _LIMIT = 1 << 256
 """No value in a program is anywhere near this; past it, something is runaway."""
+_RECURSION_DEPTH = 16
+"""Levels of an expression evaluated by recursion before the walk with a stack of its own takes over."""
 
 
 class EvalError(RelaybenchError):
@@ -43,7 +45,8 @@ class Expr:
     """A node; ``evaluate`` and ``text`` walk the tree with a stack of their own.
 
     A flat sum of a thousand terms is a left-deep tree a thousand levels
-    deep, deeper than Python's call stack, so no walk here recurses: each
+    deep, deeper than Python's call stack, so no walk here recurses without
+    a bound (``evaluate`` recurses through the first few levels only): each
     node only says what its children are and how their results combine.
     """
     __slots__ = ("line", "column")
@@ -60,7 +63,17 @@ class Expr:
         raise NotImplementedError
 
     def evaluate(self, ctx: Context) -> int:
-        return _post_order(self, lambda node, values: node.combine(ctx, values))
+        return self._value_within(ctx, _RECURSION_DEPTH)
+
+    def _value_within(self, ctx: Context, depth: int) -> int:
+        """The value, by recursion while the tree is shallow (most are: ``COUNT * 4 + 12``), in half
+        the time of the walk with a stack; a subtree deeper than ``depth`` gets that walk."""
+        kids = self.children()
+        if not kids:
+            return self.combine(ctx, ())
+        if not depth:
+            return _post_order(self, lambda node, values: node.combine(ctx, values))
+        return self.combine(ctx, [kid._value_within(ctx, depth - 1) for kid in kids])
 
     def text(self) -> str:
         """The expression written back out, for messages and listings."""

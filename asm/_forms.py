@@ -109,8 +109,7 @@ class MachineSyntax:
                 if operand.literal_text() != pattern.before:
                     return None
                 continue
-            expr = next((e for o, e, c in operand.readings()
-                         if o == pattern.before and c == pattern.after), None)
+            expr = operand.reading(pattern.before, pattern.after)
             if expr is None:
                 return None
             kind = ins.fields[pattern.field].kind

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
+from itertools import repeat
 
 from emu.description import Machine
 
@@ -73,19 +74,21 @@ class Program:
         word_width = (m.data_bits + 3) // 4
         words_width = _WORDS_PER_ROW * (word_width + 1) - 1
         image = self.image()
+        word_text = _word_texts(m.data_bits, word_width)
         main = next(iter(self.sources), "<input>")
         rows = [f"; listing of {main} for {m.name}",
                 f"; {'addr':<{address_width}}  {'words':<{words_width}}  cyc  place"]
+        no_words = " " * (2 + address_width + 2 + words_width + 7)
         for file, number, entry in self.listing_rows:
             text = self.sources[file][number - 1].rstrip()
             place = f"{file}:{number}"
             if entry is None:
-                rows.append(f"  {'':<{address_width}}  {'':<{words_width}}       {place:<14} {text}")
+                rows.append(f"{no_words}{place:<14} {text}")
                 continue
-            words = [image.get(a, 0) for a in range(entry.address, entry.address + entry.length)]
+            words = list(map(image.get, range(entry.address, entry.address + entry.length), repeat(0, entry.length)))
             cycles = "" if entry.cycles is None else str(entry.cycles)
             for i in range(0, max(len(words), 1), _WORDS_PER_ROW):
-                chunk = " ".join(f"{w:0{word_width}X}" for w in words[i:i + _WORDS_PER_ROW])
+                chunk = " ".join(map(word_text, words[i:i + _WORDS_PER_ROW]))
                 head = f"  {entry.address + i:0{address_width}X}  {chunk:<{words_width}}"
                 if i == 0:
                     rows.append(f"{head}  {cycles:>3}  {place:<14} {text}")
@@ -99,6 +102,13 @@ class Program:
                 kind = "label" if name in self.labels else "constant"
                 rows.append(f";   {name:<16} {symbols[name]:#0{address_width + 2}x}  {kind}")
         return "\n".join(rows) + "\n"
+
+
+def _word_texts(bits: int, width: int):
+    """A word → its hex digits in the listing: a table look-up when the words are narrow enough."""
+    if bits <= 16:
+        return [f"{w:0{width}X}" for w in range(1 << bits)].__getitem__
+    return lambda w: f"{w:0{width}X}"
 
 
 def write_listing(program: Program, path) -> None:

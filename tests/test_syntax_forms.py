@@ -42,3 +42,11 @@ def test_a_decorated_form_is_read_and_assembles():
     plain = emu.load_machine("ref8")
     expected = asm.assemble_text("jmp x\n", plain).flat()
     assert asm.assemble_text("jmp (x)\n", machine).flat() == expected
+
+
+def test_a_value_in_decoration_is_read_inside_it():
+    """``jmp (addr)`` takes ``(far)`` and ``((2 + 3))``: the outer parentheses are the form's, the rest the value."""
+    machine = emu.machine_from_text(REF8_TEXT.replace('syntax = "jmp addr:addr"', 'syntax = "jmp (addr:addr)"'),
+                                    "mine.toml")
+    program = asm.assemble_text("far = 0x1234\n  jmp (far)\n  jmp ((2 + 3))\n", machine)
+    assert program.flat() == [0b00001000, 0x34, 0x12, 0b00001000, 5, 0]    # ref8.toml: opcode, low, high

@@ -39,7 +39,7 @@ def _environment(tree: Path, cache: str) -> dict:
     return env
 
 
-def _timed(command: list[str], cwd: Path, env: dict) -> tuple[float, float]:
+def timed_process(command: list[str], cwd: Path, env: dict) -> tuple[float, float]:
     """Wall and CPU seconds (user + system) of one process."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
@@ -62,16 +62,16 @@ def main() -> int:
     with tempfile.TemporaryDirectory(prefix="relaybench-bench-") as scratch:
         warm = os.path.join(scratch, "warm")
         cases = {
-            "warm": lambda: _timed(run, ROOT, _environment(ROOT, warm)),
-            "cold": lambda: _timed(run, ROOT, _environment(ROOT, tempfile.mkdtemp(dir=scratch))),
-            "off": lambda: _timed(run, ROOT, _environment(ROOT, "off")),
-            "python -c pass": lambda: _timed([sys.executable, "-c", "pass"], ROOT, os.environ.copy()),
+            "warm": lambda: timed_process(run, ROOT, _environment(ROOT, warm)),
+            "cold": lambda: timed_process(run, ROOT, _environment(ROOT, tempfile.mkdtemp(dir=scratch))),
+            "off": lambda: timed_process(run, ROOT, _environment(ROOT, "off")),
+            "python -c pass": lambda: timed_process([sys.executable, "-c", "pass"], ROOT, os.environ.copy()),
         }
         if args.baseline:
             base = args.baseline.resolve()
-            cases["base"] = lambda: _timed(run, base, _environment(base, tempfile.mkdtemp(dir=scratch)))
-            _timed(run, base, _environment(base, os.path.join(scratch, "base-first")))
-        _timed(run, ROOT, _environment(ROOT, warm))      # bytecode written, warm cache filled
+            cases["base"] = lambda: timed_process(run, base, _environment(base, tempfile.mkdtemp(dir=scratch)))
+            timed_process(run, base, _environment(base, os.path.join(scratch, "base-first")))
+        timed_process(run, ROOT, _environment(ROOT, warm))      # bytecode written, warm cache filled
         times: dict[str, list[tuple[float, float]]] = {name: [] for name in cases}
         for _round in range(args.repeat):
             for name, case in cases.items():

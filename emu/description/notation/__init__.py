@@ -9,7 +9,7 @@ are the number and escape notation shared by machine files, the assembler,
 command options and the debugger; ``alu.lark`` and ``_alu_expr`` are the
 expression language of ALU definitions (``[alu.NAME]`` and the built-ins);
 ``_grammars`` builds every parser from its grammar file, through the user's
-cache.
+cache; ``_whole_text_lexer`` is a faster lexer for lark, for long texts.
 """
 
 from ._alu_expr import (AluExpr, Binary, BitRange, Num, Unary, Var, alu_parts, evaluate, free_names, index_names,
@@ -23,6 +23,7 @@ from ._numbers import (ESCAPES, NUMBER_FORMS, char_value, decode_escapes, litera
                        parse_number)
 from ._parse_errors import error_column
 from ._parser import parse_line_gate, parse_step
+from ._whole_text_lexer import WholeTextLexer
 from ._widths import WORD_SELECTORS, name_width, top_word_shift, value_width
 
 __all__ = [
@@ -33,6 +34,6 @@ __all__ = [
     "Statement", "StatementNode", "parse_line_gate", "parse_step", "unknown_node", "walk",
     "End", "Goto", "Sequencing", "WaitUntil",
     "ESCAPES", "NUMBER_FORMS", "char_value", "decode_escapes", "literal_value",
-    "parse_number", "packaged_parser",
+    "parse_number", "packaged_parser", "WholeTextLexer",
     "WORD_SELECTORS", "name_width", "top_word_shift", "value_width",
 ]

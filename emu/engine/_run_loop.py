@@ -87,6 +87,8 @@ class _Running:
             done = self.instructions
             if fast:
                 self._step_unwatched(stop_at)
+                if watch is None and self.halt_latch and self.cycles < stop_at:
+                    self._hold_if_due()     # what the next pass would do first: nothing else is due before it
             else:
                 self.advance_phase()
             if self.instructions != done and watch is not None and watch():

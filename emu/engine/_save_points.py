@@ -46,7 +46,7 @@ class StateKeeping:
         """
         self.stop_counting_lines()
         self._s[:] = self._blank_slots
-        self.memory[:] = self._blank_memory
+        self._whole_memory[:] = self._blank_memory
         self.ports.power_on()
         self.ring.power_on()
         self._power_on_control()
@@ -74,7 +74,7 @@ class StateKeeping:
             raise MachineError(f"the save point is of machine '{point.machine.name}', not '{self.machine.name}'")
         self.stop_counting_lines()
         self._s[:] = point.slots
-        self.memory[:] = point.memory
+        self._whole_memory[:] = point.memory
         self.ring.restore(point.ring)
         (self.switch_run, self.halt_latch, self.halt_address, self.frozen, self._released, self._seq,
          self._instruction_address, self.cycles, self.instructions, undefined) = point.control

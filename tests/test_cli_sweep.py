@@ -239,7 +239,7 @@ def test_few_long_runs_are_shared_among_the_workers_and_a_long_run_ticks(tmp_pat
     """Four rows on two workers are four chunks; a long run calls its chunk's tick as it goes
     (about every 100,000 cycles), so a progress line can show before the first run ends."""
     assert chunk_bounds(4, 2) == [(0, 1), (1, 2), (2, 3), (3, 4)]
-    assert chunk_bounds(65536, 2)[0] == (0, 2048)
+    assert chunk_bounds(65536, 2)[0] == (0, 1024)
     machine = load_machine("ref8")
     wait = write(tmp_path, "wait.asm", "        ld r1, [rounds]\nagain:  inc r0\n        jnz again\n"
                                        "        dec r1\n        jnz again\n        halt\nrounds: .byte 1\n")

@@ -210,9 +210,9 @@ def run_chunk(plan: SweepPlan, first: int, stop: int, tick=None) -> list[tuple]:
 
 
 def chunk_bounds(total: int, workers: int) -> list[tuple[int, int]]:
-    """Slices of row numbers: about sixteen a worker, so progress moves and the last ones end
-    together (a few long runs are a chunk each, so every worker gets one)."""
-    size = max(1, min(4096, -(-total // (workers * 16))))
+    """Slices of row numbers: about thirty-two a worker, so progress moves and the workers end
+    within a small chunk of each other (a few long runs are a chunk each, so every worker gets one)."""
+    size = max(1, min(4096, -(-total // (workers * 32))))
     return [(first, min(first + size, total)) for first in range(0, total, size)]
 
 

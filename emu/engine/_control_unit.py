@@ -33,7 +33,7 @@ from ._blocks import BlockRunner
 from ._observing import Observer, _Observing
 from ._run_loop import _FETCH_START, StopReason, _Running
 from ._clock_ring import Ring
-from ._line_gates import LineGates
+from ._line_gates import LineGates, per_machine
 from ._line_tally import LineTally
 from ._fused_functions import halting_step
 from ._microstep_compiler import compile_machine
@@ -46,6 +46,12 @@ from ._save_points import StateKeeping
 from ._snapshots import read_snapshot, restore_state, snapshot_state
 
 __all__ = ["Emulator", "StopReason"]
+
+
+@per_machine
+def _halting_steps(machine: Machine) -> list[int | None]:
+    """Per instruction, the step that drives halt where a halting function reaches it (once per machine)."""
+    return [halting_step(ins) for ins in machine.instructions]
 
 
 class Emulator(_Observing, _Running, StateKeeping):
@@ -70,7 +76,7 @@ class Emulator(_Observing, _Running, StateKeeping):
         self._run_free, self._run_free_watching = bound.run_free, bound.run_free_watching
         self._run_free_stopping = bound.run_free_stopping
         self._halting, self._peek = bound.halting, bound.peek
-        self._halting_steps = [halting_step(ins) for ins in machine.instructions]
+        self._halting_steps = _halting_steps(machine)
         self._stop_tables: dict[tuple, tuple[bytes, tuple[int, ...]]] = {}
         self._max_fused = compiled.max_fused_cycles
         self.blocks = BlockRunner(machine, self._s, self.memory, self.ports.read, self.ports.write,

@@ -327,7 +327,8 @@ class Emulator(_Observing, _Running, StateKeeping):
             self.halt_latch = value
             if not value:
                 self.halt_address = None
-            self._notify("latch", value)
+            if self._observers:
+                self._notify("latch", value)
 
     def _hold_changed(self) -> None:
         """A frozen generator starts the moment the hold line drops."""
@@ -343,7 +344,8 @@ class Emulator(_Observing, _Running, StateKeeping):
         generator was just released there): the check the generator makes before each phase."""
         if self._phases[self.ring.index].hold and self.hold_line and not self._released:
             self.frozen = True
-            self._notify("hold", True)
+            if self._observers:
+                self._notify("hold", True)
             return True
         return False
 

@@ -215,22 +215,42 @@ def test_memory_written_between_runs_drops_the_blocks_it_hits():
 
 
 def test_memory_written_between_runs_after_the_blocks_settled_drops_the_blocks_it_hits():
-    """A run whose blocks all still match memory keeps one copy of the span around them,
-    and the next run compares only that; a word written there between runs (and written
-    back after its block was translated anew) must still drop the block holding it.
+    """A run whose blocks all still match memory keeps their words as one read, and the next
+    run compares only that; a word written there between runs (and written back after its
+    block was translated anew) must still drop the block holding it.
     ref8: ``add r0, 1; jmp 0``, its immediate set to 3, then back to 1."""
     machine = MACHINES["ref8"]
     words = encode(machine, "add rd, imm", rd=0, imm=1) + encode(machine, "jmp addr", addr=0)
     fast, slow = hot(boot(machine, words)), stepped(boot(machine, words))
     for emu in (fast, slow):
         emu.run(max_cycles=500)
-        emu.run(max_cycles=500)        # finds its blocks as they were: keeps the span
+        emu.run(max_cycles=500)        # finds its blocks as they were: keeps their words
         emu.memory[1] = 3
         emu.run(max_cycles=500)        # drops the block, translates it with 3
-        emu.memory[1] = 1              # memory is as the kept span was again
+        emu.memory[1] = 1              # memory is as the kept words were again
         emu.run(max_cycles=500)
     assert full_state(fast) == full_state(slow)
     assert fast.blocks.dropped >= 2
+
+
+def test_a_block_translated_after_the_last_full_check_is_still_checked_at_the_next_entry():
+    """ref8: two loops, ``add r0, 1; jmp 0`` and at 0x10 ``add r1, 1; jmp 0x10``. The first is
+    translated and checked; the run moves to the second, which is translated inside a run; its
+    immediate is then changed between runs, and the next run must not use the old block."""
+    machine = MACHINES["ref8"]
+    first = encode(machine, "add rd, imm", rd=0, imm=1) + encode(machine, "jmp addr", addr=0)
+    second = encode(machine, "add rd, imm", rd=1, imm=1) + encode(machine, "jmp addr", addr=0x10)
+    words = first + [0] * (0x10 - len(first)) + second
+    fast, slow = hot(boot(machine, words)), stepped(boot(machine, words))
+    for emu in (fast, slow):
+        emu.run(max_cycles=500)
+        emu.run(max_cycles=500)        # a full check at entry: the first loop's words kept
+        emu.set("pc", 0x10)
+        emu.run(max_cycles=500)        # the second loop translated inside this run
+        emu.memory[0x11] = 5
+        emu.run(max_cycles=500)
+    assert full_state(fast) == full_state(slow)
+    assert fast.blocks.built >= 3 and fast.get("r1") == slow.get("r1")
 
 
 # ----- what runs without blocks, and what is reused ------------------------------------------

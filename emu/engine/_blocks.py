@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import weakref
 from collections import Counter, OrderedDict
+from operator import itemgetter
 
 from ..description import Machine
 from ._block_dispatch import checked_fused_source, dispatcher_source, writes_memory
@@ -174,10 +175,11 @@ class BlockRunner:
         self._cmap = None
         self._checked = None
         self._active: dict[int, tuple[int, object]] = {}
-        self._span: tuple[int, int, object] | None = None
-        """(low, high, memory[low:high]) around every block in place at the last full check."""
-        self._span_pays = True
-        """False once the span differed while every block still matched, until a block is translated."""
+        self._words_now = None
+        """Every block's words read from memory in one call (an ``itemgetter`` of their slices),
+        made at a full check and forgotten when a block comes or goes."""
+        self._words_seen = None
+        """What ``_words_now`` read at that check, when every block matched memory."""
         self._invalidations: Counter[int] = Counter()
         self._points = frozenset()
         self._stops: bytes | None = None
@@ -244,22 +246,14 @@ class BlockRunner:
             for start in list(self._active):
                 self._drop(start, soon=True)
             return
-        spanned = self._span is not None
-        if spanned:
-            low, high, words = self._span
-            if memory[low:high] == words:
-                return
-        active = len(self._active)
+        if self._words_now is not None and self._words_now(memory) == self._words_seen:
+            return          # every block's words as they were: one call, whatever lies between them
         for start, (end, words) in list(self._active.items()):
             if memory[start:end] != words:
                 self._drop(start, soon=False)
-        if spanned and len(self._active) == active:
-            # the words that changed lie between blocks (data the program or a sweep writes
-            # each run): the span would differ again, so blocks are compared one by one
-            self._span, self._span_pays = None, False
-        elif self._active and self._span_pays:
-            low, high = min(self._active), max(end for end, _words in self._active.values())
-            self._span = (low, high, memory[low:high])
+        if self._active:
+            self._words_now = itemgetter(*(slice(start, end) for start, (end, _w) in self._active.items()))
+            self._words_seen = self._words_now(memory)
 
     def _watch_words(self, watched: frozenset[int]) -> None:
         """Count watched words in the code map, so that a store to one calls ``_invalidate``."""
@@ -287,6 +281,7 @@ class BlockRunner:
 
     def _drop(self, start: int, soon: bool) -> None:
         end, _words = self._active.pop(start)
+        self._words_now = None
         del self._table[start]
         cmap = self._cmap
         for address in range(start, end):
@@ -354,7 +349,7 @@ class BlockRunner:
         self._table[start] = (block, most, asks)
         self._hits[start] = _BLOCK_HERE
         self._active[start] = (plan.end, memory[start:plan.end])
-        self._span, self._span_pays = None, True    # read after the span: compared on its own, then spanned
+        self._words_now = None      # read after the last full check: compared on its own at the next
         for address in range(start, plan.end):
             self._cmap[address] += 1
         for address, _ins in plan.instructions[1:]:
